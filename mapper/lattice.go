@@ -1,0 +1,136 @@
+package mapper
+
+import (
+	"fmt"
+	"math"
+)
+
+// rowPitch is the vertical distance between hexagonal rows when neighbouring
+// units are one unit apart.
+var rowPitch = math.Sqrt(3) / 2
+
+// NewLattice returns a lattice of cols × rows units. A hexagonal torus needs
+// an even number of rows, or the row offsets would not match across the seam.
+func NewLattice(cols, rows int, hex, flat bool) (Lattice, error) {
+	l := Lattice{Cols: cols, Rows: rows, Hex: hex, Flat: flat}
+	return l, l.Validate()
+}
+
+// Validate reports whether the lattice can be built.
+func (l Lattice) Validate() error {
+	switch {
+	case l.Cols < 1 || l.Rows < 1:
+		return fmt.Errorf("mapper: lattice %dx%d: both sides must be at least 1", l.Cols, l.Rows)
+	case l.Hex && !l.Flat && l.Rows%2 != 0:
+		return fmt.Errorf("mapper: lattice %dx%d: a hexagonal torus needs an even number of rows, not %d", l.Cols, l.Rows, l.Rows)
+	case !l.Flat && (l.Cols < 3 || l.Rows < 3) && l.Cols*l.Rows > 1:
+		return fmt.Errorf("mapper: lattice %dx%d: a torus needs at least 3 units along each side; use a flat sheet for a chain", l.Cols, l.Rows)
+	}
+	return nil
+}
+
+// Units reports the number of units.
+func (l Lattice) Units() int { return l.Cols * l.Rows }
+
+// Cell returns the column and row of unit u.
+func (l Lattice) Cell(u int) (col, row int) { return u % l.Cols, u / l.Cols }
+
+// Unit returns the unit at col and row, wrapping on a torus. On a flat sheet
+// it returns -1 outside the sheet.
+func (l Lattice) Unit(col, row int) int {
+	if l.Flat {
+		if col < 0 || col >= l.Cols || row < 0 || row >= l.Rows {
+			return -1
+		}
+	} else {
+		col = mod(col, l.Cols)
+		row = mod(row, l.Rows)
+	}
+	return row*l.Cols + col
+}
+
+// Position returns the planar position of unit u. Neighbours are one unit
+// apart; on a hexagonal lattice odd rows are shifted right by half a unit and
+// rows are √3/2 apart.
+func (l Lattice) Position(u int) (x, y float64) {
+	c, r := l.Cell(u)
+	if !l.Hex {
+		return float64(c), float64(r)
+	}
+	x = float64(c)
+	if r%2 == 1 {
+		x += 0.5
+	}
+	return x, float64(r) * rowPitch
+}
+
+// Period returns the planar size of the torus along x and y, the translations
+// under which it repeats. It is meaningless for a flat sheet.
+func (l Lattice) Period() (px, py float64) {
+	if l.Hex {
+		return float64(l.Cols), float64(l.Rows) * rowPitch
+	}
+	return float64(l.Cols), float64(l.Rows)
+}
+
+// Dist2 returns the squared planar distance between units a and b, the
+// shortest way round on a torus.
+func (l Lattice) Dist2(a, b int) float64 {
+	ax, ay := l.Position(a)
+	bx, by := l.Position(b)
+	dx, dy := math.Abs(ax-bx), math.Abs(ay-by)
+	if !l.Flat {
+		px, py := l.Period()
+		dx = math.Min(dx, px-dx)
+		dy = math.Min(dy, py-dy)
+	}
+	return dx*dx + dy*dy
+}
+
+// Dist returns the planar distance between units a and b.
+func (l Lattice) Dist(a, b int) float64 { return math.Sqrt(l.Dist2(a, b)) }
+
+// Neighbours returns the distinct units adjacent to u: up to 4 on a
+// rectangular lattice, up to 6 on a hexagonal one, fewer at the edge of a
+// flat sheet.
+func (l Lattice) Neighbours(u int) []int {
+	c, r := l.Cell(u)
+	var steps [][2]int
+	switch {
+	case !l.Hex:
+		steps = [][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}}
+	case r%2 == 0:
+		steps = [][2]int{{1, 0}, {-1, 0}, {-1, -1}, {0, -1}, {-1, 1}, {0, 1}}
+	default:
+		steps = [][2]int{{1, 0}, {-1, 0}, {0, -1}, {1, -1}, {0, 1}, {1, 1}}
+	}
+	out := make([]int, 0, len(steps))
+	for _, s := range steps {
+		v := l.Unit(c+s[0], r+s[1])
+		if v < 0 || v == u || contains(out, v) {
+			continue
+		}
+		out = append(out, v)
+	}
+	return out
+}
+
+// Adjacent reports whether units a and b are lattice neighbours.
+func (l Lattice) Adjacent(a, b int) bool { return contains(l.Neighbours(a), b) }
+
+func contains(s []int, v int) bool {
+	for _, x := range s {
+		if x == v {
+			return true
+		}
+	}
+	return false
+}
+
+func mod(a, n int) int {
+	a %= n
+	if a < 0 {
+		a += n
+	}
+	return a
+}

@@ -1,0 +1,89 @@
+// Package mapper trains Kohonen's self-organising map on a lattice that wraps
+// both ways (a torus), measures its quality, and groups its units into
+// operating regimes.
+package mapper
+
+import (
+	"github.com/kinmap/kinmap/features"
+)
+
+// Lattice is the arrangement of the map's units. Unit u sits at column
+// u % Cols and row u / Cols.
+type Lattice struct {
+	Cols, Rows int
+	Hex        bool // hexagonal (6 neighbours); otherwise rectangular (4)
+	Flat       bool // a flat sheet with edges; otherwise a torus wrapping both ways
+}
+
+// Config holds the training settings. It is recorded in the model.
+type Config struct {
+	Cols, Rows int     // grid size; 0 means the default from the data size
+	Hex        bool    // hexagonal lattice
+	Flat       bool    // flat sheet instead of a torus
+	Rule       string  // "batch" (default) or "online"
+	Epochs     int     // passes over the data
+	Sigma0     float64 // initial neighbourhood width in lattice units; 0 means a default from the grid size
+	SigmaEnd   float64 // final neighbourhood width
+	Eta0       float64 // online rule: initial learning rate in (0, 1]
+	EtaEnd     float64 // online rule: final learning rate
+	Init       string  // "pca" (default) or "random"
+	Seed       int64
+	Regimes    int                         // number of regimes; 0 chooses by the Davies–Bouldin index over 2..12
+	Workers    int                         // parallelism; 0 means all cores
+	Progress   func(epoch int, qe float64) `json:"-"` // called after each epoch when set
+}
+
+// Map is a trained self-organising map.
+type Map struct {
+	Lattice  Lattice
+	Dim      int
+	Codebook []float64 // Units × Dim, row-major
+}
+
+// Assignment is where one window lands on the map.
+type Assignment struct {
+	BMU    int     // best-matching unit
+	Second int     // second-best unit
+	QE     float64 // Euclidean distance to the BMU's codebook vector
+}
+
+// Quality summarises how well a map fits its training data.
+type Quality struct {
+	QE       float64  // mean quantization error
+	TE       float64  // topographic error: share of windows whose first and second BMU are not lattice neighbours
+	Unused   float64  // share of units that win no window
+	Warnings []string // for example a high unused share
+}
+
+// Regime is a connected group of units on the lattice.
+type Regime struct {
+	ID          int       // stable regime number, from 1
+	Units       []int     // units of the regime, ascending
+	Centroid    []float64 // mean codebook vector of the units, scaled space
+	Traits      []Trait   // most distinctive features, strongest first
+	Description string    // for example "vibration.p95 +2.1σ, flow.mean −1.4σ"
+}
+
+// Trait is one feature's standardised difference of a regime from the fleet
+// mean.
+type Trait struct {
+	Feature string
+	Sigma   float64
+}
+
+// Model is everything needed to map a later dump the same way: the feature
+// schema and settings, the normalisation, the map, its regimes and the
+// training settings. It is written to one checksummed file.
+type Model struct {
+	Version       int
+	FeatureNames  []string        // schema of the feature table at training
+	FeatureConfig features.Config // how windows were cut
+	Scaler        *features.Scaler
+	Map           Map
+	Regimes       []Regime
+	UnitRegime    []int     // regime ID of each unit
+	Training      Config    // training settings
+	Quality       Quality   // on the training windows
+	QEQuantiles   []float64 // training quantization errors at quantiles 0, 0.001, …, 1
+	Windows       int       // training windows
+}

@@ -1,5 +1,85 @@
 // Package features cuts each site's series into time windows and computes
 // per-window features that tolerate irregular sampling and gaps.
+//
+// # Windows
+//
+// Windows have a fixed wall-clock length (Config.Window) and start every
+// Config.Stride, counted on the wall clock of the zone Config.TZ (UTC when
+// empty) from midnight of Monday 1970-01-05. Daily windows therefore start at
+// every local midnight, 12 h windows at midnight and noon, and weekly windows
+// on Mondays, the same way in every dump. Across a daylight-saving change a
+// window keeps its wall-clock bounds, so a local day lasts 23 or 25 hours. A
+// wall-clock bound that does not exist (it falls in a forward jump of the
+// clock) or exists twice (a backward jump) becomes the first instant whose
+// wall clock reads that time or later. Windows that have no length on the
+// time line (inside a forward jump) do not exist. Window bounds are reported
+// in UTC.
+//
+// Only the channels that some feature uses take part below. A site's
+// windows run from the one holding its first reading to the one holding its
+// last. A window with no reading at all is skipped as "empty". Otherwise its
+// coverage is the smallest, over the channels, of present ÷ expected
+// readings (capped at 1), where a channel expects the window's length
+// divided by the median interval between its successive readings over the
+// site's whole series; channels with fewer than two readings do not count.
+// A window whose coverage is below Config.MinCoverage is skipped as
+// "coverage". A channel missing from a window thus gives it coverage 0;
+// channels a site never reports do not count, and their features are NaN.
+//
+// A window of a mobile site (one whose SiteData.Track holds positions) is
+// located at the spherical centroid of the positions reported in it: the
+// mean of their unit vectors, projected back onto the sphere, which is
+// correct across the antimeridian. Windows without positions, and windows of
+// fixed sites, take the registered position, if any.
+//
+// # Features
+//
+// Features are named "<channel>.<stat>", channels in sorted order and stats
+// in the order below, then "<a>~<b>.corr" for channel pairs a < b. For the
+// readings v_1..v_n of a channel in a window, at instants t_1..t_n:
+//
+//	mean          arithmetic mean
+//	std           sample standard deviation, denominator n−1
+//	min, max      smallest and largest reading
+//	p05, p50, p95 quantiles by definition 7 of Hyndman & Fan, "Sample
+//	              quantiles in statistical packages", The American
+//	              Statistician 50(4), 1996: x_⌊h⌋ + (h−⌊h⌋)(x_⌊h⌋+1 − x_⌊h⌋),
+//	              h = (n−1)p + 1, on the sorted readings (R's and numpy's default)
+//	trend         least-squares slope of v on t, per hour
+//	acf1          lag-1 sample autocorrelation of successive readings,
+//	              Σ(v_i−v̄)(v_{i+1}−v̄) / Σ(v_i−v̄)², whatever the time between them
+//	day_amp       amplitude √(b²+c²) of the least-squares fit
+//	              v = a + b·cos ωτ + c·sin ωτ, ω = 2π/24 h, τ the time of day
+//	              of each reading on the zone's clock; gaps do no harm
+//	day_phase     hour of that fit's peak on the zone's clock, atan2(c, b)/ω, in [0, 24)
+//	period        period in hours of the strongest Fourier component of the
+//	              series regularised to the channel's median interval
+//	period_share  share of the spectral energy, DC excluded, at that period
+//	flat          share of readings 2..n equal to their predecessor (a stuck sensor)
+//	count         n
+//
+// For the spectrum, each reading goes to the nearest point of a regular grid
+// from the window start at the channel's median interval over the site (at
+// most 65,536 points; a finer interval is coarsened), readings meeting at a
+// point are averaged, empty points are interpolated linearly between their
+// filled neighbours and held constant before the first and after the last
+// filled one; the mean is removed and the grid transformed with
+// gonum/dsp/fourier. Energy counts both halves of the spectrum; ties go to
+// the longer period. The correlation "<a>~<b>.corr" is Pearson's, over the
+// readings of a and b at the same instants.
+//
+// A value that is undefined for a window is NaN: every stat but count
+// without readings; std, trend, acf1 and flat with one reading; acf1 and the
+// spectrum of a constant; the harmonic with fewer than three readings or
+// readings that cover too little of the day to tell it from the level
+// (degenerate normal equations), and day_phase of a zero amplitude; the
+// spectrum with a grid of fewer than four points; a correlation with fewer
+// than three shared instants or a constant channel.
+//
+// Config.Features chooses: "basic" is mean, std, min, max, p05, p50, p95,
+// trend and flat; "full" is every stat; a list is comma-separated set
+// names, stat names (for every channel) and feature names such as
+// "flow.p95" or "flow~pressure.corr". Config.Pairs adds every pair.
 package features
 
 import (
@@ -9,13 +89,22 @@ import (
 // Config says how windows are cut and which features are computed. It is
 // recorded in the model so that a later dump is cut the same way.
 type Config struct {
-	Window      time.Duration // window length
-	Stride      time.Duration // distance between window starts; 0 means Window
-	TZ          string        // IANA zone the windows are aligned to at midnight; "" means UTC
-	MinCoverage float64       // minimum share of expected readings; 0 disables the rule
-	Features    string        // "basic", "full" or a comma-separated list
-	Pairs       bool          // add the Pearson correlation of each channel pair
-	Workers     int           // parallelism; 0 means all cores (not recorded as a result-changing setting)
+	Window time.Duration // window length on the wall clock; must be positive
+
+	// Stride is the distance between window starts; 0 means Window. A stride
+	// shorter than the window gives overlapping windows; a longer one leaves
+	// the readings between windows unused.
+	Stride time.Duration
+
+	TZ          string  // IANA zone the windows are aligned to at midnight; "" means UTC
+	MinCoverage float64 // minimum share of expected readings, in [0, 1]; 0 disables the rule
+
+	// Features is "basic", "full" or a comma-separated list of set names,
+	// stat names and feature names (see the package documentation).
+	Features string
+
+	Pairs   bool // add the Pearson correlation of each channel pair
+	Workers int  // parallelism; 0 means all cores (not recorded as a result-changing setting)
 }
 
 // DefaultConfig returns the command's defaults: 24 h windows aligned to
@@ -27,7 +116,7 @@ func DefaultConfig() Config {
 // Window is one site's window and its raw (unscaled) feature values.
 type Window struct {
 	Site       string
-	Start, End time.Time // [Start, End)
+	Start, End time.Time // [Start, End), in UTC
 	Lat, Lon   float64   // centroid of the window's positions, or the registered position
 	Located    bool      // Lat and Lon are known
 	Values     []float64 // in Table.Names order; NaN where a feature is undefined
@@ -38,11 +127,11 @@ type Table struct {
 	Names   []string // feature names such as "flow.mean"
 	Config  Config
 	Windows []Window         // sorted by site, then start
-	Skipped map[string]Skips // windows not used, by site
+	Skipped map[string]Skips // windows not used, by site; sites that skipped none are absent
 }
 
-// Skips counts the windows of one site that were not used, by reason
-// (for example "coverage").
+// Skips counts the windows of one site that were not used, by reason:
+// "empty" (no reading at all) or "coverage" (below Config.MinCoverage).
 type Skips map[string]int
 
 // Scaler is a per-feature normalisation fitted on the training windows and

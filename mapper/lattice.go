@@ -6,8 +6,8 @@ import (
 )
 
 // rowPitch is the vertical distance between hexagonal rows when neighbouring
-// units are one unit apart.
-var rowPitch = math.Sqrt(3) / 2
+// units are one unit apart: √3/2.
+const rowPitch = 0.86602540378443864676372317075294
 
 // NewLattice returns a lattice of cols × rows units. A hexagonal torus needs
 // an even number of rows, or the row offsets would not match across the seam.
@@ -76,9 +76,22 @@ func (l Lattice) Period() (px, py float64) {
 // Dist2 returns the squared planar distance between units a and b, the
 // shortest way round on a torus.
 func (l Lattice) Dist2(a, b int) float64 {
-	ax, ay := l.Position(a)
-	bx, by := l.Position(b)
-	dx, dy := math.Abs(ax-bx), math.Abs(ay-by)
+	ca, ra := l.Cell(a)
+	cb, rb := l.Cell(b)
+	return l.offsetDist2(ra%2, cb-ca, rb-ra)
+}
+
+// offsetDist2 returns the squared planar distance from a unit in a row of
+// parity p to the unit dc columns and dr rows away (|dc| < Cols,
+// |dr| < Rows), the shortest way round on a torus. It depends on nothing
+// else, which lets the neighbourhood weights be tabulated by offset.
+func (l Lattice) offsetDist2(p, dc, dr int) float64 {
+	dx, dy := float64(dc), float64(dr)
+	if l.Hex {
+		dx += 0.5 * float64(mod(p+dr, 2)-p) // odd rows are shifted right
+		dy *= rowPitch
+	}
+	dx, dy = math.Abs(dx), math.Abs(dy)
 	if !l.Flat {
 		px, py := l.Period()
 		dx = math.Min(dx, px-dx)
@@ -117,6 +130,15 @@ func (l Lattice) Neighbours(u int) []int {
 
 // Adjacent reports whether units a and b are lattice neighbours.
 func (l Lattice) Adjacent(a, b int) bool { return contains(l.Neighbours(a), b) }
+
+// neighbourTable returns the neighbours of every unit.
+func (l Lattice) neighbourTable() [][]int {
+	t := make([][]int, l.Units())
+	for u := range t {
+		t[u] = l.Neighbours(u)
+	}
+	return t
+}
 
 func contains(s []int, v int) bool {
 	for _, x := range s {

@@ -1,6 +1,18 @@
 // Package mapper trains Kohonen's self-organising map on a lattice that wraps
 // both ways (a torus), measures its quality, and groups its units into
 // operating regimes.
+//
+// Fit is the whole stage: Train (or InitMap and one Accumulate and Smooth
+// per epoch, for a runner that spreads the data over machines), Assign,
+// Quality, FindRegimes and Describe. A Model is written to one versioned,
+// checksummed file by Write and read back by ReadModel. Update continues a
+// model on a later dump and keeps its regime numbers with MatchRegimes.
+//
+// Winners are exact: the matrix product that scores every unit only
+// shortlists candidates, and every near-tie is settled by one fixed
+// distance computation, ties going to the lower unit; the shortcut search
+// of late epochs proves its winners or falls back to the full search. The
+// batch map is deterministic for any number of workers.
 package mapper
 
 import (
@@ -15,7 +27,8 @@ type Lattice struct {
 	Flat       bool // a flat sheet with edges; otherwise a torus wrapping both ways
 }
 
-// Config holds the training settings. It is recorded in the model.
+// Config holds the training settings. It is recorded in the model. Zero
+// fields mean the defaults of WithDefaults.
 type Config struct {
 	Cols, Rows int     // grid size; 0 means the default from the data size
 	Hex        bool    // hexagonal lattice
@@ -59,7 +72,7 @@ type Quality struct {
 type Regime struct {
 	ID          int       // stable regime number, from 1
 	Units       []int     // units of the regime, ascending
-	Centroid    []float64 // mean codebook vector of the units, scaled space
+	Centroid    []float64 // mean codebook vector of the units weighted by their hits, scaled space
 	Traits      []Trait   // most distinctive features, strongest first
 	Description string    // for example "vibration.p95 +2.1σ, flow.mean −1.4σ"
 }

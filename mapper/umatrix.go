@@ -21,7 +21,7 @@ func (m *Map) UMatrix() []float64 {
 		}
 		var s float64
 		for _, j := range nb {
-			s += euclid(m.Vector(i), m.Vector(j))
+			s += math.Sqrt(sqdist(m.Vector(i), m.Vector(j)))
 		}
 		u[i] = s / float64(len(nb))
 	}
@@ -35,13 +35,4 @@ func (m *Map) Hits(asg []Assignment) []int {
 		h[a.BMU]++
 	}
 	return h
-}
-
-func euclid(a, b []float64) float64 {
-	var s float64
-	for i := range a {
-		d := a[i] - b[i]
-		s += d * d
-	}
-	return math.Sqrt(s)
 }

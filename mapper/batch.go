@@ -1,0 +1,358 @@
+package mapper
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+)
+
+// Accumulator holds the per-unit statistics of one batch epoch: how many
+// windows each unit won and the sum of those windows. It is an associative
+// reduction: accumulators of disjoint sets of windows merge into the
+// accumulator of their union, in any order, up to floating-point
+// reassociation. Its fields are exported so that a distributed runner can
+// encode it.
+type Accumulator struct {
+	Units, Dim int
+	Counts     []float64 // windows won by each unit
+	Sums       []float64 // Units × Dim, row-major: sum of the windows won
+}
+
+// NewAccumulator returns an empty accumulator for a map of units units of
+// dimension dim.
+func NewAccumulator(units, dim int) *Accumulator {
+	return &Accumulator{Units: units, Dim: dim, Counts: make([]float64, units), Sums: make([]float64, units*dim)}
+}
+
+// Add records window x as won by unit.
+func (a *Accumulator) Add(x []float64, unit int) {
+	a.Counts[unit]++
+	s := a.Sums[unit*a.Dim : (unit+1)*a.Dim]
+	for i, v := range x[:a.Dim] {
+		s[i] += v
+	}
+}
+
+// Merge adds other into a. It panics if their shapes differ.
+func (a *Accumulator) Merge(other *Accumulator) {
+	if a.Units != other.Units || a.Dim != other.Dim {
+		panic(fmt.Sprintf("mapper: merging a %d×%d accumulator into a %d×%d one", other.Units, other.Dim, a.Units, a.Dim))
+	}
+	for u, n := range other.Counts {
+		if n == 0 {
+			continue // its sums are zero: adding them changes nothing
+		}
+		a.Counts[u] += n
+		s := a.Sums[u*a.Dim : (u+1)*a.Dim]
+		for i, v := range other.Sums[u*a.Dim : (u+1)*a.Dim] {
+			s[i] += v
+		}
+	}
+}
+
+// reset empties a, touching only the units that won something.
+func (a *Accumulator) reset() {
+	for u, n := range a.Counts {
+		if n != 0 {
+			a.Counts[u] = 0
+			clear(a.Sums[u*a.Dim : (u+1)*a.Dim])
+		}
+	}
+}
+
+// Accumulate finds the best-matching unit of every row of x on up to workers
+// goroutines (0 means all cores) and returns the accumulator of the rows and
+// the sum of their quantization errors. The rows are taken in fixed blocks
+// whose accumulators are merged in block order, so the result does not
+// depend on workers.
+func (m *Map) Accumulate(x *mat.Dense, workers int) (*Accumulator, float64) {
+	r := newSearcher(m).run(x, runOptions{workers: workers, accumulate: true})
+	return r.acc, r.qe
+}
+
+// Smooth replaces the codebook by the batch-map update for the statistics in
+// acc and the neighbourhood width sigma (in lattice units):
+//
+//	w_j = Σ_i h_ji S_i / Σ_i h_ji n_i,  h_ji = exp(−d_ji² / 2σ²),
+//
+// where n_i and S_i are the count and sum of unit i and d_ji is the lattice
+// distance, the short way round on a torus. A unit whose denominator is zero
+// keeps its vector. Sigma 0 is the limit of no neighbourhood: each unit moves
+// to the mean of the windows it won, a k-means step. It panics if acc does
+// not fit the map or sigma is negative or not a number.
+func (m *Map) Smooth(acc *Accumulator, sigma float64) {
+	u, d := m.Units(), m.Dim
+	if acc.Units != u || acc.Dim != d {
+		panic(fmt.Sprintf("mapper: smoothing a %d×%d map with a %d×%d accumulator", u, d, acc.Units, acc.Dim))
+	}
+	if !(sigma >= 0) {
+		panic(fmt.Sprintf("mapper: neighbourhood width %g is not a non-negative number", sigma))
+	}
+	h := neighbourhood(m.Lattice, sigma)
+	hg := blas64.General{Rows: u, Cols: u, Stride: u, Data: h}
+	num := make([]float64, u*d)
+	blas64.Gemm(blas.NoTrans, blas.NoTrans, 1, hg,
+		blas64.General{Rows: u, Cols: d, Stride: d, Data: acc.Sums}, 0,
+		blas64.General{Rows: u, Cols: d, Stride: d, Data: num})
+	den := make([]float64, u)
+	blas64.Gemv(blas.NoTrans, 1, hg, blas64.Vector{N: u, Inc: 1, Data: acc.Counts}, 0, blas64.Vector{N: u, Inc: 1, Data: den})
+	for j, q := range den {
+		if q > 0 {
+			w := m.Vector(j)
+			for k, v := range num[j*d : (j+1)*d] {
+				w[k] = v / q
+			}
+		}
+	}
+}
+
+// neighbourhood returns the Units × Units Gaussian weights of the lattice
+// for width sigma. The weight of a pair depends only on their offset on the
+// lattice (and the parity of the first unit's row), so it is tabulated by
+// offset: a few exponentials per unit instead of one per pair.
+func neighbourhood(l Lattice, sigma float64) []float64 {
+	parities := 1
+	if l.Hex {
+		parities = 2
+	}
+	w, hgt := 2*l.Cols-1, 2*l.Rows-1
+	table := make([]float64, parities*hgt*w)
+	for p := range parities {
+		for dr := range hgt {
+			for dc := range w {
+				table[(p*hgt+dr)*w+dc] = kernel(l.offsetDist2(p, dc-l.Cols+1, dr-l.Rows+1), sigma)
+			}
+		}
+	}
+	u := l.Units()
+	h := make([]float64, u*u)
+	for j := range u {
+		cj, rj := l.Cell(j)
+		p := 0
+		if l.Hex {
+			p = rj % 2
+		}
+		row := h[j*u : (j+1)*u]
+		for i := range row {
+			ci, ri := l.Cell(i)
+			row[i] = table[(p*hgt+ri-rj+l.Rows-1)*w+ci-cj+l.Cols-1]
+		}
+	}
+	return h
+}
+
+// neighbourhoodRow fills the weights of unit j for width sigma.
+func neighbourhoodRow(l Lattice, sigma float64, j int, h []float64) {
+	for i := range h {
+		h[i] = kernel(l.Dist2(j, i), sigma)
+	}
+}
+
+// kernel is the Gaussian weight exp(−d2 / 2σ²) of a squared lattice
+// distance, 1 at distance 0 even for σ = 0. Weights that would be
+// subnormal are set to zero, so a unit reached only by such weights keeps
+// its vector rather than take one computed at reduced precision.
+func kernel(d2, sigma float64) float64 {
+	if d2 == 0 {
+		return 1
+	}
+	if sigma == 0 {
+		return 0
+	}
+	v := math.Exp(-d2 / (2 * sigma * sigma))
+	if v < 0x1p-1022 {
+		return 0
+	}
+	return v
+}
+
+// blockRows is the number of rows in one block of a pass over the data. It
+// is fixed so that the order in which block results are combined, and so
+// every floating-point sum, is the same for any number of workers.
+const blockRows = 256
+
+// runOptions says what a pass over the data computes.
+type runOptions struct {
+	workers    int
+	accumulate bool         // build the accumulator
+	out        []Assignment // when set, receives every row's assignment
+	prev       []int        // when set with a prepared shortcut, each row's previous winner, updated in place
+}
+
+// runResult is what a pass over the data produced.
+type runResult struct {
+	acc       *Accumulator
+	qe        float64 // sum of quantization errors, in block order
+	fallbacks int     // rows for which the shortcut could not prove its winner
+	evals     int     // distances computed by the shortcut
+}
+
+// blockResult is the contribution of one block.
+type blockResult struct {
+	index            int
+	acc              *Accumulator
+	qe               float64
+	fallbacks, evals int
+}
+
+// blockScratch is one worker's memory.
+type blockScratch struct {
+	cross []float64    // blockRows × units cross terms
+	rows  []float64    // rows gathered for a fallback search
+	asg   []Assignment // the block's assignments when not kept
+	index []int        // block rows that fell back
+	fall  []Assignment // their assignments
+}
+
+// run makes one pass over the rows of x in blocks of blockRows.
+func (s *searcher) run(x *mat.Dense, opt runOptions) runResult {
+	n, d := x.Dims()
+	if d != s.dim {
+		panic(fmt.Sprintf("mapper: %d features for a map of dimension %d", d, s.dim))
+	}
+	raw := x.RawMatrix()
+	workers := resolveWorkers(opt.workers)
+	blocks := (n + blockRows - 1) / blockRows
+	workers = max(1, min(workers, blocks))
+
+	// Accumulators circulate through pool so that at most 2·workers exist.
+	var pool chan *Accumulator
+	if opt.accumulate {
+		pool = make(chan *Accumulator, 2*workers)
+		for range 2 * workers {
+			pool <- NewAccumulator(s.units, s.dim)
+		}
+	}
+	results := make(chan blockResult, 2*workers)
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			sc := &blockScratch{
+				cross: make([]float64, blockRows*s.units),
+				asg:   make([]Assignment, blockRows),
+			}
+			for {
+				var acc *Accumulator
+				if pool != nil {
+					acc = <-pool // before taking a block, so the lowest pending block always has one
+				}
+				b := int(next.Add(1)) - 1
+				if b >= blocks {
+					if acc != nil {
+						pool <- acc
+					}
+					return
+				}
+				results <- s.block(raw, b, acc, sc, opt)
+			}
+		})
+	}
+	go func() { wg.Wait(); close(results) }()
+
+	res := runResult{}
+	if opt.accumulate {
+		res.acc = NewAccumulator(s.units, s.dim)
+	}
+	pending := make(map[int]blockResult)
+	want := 0
+	for r := range results {
+		pending[r.index] = r
+		for {
+			p, ok := pending[want]
+			if !ok {
+				break
+			}
+			delete(pending, want)
+			want++
+			res.qe += p.qe
+			res.fallbacks += p.fallbacks
+			res.evals += p.evals
+			if p.acc != nil {
+				res.acc.Merge(p.acc)
+				pool <- p.acc
+			}
+		}
+	}
+	return res
+}
+
+// block processes block b of the rows.
+func (s *searcher) block(raw blas64.General, b int, acc *Accumulator, sc *blockScratch, opt runOptions) blockResult {
+	lo := b * blockRows
+	hi := min(lo+blockRows, raw.Rows)
+	row := func(i int) []float64 { return raw.Data[i*raw.Stride : i*raw.Stride+s.dim] }
+	out := sc.asg[:hi-lo]
+	if opt.out != nil {
+		out = opt.out[lo:hi]
+	}
+	res := blockResult{index: b, acc: acc}
+	if opt.prev != nil && s.nearLen > 0 {
+		sc.index = sc.index[:0]
+		for i := lo; i < hi; i++ {
+			a, ok, evals := s.shortcut(row(i), opt.prev[i])
+			res.evals += evals
+			if ok {
+				out[i-lo] = a
+			} else {
+				sc.index = append(sc.index, i)
+			}
+		}
+		if k := len(sc.index); k > 0 {
+			res.fallbacks = k
+			if sc.rows == nil {
+				sc.rows = make([]float64, blockRows*s.dim)
+				sc.fall = make([]Assignment, blockRows)
+			}
+			for t, i := range sc.index {
+				copy(sc.rows[t*s.dim:(t+1)*s.dim], row(i))
+			}
+			s.fullBlock(blas64.General{Rows: k, Cols: s.dim, Stride: s.dim, Data: sc.rows}, sc.cross, sc.fall)
+			for t, i := range sc.index {
+				out[i-lo] = sc.fall[t]
+			}
+		}
+	} else {
+		s.fullBlock(blas64.General{Rows: hi - lo, Cols: s.dim, Stride: raw.Stride, Data: raw.Data[lo*raw.Stride:]}, sc.cross, out)
+	}
+	if acc != nil {
+		acc.reset()
+	}
+	for i := lo; i < hi; i++ {
+		a := out[i-lo]
+		res.qe += a.QE
+		if acc != nil {
+			acc.Add(row(i), a.BMU)
+		}
+		if opt.prev != nil {
+			opt.prev[i] = a.BMU
+		}
+	}
+	return res
+}
+
+// resolveWorkers turns the setting 0 into the number of usable cores.
+func resolveWorkers(w int) int {
+	if w <= 0 {
+		return runtime.GOMAXPROCS(0)
+	}
+	return w
+}
+
+// parallelRange splits [0, n) into contiguous parts, one per worker, and
+// runs fn on each.
+func parallelRange(n, workers int, fn func(lo, hi int)) {
+	workers = max(1, min(resolveWorkers(workers), n))
+	var wg sync.WaitGroup
+	for w := range workers {
+		lo, hi := w*n/workers, (w+1)*n/workers
+		wg.Go(func() { fn(lo, hi) })
+	}
+	wg.Wait()
+}

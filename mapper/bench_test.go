@@ -1,0 +1,165 @@
+package mapper
+
+import (
+	"slices"
+	"sync"
+	"testing"
+	"time"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+)
+
+// The shapes of the performance targets: 100,000 windows of 64 features on
+// a 40 × 30 lattice.
+const (
+	benchN, benchD       = 100_000, 64
+	benchCols, benchRows = 40, 30
+)
+
+// BenchmarkBatchEpoch times one batch epoch (winner search, accumulation
+// and smoothing) against the bare matrix product of the same shapes, an
+// N × D by D × units Dgemm in one call, in the same run, and reports their
+// ratio (target: at most 1.3). It also times the same product in blocks of
+// blockRows rows, as the epoch computes it, which isolates the epoch's
+// own overhead from the cache effects of one 960 MB product. Ratios are
+// given of wall time and of processor time, which other loads on a shared
+// machine disturb less.
+func BenchmarkBatchEpoch(b *testing.B) {
+	x := noiseData(benchN, benchD, 1)
+	m, cfg, err := InitMap(x, Config{Cols: benchCols, Rows: benchRows})
+	if err != nil {
+		b.Fatal(err)
+	}
+	units := m.Units()
+	c := make([]float64, benchN*units)
+	for i := range c {
+		c[i] = 1 // fault the pages in before timing
+	}
+	raw := x.RawMatrix()
+	w := blas64.General{Rows: units, Cols: benchD, Stride: benchD, Data: m.Codebook}
+	var gemm, blocked, epoch, smooth time.Duration
+	var cpuGemm, cpuBlocked, cpuEpoch time.Duration
+	b.ResetTimer()
+	for range b.N {
+		t, ct := time.Now(), cpuTime()
+		blas64.Gemm(blas.NoTrans, blas.Trans, 1, raw, w, 0, blas64.General{Rows: benchN, Cols: units, Stride: units, Data: c})
+		gemm += time.Since(t)
+		cpuGemm += cpuTime() - ct
+
+		t, ct = time.Now(), cpuTime()
+		parallelRange((benchN+blockRows-1)/blockRows, 0, func(lo, hi int) {
+			cb := make([]float64, blockRows*units)
+			for blk := lo; blk < hi; blk++ {
+				r0, r1 := blk*blockRows, min(benchN, (blk+1)*blockRows)
+				xb := blas64.General{Rows: r1 - r0, Cols: benchD, Stride: raw.Stride, Data: raw.Data[r0*raw.Stride:]}
+				blas64.Gemm(blas.NoTrans, blas.Trans, 1, xb, w, 0, blas64.General{Rows: r1 - r0, Cols: units, Stride: units, Data: cb})
+			}
+		})
+		blocked += time.Since(t)
+		cpuBlocked += cpuTime() - ct
+
+		t, ct = time.Now(), cpuTime()
+		acc, _ := m.Accumulate(x, 0)
+		t2 := time.Now()
+		m.Smooth(acc, Sigma(cfg, 0))
+		smooth += time.Since(t2)
+		epoch += time.Since(t)
+		cpuEpoch += cpuTime() - ct
+	}
+	b.ReportMetric(gemm.Seconds()/float64(b.N), "dgemm-s/op")
+	b.ReportMetric(blocked.Seconds()/float64(b.N), "blocked-dgemm-s/op")
+	b.ReportMetric(epoch.Seconds()/float64(b.N), "epoch-s/op")
+	b.ReportMetric(smooth.Seconds()/float64(b.N), "smooth-s/op")
+	b.ReportMetric(epoch.Seconds()/gemm.Seconds(), "epoch/dgemm")
+	b.ReportMetric(epoch.Seconds()/blocked.Seconds(), "epoch/blocked-dgemm")
+	if cpuGemm > 0 {
+		b.ReportMetric(cpuEpoch.Seconds()/cpuGemm.Seconds(), "cpu-epoch/dgemm")
+		b.ReportMetric(cpuEpoch.Seconds()/cpuBlocked.Seconds(), "cpu-epoch/blocked-dgemm")
+	}
+}
+
+// lateMaps caches, for each kind of data, a map trained far enough for its
+// late epochs to be measured.
+var lateMaps sync.Map
+
+type lateState struct {
+	x    *mat.Dense
+	m    *Map
+	prev []int
+}
+
+func lateMap(b *testing.B, kind string) *lateState {
+	if v, ok := lateMaps.Load(kind); ok {
+		return v.(*lateState)
+	}
+	var x *mat.Dense
+	switch kind {
+	case "clusters":
+		x, _ = clusterData(benchN, benchD, 24, 10, 0.5, 2)
+	case "manifold":
+		x = manifoldData(benchN, benchD, 0.02, 3)
+	case "noise":
+		x = noiseData(benchN, benchD, 4)
+	}
+	// Train all but the last epoch of an 8-epoch schedule.
+	cfg := Config{Cols: benchCols, Rows: benchRows, Epochs: 8}
+	m, cfg, err := InitMap(x, cfg)
+	if err != nil {
+		b.Fatal(err)
+	}
+	cfg.Epochs = 7
+	train(m, x, cfg)
+	st := &lateState{x: x, m: m, prev: make([]int, benchN)}
+	for i, a := range m.Assign(x, 0) {
+		st.prev[i] = a.BMU
+	}
+	lateMaps.Store(kind, st)
+	return st
+}
+
+// BenchmarkShortcutEpoch times the winner search and accumulation of a late
+// epoch with the shortcut search (including its unit-to-unit table) against
+// the full search on the same map, checks that both find the same winners,
+// and reports the ratio (target: at most 0.5 on structured data; no exact
+// pruning can help on pure noise).
+func BenchmarkShortcutEpoch(b *testing.B) {
+	for _, kind := range []string{"clusters", "manifold", "noise"} {
+		b.Run(kind, func(b *testing.B) {
+			st := lateMap(b, kind)
+			full := make([]Assignment, benchN)
+			short := make([]Assignment, benchN)
+			var tf, ts, cf, cs time.Duration
+			var fallbacks, evals int
+			b.ResetTimer()
+			for range b.N {
+				s := newSearcher(st.m)
+				t, ct := time.Now(), cpuTime()
+				s.run(st.x, runOptions{accumulate: true, out: full})
+				tf += time.Since(t)
+				cf += cpuTime() - ct
+
+				prev := slices.Clone(st.prev)
+				t, ct = time.Now(), cpuTime()
+				s.prepareShortcut(shortcutList(s.units), 0)
+				r := s.run(st.x, runOptions{accumulate: true, out: short, prev: prev})
+				ts += time.Since(t)
+				cs += cpuTime() - ct
+				fallbacks += r.fallbacks
+				evals += r.evals
+				if !slices.Equal(full, short) {
+					b.Fatal("shortcut and full search disagree")
+				}
+			}
+			b.ReportMetric(tf.Seconds()/float64(b.N), "full-s/op")
+			b.ReportMetric(ts.Seconds()/float64(b.N), "shortcut-s/op")
+			b.ReportMetric(ts.Seconds()/tf.Seconds(), "shortcut/full")
+			if cf > 0 {
+				b.ReportMetric(cs.Seconds()/cf.Seconds(), "cpu-shortcut/full")
+			}
+			b.ReportMetric(float64(fallbacks)/float64(b.N*benchN), "fallback-share")
+			b.ReportMetric(float64(evals)/float64(b.N*benchN), "evals/row")
+		})
+	}
+}

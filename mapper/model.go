@@ -1,0 +1,393 @@
+package mapper
+
+import (
+	"bufio"
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// FormatVersion is the version of the model file this package writes, and
+// the newest it reads.
+const FormatVersion = 1
+
+// magic starts every model file, followed by a space and the format version.
+const magic = "kinmap-model"
+
+// qeSteps is the number of steps between the stored quantiles of the
+// training quantization error: quantiles 0, 1/qeSteps, …, 1.
+const qeSteps = 1000
+
+// Fit trains a map on the rows of x, whose columns names names, assigns the
+// windows, measures the quality, finds and describes the regimes, and
+// returns the model with the assignments of x. The caller fills
+// FeatureNames, FeatureConfig and Scaler.
+func Fit(x *mat.Dense, names []string, cfg Config) (*Model, []Assignment, error) {
+	if err := checkNames(x, names); err != nil {
+		return nil, nil, err
+	}
+	m, cfg, err := InitMap(x, cfg)
+	if err != nil {
+		return nil, nil, err
+	}
+	train(m, x, cfg)
+	return finish(m, x, names, cfg)
+}
+
+// Update continues training prev's map on x (see TrainFrom), derives the
+// regimes again with cfg.Regimes, and numbers them after prev's regimes
+// with MatchRegimes. The model returned keeps prev's feature schema,
+// feature settings and scaler; the changes list every renumbering, split
+// and merge.
+func Update(prev *Model, x *mat.Dense, names []string, cfg Config) (*Model, []Assignment, []RegimeChange, error) {
+	if err := checkNames(x, names); err != nil {
+		return nil, nil, nil, err
+	}
+	m, cfg, err := trainFrom(&prev.Map, x, cfg)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	next, asg, err := finish(m, x, names, cfg)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	ids, changes, err := MatchRegimes(prev.Regimes, next.Regimes)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	if err := next.Renumber(ids); err != nil {
+		return nil, nil, nil, err
+	}
+	next.FeatureNames = slices.Clone(prev.FeatureNames)
+	next.FeatureConfig = prev.FeatureConfig
+	next.Scaler = prev.Scaler
+	return next, asg, changes, nil
+}
+
+func checkNames(x *mat.Dense, names []string) error {
+	if x == nil {
+		return fmt.Errorf("mapper: no training windows")
+	}
+	if _, d := x.Dims(); d != len(names) {
+		return fmt.Errorf("mapper: %d feature names for %d columns", len(names), d)
+	}
+	return nil
+}
+
+// finish builds the model of a trained map.
+func finish(m *Map, x *mat.Dense, names []string, cfg Config) (*Model, []Assignment, error) {
+	asg := m.Assign(x, cfg.Workers)
+	md, err := NewModel(m, x, names, cfg, asg)
+	return md, asg, err
+}
+
+// NewModel builds the model of a map trained with the complete settings cfg
+// (Config.WithDefaults) on x, whose windows landed at asg: the regimes
+// (FindRegimes weighted by the hits of asg, then Describe), the quality and
+// the quantiles of the training quantization errors. Fit and Update call
+// it after their epochs; a runner that trains the map elsewhere calls it
+// too. The caller fills FeatureNames, FeatureConfig and Scaler.
+func NewModel(m *Map, x *mat.Dense, names []string, cfg Config, asg []Assignment) (*Model, error) {
+	groups, err := FindRegimes(m, cfg.Regimes, m.Hits(asg))
+	if err != nil {
+		return nil, err
+	}
+	regs, err := Describe(m, groups, x, asg, names)
+	if err != nil {
+		return nil, err
+	}
+	unitRegime := make([]int, len(groups))
+	for u, g := range groups {
+		unitRegime[u] = regs[g].ID
+	}
+	cfg.Progress = nil
+	return &Model{
+		Version:     FormatVersion,
+		Map:         *m,
+		Regimes:     regs,
+		UnitRegime:  unitRegime,
+		Training:    cfg,
+		Quality:     m.Quality(asg),
+		QEQuantiles: qeQuantiles(asg),
+		Windows:     len(asg),
+	}, nil
+}
+
+// qeQuantiles returns the quantization errors at quantiles 0, 0.001, …, 1,
+// interpolated linearly between order statistics: the sample quantile of
+// definition 7 of R. J. Hyndman and Y. Fan, "Sample quantiles in
+// statistical packages", The American Statistician 50(4), 1996.
+func qeQuantiles(asg []Assignment) []float64 {
+	if len(asg) == 0 {
+		return nil
+	}
+	qe := make([]float64, len(asg))
+	for i, a := range asg {
+		qe[i] = a.QE
+	}
+	slices.Sort(qe)
+	out := make([]float64, qeSteps+1)
+	for k := range out {
+		h := float64(len(qe)-1) * float64(k) / qeSteps
+		lo := int(math.Floor(h))
+		hi := min(lo+1, len(qe)-1)
+		out[k] = qe[lo] + (h-float64(lo))*(qe[hi]-qe[lo])
+	}
+	return out
+}
+
+// QEThreshold returns the training quantization error at quantile q in
+// [0, 1] (clamped), interpolated linearly between the stored quantiles; a
+// window beyond QEThreshold(0.99) fits the map worse than 99 % of the
+// training windows did. It returns NaN when the model stores no quantiles
+// or q is NaN.
+func (m *Model) QEThreshold(q float64) float64 {
+	t := m.QEQuantiles
+	if len(t) == 0 || math.IsNaN(q) {
+		return math.NaN()
+	}
+	h := math.Min(1, math.Max(0, q)) * float64(len(t)-1)
+	lo := int(math.Floor(h))
+	if lo >= len(t)-1 {
+		return t[len(t)-1]
+	}
+	return t[lo] + (h-float64(lo))*(t[lo+1]-t[lo])
+}
+
+// Renumber gives regime i the number ids[i] (as from MatchRegimes) and
+// updates UnitRegime to match. The numbers must be positive and distinct.
+func (m *Model) Renumber(ids []int) error {
+	if len(ids) != len(m.Regimes) {
+		return fmt.Errorf("mapper: %d numbers for %d regimes", len(ids), len(m.Regimes))
+	}
+	seen := make(map[int]bool)
+	old := make(map[int]int)
+	for i, id := range ids {
+		if id < 1 || seen[id] {
+			return fmt.Errorf("mapper: regime number %d is not positive or is repeated", id)
+		}
+		seen[id] = true
+		old[m.Regimes[i].ID] = id
+	}
+	for i := range m.Regimes {
+		m.Regimes[i].ID = ids[i]
+	}
+	for u, id := range m.UnitRegime {
+		m.UnitRegime[u] = old[id]
+	}
+	return nil
+}
+
+// CheckSchema reports whether a feature table with the columns names can be
+// mapped with the model: the same features in the same order as at
+// training. The error names the missing and the extra features, or the
+// first place where the order differs.
+func (m *Model) CheckSchema(names []string) error {
+	have := make(map[string]bool, len(names))
+	for _, n := range names {
+		if have[n] {
+			return fmt.Errorf("mapper: the feature table has feature %q twice", n)
+		}
+		have[n] = true
+	}
+	want := make(map[string]bool, len(m.FeatureNames))
+	var missing, extra []string
+	for _, n := range m.FeatureNames {
+		want[n] = true
+		if !have[n] {
+			missing = append(missing, n)
+		}
+	}
+	for _, n := range names {
+		if !want[n] {
+			extra = append(extra, n)
+		}
+	}
+	if len(missing) > 0 || len(extra) > 0 {
+		var parts []string
+		if len(missing) > 0 {
+			parts = append(parts, "missing "+strings.Join(missing, ", "))
+		}
+		if len(extra) > 0 {
+			parts = append(parts, "extra "+strings.Join(extra, ", "))
+		}
+		return fmt.Errorf("mapper: the feature table does not match the model: %s", strings.Join(parts, "; "))
+	}
+	for i, n := range names {
+		if n != m.FeatureNames[i] {
+			return fmt.Errorf("mapper: the feature table has the model's features in another order: column %d is %q, the model has %q", i, n, m.FeatureNames[i])
+		}
+	}
+	return nil
+}
+
+// Write writes the model as one file: a first line with the magic word and
+// the format version, a second with the payload's length and SHA-256
+// checksum, then the payload, the model in JSON. JSON writes every float in
+// the shortest form that reads back to the same value, so a model reads back
+// exactly; it cannot hold NaN or infinities, which Write refuses.
+func (m *Model) Write(w io.Writer) error {
+	c := *m
+	c.Version = FormatVersion
+	payload, err := json.Marshal(&c)
+	if err != nil {
+		return fmt.Errorf("mapper: model: %w", err)
+	}
+	sum := sha256.Sum256(payload)
+	if _, err := fmt.Fprintf(w, "%s %d\n%d %s\n", magic, FormatVersion, len(payload), hex.EncodeToString(sum[:])); err != nil {
+		return fmt.Errorf("mapper: model: %w", err)
+	}
+	if _, err := w.Write(payload); err != nil {
+		return fmt.Errorf("mapper: model: %w", err)
+	}
+	return nil
+}
+
+// ReadModel reads a model written by Write. It checks the format version,
+// the length and the checksum of the payload and the consistency of what it
+// decodes before returning anything, so a truncated, corrupted or newer file
+// is refused whole.
+func ReadModel(r io.Reader) (*Model, error) {
+	m, err := readModel(r)
+	if err != nil {
+		return nil, fmt.Errorf("mapper: model: %w", err)
+	}
+	return m, nil
+}
+
+// WriteFile writes the model to path, through a temporary file renamed into
+// place, so that a reader never sees half a model.
+func (m *Model) WriteFile(path string) (err error) {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
+	if err != nil {
+		return fmt.Errorf("mapper: %w", err)
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	bw := bufio.NewWriter(f)
+	if err := m.Write(bw); err != nil {
+		return fmt.Errorf("mapper: %s: %w", path, errors.Unwrap(err))
+	}
+	if err := bw.Flush(); err != nil {
+		return fmt.Errorf("mapper: %s: %w", path, err)
+	}
+	if err := f.Close(); err != nil {
+		return fmt.Errorf("mapper: %s: %w", path, err)
+	}
+	if err := os.Rename(f.Name(), path); err != nil {
+		return fmt.Errorf("mapper: %w", err)
+	}
+	return nil
+}
+
+// ReadModelFile reads the model file at path.
+func ReadModelFile(path string) (*Model, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("mapper: %w", err)
+	}
+	defer f.Close()
+	m, err := readModel(bufio.NewReader(f))
+	if err != nil {
+		return nil, fmt.Errorf("mapper: %s: %w", path, err)
+	}
+	return m, nil
+}
+
+func readModel(r io.Reader) (*Model, error) {
+	br := bufio.NewReader(r)
+	head, err := br.ReadString('\n')
+	if err != nil {
+		return nil, errors.New("not a kinmap model file (no header line)")
+	}
+	word, ver, ok := strings.Cut(strings.TrimSuffix(head, "\n"), " ")
+	version, verr := strconv.Atoi(ver)
+	if !ok || word != magic || verr != nil || version < 1 {
+		return nil, errors.New("not a kinmap model file")
+	}
+	if version > FormatVersion {
+		return nil, fmt.Errorf("format version %d is newer than this build reads (up to %d): use a newer kinmap", version, FormatVersion)
+	}
+	line, err := br.ReadString('\n')
+	if err != nil {
+		return nil, errors.New("truncated in its header")
+	}
+	size, sum, ok := strings.Cut(strings.TrimSuffix(line, "\n"), " ")
+	n, serr := strconv.Atoi(size)
+	want, herr := hex.DecodeString(sum)
+	if !ok || serr != nil || n < 0 || herr != nil || len(want) != sha256.Size {
+		return nil, errors.New("damaged header")
+	}
+	payload, err := io.ReadAll(io.LimitReader(br, int64(n)+1))
+	if err != nil {
+		return nil, err
+	}
+	switch {
+	case len(payload) < n:
+		return nil, fmt.Errorf("truncated: %d of %d payload bytes", len(payload), n)
+	case len(payload) > n:
+		return nil, errors.New("unexpected bytes after the payload")
+	}
+	if got := sha256.Sum256(payload); !bytes.Equal(got[:], want) {
+		return nil, errors.New("checksum mismatch: the file is corrupted")
+	}
+	dec := json.NewDecoder(bytes.NewReader(payload))
+	dec.DisallowUnknownFields()
+	var m Model
+	if err := dec.Decode(&m); err != nil {
+		return nil, fmt.Errorf("payload: %w", err)
+	}
+	if m.Version != version {
+		return nil, fmt.Errorf("payload says format version %d, the header %d", m.Version, version)
+	}
+	if err := m.check(); err != nil {
+		return nil, err
+	}
+	return &m, nil
+}
+
+// check verifies that the parts of a decoded model fit together.
+func (m *Model) check() error {
+	l := m.Map.Lattice
+	if err := l.Validate(); err != nil {
+		return errors.New(strings.TrimPrefix(err.Error(), "mapper: "))
+	}
+	u := l.Units()
+	switch {
+	case m.Map.Dim < 1 || len(m.Map.Codebook) != u*m.Map.Dim:
+		return fmt.Errorf("codebook has %d values, want %d units × %d", len(m.Map.Codebook), u, m.Map.Dim)
+	case len(m.UnitRegime) != u:
+		return fmt.Errorf("%d unit regimes for %d units", len(m.UnitRegime), u)
+	case len(m.QEQuantiles) != 0 && len(m.QEQuantiles) != qeSteps+1:
+		return fmt.Errorf("%d error quantiles, want %d", len(m.QEQuantiles), qeSteps+1)
+	}
+	ids := make(map[int]bool)
+	for _, r := range m.Regimes {
+		if len(r.Centroid) != m.Map.Dim {
+			return fmt.Errorf("regime %d has a centroid of dimension %d, the map %d", r.ID, len(r.Centroid), m.Map.Dim)
+		}
+		ids[r.ID] = true
+	}
+	for un, id := range m.UnitRegime {
+		if !ids[id] {
+			return fmt.Errorf("unit %d belongs to regime %d, which the model does not have", un, id)
+		}
+	}
+	return nil
+}

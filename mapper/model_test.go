@@ -1,0 +1,277 @@
+package mapper
+
+import (
+	"bytes"
+	"fmt"
+	"math"
+	"os/exec"
+	"path/filepath"
+	"reflect"
+	"slices"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/kinmap/kinmap/features"
+	"gonum.org/v1/gonum/mat"
+)
+
+// fitted returns a small trained model with the fields a caller fills.
+func fitted(t *testing.T) (*Model, *mat.Dense, []Assignment) {
+	t.Helper()
+	x, _ := clusterData(600, 4, 3, 6, 0.5, 31)
+	names := []string{"flow.mean", "flow.p95", "vibration.mean", "vibration.p95"}
+	mdl, asg, err := Fit(x, names, Config{Cols: 8, Rows: 6, Epochs: 6, Regimes: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	mdl.FeatureNames = append(slices.Clone(names), "pressure.max")
+	mdl.FeatureConfig = features.Config{Window: 24 * time.Hour, Stride: 6 * time.Hour, TZ: "Europe/Oslo", MinCoverage: 0.6, Features: "basic"}
+	// Awkward floats must come back bit for bit.
+	mdl.Scaler = &features.Scaler{
+		Method:  "zscore",
+		Names:   names,
+		Center:  []float64{0.1, math.Copysign(0, -1), 1e-300, math.MaxFloat64},
+		Scale:   []float64{math.SmallestNonzeroFloat64, 1.0 / 3, math.Pi, 2.5e-8},
+		Weight:  []float64{1, 1, 0.5, 2},
+		Dropped: []string{"pressure.max"},
+	}
+	return mdl, x, asg
+}
+
+func TestFit(t *testing.T) {
+	mdl, x, asg := fitted(t)
+	u := mdl.Map.Units()
+	if len(mdl.Regimes) != 3 || len(mdl.UnitRegime) != u || mdl.Windows != 600 || len(mdl.QEQuantiles) != 1001 {
+		t.Fatalf("%d regimes, %d unit regimes, %d windows, %d quantiles", len(mdl.Regimes), len(mdl.UnitRegime), mdl.Windows, len(mdl.QEQuantiles))
+	}
+	for _, r := range mdl.Regimes {
+		for _, un := range r.Units {
+			if mdl.UnitRegime[un] != r.ID {
+				t.Errorf("unit %d of regime %d is recorded in regime %d", un, r.ID, mdl.UnitRegime[un])
+			}
+		}
+	}
+	if mdl.Training.Epochs != 6 || mdl.Training.Rule != RuleBatch || mdl.Training.Sigma0 == 0 {
+		t.Errorf("training settings not complete: %+v", mdl.Training)
+	}
+	if q := mdl.Map.Quality(asg); !reflect.DeepEqual(q, mdl.Quality) {
+		t.Errorf("quality %+v, recomputed %+v", mdl.Quality, q)
+	}
+	// Assigning the training windows to the model read back gives exactly
+	// the assignments of training.
+	var buf bytes.Buffer
+	if err := mdl.Write(&buf); err != nil {
+		t.Fatal(err)
+	}
+	back, err := ReadModel(&buf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if again := back.Map.Assign(x, 1); !slices.Equal(again, asg) {
+		t.Error("the model read back assigns the training windows differently")
+	}
+	if _, _, err := Fit(x, []string{"a"}, Config{}); err == nil || !strings.Contains(err.Error(), "1 feature names for 4 columns") {
+		t.Errorf("wrong names: %v", err)
+	}
+}
+
+func TestModelRoundTrip(t *testing.T) {
+	mdl, _, _ := fitted(t)
+	var buf bytes.Buffer
+	if err := mdl.Write(&buf); err != nil {
+		t.Fatal(err)
+	}
+	back, err := ReadModel(bytes.NewReader(buf.Bytes()))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(back, mdl) {
+		t.Errorf("read back %+v\nwrote %+v", back, mdl)
+	}
+	if !math.Signbit(back.Scaler.Center[1]) {
+		t.Error("−0 lost its sign")
+	}
+	path := filepath.Join(t.TempDir(), "fleet.model")
+	if err := mdl.WriteFile(path); err != nil {
+		t.Fatal(err)
+	}
+	fromFile, err := ReadModelFile(path)
+	if err != nil || !reflect.DeepEqual(fromFile, mdl) {
+		t.Errorf("file round trip: %v", err)
+	}
+	if _, err := ReadModelFile(filepath.Join(t.TempDir(), "none")); err == nil {
+		t.Error("a missing file read")
+	}
+}
+
+func TestModelRefusesDamage(t *testing.T) {
+	mdl, _, _ := fitted(t)
+	var buf bytes.Buffer
+	if err := mdl.Write(&buf); err != nil {
+		t.Fatal(err)
+	}
+	good := buf.Bytes()
+	head := bytes.IndexByte(good, '\n') + 1
+	body := head + bytes.IndexByte(good[head:], '\n') + 1
+	read := func(b []byte) error { _, err := ReadModel(bytes.NewReader(b)); return err }
+	expect := func(name string, b []byte, want string) {
+		t.Helper()
+		err := read(b)
+		if err == nil || !strings.Contains(err.Error(), want) || !strings.HasPrefix(err.Error(), "mapper: model: ") {
+			t.Errorf("%s: error %v, want one saying %q", name, err, want)
+		}
+	}
+	for _, at := range []int{body, body + 1, (body + len(good)) / 2, len(good) - 1} {
+		b := slices.Clone(good)
+		b[at] ^= 0x01
+		expect(fmt.Sprintf("byte %d flipped", at), b, "checksum mismatch")
+	}
+	b := slices.Clone(good)
+	b[head+3] ^= 0x01 // in the recorded length
+	if read(b) == nil {
+		t.Error("a damaged length accepted")
+	}
+	for _, n := range []int{0, 5, head, body - 1, body, body + 10, len(good) - 1} {
+		if err := read(good[:n]); err == nil {
+			t.Errorf("truncated to %d of %d bytes: accepted", n, len(good))
+		}
+	}
+	expect("truncated payload", good[:len(good)-20], "truncated")
+	expect("bytes appended", append(slices.Clone(good), ' '), "after the payload")
+	expect("not a model", []byte("hello\nworld\n"), "not a kinmap model")
+	newer := bytes.Replace(good, []byte(magic+" "+strconv.Itoa(FormatVersion)), []byte(magic+" 2"), 1)
+	expect("newer version", newer, "format version 2 is newer than this build reads (up to 1)")
+
+	// A payload with a valid checksum but parts that do not fit together.
+	bad := *mdl
+	bad.UnitRegime = bad.UnitRegime[1:]
+	var bb bytes.Buffer
+	if err := bad.Write(&bb); err != nil {
+		t.Fatal(err)
+	}
+	expect("inconsistent", bb.Bytes(), "unit regimes")
+
+	nan := *mdl
+	nan.QEQuantiles = slices.Clone(mdl.QEQuantiles)
+	nan.QEQuantiles[3] = math.NaN()
+	if err := nan.Write(&bb); err == nil {
+		t.Error("a NaN written")
+	}
+}
+
+func TestCheckSchema(t *testing.T) {
+	m := &Model{FeatureNames: []string{"flow.mean", "flow.p95", "vibration.p95"}}
+	for _, tc := range []struct {
+		names []string
+		want  string // "" for accepted
+	}{
+		{[]string{"flow.mean", "flow.p95", "vibration.p95"}, ""},
+		{[]string{"flow.mean", "vibration.p95", "pressure.max", "temp.mean"}, "missing flow.p95; extra pressure.max, temp.mean"},
+		{[]string{"flow.mean", "flow.p95"}, "missing vibration.p95"},
+		{[]string{"flow.p95", "flow.mean", "vibration.p95"}, `column 0 is "flow.p95", the model has "flow.mean"`},
+		{[]string{"flow.mean", "flow.mean", "vibration.p95"}, `"flow.mean" twice`},
+	} {
+		err := m.CheckSchema(tc.names)
+		switch {
+		case tc.want == "" && err != nil:
+			t.Errorf("%v: %v", tc.names, err)
+		case tc.want != "" && (err == nil || !strings.Contains(err.Error(), tc.want)):
+			t.Errorf("%v: error %v, want one saying %q", tc.names, err, tc.want)
+		}
+	}
+}
+
+// Quantiles by definition 7 of Hyndman and Fan (1996): for 1, 2, …, 5 the
+// quantile p lies at position 4p of the sorted values, so p = 0.25 is 2 and
+// p = 0.1 is 1.4.
+func TestQEThreshold(t *testing.T) {
+	var asg []Assignment
+	for _, v := range []float64{5, 3, 1, 4, 2} {
+		asg = append(asg, Assignment{QE: v})
+	}
+	m := &Model{QEQuantiles: qeQuantiles(asg)}
+	for q, want := range map[float64]float64{0: 1, 0.1: 1.4, 0.25: 2, 0.5: 3, 0.9: 4.6, 1: 5, 1.5: 5, -1: 1, 0.1005: 1.402} {
+		if got := m.QEThreshold(q); math.Abs(got-want) > 1e-12 {
+			t.Errorf("QEThreshold(%g) = %g, want %g", q, got, want)
+		}
+	}
+	if !math.IsNaN((&Model{}).QEThreshold(0.5)) {
+		t.Error("no quantiles: not NaN")
+	}
+}
+
+// The stored quantiles agree with numpy.quantile, whose default method is
+// the same definition 7.
+func TestQEQuantilesAgreeWithNumpy(t *testing.T) {
+	py := python(t)
+	rng := testRand(32)
+	asg := make([]Assignment, 777)
+	vals := make([]string, len(asg))
+	for i := range asg {
+		asg[i].QE = rng.ExpFloat64()
+		vals[i] = strconv.FormatFloat(asg[i].QE, 'g', -1, 64)
+	}
+	script := "import sys, numpy as np\n" +
+		"x = np.array([float(v) for v in sys.stdin.read().split()])\n" +
+		"print(' '.join(repr(float(v)) for v in np.quantile(x, np.arange(1001) / 1000)))\n"
+	cmd := exec.Command(py, "-c", script)
+	cmd.Stdin = strings.NewReader(strings.Join(vals, " "))
+	out, err := cmd.Output()
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := strings.Fields(string(out))
+	got := qeQuantiles(asg)
+	if len(want) != len(got) {
+		t.Fatalf("numpy gave %d quantiles, we %d", len(want), len(got))
+	}
+	for k, w := range want {
+		v, _ := strconv.ParseFloat(w, 64)
+		if math.Abs(got[k]-v) > 1e-12*(1+v) {
+			t.Errorf("quantile %d/1000: %g, numpy %g", k, got[k], v)
+		}
+	}
+}
+
+// Week two is week one plus a little noise: after Update every regime
+// keeps its number, judged by which previous regime shares most units.
+func TestUpdateKeepsNumbers(t *testing.T) {
+	mdl, x, _ := fitted(t)
+	n, d := x.Dims()
+	week2 := mat.NewDense(n, d, nil)
+	rng := testRand(33)
+	for i := range n {
+		for j := range d {
+			week2.Set(i, j, x.At(i, j)+0.05*rng.NormFloat64())
+		}
+	}
+	next, asg, changes, err := Update(mdl, week2, []string{"flow.mean", "flow.p95", "vibration.mean", "vibration.p95"}, Config{Epochs: 3, Regimes: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(asg) != n || !reflect.DeepEqual(next.Scaler, mdl.Scaler) || !slices.Equal(next.FeatureNames, mdl.FeatureNames) {
+		t.Error("Update lost the schema or the assignments")
+	}
+	for _, r := range next.Regimes {
+		overlap := map[int]int{}
+		for _, u := range r.Units {
+			overlap[mdl.UnitRegime[u]]++
+		}
+		best := 0
+		for id, c := range overlap {
+			if c > overlap[best] {
+				best = id
+			}
+		}
+		if best != r.ID {
+			t.Errorf("regime %d mostly covers previous regime %d", r.ID, best)
+		}
+	}
+	for _, c := range changes {
+		if c.Kind != ChangeRenumbered {
+			t.Errorf("unexpected change %+v", c)
+		}
+	}
+}

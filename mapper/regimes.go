@@ -1,0 +1,382 @@
+package mapper
+
+import (
+	"cmp"
+	"container/heap"
+	"fmt"
+	"maps"
+	"math"
+	"slices"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat"
+)
+
+// Regime counts tried when FindRegimes chooses one.
+const (
+	minAutoRegimes = 2
+	maxAutoRegimes = 12
+)
+
+// maxTraits is the number of traits Describe keeps for a regime.
+const maxTraits = 3
+
+// FindRegimes groups the units of m into k regimes, returning the group
+// (0 … k−1) of every unit, groups numbered in order of their lowest unit.
+// It clusters the codebook by Ward's minimum-variance criterion (J. H. Ward,
+// "Hierarchical grouping to optimize an objective function", JASA 58, 1963),
+// merging only groups that are adjacent on the lattice, so that every
+// regime is a connected area of the map. With k = 0 it chooses k over 2 …
+// 12 by the lowest Davies–Bouldin index (D. L. Davies and D. W. Bouldin,
+// "A cluster separation measure", IEEE PAMI 1(2), 1979), the smaller k on a
+// tie.
+//
+// hits, when not nil, holds the windows each unit won (Map.Hits) and weighs
+// every unit by them: Ward's criterion and the Davies–Bouldin index then
+// measure the windows, each stood for by its BMU's codebook vector, rather
+// than the units. Units that won nothing weigh nothing and join a
+// neighbour at no cost, so the units a map spreads between clusters of
+// data do not blur the regimes. With nil hits every unit weighs one.
+func FindRegimes(m *Map, k int, hits []int) ([]int, error) {
+	u := m.Units()
+	switch {
+	case k < 0 || k > u:
+		return nil, fmt.Errorf("mapper: %d regimes asked of a map of %d units", k, u)
+	case k == 0 && u < minAutoRegimes:
+		return nil, fmt.Errorf("mapper: choosing the number of regimes needs at least %d units, the map has %d", minAutoRegimes, u)
+	case hits != nil && len(hits) != u:
+		return nil, fmt.Errorf("mapper: %d hit counts for a map of %d units", len(hits), u)
+	}
+	w := unitWeights(u, hits)
+	tree := wardTree(m, w)
+	if k > 0 {
+		return cutTree(tree, u, k), nil
+	}
+	var best []int
+	bestDB := math.Inf(1)
+	for c := minAutoRegimes; c <= min(maxAutoRegimes, u); c++ {
+		g := cutTree(tree, u, c)
+		if db := daviesBouldin(m, g, w); best == nil || db < bestDB {
+			best, bestDB = g, db
+		}
+	}
+	return best, nil
+}
+
+// merge is one step of the agglomeration: clusters a and b, numbered as
+// units 0 … U−1 and then U+s for the cluster made at step s, at a cost of
+// the increase in the within-cluster sum of squares.
+type merge struct {
+	a, b int
+	cost float64
+}
+
+// unitWeights returns the weight of every unit: its hits, or 1 for all.
+func unitWeights(units int, hits []int) []float64 {
+	w := make([]float64, units)
+	for i := range w {
+		w[i] = 1
+		if hits != nil {
+			w[i] = float64(hits[i])
+		}
+	}
+	return w
+}
+
+// wardTree agglomerates the units of m, weighted by w, into one cluster,
+// merging at every step the adjacent pair of clusters whose union least
+// increases the within-cluster sum of squares, n_a·n_b/(n_a+n_b)·‖c_a − c_b‖²
+// with n the clusters' weights. A cluster of weight zero merges at no cost;
+// two of them merge into the plain mean of their means.
+func wardTree(m *Map, w []float64) []merge {
+	u := m.Units()
+	size := make([]float64, u, 2*u)
+	mean := make([][]float64, u, 2*u)
+	adj := make([]map[int]bool, u, 2*u)
+	active := make([]bool, u, 2*u)
+	for i := range u {
+		size[i] = w[i]
+		mean[i] = m.Vector(i)
+		adj[i] = make(map[int]bool)
+		active[i] = true
+	}
+	cost := func(a, b int) float64 {
+		if size[a] == 0 || size[b] == 0 {
+			return 0
+		}
+		return size[a] * size[b] / (size[a] + size[b]) * sqdist(mean[a], mean[b])
+	}
+	var h edgeHeap
+	for i := range u {
+		for _, j := range m.Lattice.Neighbours(i) {
+			adj[i][j] = true
+			if i < j {
+				h = append(h, edge{cost(i, j), i, j})
+			}
+		}
+	}
+	heap.Init(&h)
+	tree := make([]merge, 0, u-1)
+	for h.Len() > 0 {
+		e := heap.Pop(&h).(edge)
+		if !active[e.a] || !active[e.b] {
+			continue // one side was merged since
+		}
+		c := len(size)
+		tree = append(tree, merge{e.a, e.b, e.cost})
+		n := size[e.a] + size[e.b]
+		wa, wb := size[e.a], size[e.b]
+		if n == 0 {
+			wa, wb = 1, 1
+		}
+		v := make([]float64, m.Dim)
+		for j := range v {
+			v[j] = (wa*mean[e.a][j] + wb*mean[e.b][j]) / (wa + wb)
+		}
+		size, mean, active = append(size, n), append(mean, v), append(active, true)
+		active[e.a], active[e.b] = false, false
+		nb := make(map[int]bool)
+		for _, side := range []int{e.a, e.b} {
+			for k := range adj[side] {
+				if k != e.a && k != e.b {
+					nb[k] = true
+					delete(adj[k], side)
+					adj[k][c] = true
+				}
+			}
+			adj[side] = nil
+		}
+		adj = append(adj, nb)
+		for _, k := range slices.Sorted(maps.Keys(nb)) {
+			heap.Push(&h, edge{cost(k, c), k, c})
+		}
+	}
+	return tree
+}
+
+// edge is a candidate merge; the heap yields the cheapest, ties to the
+// lowest pair of cluster numbers.
+type edge struct {
+	cost float64
+	a, b int
+}
+
+type edgeHeap []edge
+
+func (h edgeHeap) Len() int { return len(h) }
+func (h edgeHeap) Less(i, j int) bool {
+	if h[i].cost != h[j].cost {
+		return h[i].cost < h[j].cost
+	}
+	if h[i].a != h[j].a {
+		return h[i].a < h[j].a
+	}
+	return h[i].b < h[j].b
+}
+func (h edgeHeap) Swap(i, j int) { h[i], h[j] = h[j], h[i] }
+func (h *edgeHeap) Push(x any)   { *h = append(*h, x.(edge)) }
+func (h *edgeHeap) Pop() any {
+	old := *h
+	x := old[len(old)-1]
+	*h = old[:len(old)-1]
+	return x
+}
+
+// cutTree applies the first units−k merges of tree and returns the group of
+// every unit, groups numbered in order of their lowest unit.
+func cutTree(tree []merge, units, k int) []int {
+	parent := make([]int, units)
+	for i := range parent {
+		parent[i] = i
+	}
+	var find func(int) int
+	find = func(i int) int {
+		for parent[i] != i {
+			parent[i] = parent[parent[i]]
+			i = parent[i]
+		}
+		return i
+	}
+	rep := make([]int, units, units+len(tree)) // a unit of each cluster
+	for i := range rep {
+		rep[i] = i
+	}
+	for s, mg := range tree {
+		if s >= units-k {
+			break
+		}
+		ra, rb := find(rep[mg.a]), find(rep[mg.b])
+		parent[max(ra, rb)] = min(ra, rb)
+		rep = append(rep, min(ra, rb))
+	}
+	return numberGroups(units, find)
+}
+
+// numberGroups labels units by their root, in order of the lowest unit.
+func numberGroups(units int, root func(int) int) []int {
+	label := make(map[int]int)
+	g := make([]int, units)
+	for i := range g {
+		r := root(i)
+		l, ok := label[r]
+		if !ok {
+			l = len(label)
+			label[r] = l
+		}
+		g[i] = l
+	}
+	return g
+}
+
+// daviesBouldin returns the Davies–Bouldin index of the grouping of the
+// codebook vectors weighted by w: the mean over groups of the largest
+// (S_i + S_j)/M_ij, with S the weighted mean Euclidean distance of a group's
+// vectors to its weighted centroid and M the distance between centroids
+// (the paper's q = 1, p = 2). Groups of weight zero stand for no window and
+// take no part.
+func daviesBouldin(m *Map, groups []int, w []float64) float64 {
+	k := slices.Max(groups) + 1
+	cent, weight := groupMeans(m, groups, k, w)
+	scatter := make([]float64, k)
+	for u, g := range groups {
+		scatter[g] += w[u] * math.Sqrt(sqdist(m.Vector(u), cent[g]))
+	}
+	var db float64
+	used := 0
+	for i := range k {
+		if weight[i] == 0 {
+			continue
+		}
+		used++
+		worst := 0.0
+		for j := range k {
+			if j != i && weight[j] > 0 {
+				worst = math.Max(worst, (scatter[i]/weight[i]+scatter[j]/weight[j])/math.Sqrt(sqdist(cent[i], cent[j])))
+			}
+		}
+		db += worst
+	}
+	return db / float64(used)
+}
+
+// groupMeans returns the mean codebook vector of every group weighted by w,
+// and the group's weight. A group of weight zero gets the plain mean of its
+// vectors.
+func groupMeans(m *Map, groups []int, k int, w []float64) ([][]float64, []float64) {
+	cent := make([][]float64, k)
+	for g := range cent {
+		cent[g] = make([]float64, m.Dim)
+	}
+	weight := make([]float64, k)
+	count := make([]float64, k)
+	for u, g := range groups {
+		weight[g] += w[u]
+		count[g]++
+	}
+	for u, g := range groups {
+		f := 1 / count[g]
+		if weight[g] > 0 {
+			f = w[u] / weight[g]
+		}
+		for j, v := range m.Vector(u) {
+			cent[g][j] += f * v
+		}
+	}
+	return cent, weight
+}
+
+// Describe builds the regimes of a grouping of the units of m (as from
+// FindRegimes): regime g+1 for group g, with its units, its centroid (the
+// mean codebook vector of its units, weighted by the windows of asg they
+// won, or the plain mean when they won none) and its traits. A trait is a feature's
+// standardised difference of the regime's windows from the fleet: the mean
+// of the windows of x won by the regime's units, minus the mean of all
+// windows, over the sample standard deviation of all windows. The largest
+// differences in magnitude are kept, strongest first, with their sign;
+// features that do not vary are skipped. A regime that wins no window is
+// described by its centroid instead. x holds the windows of asg, with the
+// columns named by names; the traits are the same in scaled and raw units,
+// as scaling is affine per feature.
+func Describe(m *Map, groups []int, x *mat.Dense, asg []Assignment, names []string) ([]Regime, error) {
+	u := m.Units()
+	n, d := x.Dims()
+	switch {
+	case len(groups) != u:
+		return nil, fmt.Errorf("mapper: %d unit groups for a map of %d units", len(groups), u)
+	case d != m.Dim || len(names) != d:
+		return nil, fmt.Errorf("mapper: %d features named and %d in the data for a map of dimension %d", len(names), d, m.Dim)
+	case len(asg) != n:
+		return nil, fmt.Errorf("mapper: %d assignments for %d windows", len(asg), n)
+	case u == 0:
+		return nil, nil
+	}
+	k := slices.Max(groups) + 1
+	regs := make([]Regime, k)
+	for i := range u {
+		g := groups[i]
+		if g < 0 {
+			return nil, fmt.Errorf("mapper: unit %d has group %d", i, g)
+		}
+		regs[g].Units = append(regs[g].Units, i)
+	}
+	cent, _ := groupMeans(m, groups, k, unitWeights(u, m.Hits(asg)))
+	sums := make([][]float64, k)
+	wins := make([]int, k)
+	for i, a := range asg {
+		g := groups[a.BMU]
+		if sums[g] == nil {
+			sums[g] = make([]float64, d)
+		}
+		wins[g]++
+		for j, v := range x.RawRowView(i) {
+			sums[g][j] += v
+		}
+	}
+	mean, sd := make([]float64, d), make([]float64, d)
+	col := make([]float64, n)
+	for j := range d {
+		mean[j], sd[j] = stat.MeanStdDev(mat.Col(col, j, x), nil)
+	}
+	for g := range regs {
+		if len(regs[g].Units) == 0 {
+			return nil, fmt.Errorf("mapper: group %d has no unit; groups must be numbered 0 … %d", g, k-1)
+		}
+		at := cent[g]
+		if wins[g] > 0 {
+			at = sums[g]
+			for j := range at {
+				at[j] /= float64(wins[g])
+			}
+		}
+		regs[g].ID = g + 1
+		regs[g].Centroid = cent[g]
+		regs[g].Traits = traits(at, mean, sd, names)
+		regs[g].Description = describeTraits(regs[g].Traits)
+	}
+	return regs, nil
+}
+
+// traits returns the strongest standardised differences of at from mean.
+func traits(at, mean, sd []float64, names []string) []Trait {
+	var t []Trait
+	for j := range at {
+		if sd[j] > 0 {
+			t = append(t, Trait{Feature: names[j], Sigma: (at[j] - mean[j]) / sd[j]})
+		}
+	}
+	slices.SortStableFunc(t, func(a, b Trait) int { return cmp.Compare(math.Abs(b.Sigma), math.Abs(a.Sigma)) })
+	return t[:min(len(t), maxTraits)]
+}
+
+// describeTraits writes traits as "vibration.p95 +2.1σ, flow.mean −1.4σ",
+// with a true minus sign.
+func describeTraits(t []Trait) string {
+	parts := make([]string, len(t))
+	for i, tr := range t {
+		s := fmt.Sprintf("%+.1f", tr.Sigma)
+		s = strings.Replace(s, "-", "\u2212", 1)
+		parts[i] = tr.Feature + " " + s + "σ"
+	}
+	return strings.Join(parts, ", ")
+}

@@ -1,0 +1,297 @@
+package mapper
+
+import (
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+)
+
+// sqdist is the squared Euclidean distance summed term by term in a fixed
+// order. It is the reference every winner search agrees on: the matrix
+// product only shortlists candidates and sqdist settles them, so the full
+// and the shortcut searches give identical winners and errors.
+func sqdist(a, b []float64) float64 {
+	b = b[:len(a)]
+	var s0, s1, s2, s3 float64
+	i := 0
+	for ; i+4 <= len(a); i += 4 {
+		d0 := a[i] - b[i]
+		d1 := a[i+1] - b[i+1]
+		d2 := a[i+2] - b[i+2]
+		d3 := a[i+3] - b[i+3]
+		s0 += d0 * d0
+		s1 += d1 * d1
+		s2 += d2 * d2
+		s3 += d3 * d3
+	}
+	for ; i < len(a); i++ {
+		d := a[i] - b[i]
+		s0 += d * d
+	}
+	return (s0 + s1) + (s2 + s3)
+}
+
+// best2 keeps the two best (smallest) squared distances seen, ties going to
+// the lower unit.
+type best2 struct {
+	d1, d2 float64
+	u1, u2 int
+}
+
+func newBest2() best2 { return best2{math.Inf(1), math.Inf(1), -1, -1} }
+
+func (b *best2) offer(d float64, u int) {
+	switch {
+	case d < b.d1 || d == b.d1 && u < b.u1:
+		b.d2, b.u2 = b.d1, b.u1
+		b.d1, b.u1 = d, u
+	case u != b.u1 && (d < b.d2 || d == b.d2 && u < b.u2):
+		b.d2, b.u2 = d, u
+	}
+}
+
+func (b *best2) assignment() Assignment {
+	return Assignment{BMU: b.u1, Second: b.u2, QE: math.Sqrt(b.d1)}
+}
+
+// shortcutSlack widens every pruning test of the shortcut search. The
+// distances it compares carry relative rounding errors near D·2⁻⁵³; this
+// slack is far above that for any realistic D, so a pruned unit provably
+// cannot beat the second best.
+const shortcutSlack = 1e-9
+
+// searcher finds best-matching units against one state of a codebook.
+type searcher struct {
+	units, dim int
+	code       []float64      // the map's codebook, aliased
+	w          blas64.General // the codebook as a Units × Dim matrix
+	ww         []float64      // squared norm of each codebook vector
+	maxNorm    float64
+
+	// For the shortcut search: for each unit, the nearest units in codebook
+	// space (itself included), ascending by distance; beyond is a lower
+	// bound on the distance to any unit not listed.
+	nearLen  int
+	nearUnit []int32
+	nearDist []float64
+	beyond   []float64
+}
+
+func newSearcher(m *Map) *searcher {
+	s := &searcher{
+		units: m.Units(), dim: m.Dim, code: m.Codebook,
+		w:  blas64.General{Rows: m.Units(), Cols: m.Dim, Stride: m.Dim, Data: m.Codebook},
+		ww: make([]float64, m.Units()),
+	}
+	s.refreshNorms()
+	return s
+}
+
+// refreshNorms recomputes the norms after the codebook changed.
+func (s *searcher) refreshNorms() {
+	s.maxNorm = 0
+	for j := range s.ww {
+		s.refreshNorm(j)
+	}
+}
+
+func (s *searcher) refreshNorm(j int) {
+	v := s.code[j*s.dim : (j+1)*s.dim]
+	var n float64
+	for _, a := range v {
+		n += a * a
+	}
+	s.ww[j] = n
+	s.maxNorm = math.Max(s.maxNorm, math.Sqrt(n))
+}
+
+func (s *searcher) vector(j int) []float64 { return s.code[j*s.dim : (j+1)*s.dim] }
+
+// tolerance bounds twice the disagreement between the expanded distance
+// ‖x‖² − 2x·w + ‖w‖² as computed through BLAS and sqdist, for any unit.
+// Both carry relative errors of about D·2⁻⁵³ of (‖x‖ + ‖w‖)².
+func (s *searcher) tolerance(x []float64) float64 {
+	var xx float64
+	for _, a := range x {
+		xx += a * a
+	}
+	r := math.Sqrt(xx) + s.maxNorm
+	return 8 * float64(s.dim+2) * 0x1p-53 * r * r
+}
+
+// fullBlock finds the two best units of every row of xb, using c (at least
+// xb.Rows × units) for the cross terms. Rows are scored by ‖w‖² − 2x·w from
+// one matrix product; every unit within the rounding tolerance of the second
+// best is then settled by sqdist.
+func (s *searcher) fullBlock(xb blas64.General, c []float64, out []Assignment) {
+	cg := blas64.General{Rows: xb.Rows, Cols: s.units, Stride: s.units, Data: c[:xb.Rows*s.units]}
+	blas64.Gemm(blas.NoTrans, blas.Trans, 1, xb, s.w, 0, cg)
+	for i := range xb.Rows {
+		x := xb.Data[i*xb.Stride : i*xb.Stride+s.dim]
+		out[i] = s.settle(x, cg.Data[i*s.units:(i+1)*s.units])
+	}
+}
+
+// settle picks the two best units of x from its row of cross terms.
+func (s *searcher) settle(x, cross []float64) Assignment {
+	cross = cross[:s.units]
+	ww := s.ww[:s.units]
+	// The three best scores: usually only the first two need settling.
+	v1, v2, v3 := math.Inf(1), math.Inf(1), math.Inf(1)
+	j1, j2 := -1, -1
+	for j, c := range cross {
+		v := ww[j] - 2*c
+		if v >= v3 {
+			continue
+		}
+		switch {
+		case v < v1:
+			v3, v2, j2, v1, j1 = v2, v1, j1, v, j
+		case v < v2:
+			v3, v2, j2 = v2, v, j
+		default:
+			v3 = v
+		}
+	}
+	b := newBest2()
+	limit := v2 + s.tolerance(x)
+	if v3 <= limit {
+		for j, c := range cross {
+			if ww[j]-2*c <= limit {
+				b.offer(sqdist(x, s.vector(j)), j)
+			}
+		}
+		return b.assignment()
+	}
+	b.offer(sqdist(x, s.vector(j1)), j1)
+	if j2 >= 0 {
+		b.offer(sqdist(x, s.vector(j2)), j2)
+	}
+	return b.assignment()
+}
+
+// prepareShortcut lists, for every unit, its nearest listLen units in
+// codebook space, for the shortcut search. The unit-to-unit distances come
+// from one matrix product, ‖a‖² + ‖b‖² − 2a·b, lowered by its rounding
+// bound: the search needs lower bounds only, and these are safe ones.
+func (s *searcher) prepareShortcut(listLen, workers int) {
+	u := s.units
+	listLen = min(listLen, u)
+	s.nearLen = listLen
+	s.nearUnit = make([]int32, u*listLen)
+	s.nearDist = make([]float64, u*listLen)
+	s.beyond = make([]float64, u)
+	gram := make([]float64, u*u)
+	blas64.Gemm(blas.NoTrans, blas.Trans, 1, s.w, s.w, 0, blas64.General{Rows: u, Cols: u, Stride: u, Data: gram})
+	tol := 8 * float64(s.dim+2) * 0x1p-53 * 4 * s.maxNorm * s.maxNorm
+	type cand struct {
+		d float64
+		u int32
+	}
+	byDist := func(p, q cand) int {
+		if p.d != q.d {
+			if p.d < q.d {
+				return -1
+			}
+			return 1
+		}
+		return int(p.u - q.u)
+	}
+	parallelRange(u, workers, func(lo, hi int) {
+		dist := make([]float64, u)
+		sorted := make([]float64, u)
+		list := make([]cand, 0, listLen)
+		for b := lo; b < hi; b++ {
+			g := gram[b*u : (b+1)*u]
+			for j := range dist {
+				dist[j] = math.Sqrt(math.Max(0, s.ww[b]+s.ww[j]-2*g[j]-tol))
+			}
+			dist[b] = 0
+			// The listLen nearest: those below the cut, then those at it
+			// by unit number; every unit left out is at least cut away.
+			cut := math.Inf(1)
+			if listLen < u {
+				copy(sorted, dist)
+				cut = nthSmallest(sorted, listLen)
+			}
+			list = list[:0]
+			for j, d := range dist {
+				if d < cut {
+					list = append(list, cand{d, int32(j)})
+				}
+			}
+			for j, d := range dist {
+				if d == cut && len(list) < listLen {
+					list = append(list, cand{d, int32(j)})
+				}
+			}
+			slices.SortFunc(list, byDist)
+			for k, c := range list {
+				s.nearUnit[b*listLen+k] = c.u
+				s.nearDist[b*listLen+k] = c.d
+			}
+			s.beyond[b] = cut
+		}
+	})
+}
+
+// nthSmallest returns the k-th smallest value of v (0-based), reordering v
+// (Hoare's selection algorithm).
+func nthSmallest(v []float64, k int) float64 {
+	lo, hi := 0, len(v)-1
+	for lo < hi {
+		pivot := v[lo+(hi-lo)/2]
+		i, j := lo, hi
+		for i <= j {
+			for v[i] < pivot {
+				i++
+			}
+			for v[j] > pivot {
+				j--
+			}
+			if i <= j {
+				v[i], v[j] = v[j], v[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return v[k]
+		}
+	}
+	return v[k]
+}
+
+// shortcut finds the two best units of x by looking outwards from unit prev
+// (its winner in the previous epoch) in codebook space. By the triangle
+// inequality a unit j at distance δ from w_prev is at least δ − r from x,
+// where r = ‖x − w_prev‖; once δ − r exceeds the second-best distance found,
+// no further unit can enter the best two. It reports false, having done
+// nothing useful, when its list ends before that is proven; evals counts the
+// distances computed.
+func (s *searcher) shortcut(x []float64, prev int) (a Assignment, ok bool, evals int) {
+	r := math.Sqrt(sqdist(x, s.vector(prev))) * (1 + shortcutSlack)
+	units := s.nearUnit[prev*s.nearLen : (prev+1)*s.nearLen]
+	dists := s.nearDist[prev*s.nearLen : (prev+1)*s.nearLen]
+	b := newBest2()
+	proven := func(delta float64) bool {
+		return b.u2 >= 0 && delta*(1-shortcutSlack)-r > math.Sqrt(b.d2)*(1+shortcutSlack)
+	}
+	for k, j := range units {
+		if proven(dists[k]) {
+			return b.assignment(), true, k
+		}
+		b.offer(sqdist(x, s.vector(int(j))), int(j))
+	}
+	if s.units == 1 || proven(s.beyond[prev]) {
+		return b.assignment(), true, len(units)
+	}
+	return Assignment{}, false, len(units)
+}

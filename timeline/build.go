@@ -1,0 +1,244 @@
+package timeline
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"slices"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/mapper"
+)
+
+// switchCostPerQE is the automatic switch cost in median training
+// quantization errors; see Config.SwitchCost.
+const switchCostPerQE = 2
+
+// Build places every window of t on the map and decodes each site's windows,
+// in time order, into regime segments: the cost of a window in a regime is
+// the Euclidean distance from its scaled vector (the row of x) to the
+// regime's centroid, and each change of regime costs cfg.SwitchCost (see
+// Viterbi), under the cfg.MinDwell rule. Components that are NaN in a
+// window are left out of its distances, the same for every regime.
+//
+// Gaps between windows (windows skipped for low coverage, or a unit that was
+// off) do not reset the decoding: the switch cost is the evidence a change
+// needs, and a gap brings none. A change across a gap is a switch at the
+// first window after it.
+//
+// It returns one Entry per window, in t.Windows order, and the switches
+// sorted by site and time. The confidence of a switch is Δ / (Δ + c), c the
+// switch cost and Δ ≥ 0 how much more the decoded sequence would cost
+// without that switch: the cheaper of extending the old regime over the new
+// segment and extending the new regime back over the old one. It is 0 when
+// removing the switch costs nothing, ½ when it costs one more switch
+// penalty, and tends to 1 as the evidence grows.
+func Build(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.Assignment, cfg Config) ([]Entry, []Switch, error) {
+	return BuildFrom(m, t, x, asg, cfg, nil)
+}
+
+// BuildFrom is Build continuing each site's decoding from its Prior, the
+// state the history of earlier dumps left it in: staying in the prior
+// regime costs nothing, leaving it one switch cost, and the prior windows
+// count towards the dwell. A change from the prior regime at the first
+// window is a switch at that window, with Before the prior's windows; its
+// confidence compares with keeping the prior regime over the new segment.
+// A prior whose regime the model does not have is ignored.
+func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.Assignment, cfg Config, priors map[string]Prior) ([]Entry, []Switch, error) {
+	if m == nil || t == nil || x == nil {
+		return nil, nil, fmt.Errorf("timeline: Build needs a model, a feature table and its scaled matrix")
+	}
+	n := len(t.Windows)
+	if rows, _ := x.Dims(); rows != n || len(asg) != n {
+		return nil, nil, fmt.Errorf("timeline: %d windows, %d scaled rows and %d assignments; they must match", n, rows, len(asg))
+	}
+	if len(m.Regimes) == 0 {
+		return nil, nil, fmt.Errorf("timeline: the model has no regimes")
+	}
+	_, dim := x.Dims()
+	for _, r := range m.Regimes {
+		if len(r.Centroid) != dim {
+			return nil, nil, fmt.Errorf("timeline: regime %d: centroid has %d components, the scaled features %d", r.ID, len(r.Centroid), dim)
+		}
+	}
+	cfg, err := resolve(cfg, m)
+	if err != nil {
+		return nil, nil, err
+	}
+	threshold := m.QEThreshold(cfg.UnfamiliarQ)
+	units := m.Map.Lattice.Units()
+
+	entries := make([]Entry, n)
+	bySite := map[string][]int{}
+	var sites []string
+	for i, w := range t.Windows {
+		a := asg[i]
+		if a.BMU < 0 || a.BMU >= units {
+			return nil, nil, fmt.Errorf("timeline: site %q, window %s: BMU %d outside the map's %d units", w.Site, w.Start.Format(time.RFC3339), a.BMU, units)
+		}
+		col, row := m.Map.Lattice.Cell(a.BMU)
+		entries[i] = Entry{Site: w.Site, Start: w.Start, End: w.End, BMU: a.BMU, Col: col, Row: row, QE: a.QE, Unfamiliar: a.QE > threshold}
+		if _, ok := bySite[w.Site]; !ok {
+			sites = append(sites, w.Site)
+		}
+		bySite[w.Site] = append(bySite[w.Site], i)
+	}
+	slices.Sort(sites)
+
+	var switches []Switch
+	for _, site := range sites {
+		idx := bySite[site]
+		slices.SortStableFunc(idx, func(a, b int) int { return t.Windows[a].Start.Compare(t.Windows[b].Start) })
+		costs := make([][]float64, len(idx))
+		for j, i := range idx {
+			costs[j] = make([]float64, len(m.Regimes))
+			for k, r := range m.Regimes {
+				costs[j][k] = distance(x.RawRowView(i), r.Centroid)
+				if math.IsInf(costs[j][k], 0) {
+					return nil, nil, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, t.Windows[i].Start.Format(time.RFC3339))
+				}
+			}
+		}
+		from, initial := startOf(m, priors, site, cfg.SwitchCost)
+		path, total := decode(costs, cfg.SwitchCost, initial, cfg.MinDwell, from)
+		for j, i := range idx {
+			entries[i].Regime = m.Regimes[path[j]].ID
+		}
+		for _, sw := range segmentSwitches(costs, cfg.SwitchCost, initial, from, path, total) {
+			before := from.state
+			if sw.at > 0 {
+				before = path[sw.at-1]
+			}
+			switches = append(switches, Switch{
+				Site:       site,
+				Time:       t.Windows[idx[sw.at]].Start,
+				From:       m.Regimes[before].ID,
+				To:         m.Regimes[path[sw.at]].ID,
+				Before:     sw.before,
+				After:      sw.after,
+				Confidence: sw.confidence,
+			})
+		}
+	}
+	slices.SortStableFunc(switches, func(a, b Switch) int {
+		return cmp.Or(cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
+	})
+	return entries, switches, nil
+}
+
+// startOf returns the decoding start of a site from its prior, and the
+// initial costs that go with it; none when it has no usable prior.
+func startOf(m *mapper.Model, priors map[string]Prior, site string, switchCost float64) (start, []float64) {
+	p, ok := priors[site]
+	if !ok || p.Windows < 1 {
+		return noStart, nil
+	}
+	k := slices.IndexFunc(m.Regimes, func(r mapper.Regime) bool { return r.ID == p.Regime })
+	if k < 0 {
+		return noStart, nil
+	}
+	initial := make([]float64, len(m.Regimes))
+	for j := range initial {
+		if j != k {
+			initial[j] = switchCost
+		}
+	}
+	return start{state: k, dwell: p.Windows}, initial
+}
+
+// resolve fills the defaults of cfg and checks it.
+func resolve(cfg Config, m *mapper.Model) (Config, error) {
+	def := DefaultConfig()
+	if cfg.MinDwell == 0 {
+		cfg.MinDwell = def.MinDwell
+	}
+	if cfg.UnfamiliarQ == 0 {
+		cfg.UnfamiliarQ = def.UnfamiliarQ
+	}
+	switch {
+	case cfg.MinDwell < 0:
+		return cfg, fmt.Errorf("timeline: minimum dwell %d: must be at least 1 window", cfg.MinDwell)
+	case !(cfg.UnfamiliarQ > 0 && cfg.UnfamiliarQ <= 1):
+		return cfg, fmt.Errorf("timeline: unfamiliar quantile %g: must be in (0, 1]", cfg.UnfamiliarQ)
+	case cfg.SwitchCost < 0 || math.IsNaN(cfg.SwitchCost) || math.IsInf(cfg.SwitchCost, 0):
+		return cfg, fmt.Errorf("timeline: switch cost %g: must be a finite number ≥ 0", cfg.SwitchCost)
+	}
+	if len(m.QEQuantiles) == 0 {
+		return cfg, fmt.Errorf("timeline: the model holds no quantiles of its training quantization errors")
+	}
+	if cfg.SwitchCost == 0 {
+		median := m.QEThreshold(0.5)
+		if !(median > 0) || math.IsInf(median, 0) {
+			return cfg, fmt.Errorf("timeline: median training quantization error %g: cannot set the switch cost from it; set it explicitly", median)
+		}
+		cfg.SwitchCost = switchCostPerQE * median
+	}
+	return cfg, nil
+}
+
+// distance is the Euclidean distance between a and b over the components
+// where a is not NaN.
+func distance(a, b []float64) float64 {
+	var s float64
+	for i, v := range a {
+		if !math.IsNaN(v) {
+			d := v - b[i]
+			s += d * d
+		}
+	}
+	return math.Sqrt(s)
+}
+
+// boundary is a switch within one site's decoded path.
+type boundary struct {
+	at            int // index of the first step in the new state
+	before, after int // lengths of the segments either side
+	confidence    float64
+}
+
+// segmentSwitches lists the changes of state of path, whose cost is total,
+// with their confidence (see Build and BuildFrom).
+func segmentSwitches(costs [][]float64, switchCost float64, initial []float64, from start, path []int, total float64) []boundary {
+	var starts []int // start of each segment, then len(path)
+	for t := range path {
+		if t == 0 || path[t] != path[t-1] {
+			starts = append(starts, t)
+		}
+	}
+	starts = append(starts, len(path))
+	var out []boundary
+	alt := make([]int, len(path))
+	if from.state >= 0 && path[0] != from.state {
+		// A switch from the prior state at the first window: the history
+		// cannot be changed, so the only alternative keeps the prior.
+		fill(alt, from.state)
+		copy(alt[starts[1]:], path[starts[1]:])
+		delta := max(pathCost(costs, switchCost, initial, alt)-total, 0)
+		out = append(out, boundary{at: 0, before: from.dwell, after: starts[1], confidence: delta / (delta + switchCost)})
+	}
+	for i := 1; i+1 < len(starts); i++ {
+		prev, at, next := starts[i-1], starts[i], starts[i+1]
+		before := at - prev
+		if prev == 0 && path[0] == from.state {
+			before += from.dwell
+		}
+		copy(alt, path)
+		fill(alt[at:next], path[at-1])
+		keepOld := pathCost(costs, switchCost, initial, alt)
+		copy(alt, path)
+		fill(alt[prev:at], path[at])
+		keepNew := pathCost(costs, switchCost, initial, alt)
+		delta := max(min(keepOld, keepNew)-total, 0)
+		out = append(out, boundary{at: at, before: before, after: next - at, confidence: delta / (delta + switchCost)})
+	}
+	return out
+}
+
+func fill(s []int, v int) {
+	for i := range s {
+		s[i] = v
+	}
+}

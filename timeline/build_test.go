@@ -1,0 +1,342 @@
+package timeline
+
+import (
+	"cmp"
+	"math"
+	"slices"
+	"strings"
+	"testing"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/mapper"
+)
+
+var day0 = time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
+
+// testModel has three regimes at (0, 0), (10, 0) and (0, 10) on a flat
+// 3 × 1 map, and training quantization errors spread evenly over [0, 1]:
+// the median is 0.5, so the automatic switch cost is 1, and the 99th
+// percentile is 0.99.
+func testModel() *mapper.Model {
+	q := make([]float64, 1001)
+	for i := range q {
+		q[i] = float64(i) / 1000
+	}
+	return &mapper.Model{
+		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 3, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0, 0, 10, 0, 0, 10}},
+		Regimes: []mapper.Regime{
+			{ID: 1, Units: []int{0}, Centroid: []float64{0, 0}},
+			{ID: 2, Units: []int{1}, Centroid: []float64{10, 0}},
+			{ID: 3, Units: []int{2}, Centroid: []float64{0, 10}},
+		},
+		UnitRegime:  []int{1, 2, 3},
+		QEQuantiles: q,
+	}
+}
+
+// window is one test window: day offset, scaled vector and QE.
+type window struct {
+	site string
+	day  int
+	x, y float64
+	qe   float64
+}
+
+// centre is the centroid of each regime of testModel, by ID.
+var centre = map[int][2]float64{1: {0, 0}, 2: {10, 0}, 3: {0, 10}}
+
+// series makes consecutive daily windows of one site at the centroids of
+// the given regimes.
+func series(site string, regimes ...int) []window {
+	var w []window
+	for d, r := range regimes {
+		w = append(w, window{site: site, day: d, x: centre[r][0], y: centre[r][1], qe: 0.1})
+	}
+	return w
+}
+
+func inputs(ws []window) (*features.Table, *mat.Dense, []mapper.Assignment) {
+	t := &features.Table{Names: []string{"f1", "f2"}}
+	x := mat.NewDense(len(ws), 2, nil)
+	asg := make([]mapper.Assignment, len(ws))
+	for i, w := range ws {
+		start := day0.AddDate(0, 0, w.day)
+		t.Windows = append(t.Windows, features.Window{Site: w.site, Start: start, End: start.AddDate(0, 0, 1)})
+		x.Set(i, 0, w.x)
+		x.Set(i, 1, w.y)
+		bmu := 0
+		switch {
+		case w.x > 5:
+			bmu = 1
+		case w.y > 5:
+			bmu = 2
+		}
+		asg[i] = mapper.Assignment{BMU: bmu, QE: w.qe}
+	}
+	return t, x, asg
+}
+
+func regimesOf(entries []Entry, site string) []int {
+	var r []int
+	for _, e := range entries {
+		if e.Site == site {
+			r = append(r, e.Regime)
+		}
+	}
+	return r
+}
+
+func TestBuildSegments(t *testing.T) {
+	tests := []struct {
+		name     string
+		windows  []window
+		cfg      Config
+		regimes  []int
+		switches []Switch
+	}{
+		{
+			name:     "clean switch",
+			windows:  series("a", 1, 1, 1, 1, 2, 2, 2, 2),
+			regimes:  []int{1, 1, 1, 1, 2, 2, 2, 2},
+			switches: []Switch{{Site: "a", Time: day0.AddDate(0, 0, 4), From: 1, To: 2, Before: 4, After: 4}},
+		},
+		{
+			name:    "one-window excursion is held by the minimum dwell",
+			windows: series("b", 1, 1, 1, 2, 1, 1),
+			regimes: []int{1, 1, 1, 1, 1, 1},
+		},
+		{
+			name:    "one-window excursion without a dwell rule",
+			windows: series("b", 1, 1, 1, 2, 1, 1),
+			cfg:     Config{MinDwell: 1},
+			regimes: []int{1, 1, 1, 2, 1, 1},
+			switches: []Switch{
+				{Site: "b", Time: day0.AddDate(0, 0, 3), From: 1, To: 2, Before: 3, After: 1},
+				{Site: "b", Time: day0.AddDate(0, 0, 4), From: 2, To: 1, Before: 1, After: 2},
+			},
+		},
+		{
+			name: "weak flicker is held by the switch cost",
+			// Window 3 is closer to regime 2 by 1.2, less than two switches (2).
+			windows: []window{{"c", 0, 0, 0, 0.1}, {"c", 1, 0, 0, 0.1}, {"c", 2, 5.6, 0, 0.1}, {"c", 3, 0, 0, 0.1}},
+			cfg:     Config{MinDwell: 1},
+			regimes: []int{1, 1, 1, 1},
+		},
+		{
+			name: "a flicker worth more than two switches shows without a dwell rule",
+			// Window 3 is closer to regime 2 by 3 (distances 6.5 and 3.5),
+			// more than two automatic switch costs (2).
+			windows: []window{{"c", 0, 0, 0, 0.1}, {"c", 1, 0, 0, 0.1}, {"c", 2, 6.5, 0, 0.1}, {"c", 3, 0, 0, 0.1}},
+			cfg:     Config{MinDwell: 1},
+			regimes: []int{1, 1, 2, 1},
+			switches: []Switch{
+				{Site: "c", Time: day0.AddDate(0, 0, 2), From: 1, To: 2, Before: 2, After: 1},
+				{Site: "c", Time: day0.AddDate(0, 0, 3), From: 2, To: 1, Before: 1, After: 1},
+			},
+		},
+		{
+			name:    "a change in the last window waits for confirmation",
+			windows: series("d", 1, 1, 1, 1, 3),
+			regimes: []int{1, 1, 1, 1, 1},
+		},
+		{
+			name:    "two windows are enough",
+			windows: series("d", 1, 1, 1, 3, 3),
+			regimes: []int{1, 1, 1, 3, 3},
+			switches: []Switch{
+				{Site: "d", Time: day0.AddDate(0, 0, 3), From: 1, To: 3, Before: 3, After: 2},
+			},
+		},
+		{
+			name: "switch across a gap is at the first window after it",
+			windows: []window{
+				{"e", 0, 0, 0, 0.1}, {"e", 1, 0, 0, 0.1}, {"e", 2, 0, 0, 0.1},
+				{"e", 10, 10, 0, 0.1}, {"e", 11, 10, 0, 0.1},
+			},
+			regimes:  []int{1, 1, 1, 2, 2},
+			switches: []Switch{{Site: "e", Time: day0.AddDate(0, 0, 10), From: 1, To: 2, Before: 3, After: 2}},
+		},
+		{
+			name:    "a site shorter than the dwell keeps one regime",
+			windows: series("f", 2),
+			regimes: []int{2},
+		},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			tab, x, asg := inputs(tc.windows)
+			entries, switches, err := Build(testModel(), tab, x, asg, tc.cfg)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := regimesOf(entries, tc.windows[0].site); !slices.Equal(got, tc.regimes) {
+				t.Errorf("regimes %v, want %v", got, tc.regimes)
+			}
+			if len(switches) != len(tc.switches) {
+				t.Fatalf("switches %+v, want %+v", switches, tc.switches)
+			}
+			for i, s := range switches {
+				w := tc.switches[i]
+				w.Confidence = s.Confidence
+				if !s.Time.Equal(w.Time) || s != w {
+					t.Errorf("switch %d: %+v, want %+v", i, s, w)
+				}
+				if !(s.Confidence >= 0 && s.Confidence <= 1) {
+					t.Errorf("switch %d: confidence %g outside [0, 1]", i, s.Confidence)
+				}
+			}
+		})
+	}
+}
+
+// The confidence follows its definition, worked by hand: in the clean
+// switch, windows sit on the centroids 10 apart. Removing the switch
+// relabels 4 windows (+40) and saves one switch (−1): Δ = 39, so the
+// confidence is 39 / (39 + 1).
+func TestBuildConfidence(t *testing.T) {
+	tab, x, asg := inputs(series("a", 1, 1, 1, 1, 2, 2, 2, 2))
+	_, sw, err := Build(testModel(), tab, x, asg, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(sw) != 1 || math.Abs(sw[0].Confidence-39.0/40) > 1e-12 {
+		t.Fatalf("switches %+v, want one with confidence %g", sw, 39.0/40)
+	}
+	// A doubtful switch: the new segment is only 0.8 per window closer to
+	// regime 2 (distances 4.6 and 5.4), over 2 windows: Δ = 1.6 − 1 = 0.6.
+	tab, x, asg = inputs([]window{{"g", 0, 0, 0, 0.1}, {"g", 1, 0, 0, 0.1}, {"g", 2, 5.4, 0, 0.1}, {"g", 3, 5.4, 0, 0.1}})
+	_, sw, err = Build(testModel(), tab, x, asg, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(sw) != 1 || math.Abs(sw[0].Confidence-0.6/1.6) > 1e-12 {
+		t.Fatalf("switches %+v, want one with confidence %g", sw, 0.6/1.6)
+	}
+}
+
+func TestBuildEntries(t *testing.T) {
+	ws := append(series("b", 1, 1, 2, 2), series("a", 3, 3, 3)...)
+	ws[1].qe = 0.995 // above the 99th percentile (0.99)
+	ws[2].qe = 0.985
+	ws[5].x = math.NaN() // left out of the distances: (NaN, 10) is still at regime 3
+	// Out of time order within a site: Build must sort, yet keep entries
+	// aligned with the table.
+	ws[0], ws[3] = ws[3], ws[0]
+	tab, x, asg := inputs(ws)
+	entries, switches, err := Build(testModel(), tab, x, asg, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(entries) != len(ws) {
+		t.Fatalf("%d entries for %d windows", len(entries), len(ws))
+	}
+	for i, e := range entries {
+		w := tab.Windows[i]
+		if e.Site != w.Site || !e.Start.Equal(w.Start) || !e.End.Equal(w.End) || e.BMU != asg[i].BMU || e.QE != asg[i].QE {
+			t.Errorf("entry %d %+v does not match window %+v / %+v", i, e, w, asg[i])
+		}
+		if col, row := e.BMU%3, 0; e.Col != col || e.Row != row {
+			t.Errorf("entry %d: cell (%d, %d), want (%d, %d)", i, e.Col, e.Row, col, row)
+		}
+		if want := i == 1; e.Unfamiliar != want {
+			t.Errorf("entry %d (QE %g): unfamiliar %v, want %v", i, e.QE, e.Unfamiliar, want)
+		}
+	}
+	wantRegime := []int{2, 1, 2, 1, 3, 3, 3}
+	for i, e := range entries {
+		if e.Regime != wantRegime[i] {
+			t.Errorf("entry %d (%s day %d): regime %d, want %d", i, e.Site, ws[i].day, e.Regime, wantRegime[i])
+		}
+	}
+	if len(switches) != 1 || switches[0].Site != "b" || !switches[0].Time.Equal(day0.AddDate(0, 0, 2)) {
+		t.Errorf("switches %+v, want one of site b on day 2", switches)
+	}
+	// Sorted by site, then time.
+	many := append(series("z", 1, 1, 2, 2, 1, 1), series("y", 2, 2, 3, 3)...)
+	tab, x, asg = inputs(many)
+	_, switches, err = Build(testModel(), tab, x, asg, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var keys []string
+	for _, s := range switches {
+		keys = append(keys, s.Site+s.Time.Format(time.DateOnly))
+	}
+	if want := []string{"y2025-03-03", "z2025-03-03", "z2025-03-05"}; !slices.Equal(keys, want) {
+		t.Errorf("switch order %v, want %v", keys, want)
+	}
+}
+
+func TestBuildErrors(t *testing.T) {
+	tab, x, asg := inputs(series("a", 1, 1, 2))
+	noQuantiles := testModel()
+	noQuantiles.QEQuantiles = nil
+	noRegimes := testModel()
+	noRegimes.Regimes = nil
+	badCentroid := testModel()
+	badCentroid.Regimes[1].Centroid = []float64{1}
+	badBMU := slices.Clone(asg)
+	badBMU[2].BMU = 3
+	infinite := mat.DenseCopyOf(x)
+	infinite.Set(1, 0, math.Inf(1))
+	tests := []struct {
+		name string
+		m    *mapper.Model
+		x    *mat.Dense // nil: x
+		asg  []mapper.Assignment
+		cfg  Config
+		want string
+	}{
+		{"assignments", testModel(), nil, asg[:2], Config{}, "must match"},
+		{"no quantiles", noQuantiles, nil, asg, Config{SwitchCost: 1}, "quantiles"},
+		{"no regimes", noRegimes, nil, asg, Config{}, "no regimes"},
+		{"centroid", badCentroid, nil, asg, Config{}, "regime 2: centroid has 1 components"},
+		{"bmu", testModel(), nil, badBMU, Config{}, "BMU 3 outside"},
+		{"dwell", testModel(), nil, asg, Config{MinDwell: -1}, "minimum dwell"},
+		{"quantile", testModel(), nil, asg, Config{UnfamiliarQ: 1.5}, "unfamiliar quantile"},
+		{"switch cost", testModel(), nil, asg, Config{SwitchCost: math.NaN()}, "switch cost"},
+		{"infinite", testModel(), infinite, asg, Config{}, "not finite"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			x := cmp.Or(tc.x, x)
+			_, _, err := Build(tc.m, tab, x, tc.asg, tc.cfg)
+			if err == nil || !strings.Contains(err.Error(), tc.want) || !strings.HasPrefix(err.Error(), "timeline: ") {
+				t.Errorf("error %v, want one mentioning %q", err, tc.want)
+			}
+		})
+	}
+}
+
+// A site whose history ended in regime 1 and whose new dump starts in
+// regime 2 switched at the first window of the dump; one that continues is
+// not a switch; without the history neither is seen.
+func TestBuildFromPrior(t *testing.T) {
+	ws := append(series("a", 2, 2, 2, 2), series("b", 1, 1, 1, 1)...)
+	tb, x, asg := inputs(ws)
+	priors := map[string]Prior{"a": {Regime: 1, Windows: 5}, "b": {Regime: 1, Windows: 5}}
+	_, sws, err := BuildFrom(testModel(), tb, x, asg, Config{}, priors)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(sws) != 1 {
+		t.Fatalf("switches %+v, want one, of site a", sws)
+	}
+	got := sws[0]
+	if got.Site != "a" || !got.Time.Equal(day0) || got.From != 1 || got.To != 2 || got.Before != 5 || got.After != 4 {
+		t.Errorf("switch %+v, want site a at %s from 1 to 2 with 5 windows before and 4 after", got, day0)
+	}
+	if !(got.Confidence > 0.5 && got.Confidence < 1) {
+		t.Errorf("confidence %g of a clear switch, want in (0.5, 1)", got.Confidence)
+	}
+	if _, sws, _ := Build(testModel(), tb, x, asg, Config{}); len(sws) != 0 {
+		t.Errorf("without history: switches %+v, want none", sws)
+	}
+	// A prior in a regime the model lacks is ignored.
+	if _, sws, _ := BuildFrom(testModel(), tb, x, asg, Config{}, map[string]Prior{"a": {Regime: 9, Windows: 3}}); len(sws) != 0 {
+		t.Errorf("unknown prior regime: switches %+v, want none", sws)
+	}
+}

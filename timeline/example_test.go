@@ -1,0 +1,66 @@
+package timeline_test
+
+import (
+	"fmt"
+	"log"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+func ExampleBuild() {
+	// Two regimes on a map of two units, one scaled feature. The training
+	// windows' quantization errors run from 0 to 0.5 (median 0.25), so the
+	// automatic switch cost is 0.5.
+	m := &mapper.Model{
+		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
+		Regimes: []mapper.Regime{
+			{ID: 1, Units: []int{0}, Centroid: []float64{-1}},
+			{ID: 2, Units: []int{1}, Centroid: []float64{1}},
+		},
+		UnitRegime:  []int{1, 2},
+		QEQuantiles: []float64{0, 0.25, 0.5},
+	}
+	// One site for seven days: a one-day blip on day 2, a lasting change
+	// from day 4. The blip is 0.6 closer to regime 2, less than the two
+	// switches (1.0) it would take. Without the switch, regime 2 would have
+	// to cover the first four days instead (+4.7, the cheaper way), so the
+	// confidence is 4.7 / (4.7 + 0.5).
+	scaled := []float64{-1, -0.9, 0.3, -1.1, 0.9, 1, 1.2}
+	t := &features.Table{Names: []string{"flow.mean"}}
+	asg := make([]mapper.Assignment, len(scaled))
+	day := time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
+	for i, v := range scaled {
+		start := day.AddDate(0, 0, i)
+		t.Windows = append(t.Windows, features.Window{Site: "PS-01", Start: start, End: start.AddDate(0, 0, 1)})
+		bmu := 0
+		if v > 0 {
+			bmu = 1
+		}
+		asg[i] = mapper.Assignment{BMU: bmu, QE: min(abs(v-m.Map.Codebook[bmu]), 0.6)}
+	}
+	x := mat.NewDense(len(scaled), 1, scaled)
+
+	entries, switches, err := timeline.Build(m, t, x, asg, timeline.DefaultConfig())
+	if err != nil {
+		log.Fatal(err)
+	}
+	var regimes []int
+	for _, e := range entries {
+		regimes = append(regimes, e.Regime)
+	}
+	fmt.Println(regimes)
+	for _, s := range switches {
+		fmt.Printf("%s %s: %d → %d after %d windows, for %d, confidence %.2f\n",
+			s.Site, s.Time.Format(time.DateOnly), s.From, s.To, s.Before, s.After, s.Confidence)
+	}
+	// Output:
+	// [1 1 1 1 2 2 2]
+	// PS-01 2025-03-05: 1 → 2 after 4 windows, for 3, confidence 0.90
+}
+
+func abs(v float64) float64 { return max(v, -v) }

@@ -1,0 +1,67 @@
+package export_test
+
+import (
+	"fmt"
+	"log"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+func ExampleWrite() {
+	// A map of two units, one regime each, and one site seen for three days.
+	m := &mapper.Model{
+		FeatureNames: []string{"flow.mean"},
+		Map:          mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
+		Regimes: []mapper.Regime{
+			{ID: 1, Units: []int{0}, Centroid: []float64{-1}, Description: "flow.mean −1.0σ"},
+			{ID: 2, Units: []int{1}, Centroid: []float64{1}, Description: "flow.mean +1.0σ"},
+		},
+		UnitRegime:  []int{1, 2},
+		QEQuantiles: []float64{0, 0.2, 0.5},
+	}
+	run := &export.Run{Model: m, Table: &features.Table{Names: m.FeatureNames}, Info: map[string]string{"note": "example"}}
+	day := time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
+	for d := range 3 {
+		start := day.AddDate(0, 0, d)
+		w := features.Window{Site: "PS-01", Start: start, End: start.AddDate(0, 0, 1), Lat: 46.95, Lon: 7.45, Located: true, Values: []float64{-1}}
+		run.Table.Windows = append(run.Table.Windows, w)
+		run.Assignments = append(run.Assignments, mapper.Assignment{BMU: 0, QE: 0.1})
+		run.Entries = append(run.Entries, timeline.Entry{Site: w.Site, Start: w.Start, End: w.End, Regime: 1, QE: 0.1})
+	}
+
+	dir, err := os.MkdirTemp("", "kinmap-example-")
+	if err != nil {
+		log.Fatal(err)
+	}
+	defer os.RemoveAll(dir)
+	if err := export.Write(filepath.Join(dir, "out"), run); err != nil {
+		log.Fatal(err)
+	}
+	files, err := os.ReadDir(filepath.Join(dir, "out"))
+	if err != nil {
+		log.Fatal(err)
+	}
+	for _, f := range files {
+		if !strings.HasSuffix(f.Name(), ".png") { // pictures are named by package picture
+			fmt.Println(f.Name())
+		}
+	}
+	// Output:
+	// features.parquet
+	// model
+	// regimes.geojson
+	// report.html
+	// run.json
+	// sites.geojson
+	// switches.csv
+	// switches.parquet
+	// timeline.csv
+	// timeline.parquet
+}

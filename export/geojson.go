@@ -1,0 +1,256 @@
+package export
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/paulmach/orb"
+	"github.com/paulmach/orb/geojson"
+
+	"github.com/kinmap/kinmap/export/picture"
+)
+
+// props is a feature's properties in a fixed order, so that GIS tools show
+// the fields in that order.
+type props []prop
+
+type prop struct {
+	key   string
+	value any // nil, string, bool, int, int64, float64 or time.Time
+}
+
+func (p *props) add(key string, value any) { *p = append(*p, prop{key, value}) }
+
+// MarshalJSON writes the properties as an object. Floats always carry a
+// decimal point or an exponent, so that a column of whole values is still
+// read as Real rather than Integer; NaN and infinities become null; times
+// are RFC 3339 strings in UTC.
+func (p props) MarshalJSON() ([]byte, error) {
+	var b bytes.Buffer
+	b.WriteByte('{')
+	for i, kv := range p {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		k, _ := json.Marshal(kv.key)
+		b.Write(k)
+		b.WriteByte(':')
+		switch v := kv.value.(type) {
+		case float64:
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				b.WriteString("null")
+				continue
+			}
+			s := strconv.FormatFloat(v, 'g', -1, 64)
+			if !strings.ContainsAny(s, ".e") {
+				s += ".0"
+			}
+			b.WriteString(s)
+		case time.Time:
+			j, _ := json.Marshal(rfc3339(v))
+			b.Write(j)
+		default:
+			j, err := json.Marshal(v)
+			if err != nil {
+				return nil, fmt.Errorf("property %q: %w", kv.key, err)
+			}
+			b.Write(j)
+		}
+	}
+	b.WriteByte('}')
+	return b.Bytes(), nil
+}
+
+type feature = geojson.FeatureOf[props]
+
+// writeCollection writes features as an RFC 7946 FeatureCollection
+// (section 3.3), one feature per line.
+func writeCollection(w io.Writer, features []*feature) error {
+	var b bytes.Buffer
+	b.WriteString(`{"type":"FeatureCollection","features":[`)
+	for i, f := range features {
+		j, err := json.Marshal(f)
+		if err != nil {
+			return err
+		}
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		b.WriteByte('\n')
+		b.Write(j)
+	}
+	b.WriteString("\n]}\n")
+	_, err := w.Write(b.Bytes())
+	return err
+}
+
+func point(s *site) orb.Geometry {
+	if !s.located {
+		return nil
+	}
+	return orb.Point(roundPosition(s.lon, s.lat))
+}
+
+// reserved are the property names of sites.geojson that kinmap sets itself.
+func reserved(regimeIDs []int) map[string]bool {
+	r := map[string]bool{}
+	for _, k := range []string{"site", "regime", "dominant_regime", "windows", "switches", "last_switch", "col", "row", "qe", "unfamiliar", "unfamiliar_windows", "mobile"} {
+		r[k] = true
+	}
+	for _, id := range regimeIDs {
+		r[shareName(id)] = true
+	}
+	return r
+}
+
+func shareName(id int) string { return "share_r" + strconv.Itoa(id) }
+
+// attrName is the property name of a register attribute: its own, or
+// prefixed by "register_" when kinmap uses that name itself.
+func attrName(name string, taken map[string]bool) string {
+	if taken[name] {
+		return "register_" + name
+	}
+	return name
+}
+
+func siteFeatures(r *Run, ss []*site) []*feature {
+	ids := regimeIDs(r)
+	taken := reserved(ids)
+	var out []*feature
+	for _, s := range ss {
+		var p props
+		p.add("site", s.id)
+		if r.Register != nil {
+			values := map[string]any{}
+			if s.info != nil {
+				for _, a := range s.info.Attrs {
+					values[a.Name] = a.Value
+				}
+			}
+			for _, name := range r.Register.AttrNames {
+				p.add(attrName(name, taken), values[name])
+			}
+		}
+		p.add("regime", s.last.Regime)
+		p.add("dominant_regime", s.dominant)
+		for _, id := range ids {
+			p.add(shareName(id), round(float64(s.count[id])/float64(len(s.entries)), 4))
+		}
+		p.add("windows", len(s.entries))
+		p.add("switches", s.switches)
+		if s.lastSw.IsZero() {
+			p.add("last_switch", nil)
+		} else {
+			p.add("last_switch", s.lastSw)
+		}
+		p.add("col", s.last.Col)
+		p.add("row", s.last.Row)
+		p.add("qe", significant(s.meanQE, 6))
+		p.add("unfamiliar", s.unfamiliar > 0)
+		p.add("unfamiliar_windows", s.unfamiliar)
+		p.add("mobile", s.mobile)
+		out = append(out, &feature{ID: s.id, Type: "Feature", Geometry: point(s), Properties: p})
+	}
+	return out
+}
+
+func regimeFeatures(r *Run, ss []*site) []*feature {
+	var out []*feature
+	for _, g := range r.Model.Regimes {
+		var mp orb.MultiPoint
+		var names []string
+		for _, s := range ss {
+			if s.last.Regime != g.ID {
+				continue
+			}
+			names = append(names, s.id)
+			if s.located {
+				mp = append(mp, orb.Point(roundPosition(s.lon, s.lat)))
+			}
+		}
+		var geom orb.Geometry
+		if len(mp) > 0 {
+			geom = mp
+		}
+		var p props
+		p.add("regime", g.ID)
+		p.add("description", g.Description)
+		p.add("colour", hex(picture.RegimeColour(g.ID)))
+		p.add("sites", len(names))
+		p.add("site_ids", strings.Join(names, ","))
+		p.add("units", len(g.Units))
+		out = append(out, &feature{ID: g.ID, Type: "Feature", Geometry: geom, Properties: p})
+	}
+	return out
+}
+
+// trackFeatures draws each mobile site's located windows as one LineString
+// per regime segment. A segment starts at the last position of the one
+// before it, so the track is continuous; a segment with fewer than two
+// distinct positions is left out.
+func trackFeatures(r *Run, ss []*site) []*feature {
+	var out []*feature
+	for _, s := range ss {
+		if !s.mobile {
+			continue
+		}
+		var line orb.LineString
+		var startAt int // index into s.entries of the segment's first window
+		flush := func(end int) {
+			first, last := r.Entries[s.entries[startAt]], r.Entries[s.entries[end-1]]
+			if distinct(line) {
+				var p props
+				p.add("site", s.id)
+				p.add("regime", first.Regime)
+				p.add("start", first.Start)
+				p.add("end", last.End)
+				p.add("windows", end-startAt)
+				p.add("colour", hex(picture.RegimeColour(first.Regime)))
+				out = append(out, &feature{Type: "Feature", Geometry: line, Properties: p})
+			}
+			// The next segment starts where this one ended.
+			if n := len(line); n > 0 {
+				line = orb.LineString{line[n-1]}
+			}
+			startAt = end
+		}
+		for j, i := range s.entries {
+			if j > 0 && r.Entries[i].Regime != r.Entries[s.entries[j-1]].Regime {
+				flush(j)
+			}
+			if w := r.Table.Windows[i]; w.Located && validPosition(w.Lon, w.Lat) {
+				line = append(line, orb.Point(roundPosition(w.Lon, w.Lat)))
+			}
+		}
+		flush(len(s.entries))
+	}
+	return out
+}
+
+func distinct(line orb.LineString) bool {
+	for _, p := range line[min(1, len(line)):] {
+		if p != line[0] {
+			return true
+		}
+	}
+	return false
+}
+
+func hex(c color.RGBA) string { return fmt.Sprintf("#%02x%02x%02x", c.R, c.G, c.B) }
+
+func significant(v float64, digits int) float64 {
+	f, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'g', digits, 64), 64)
+	return f
+}
+
+// rfc3339 writes a time in UTC with a Z (RFC 3339, section 5.6), to the
+// microsecond like the Parquet files.
+func rfc3339(t time.Time) string { return micro(t).Format(time.RFC3339Nano) }

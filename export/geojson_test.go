@@ -1,0 +1,325 @@
+package export
+
+import (
+	"encoding/json"
+	"fmt"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"strings"
+	"testing"
+	"time"
+)
+
+// checkRFC7946 checks the structure rules of RFC 7946 on a decoded
+// document: a FeatureCollection with a "features" array (section 3.3) of
+// Features with "geometry" and "properties" members (section 3.2), no
+// "crs" member anywhere (section 4), positions of two numbers, longitude
+// first, in WGS 84 ranges (sections 3.1.1 and 4), LineStrings of at least
+// two positions (section 3.1.4), and closed polygon rings of at least four
+// positions, exterior counterclockwise and holes clockwise (section
+// 3.1.6). It returns the features.
+func checkRFC7946(t *testing.T, name string, doc []byte) []map[string]any {
+	t.Helper()
+	var root map[string]any
+	if err := json.Unmarshal(doc, &root); err != nil {
+		t.Fatalf("%s: not JSON: %v", name, err)
+	}
+	if root["type"] != "FeatureCollection" {
+		t.Fatalf("%s: type %v, want FeatureCollection (RFC 7946, 3.3)", name, root["type"])
+	}
+	noCRS(t, name, root)
+	list, ok := root["features"].([]any)
+	if !ok {
+		t.Fatalf("%s: features is %T, want an array (RFC 7946, 3.3)", name, root["features"])
+	}
+	var out []map[string]any
+	for i, f := range list {
+		feat, ok := f.(map[string]any)
+		if !ok || feat["type"] != "Feature" {
+			t.Fatalf("%s: feature %d is not a Feature object (RFC 7946, 3.2)", name, i)
+		}
+		g, hasG := feat["geometry"]
+		p, hasP := feat["properties"]
+		if !hasG || !hasP {
+			t.Errorf("%s: feature %d lacks geometry or properties (RFC 7946, 3.2)", name, i)
+		}
+		if _, ok := p.(map[string]any); p != nil && !ok {
+			t.Errorf("%s: feature %d: properties is %T (RFC 7946, 3.2)", name, i, p)
+		}
+		if g != nil {
+			checkGeometry(t, fmt.Sprintf("%s: feature %d", name, i), g.(map[string]any))
+		}
+		out = append(out, feat)
+	}
+	return out
+}
+
+func noCRS(t *testing.T, name string, v any) {
+	switch v := v.(type) {
+	case map[string]any:
+		if _, ok := v["crs"]; ok {
+			t.Errorf("%s: has a crs member (RFC 7946, 4)", name)
+		}
+		for _, c := range v {
+			noCRS(t, name, c)
+		}
+	case []any:
+		for _, c := range v {
+			noCRS(t, name, c)
+		}
+	}
+}
+
+func checkGeometry(t *testing.T, where string, g map[string]any) {
+	t.Helper()
+	c := g["coordinates"]
+	switch g["type"] {
+	case "Point":
+		checkPosition(t, where, c)
+	case "MultiPoint":
+		for _, p := range c.([]any) {
+			checkPosition(t, where, p)
+		}
+	case "LineString":
+		line := c.([]any)
+		if len(line) < 2 {
+			t.Errorf("%s: LineString of %d positions (RFC 7946, 3.1.4)", where, len(line))
+		}
+		for _, p := range line {
+			checkPosition(t, where, p)
+		}
+	case "Polygon":
+		checkPolygon(t, where, c.([]any))
+	case "MultiPolygon":
+		for _, poly := range c.([]any) {
+			checkPolygon(t, where, poly.([]any))
+		}
+	default:
+		t.Errorf("%s: geometry type %v not expected here", where, g["type"])
+	}
+}
+
+func checkPosition(t *testing.T, where string, p any) [2]float64 {
+	t.Helper()
+	a, ok := p.([]any)
+	if !ok || len(a) != 2 {
+		t.Errorf("%s: position %v is not [lon, lat] (RFC 7946, 3.1.1)", where, p)
+		return [2]float64{}
+	}
+	lon, lat := a[0].(float64), a[1].(float64)
+	if lon < -180 || lon > 180 || lat < -90 || lat > 90 {
+		t.Errorf("%s: position %v outside WGS 84 ranges (RFC 7946, 4)", where, p)
+	}
+	return [2]float64{lon, lat}
+}
+
+func checkPolygon(t *testing.T, where string, rings []any) {
+	for i, r := range rings {
+		ring := r.([]any)
+		var pts [][2]float64
+		for _, p := range ring {
+			pts = append(pts, checkPosition(t, where, p))
+		}
+		if len(pts) < 4 || pts[0] != pts[len(pts)-1] {
+			t.Errorf("%s: ring %d is not closed with 4 or more positions (RFC 7946, 3.1.6)", where, i)
+			continue
+		}
+		var area float64 // shoelace: positive when counterclockwise
+		for j := 0; j+1 < len(pts); j++ {
+			area += pts[j][0]*pts[j+1][1] - pts[j+1][0]*pts[j][1]
+		}
+		if (i == 0) != (area > 0) {
+			t.Errorf("%s: ring %d breaks the right-hand rule (RFC 7946, 3.1.6)", where, i)
+		}
+	}
+}
+
+func byProperty(features []map[string]any, key string) map[any]map[string]any {
+	out := map[any]map[string]any{}
+	for _, f := range features {
+		p := f["properties"].(map[string]any)
+		out[p[key]] = f
+	}
+	return out
+}
+
+func TestSitesGeoJSON(t *testing.T) {
+	dir := written(t)
+	features := checkRFC7946(t, SitesFile, read(t, dir, SitesFile))
+	if len(features) != len(fixture) {
+		t.Fatalf("%d features, want one per site (%d)", len(features), len(fixture))
+	}
+	sites := byProperty(features, "site")
+	// Longitude first (RFC 7946, 3.1.1): the register has PS-02 at
+	// lat -33.8688, lon 151.2093.
+	if c := sites["PS-02"]["geometry"].(map[string]any)["coordinates"].([]any); c[0] != 151.2093 || c[1] != -33.8688 {
+		t.Errorf("PS-02 at %v, want [151.2093 -33.8688]", c)
+	}
+	// A mobile unit is where its last window was.
+	if c := sites["T-7"]["geometry"].(map[string]any)["coordinates"].([]any); c[0] != 8.9 || c[1] != 47.36 {
+		t.Errorf("T-7 at %v, want its last window's position [8.9 47.36]", c)
+	}
+	if g := sites["X-9"]["geometry"]; g != nil {
+		t.Errorf("X-9 has no position, geometry %v, want null", g)
+	}
+	p := sites["PS-01"]["properties"].(map[string]any)
+	want := map[string]any{
+		"site": "PS-01", "name": "Aare North", "capacity_kw": 450.0, "elevation_m": 540.5, "active": true,
+		"register_regime": "summer",                    // the register's own "regime" column, renamed
+		"regime":          2.0, "dominant_regime": 1.0, // 3 windows each: the lower ID
+		"share_r1": 0.5, "share_r2": 0.5, "share_r3": 0.0, "windows": 6.0,
+		"switches": 1.0, "last_switch": "2025-03-04T00:00:00Z",
+		"col": 2.0, "row": 0.0, "qe": 0.35, "unfamiliar": false, "unfamiliar_windows": 0.0, "mobile": false,
+	}
+	for k, v := range want {
+		if p[k] != v {
+			t.Errorf("PS-01: %s = %v (%T), want %v", k, p[k], p[k], v)
+		}
+	}
+	if len(p) != len(want) {
+		t.Errorf("PS-01 has %d properties, want %d: %v", len(p), len(want), p)
+	}
+	if _, err := time.Parse(time.RFC3339, p["last_switch"].(string)); err != nil {
+		t.Errorf("last_switch: %v (RFC 3339, 5.6)", err)
+	}
+	q := sites["X-9"]["properties"].(map[string]any)
+	if q["unfamiliar"] != true || q["unfamiliar_windows"] != 1.0 || q["last_switch"] != nil || q["name"] != nil {
+		t.Errorf("X-9 properties %v: want unfamiliar, 1 unfamiliar window, no last switch, no register name", q)
+	}
+	if sites["T-7"]["properties"].(map[string]any)["mobile"] != true {
+		t.Error("T-7 is not marked mobile")
+	}
+	// Floats keep a decimal point, so a GIS reads the column as Real.
+	if doc := string(read(t, dir, SitesFile)); !strings.Contains(doc, `"share_r3":0.0`) || !strings.Contains(doc, `"share_r3":1.0`) {
+		t.Errorf("whole shares are not written as reals:\n%s", doc)
+	}
+}
+
+func TestRegimesAndTracksGeoJSON(t *testing.T) {
+	dir := written(t)
+	regimes := byProperty(checkRFC7946(t, RegimesFile, read(t, dir, RegimesFile)), "regime")
+	if len(regimes) != 3 {
+		t.Fatalf("%d regime features, want 3", len(regimes))
+	}
+	// Last regimes: PS-01 2, PS-02 3, T-7 3, X-9 2 (not located).
+	for id, want := range map[float64]struct {
+		sites  float64
+		ids    string
+		points int
+	}{1: {0, "", 0}, 2: {2, "PS-01,X-9", 1}, 3: {2, "PS-02,T-7", 2}} {
+		f := regimes[id]
+		p := f["properties"].(map[string]any)
+		if p["sites"] != want.sites || p["site_ids"] != want.ids {
+			t.Errorf("regime %v: sites %v %q, want %v %q", id, p["sites"], p["site_ids"], want.sites, want.ids)
+		}
+		n := 0
+		if g, ok := f["geometry"].(map[string]any); ok {
+			n = len(g["coordinates"].([]any))
+		}
+		if n != want.points {
+			t.Errorf("regime %v: %d points, want %d", id, n, want.points)
+		}
+		if c, _ := p["colour"].(string); !regexp.MustCompile(`^#[0-9a-f]{6}$`).MatchString(c) {
+			t.Errorf("regime %v: colour %q is not a hex colour", id, c)
+		}
+	}
+	if d := regimes[3.0]["properties"].(map[string]any)["description"]; d != "low load <idle> & quiet" {
+		t.Errorf("description %q", d)
+	}
+
+	tracks := checkRFC7946(t, TracksFile, read(t, dir, TracksFile))
+	// T-7: regime 1 over days 0–1, then 3 over days 2–4, the second line
+	// starting where the first ended.
+	if len(tracks) != 2 {
+		t.Fatalf("%d track features, want 2", len(tracks))
+	}
+	wantLines := [][][2]float64{{{8.5, 47.3}, {8.6, 47.35}}, {{8.6, 47.35}, {8.7, 47.4}, {8.8, 47.38}, {8.9, 47.36}}}
+	for i, f := range tracks {
+		c := f["geometry"].(map[string]any)["coordinates"].([]any)
+		if fmt.Sprint(c) != fmt.Sprint(toAny(wantLines[i])) {
+			t.Errorf("track %d: %v, want %v", i, c, wantLines[i])
+		}
+	}
+	if p := tracks[1]["properties"].(map[string]any); p["regime"] != 3.0 || p["start"] != "2025-03-03T00:00:00Z" || p["end"] != "2025-03-06T00:00:00Z" || p["windows"] != 3.0 {
+		t.Errorf("second track properties %v", p)
+	}
+}
+
+func toAny(line [][2]float64) []any {
+	var out []any
+	for _, p := range line {
+		out = append(out, []any{p[0], p[1]})
+	}
+	return out
+}
+
+// ogrinfo (GDAL, Debian gdal-bin) is what GIS desktops read GeoJSON with:
+// it must see the right feature counts, field types and WGS 84.
+func TestOgrinfo(t *testing.T) {
+	ogrinfo := tool(t, "ogrinfo")
+	dir := written(t)
+	tests := []struct {
+		file     string
+		geometry string
+		count    int
+		fields   map[string]string
+	}{
+		{SitesFile, "Point", 4, map[string]string{
+			"site": "String", "name": "String", "capacity_kw": "Integer", "elevation_m": "Real",
+			"active": "Integer(Boolean)", "register_regime": "String",
+			"regime": "Integer", "dominant_regime": "Integer", "share_r1": "Real", "share_r3": "Real",
+			"windows": "Integer", "switches": "Integer", "last_switch": "DateTime",
+			"col": "Integer", "row": "Integer", "qe": "Real",
+			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer", "mobile": "Integer(Boolean)",
+		}},
+		{RegimesFile, "Multi Point", 3, map[string]string{
+			"regime": "Integer", "description": "String", "colour": "String", "sites": "Integer", "site_ids": "String", "units": "Integer",
+		}},
+		{TracksFile, "Line String", 2, map[string]string{
+			"site": "String", "regime": "Integer", "start": "DateTime", "end": "DateTime", "windows": "Integer",
+		}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.file, func(t *testing.T) {
+			out, err := exec.Command(ogrinfo, "-ro", "-al", "-so", filepath.Join(dir, tc.file)).CombinedOutput()
+			if err != nil {
+				t.Fatalf("ogrinfo: %v\n%s", err, out)
+			}
+			s := string(out)
+			if !strings.Contains(s, "Geometry: "+tc.geometry+"\n") {
+				t.Errorf("geometry is not %s:\n%s", tc.geometry, s)
+			}
+			if !strings.Contains(s, fmt.Sprintf("Feature Count: %d\n", tc.count)) {
+				t.Errorf("feature count is not %d:\n%s", tc.count, s)
+			}
+			if !strings.Contains(s, `GEOGCRS["WGS 84"`) && !strings.Contains(s, `GEOGCS["WGS 84"`) {
+				t.Errorf("layer is not WGS 84:\n%s", s)
+			}
+			types := map[string]string{}
+			for _, m := range regexp.MustCompile(`(?m)^(\w+): (\S+) \(`).FindAllStringSubmatch(s, -1) {
+				types[m[1]] = m[2]
+			}
+			for f, want := range tc.fields {
+				if types[f] != want {
+					t.Errorf("field %s: %q, want %q", f, types[f], want)
+				}
+			}
+		})
+	}
+}
+
+func TestRoundedCoordinates(t *testing.T) {
+	r := fixtureRun()
+	r.Register.Sites[0].Lon, r.Register.Sites[0].Lat = 7.123456789, 46.987654321
+	dir := filepath.Join(t.TempDir(), "out")
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	sites := byProperty(checkRFC7946(t, SitesFile, read(t, dir, SitesFile)), "site")
+	c := sites["PS-01"]["geometry"].(map[string]any)["coordinates"].([]any)
+	// 6 decimals, about 10 cm (RFC 7946, 11.2).
+	if c[0] != 7.123457 || c[1] != 46.987654 {
+		t.Errorf("coordinates %v, want [7.123457 46.987654]", c)
+	}
+}

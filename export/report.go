@@ -1,0 +1,246 @@
+package export
+
+import (
+	"cmp"
+	_ "embed"
+	"encoding/base64"
+	"encoding/json"
+	"fmt"
+	"html/template"
+	"io"
+	"maps"
+	"slices"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/kinmap/kinmap/export/picture"
+	"github.com/kinmap/kinmap/mapper"
+)
+
+//go:embed report.html
+var reportHTML string
+
+// reportTemplate is parsed for each report; it is cheap and keeps the
+// package free of init-time work.
+func reportTemplate() (*template.Template, error) {
+	return template.New("report").Funcs(template.FuncMap{"swatch": swatch}).Parse(reportHTML)
+}
+
+// maxSwitchRows caps the switch table; switches.csv has them all.
+const maxSwitchRows = 500
+
+// maxUnfamiliarSites caps the list of sites with unfamiliar windows.
+const maxUnfamiliarSites = 20
+
+type fact struct{ Label, Value string }
+
+type reportPicture struct {
+	Title, Caption, File string
+	Src                  template.URL
+}
+
+type reportRegime struct {
+	ID          int
+	Description string
+	Units       int
+	Sites       int
+	Windows     int
+	Share       string
+}
+
+type reportSwitch struct {
+	Site, Time    string
+	From, To      int
+	Before, After int
+	Confidence    string
+}
+
+type siteCount struct {
+	Site  string
+	Count int
+}
+
+type reportData struct {
+	Title           string
+	Run, Data, Map  []fact
+	Warnings        []string
+	Pictures        []reportPicture
+	Regimes         []reportRegime
+	Switches        []reportSwitch
+	SwitchesTotal   int
+	Windows         int
+	Unfamiliar      int
+	UnfamiliarSites []siteCount
+	MoreUnfamiliar  int
+	Files           []string
+	Details         string
+}
+
+func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []picture.Picture, files []string) error {
+	t, err := reportTemplate()
+	if err != nil {
+		return err
+	}
+	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Entries), SwitchesTotal: len(r.Switches)}
+	d.Warnings = slices.Concat(r.Warnings, r.Model.Quality.Warnings, warnings)
+	d.Files = append(slices.Clone(files), ReportFile)
+	for _, p := range pics {
+		d.Pictures = append(d.Pictures, reportPicture{
+			Title: p.Title, Caption: p.Caption, File: p.File,
+			// Built here from PNG bytes, so safe to mark as a URL.
+			Src: template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(p.PNG)),
+		})
+	}
+
+	perRegime := map[int]int{} // windows
+	sitesIn := map[int]int{}   // sites by last regime
+	var unfamiliar []siteCount
+	for _, e := range r.Entries {
+		perRegime[e.Regime]++
+		if e.Unfamiliar {
+			d.Unfamiliar++
+		}
+	}
+	for _, s := range ss {
+		sitesIn[s.last.Regime]++
+		if s.unfamiliar > 0 {
+			unfamiliar = append(unfamiliar, siteCount{s.id, s.unfamiliar})
+		}
+	}
+	slices.SortStableFunc(unfamiliar, func(a, b siteCount) int { return cmp.Compare(b.Count, a.Count) })
+	if len(unfamiliar) > maxUnfamiliarSites {
+		d.MoreUnfamiliar = len(unfamiliar) - maxUnfamiliarSites
+		unfamiliar = unfamiliar[:maxUnfamiliarSites]
+	}
+	d.UnfamiliarSites = unfamiliar
+	for _, g := range r.Model.Regimes {
+		d.Regimes = append(d.Regimes, reportRegime{
+			ID: g.ID, Description: g.Description, Units: len(g.Units),
+			Sites: sitesIn[g.ID], Windows: perRegime[g.ID], Share: percent(perRegime[g.ID], len(r.Entries)),
+		})
+	}
+	for i, s := range r.Switches {
+		if i == maxSwitchRows {
+			break
+		}
+		d.Switches = append(d.Switches, reportSwitch{
+			Site: s.Site, Time: readable(s.Time), From: s.From, To: s.To,
+			Before: s.Before, After: s.After, Confidence: strconv.FormatFloat(s.Confidence, 'f', 2, 64),
+		})
+	}
+
+	d.Run = []fact{
+		{"Sites", strconv.Itoa(len(ss))},
+		{"Windows", strconv.Itoa(len(r.Entries))},
+		{"Regimes", strconv.Itoa(len(r.Model.Regimes))},
+		{"Switches", strconv.Itoa(len(r.Switches))},
+		{"Unfamiliar windows", fmt.Sprintf("%d (%s)", d.Unfamiliar, percent(d.Unfamiliar, len(r.Entries)))},
+	}
+	if skipped := skippedWindows(r); skipped > 0 {
+		d.Run = append(d.Run, fact{"Windows skipped", strconv.Itoa(skipped)})
+	}
+	d.Data = dataFacts(r)
+	d.Map = mapFacts(r.Model)
+	if r.Info != nil {
+		b, err := json.MarshalIndent(r.Info, "", "  ")
+		if err != nil {
+			return err
+		}
+		d.Details = string(b)
+	}
+	return t.Execute(w, d)
+}
+
+func skippedWindows(r *Run) int {
+	n := 0
+	for _, s := range r.Table.Skipped {
+		for _, c := range s {
+			n += c
+		}
+	}
+	return n
+}
+
+func dataFacts(r *Run) []fact {
+	s := r.Summary
+	if s == nil {
+		return nil
+	}
+	var names []string
+	for _, f := range s.Files {
+		names = append(names, fmt.Sprintf("%s (%s, %d rows)", f.Path, f.Format, f.Rows))
+	}
+	out := []fact{
+		{"Files", strings.Join(names, "; ")},
+		{"Layout", s.Layout},
+		{"Rows read", strconv.FormatInt(s.Rows, 10)},
+		{"Readings kept", strconv.FormatInt(s.Readings, 10)},
+		{"Sites", strconv.Itoa(s.Sites)},
+		{"Channels", strings.Join(s.Channels, ", ")},
+	}
+	if !s.Start.IsZero() {
+		out = append(out, fact{"Period", readable(s.Start) + " to " + readable(s.End)})
+	}
+	for _, reason := range slices.Sorted(maps.Keys(s.Dropped)) {
+		out = append(out, fact{"Dropped (" + reason + ")", strconv.FormatInt(s.Dropped[reason], 10)})
+	}
+	if s.Duplicates > 0 {
+		out = append(out, fact{"Duplicate readings resolved", strconv.FormatInt(s.Duplicates, 10)})
+	}
+	if len(s.SkippedColumns) > 0 {
+		out = append(out, fact{"Columns skipped", strings.Join(s.SkippedColumns, ", ")})
+	}
+	if s.NaiveTime {
+		out = append(out, fact{"Time zone", "timestamps without UTC adjustment were read as UTC"})
+	}
+	if len(s.Unregistered) > 0 {
+		out = append(out, fact{"Sites not in the register", strconv.Itoa(len(s.Unregistered))})
+	}
+	return out
+}
+
+func mapFacts(m *mapper.Model) []fact {
+	l := m.Map.Lattice
+	cells, surface := "squares, 4 neighbours", "torus, wraps both ways"
+	if l.Hex {
+		cells = "hexagons, 6 neighbours"
+	}
+	if l.Flat {
+		surface = "flat sheet with edges"
+	}
+	return []fact{
+		{"Grid", fmt.Sprintf("%d × %d units", l.Cols, l.Rows)},
+		{"Cells", cells},
+		{"Surface", surface},
+		{"Features", strconv.Itoa(m.Map.Dim)},
+		{"Training windows", strconv.Itoa(m.Windows)},
+		{"Quantization error (mean)", strconv.FormatFloat(m.Quality.QE, 'g', 4, 64)},
+		{"Topographic error", percent1(m.Quality.TE)},
+		{"Units without windows", percent1(m.Quality.Unused)},
+	}
+}
+
+// readable is a time for people: UTC to the minute, or to the second when
+// it has seconds.
+func readable(t time.Time) string {
+	t = t.UTC()
+	if t.Second() != 0 || t.Nanosecond() != 0 {
+		return t.Format("2006-01-02 15:04:05") + " UTC"
+	}
+	return t.Format("2006-01-02 15:04") + " UTC"
+}
+
+func percent(n, of int) string {
+	if of == 0 {
+		return "–"
+	}
+	return percent1(float64(n) / float64(of))
+}
+
+func percent1(share float64) string { return strconv.FormatFloat(100*share, 'f', 1, 64) + " %" }
+
+// swatch is the CSS background of a regime's colour.
+func swatch(id int) template.CSS {
+	return template.CSS("background:" + hex(picture.RegimeColour(id)))
+}

@@ -1,0 +1,156 @@
+package export
+
+import (
+	"bytes"
+	"html"
+	"image"
+	"image/png"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"strings"
+	"testing"
+	"time"
+)
+
+// The report loads nothing: no scripts, style sheets or fonts from
+// anywhere, and every src or href is a data: URI or a fragment.
+func TestReportSelfContained(t *testing.T) {
+	doc := string(read(t, written(t), ReportFile))
+	for _, bad := range []string{"http://", "https://", "<script", "<link", "@import", "<iframe", "<object", "<embed"} {
+		if strings.Contains(strings.ToLower(doc), bad) {
+			t.Errorf("report contains %q", bad)
+		}
+	}
+	for _, m := range regexp.MustCompile(`(?i)\b(src|href|srcset|poster|data)\s*=\s*"([^"]*)"`).FindAllStringSubmatch(doc, -1) {
+		if !strings.HasPrefix(m[2], "data:image/png;base64,") && !strings.HasPrefix(m[2], "#") {
+			t.Errorf("%s=%.60q loads something", m[1], m[2])
+		}
+	}
+	for _, m := range regexp.MustCompile(`(?i)url\(([^)]*)\)`).FindAllStringSubmatch(doc, -1) {
+		if !strings.HasPrefix(strings.Trim(m[1], `'" `), "data:") {
+			t.Errorf("CSS url(%s) loads something", m[1])
+		}
+	}
+}
+
+func TestReportContents(t *testing.T) {
+	dir := written(t)
+	doc := string(read(t, dir, ReportFile))
+	for _, want := range []string{
+		"<title>Week 10 &lt;test&gt;</title>", // escaped by html/template
+		"not a protective or control function",
+		"defer to site safety procedures and local codes",
+		"low load &lt;idle&gt; &amp; quiet",           // regime description, escaped
+		"<td>PS-01</td><td>2025-03-04 00:00 UTC</td>", // the switch table
+		"<td>T-7</td><td>2025-03-03 00:00 UTC</td>",
+		"1 of 18 windows are unlike",
+		"<td>X-9</td><td class=\"num\">1</td>",
+		"site &#34;X-9&#34; has no position",  // a warning of the export
+		"3 readings out of order were sorted", // a warning of the run
+		"week10.parquet (parquet, 5000 rows)",
+		"<td>4 × 4 units</td>", "<td>torus, wraps both ways</td>",
+		"&#34;command&#34;: &#34;kinmap train&#34;", // run.json in the details
+	} {
+		if !strings.Contains(doc, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+	if !strings.Contains(html.UnescapeString(doc), "<td>vibration.p95 +2.1σ, flow.mean −1.4σ</td>") {
+		t.Error("report lacks the description of regime 2")
+	}
+	// Every picture is inline, as a PNG that decodes, with its title.
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var pngs int
+	for _, e := range entries {
+		if strings.HasSuffix(e.Name(), ".png") {
+			pngs++
+			if !strings.Contains(doc, "("+e.Name()+")") {
+				t.Errorf("report does not show %s", e.Name())
+			}
+		}
+	}
+	if n := strings.Count(doc, `<img src="data:image/png;base64,`); n != pngs || n == 0 {
+		t.Errorf("%d inline pictures, %d PNG files", n, pngs)
+	}
+	// Swatches carry the colour of regimes.geojson.
+	if !strings.Contains(doc, `style="background:#`) {
+		t.Error("no colour swatches")
+	}
+}
+
+// The report renders in a real browser (Debian chromium, headless) to a
+// screenshot that is neither empty nor blank.
+func TestReportInChromium(t *testing.T) {
+	chromium := tool(t, "chromium")
+	dir := written(t)
+	shot := filepath.Join(t.TempDir(), "report.png")
+	profile := t.TempDir()
+	abs, err := filepath.Abs(filepath.Join(dir, ReportFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	cmd := exec.Command(chromium, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
+		"--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync",
+		"--user-data-dir="+profile, "--screenshot="+shot, "--window-size=1280,2000", "file://"+abs)
+	var out bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &out
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- cmd.Wait() }()
+	select {
+	case err := <-done:
+		if err != nil {
+			t.Fatalf("chromium: %v\n%s", err, out.String())
+		}
+	case <-time.After(90 * time.Second):
+		cmd.Process.Kill()
+		<-done
+		t.Fatalf("chromium did not finish within 90 s\n%s", out.String())
+	}
+	f, err := os.Open(shot)
+	if err != nil {
+		t.Fatalf("no screenshot: %v\n%s", err, out.String())
+	}
+	defer f.Close()
+	img, err := png.Decode(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b := img.Bounds(); b.Dx() != 1280 || b.Dy() != 2000 {
+		t.Errorf("screenshot is %v, want 1280 × 2000", b)
+	}
+	if share := inked(img); share < 0.02 {
+		t.Errorf("screenshot is nearly blank: %.3f of pixels differ from the background", share)
+	}
+}
+
+// inked is the share of pixels that differ clearly from the page's
+// background, taken at the bottom right corner (outside the content).
+func inked(img image.Image) float64 {
+	b := img.Bounds()
+	r0, g0, b0, _ := img.At(b.Max.X-1, b.Max.Y-1).RGBA()
+	var n int
+	for y := b.Min.Y; y < b.Max.Y; y += 2 {
+		for x := b.Min.X; x < b.Max.X; x += 2 {
+			r, g, bb, _ := img.At(x, y).RGBA()
+			if diff(r, r0)+diff(g, g0)+diff(bb, b0) > 3*0x1000 {
+				n++
+			}
+		}
+	}
+	return float64(n) / float64((b.Dx()/2)*(b.Dy()/2))
+}
+
+func diff(a, b uint32) uint32 {
+	if a > b {
+		return a - b
+	}
+	return b - a
+}

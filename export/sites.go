@@ -1,0 +1,117 @@
+package export
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"slices"
+	"time"
+
+	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+// site is what the outputs say about one site.
+type site struct {
+	id         string
+	info       *ingest.Site // register entry, nil when not registered
+	entries    []int        // indexes into Run.Entries, in time order
+	lon, lat   float64
+	located    bool
+	mobile     bool // more than one distinct window position
+	last       timeline.Entry
+	dominant   int
+	count      map[int]int // windows by regime ID
+	switches   int
+	lastSw     time.Time // zero when the site did not switch
+	meanQE     float64
+	unfamiliar int // unfamiliar windows
+}
+
+// sites gathers the sites of r, sorted by ID, and the warnings about them.
+func sites(r *Run) ([]*site, []string) {
+	// The register's own index is built by its reader; the exported list
+	// serves any register.
+	registered := map[string]*ingest.Site{}
+	if r.Register != nil {
+		for _, s := range r.Register.Sites {
+			registered[s.ID] = s
+		}
+	}
+	byID := map[string]*site{}
+	var out []*site
+	for i, e := range r.Entries {
+		s := byID[e.Site]
+		if s == nil {
+			s = &site{id: e.Site, info: registered[e.Site], count: map[int]int{}}
+			byID[e.Site] = s
+			out = append(out, s)
+		}
+		s.entries = append(s.entries, i)
+	}
+	slices.SortFunc(out, func(a, b *site) int { return cmp.Compare(a.id, b.id) })
+	for _, sw := range r.Switches {
+		if s := byID[sw.Site]; s != nil {
+			s.switches++
+			if sw.Time.After(s.lastSw) {
+				s.lastSw = sw.Time
+			}
+		}
+	}
+	var warnings []string
+	for _, s := range out {
+		slices.SortStableFunc(s.entries, func(a, b int) int { return r.Entries[a].Start.Compare(r.Entries[b].Start) })
+		var qe float64
+		positions := map[[2]float64]bool{}
+		for _, i := range s.entries {
+			e := r.Entries[i]
+			s.count[e.Regime]++
+			qe += e.QE
+			if e.Unfamiliar {
+				s.unfamiliar++
+			}
+			if w := r.Table.Windows[i]; w.Located && validPosition(w.Lon, w.Lat) {
+				positions[roundPosition(w.Lon, w.Lat)] = true
+				s.lon, s.lat, s.located = w.Lon, w.Lat, true
+			}
+		}
+		s.meanQE = qe / float64(len(s.entries))
+		s.last = r.Entries[s.entries[len(s.entries)-1]]
+		s.mobile = len(positions) > 1
+		for id, n := range s.count {
+			if d := s.count[s.dominant]; n > d || n == d && id < s.dominant {
+				s.dominant = id
+			}
+		}
+		if s.info != nil && s.info.Located {
+			if validPosition(s.info.Lon, s.info.Lat) {
+				s.lon, s.lat, s.located = s.info.Lon, s.info.Lat, true
+			} else {
+				warnings = append(warnings, fmt.Sprintf("site %q: registered position (lat %g, lon %g) is outside WGS 84 ranges; ignored", s.id, s.info.Lat, s.info.Lon))
+			}
+		}
+		if !s.located {
+			warnings = append(warnings, fmt.Sprintf("site %q has no position; its feature in %s has no geometry", s.id, SitesFile))
+		}
+	}
+	return out, warnings
+}
+
+// validPosition reports whether lon and lat are WGS 84 degrees in range
+// (RFC 7946, section 3.1.1 and 4).
+func validPosition(lon, lat float64) bool {
+	return lon >= -180 && lon <= 180 && lat >= -90 && lat <= 90
+}
+
+// coordDigits is the number of decimals kept in coordinates: 1e-6 degrees
+// is about 10 cm (RFC 7946, section 11.2).
+const coordDigits = 6
+
+func roundPosition(lon, lat float64) [2]float64 {
+	return [2]float64{round(lon, coordDigits), round(lat, coordDigits)}
+}
+
+func round(v float64, digits int) float64 {
+	p := math.Pow10(digits)
+	return math.Round(v*p) / p
+}

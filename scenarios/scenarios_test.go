@@ -379,3 +379,28 @@ func TestReeferPositions(t *testing.T) {
 		}
 	}
 }
+
+// Write with names writes those files only, and refuses a name it does not
+// know without writing anything.
+func TestWriteSome(t *testing.T) {
+	f, err := Generate(small(t, "pumping", 3, 1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	paths, err := f.Write(dir, FileSites, FileLongParquet)
+	if err != nil {
+		t.Fatal(err)
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(paths) != 2 || len(entries) != 2 || filepath.Base(paths[0]) != FileSites || filepath.Base(paths[1]) != FileLongParquet {
+		t.Errorf("wrote %v, folder holds %d files; want sites.csv and readings-long.parquet only", paths, len(entries))
+	}
+	other := t.TempDir()
+	if _, err := f.Write(other, FileSites, "readings.xlsx"); err == nil || !strings.Contains(err.Error(), "readings.xlsx") {
+		t.Errorf("unknown file name: error %v", err)
+	}
+	if entries, _ := os.ReadDir(other); len(entries) != 0 {
+		t.Errorf("a refused Write left %d files", len(entries))
+	}
+}

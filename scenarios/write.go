@@ -12,6 +12,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"strconv"
+	"strings"
 	"sync"
 	"time"
 )
@@ -28,7 +29,7 @@ const (
 )
 
 // Write writes the fleet into dir, creating dir if needed, and returns the
-// paths written. Every file is first written under a temporary name in dir
+// paths written: every file below, or only the files named in only. Every file is first written under a temporary name in dir
 // and renamed only once all of them are complete, so that a failed Write
 // leaves no partial file behind.
 //
@@ -63,21 +64,19 @@ const (
 //     which the site sent a row, 0 to 1), one row per site and daily window;
 //   - truth-switches.csv: site, time (RFC 3339, the start of the first window
 //     in the new regime), from_regime and to_regime.
-func (f *Fleet) Write(dir string) ([]string, error) {
+func (f *Fleet) Write(dir string, only ...string) ([]string, error) {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return nil, fmt.Errorf("scenarios: %w", err)
 	}
-	files := []struct {
-		name  string
-		write func(io.Writer) error
-	}{
-		{FileLongParquet, f.writeLongParquet},
-		{FileWideParquet, f.writeWideParquet},
-		{FileArrow, f.writeArrow},
-		{FileCSV, f.writeCSV},
-		{FileSites, f.writeSites},
-		{FileTruthWin, f.writeTruthWindows},
-		{FileTruthSwitch, f.writeTruthSwitches},
+	names := only
+	if len(names) == 0 {
+		names = FileNames()
+	}
+	files := make([]fileWriter, len(names))
+	for i, name := range names {
+		if files[i] = f.writer(name); files[i].write == nil {
+			return nil, fmt.Errorf("scenarios: no file %q; a fleet writes %s", name, strings.Join(FileNames(), ", "))
+		}
 	}
 	temps := make([]string, len(files))
 	errs := make([]error, len(files))
@@ -111,6 +110,32 @@ func (f *Fleet) Write(dir string) ([]string, error) {
 		}
 	}
 	return paths, nil
+}
+
+// fileWriter is one file of a fleet and the function that writes it.
+type fileWriter struct {
+	name  string
+	write func(io.Writer) error
+}
+
+// FileNames returns the names of the files Write writes, in its order.
+func FileNames() []string {
+	return []string{FileLongParquet, FileWideParquet, FileArrow, FileCSV, FileSites, FileTruthWin, FileTruthSwitch}
+}
+
+// writer returns the writer of the file called name; its write is nil for
+// an unknown name.
+func (f *Fleet) writer(name string) fileWriter {
+	w := map[string]func(io.Writer) error{
+		FileLongParquet: f.writeLongParquet,
+		FileWideParquet: f.writeWideParquet,
+		FileArrow:       f.writeArrow,
+		FileCSV:         f.writeCSV,
+		FileSites:       f.writeSites,
+		FileTruthWin:    f.writeTruthWindows,
+		FileTruthSwitch: f.writeTruthSwitches,
+	}[name]
+	return fileWriter{name, w}
 }
 
 // writeTemp writes a file under a temporary name next to its final name and

@@ -42,11 +42,12 @@ type Run struct {
 	Assignments []mapper.Assignment // one per Table.Windows entry
 	Entries     []timeline.Entry    // one per Table.Windows entry, in the same order (timeline.Build)
 	Switches    []timeline.Switch
-	Register    *ingest.Register // nil when there is none
-	Summary     *ingest.Summary  // what was read; nil when unknown
-	Info        any              // machine-readable run summary, written as run.json
-	Warnings    []string         // from earlier stages, shown in the report
-	Title       string           // heading of the report; "" means "kinmap run"
+	Register    *ingest.Register      // nil when there is none
+	Summary     *ingest.Summary       // what was read; nil when unknown
+	Info        any                   // machine-readable run summary, written as run.json
+	Changes     []mapper.RegimeChange // regime renumbering by an update, listed in the report
+	Warnings    []string              // from earlier stages, shown in the report
+	Title       string                // heading of the report; "" means "kinmap run"
 }
 
 // Write writes the outputs of r into dir, creating it if needed.

@@ -67,6 +67,7 @@ type reportData struct {
 	Warnings        []string
 	Pictures        []reportPicture
 	Regimes         []reportRegime
+	Changes         []string
 	Switches        []reportSwitch
 	SwitchesTotal   int
 	Windows         int
@@ -119,6 +120,9 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 			ID: g.ID, Description: g.Description, Units: len(g.Units),
 			Sites: sitesIn[g.ID], Windows: perRegime[g.ID], Share: percent(perRegime[g.ID], len(r.Entries)),
 		})
+	}
+	for _, c := range r.Changes {
+		d.Changes = append(d.Changes, describeChange(c))
 	}
 	for i, s := range r.Switches {
 		if i == maxSwitchRows {
@@ -243,4 +247,28 @@ func percent1(share float64) string { return strconv.FormatFloat(100*share, 'f',
 // swatch is the CSS background of a regime's colour.
 func swatch(id int) template.CSS {
 	return template.CSS("background:" + hex(picture.RegimeColour(id)))
+}
+
+// describeChange writes one change of regime numbers as a sentence.
+func describeChange(c mapper.RegimeChange) string {
+	list := func(ids []int) string {
+		parts := make([]string, len(ids))
+		for i, id := range ids {
+			parts[i] = strconv.Itoa(id)
+		}
+		return strings.Join(parts, " and ")
+	}
+	switch c.Kind {
+	case mapper.ChangeRenumbered:
+		return fmt.Sprintf("The regime derived as %s matches earlier regime %s and keeps its number.", list(c.From), list(c.To))
+	case mapper.ChangeNew:
+		return fmt.Sprintf("Regime %s is new: it matches no earlier regime.", list(c.To))
+	case mapper.ChangeGone:
+		return fmt.Sprintf("Earlier regime %s matches no regime of the updated map.", list(c.From))
+	case mapper.ChangeSplit:
+		return fmt.Sprintf("Earlier regime %s split into regimes %s.", list(c.From), list(c.To))
+	case mapper.ChangeMerged:
+		return fmt.Sprintf("Earlier regimes %s merged into regime %s.", list(c.From), list(c.To))
+	}
+	return fmt.Sprintf("%s: %v → %v", c.Kind, c.From, c.To)
 }

@@ -12,6 +12,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/kinmap/kinmap/mapper"
 )
 
 // The report loads nothing: no scripts, style sheets or fonts from
@@ -153,4 +155,32 @@ func diff(a, b uint32) uint32 {
 		return a - b
 	}
 	return b - a
+}
+
+// After an update the report lists how regime numbers were kept.
+func TestReportListsRegimeChanges(t *testing.T) {
+	r := fixtureRun()
+	r.Changes = []mapper.RegimeChange{
+		{Kind: mapper.ChangeRenumbered, From: []int{3}, To: []int{1}},
+		{Kind: mapper.ChangeSplit, From: []int{2}, To: []int{2, 4}},
+		{Kind: mapper.ChangeNew, To: []int{4}},
+	}
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	doc := string(read(t, dir, ReportFile))
+	for _, want := range []string{
+		"Regime numbers after the update",
+		"The regime derived as 3 matches earlier regime 1 and keeps its number.",
+		"Earlier regime 2 split into regimes 2 and 4.",
+		"Regime 4 is new: it matches no earlier regime.",
+	} {
+		if !strings.Contains(doc, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+	if doc := string(read(t, written(t), ReportFile)); strings.Contains(doc, "Regime numbers after the update") {
+		t.Error("a run without an update lists regime changes")
+	}
 }

@@ -8,6 +8,7 @@
 package ingest
 
 import (
+	"slices"
 	"time"
 )
 
@@ -20,13 +21,85 @@ type Options struct {
 	ValueCol   string   // long layout: value column
 	LatCol     string   // optional position column of mobile sites
 	LonCol     string   // optional position column of mobile sites
-	Channels   []string // wide layout: keep only these channels (all when empty)
+	Channels   []string // keep only these channels (all when empty)
 	TimeUnit   string   // unit of integer epoch times: "s", "ms", "us" or "ns"
 
 	// Register, when set, is attached to the result: SiteData.Info is filled
 	// and sites missing from it are listed in Summary.Unregistered.
 	Register *Register
 }
+
+// Validate reports a usage problem in the options: an empty site or time
+// column name, an unknown time unit, one name given to two roles, a lat
+// column without a lon column or the reverse, an empty or repeated channel
+// name. The error matches ErrUsage. ChannelCol, ValueCol, LatCol and LonCol
+// may be empty: no such column.
+func (o Options) Validate() error {
+	if o.SiteCol == "" {
+		return usagef("the site column name is empty")
+	}
+	if o.TimeCol == "" {
+		return usagef("the time column name is empty")
+	}
+	if _, ok := unitNanos(o.TimeUnit); !ok {
+		return usagef("unknown time unit %q (want s, ms, us or ns)", o.TimeUnit)
+	}
+	if (o.LatCol == "") != (o.LonCol == "") {
+		return usagef("give both a lat and a lon column name, or neither (lat %q, lon %q)", o.LatCol, o.LonCol)
+	}
+	roles := []struct{ role, name string }{
+		{"site", o.SiteCol}, {"time", o.TimeCol}, {"channel", o.ChannelCol},
+		{"value", o.ValueCol}, {"lat", o.LatCol}, {"lon", o.LonCol},
+	}
+	for i, a := range roles {
+		for _, b := range roles[i+1:] {
+			if a.name != "" && a.name == b.name {
+				return usagef("column %q is named as both the %s and the %s column", a.name, a.role, b.role)
+			}
+		}
+	}
+	for i, ch := range o.Channels {
+		if ch == "" {
+			return usagef("empty channel name in the channel list")
+		}
+		if slices.Contains(o.Channels[:i], ch) {
+			return usagef("channel %q is listed twice", ch)
+		}
+		for _, r := range roles {
+			if r.role != "channel" && r.role != "value" && ch == r.name {
+				return usagef("channel %q is the %s column", ch, r.role)
+			}
+		}
+	}
+	return nil
+}
+
+// unitNanos gives the length in nanoseconds of an Options.TimeUnit.
+func unitNanos(unit string) (int64, bool) {
+	switch unit {
+	case "s":
+		return 1e9, true
+	case "ms":
+		return 1e6, true
+	case "us":
+		return 1e3, true
+	case "ns":
+		return 1, true
+	}
+	return 0, false
+}
+
+// Reasons for dropping, the keys of Summary.Dropped. The first four count
+// rows (every reading of the row is lost), the others single readings.
+const (
+	DropNullSite    = "null site"
+	DropNullTime    = "null time"
+	DropTimeRange   = "time out of range"
+	DropNullChannel = "null channel"
+	DropNullValue   = "null value"
+	DropNaN         = "NaN value"
+	DropInf         = "infinite value"
+)
 
 // DefaultOptions returns the column names the command uses by default.
 func DefaultOptions() Options {
@@ -133,9 +206,17 @@ func (r *Register) Lookup(id string) (*Site, bool) {
 	return s, ok
 }
 
-// RegisterOptions says which columns of a register mean what.
+// RegisterOptions says which columns of a register mean what. Empty names
+// stand for the defaults of DefaultRegisterOptions.
 type RegisterOptions struct {
-	Key    string // site id column
-	LatCol string
+	Key    string // site id column (GeoJSON: property, else the feature id)
+	LatCol string // ignored for GeoJSON, where the Point geometry gives the position
 	LonCol string
+}
+
+// DefaultRegisterOptions returns the register column names the command uses
+// by default: the default site, lat and lon columns of DefaultOptions.
+func DefaultRegisterOptions() RegisterOptions {
+	o := DefaultOptions()
+	return RegisterOptions{Key: o.SiteCol, LatCol: o.LatCol, LonCol: o.LonCol}
 }

@@ -1,0 +1,68 @@
+package ingest
+
+import (
+	"bytes"
+	"unicode/utf8"
+)
+
+// File formats, as DetectFormat names them and FileSummary.Format reports
+// them.
+const (
+	FormatParquet     = "parquet"
+	FormatArrowFile   = "arrow-file"
+	FormatArrowStream = "arrow-stream"
+	FormatCSV         = "csv"
+	FormatGeoJSON     = "geojson"
+	FormatGzip        = "gzip" // the content is another format, compressed
+)
+
+// headSize is how much of a file DetectFormat is given.
+const headSize = 4096
+
+var utf8BOM = []byte("\xef\xbb\xbf")
+
+// DetectFormat names the format of a file from its first bytes (a few
+// kilobytes are best: text formats are told apart by their content). It
+// returns "" for an empty head and for binary data of no known format.
+//
+// Magic bytes: "PAR1" (Parquet), "ARROW1" (Arrow IPC file), the
+// continuation marker 0xFFFFFFFF (Arrow IPC stream), 0x1F 0x8B (gzip).
+// Other content that is UTF-8 text is GeoJSON when it starts with '{',
+// otherwise CSV.
+func DetectFormat(head []byte) string {
+	switch {
+	case bytes.HasPrefix(head, []byte("PAR1")):
+		return FormatParquet
+	case bytes.HasPrefix(head, []byte("ARROW1")):
+		return FormatArrowFile
+	case bytes.HasPrefix(head, []byte{0xff, 0xff, 0xff, 0xff}):
+		return FormatArrowStream
+	case bytes.HasPrefix(head, []byte{0x1f, 0x8b}):
+		return FormatGzip
+	}
+	text := bytes.TrimPrefix(head, utf8BOM)
+	trimmed := bytes.TrimLeft(text, " \t\r\n")
+	if len(trimmed) == 0 || !isText(text) {
+		return ""
+	}
+	if trimmed[0] == '{' {
+		return FormatGeoJSON
+	}
+	return FormatCSV
+}
+
+// isText reports whether b is UTF-8 without control characters other than
+// tab, CR and LF. A rune cut off at the end of b does not count against it.
+func isText(b []byte) bool {
+	for len(b) > 0 {
+		r, size := utf8.DecodeRune(b)
+		if r == utf8.RuneError && size <= 1 {
+			return !utf8.FullRune(b)
+		}
+		if r < 0x20 && r != '\t' && r != '\r' && r != '\n' || r == 0x7f {
+			return false
+		}
+		b = b[size:]
+	}
+	return true
+}

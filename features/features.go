@@ -89,22 +89,22 @@ import (
 // Config says how windows are cut and which features are computed. It is
 // recorded in the model so that a later dump is cut the same way.
 type Config struct {
-	Window time.Duration // window length on the wall clock; must be positive
+	Window time.Duration `json:"window_ns"` // window length on the wall clock; must be positive
 
 	// Stride is the distance between window starts; 0 means Window. A stride
 	// shorter than the window gives overlapping windows; a longer one leaves
 	// the readings between windows unused.
-	Stride time.Duration
+	Stride time.Duration `json:"stride_ns"`
 
-	TZ          string  // IANA zone the windows are aligned to at midnight; "" means UTC
-	MinCoverage float64 // minimum share of expected readings, in [0, 1]; 0 disables the rule
+	TZ          string  `json:"tz"`           // IANA zone the windows are aligned to at midnight; "" means UTC
+	MinCoverage float64 `json:"min_coverage"` // minimum share of expected readings, in [0, 1]; 0 disables the rule
 
 	// Features is "basic", "full" or a comma-separated list of set names,
 	// stat names and feature names (see the package documentation).
-	Features string
+	Features string `json:"features"`
 
-	Pairs   bool // add the Pearson correlation of each channel pair
-	Workers int  // parallelism; 0 means all cores (not recorded as a result-changing setting)
+	Pairs   bool `json:"pairs"` // add the Pearson correlation of each channel pair
+	Workers int  `json:"-"`     // parallelism; 0 means all cores (not recorded as a result-changing setting)
 }
 
 // DefaultConfig returns the command's defaults: 24 h windows aligned to
@@ -137,10 +137,10 @@ type Skips map[string]int
 // Scaler is a per-feature normalisation fitted on the training windows and
 // stored with the model, so that a later dump is scaled the same way.
 type Scaler struct {
-	Method  string    // "zscore" or "robust"
-	Names   []string  // features kept, in Table.Names order
-	Center  []float64 // mean or median
-	Scale   []float64 // standard deviation or interquartile range
-	Weight  []float64 // per-feature weight applied after scaling
-	Dropped []string  // zero-variance features left out
+	Method  string    `json:"method"`  // "zscore" or "robust"
+	Names   []string  `json:"names"`   // features kept, in Table.Names order
+	Center  []float64 `json:"center"`  // mean or median
+	Scale   []float64 `json:"scale"`   // standard deviation or interquartile range
+	Weight  []float64 `json:"weight"`  // per-feature weight applied after scaling
+	Dropped []string  `json:"dropped"` // zero-variance features left out
 }

@@ -15,18 +15,18 @@ import (
 // Options says which columns of a dump mean what. The zero value is not
 // useful; start from DefaultOptions.
 type Options struct {
-	SiteCol    string   // site id column (strings or integers)
-	TimeCol    string   // time column
-	ChannelCol string   // long layout: channel name column
-	ValueCol   string   // long layout: value column
-	LatCol     string   // optional position column of mobile sites
-	LonCol     string   // optional position column of mobile sites
-	Channels   []string // keep only these channels (all when empty)
-	TimeUnit   string   // unit of integer epoch times: "s", "ms", "us" or "ns"
+	SiteCol    string   `json:"site_col"`           // site id column (strings or integers)
+	TimeCol    string   `json:"time_col"`           // time column
+	ChannelCol string   `json:"channel_col"`        // long layout: channel name column
+	ValueCol   string   `json:"value_col"`          // long layout: value column
+	LatCol     string   `json:"lat_col"`            // optional position column of mobile sites
+	LonCol     string   `json:"lon_col"`            // optional position column of mobile sites
+	Channels   []string `json:"channels,omitempty"` // keep only these channels (all when empty)
+	TimeUnit   string   `json:"time_unit"`          // unit of integer epoch times: "s", "ms", "us" or "ns"
 
 	// Register, when set, is attached to the result: SiteData.Info is filled
 	// and sites missing from it are listed in Summary.Unregistered.
-	Register *Register
+	Register *Register `json:"-"`
 }
 
 // Validate reports a usage problem in the options: an empty site or time
@@ -168,9 +168,9 @@ type Summary struct {
 
 // FileSummary describes one file read.
 type FileSummary struct {
-	Path   string
-	Format string // "parquet", "arrow-file", "arrow-stream", "csv"
-	Rows   int64
+	Path   string `json:"path"`
+	Format string `json:"format"` // "parquet", "arrow-file", "arrow-stream", "csv"
+	Rows   int64  `json:"rows"`
 }
 
 // Site is one entry of a site register.
@@ -209,9 +209,9 @@ func (r *Register) Lookup(id string) (*Site, bool) {
 // RegisterOptions says which columns of a register mean what. Empty names
 // stand for the defaults of DefaultRegisterOptions.
 type RegisterOptions struct {
-	Key    string // site id column (GeoJSON: property, else the feature id)
-	LatCol string // ignored for GeoJSON, where the Point geometry gives the position
-	LonCol string
+	Key    string `json:"key"`     // site id column (GeoJSON: property, else the feature id)
+	LatCol string `json:"lat_col"` // ignored for GeoJSON, where the Point geometry gives the position
+	LonCol string `json:"lon_col"`
 }
 
 // DefaultRegisterOptions returns the register column names the command uses

@@ -30,20 +30,21 @@ type Lattice struct {
 // Config holds the training settings. It is recorded in the model. Zero
 // fields mean the defaults of WithDefaults.
 type Config struct {
-	Cols, Rows int     // grid size; 0 means the default from the data size
-	Hex        bool    // hexagonal lattice
-	Flat       bool    // flat sheet instead of a torus
-	Rule       string  // "batch" (default) or "online"
-	Epochs     int     // passes over the data
-	Sigma0     float64 // initial neighbourhood width in lattice units; 0 means a default from the grid size
-	SigmaEnd   float64 // final neighbourhood width
-	Eta0       float64 // online rule: initial learning rate in (0, 1]
-	EtaEnd     float64 // online rule: final learning rate
-	Init       string  // "pca" (default) or "random"
-	Seed       int64
-	Regimes    int                         // number of regimes; 0 chooses by the Davies–Bouldin index over 2..12
-	Workers    int                         // parallelism; 0 means all cores
-	Progress   func(epoch int, qe float64) `json:"-"` // called after each epoch when set
+	Cols     int                         `json:"cols"` // grid size; 0 means the default from the data size
+	Rows     int                         `json:"rows"`
+	Hex      bool                        `json:"hex"`       // hexagonal lattice
+	Flat     bool                        `json:"flat"`      // flat sheet instead of a torus
+	Rule     string                      `json:"rule"`      // "batch" (default) or "online"
+	Epochs   int                         `json:"epochs"`    // passes over the data
+	Sigma0   float64                     `json:"sigma0"`    // initial neighbourhood width in lattice units; 0 means a default from the grid size
+	SigmaEnd float64                     `json:"sigma_end"` // final neighbourhood width
+	Eta0     float64                     `json:"eta0"`      // online rule: initial learning rate in (0, 1]
+	EtaEnd   float64                     `json:"eta_end"`   // online rule: final learning rate
+	Init     string                      `json:"init"`      // "pca" (default) or "random"
+	Seed     int64                       `json:"seed"`
+	Regimes  int                         `json:"regimes"` // number of regimes; 0 chooses by the Davies–Bouldin index over 2..12
+	Workers  int                         `json:"-"`       // parallelism; 0 means all cores
+	Progress func(epoch int, qe float64) `json:"-"`       // called after each epoch when set
 }
 
 // Map is a trained self-organising map.
@@ -62,10 +63,10 @@ type Assignment struct {
 
 // Quality summarises how well a map fits its training data.
 type Quality struct {
-	QE       float64  // mean quantization error
-	TE       float64  // topographic error: share of windows whose first and second BMU are not lattice neighbours
-	Unused   float64  // share of units that win no window
-	Warnings []string // for example a high unused share
+	QE       float64  `json:"qe"`       // mean quantization error
+	TE       float64  `json:"te"`       // topographic error: share of windows whose first and second BMU are not lattice neighbours
+	Unused   float64  `json:"unused"`   // share of units that win no window
+	Warnings []string `json:"warnings"` // for example a high unused share
 }
 
 // Regime is a connected group of units on the lattice.

@@ -47,18 +47,18 @@ type Config struct {
 	// typical residual of a training window; a lasting switch only needs the
 	// windows after it to fit the new regime better by one SwitchCost in
 	// total.
-	SwitchCost float64
+	SwitchCost float64 `json:"switch_cost"`
 
 	// MinDwell is the least number of windows a site spends in a regime on
 	// each side of a switch; the decoding is the cheapest among the state
 	// sequences that obey it, so a shorter stay is absorbed by a neighbouring
 	// segment. A site whose windows all fit in one segment may have fewer.
 	// Zero means 2; 1 disables the rule.
-	MinDwell int
+	MinDwell int `json:"min_dwell"`
 
 	// UnfamiliarQ is the quantile of the training windows' quantization
 	// errors above which a window is unfamiliar. Zero means 0.99.
-	UnfamiliarQ float64
+	UnfamiliarQ float64 `json:"unfamiliar_q"`
 }
 
 // DefaultConfig returns the defaults: an automatic switch cost, a dwell of

@@ -1,0 +1,167 @@
+package main
+
+import (
+	"bytes"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+
+	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/scenarios"
+)
+
+// invoke runs the command with args and returns its exit status and output.
+func invoke(args ...string) (code int, stdout, stderr string) {
+	var out, errs bytes.Buffer
+	code = run(args, &out, &errs)
+	return code, out.String(), errs.String()
+}
+
+func TestUsageErrors(t *testing.T) {
+	dump := filepath.Join(t.TempDir(), "dump.csv")
+	if err := os.WriteFile(dump, []byte("site,time,channel,value\na,2026-01-01T00:00:00Z,flow,1\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	tests := []struct {
+		name string
+		args []string
+		want string // in stderr
+	}{
+		{"no command", nil, "Commands:"},
+		{"unknown command", []string{"crunch"}, `unknown command "crunch"`},
+		{"unknown flag", []string{"run", "--colour", "red"}, "colour"},
+		{"no output folder", []string{"run", "--data", dump}, "--out DIR"},
+		{"no dump", []string{"run", "--out", t.TempDir()}, "--data"},
+		{"bad time unit", []string{"run", "--data", dump, "--out", t.TempDir(), "--time-unit", "fortnight"}, "fortnight"},
+		{"bad grid", []string{"run", "--data", dump, "--out", t.TempDir(), "--grid", "30by20"}, "COLSxROWS"},
+		{"bad window", []string{"run", "--data", dump, "--out", t.TempDir(), "--window", "a while"}, "a while"},
+		{"bad scaling", []string{"run", "--data", dump, "--out", t.TempDir(), "--scale", "minmax"}, "minmax"},
+		{"assign without model", []string{"assign", "--data", dump, "--out", t.TempDir()}, "--model FILE"},
+		{"unknown scenario", []string{"scenario", "volcano", "--out", t.TempDir()}, "volcano"},
+		{"demo with arguments", []string{"demo", "extra"}, "no arguments"},
+		{"pattern matching nothing", []string{"run", "--data", filepath.Join(t.TempDir(), "missing-*.parquet"), "--out", t.TempDir()}, "matches no file"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			code, _, stderr := invoke(tt.args...)
+			if code != exitUsage {
+				t.Errorf("exit status %d, want %d (usage); stderr:\n%s", code, exitUsage, stderr)
+			}
+			if !strings.Contains(stderr, tt.want) {
+				t.Errorf("stderr does not name %q:\n%s", tt.want, stderr)
+			}
+		})
+	}
+}
+
+func TestDataErrors(t *testing.T) {
+	dir := t.TempDir()
+	notParquet := filepath.Join(dir, "dump.parquet")
+	if err := os.WriteFile(notParquet, []byte("PAR1 and then nothing"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, args := range [][]string{
+		{"run", "--data", notParquet, "--out", filepath.Join(dir, "out")},
+		{"assign", "--model", notParquet, "--data", notParquet, "--out", filepath.Join(dir, "out")},
+	} {
+		code, _, stderr := invoke(args...)
+		if code != exitData {
+			t.Errorf("%v: exit status %d, want %d (data error); stderr:\n%s", args, code, exitData, stderr)
+		}
+		if lines := strings.Count(strings.TrimSpace(stderr), "\n"); lines != 0 {
+			t.Errorf("%v: error takes %d lines, want one:\n%s", args, lines+1, stderr)
+		}
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out")); err == nil {
+		t.Error("a failed run created its output folder")
+	}
+}
+
+// Every command documents every option with its default and an example.
+func TestHelp(t *testing.T) {
+	code, stdout, _ := invoke("help")
+	if code != exitOK {
+		t.Fatalf("help: exit status %d", code)
+	}
+	for _, c := range commands() {
+		if !strings.Contains(stdout, c.name) {
+			t.Errorf("help does not list %s", c.name)
+		}
+		if c.run == nil {
+			continue
+		}
+		code, out, _ := invoke(c.name, "-h")
+		if code != exitOK {
+			t.Errorf("%s -h: exit status %d", c.name, code)
+		}
+		for _, want := range []string{"Usage:", c.usage, "Example:", c.example} {
+			if !strings.Contains(out, want) {
+				t.Errorf("%s -h lacks %q:\n%s", c.name, want, out)
+			}
+		}
+		if code2, out2, _ := invoke("help", c.name); code2 != exitOK || out2 != out {
+			t.Errorf("help %s differs from %s -h", c.name, c.name)
+		}
+	}
+	_, out, _ := invoke("run", "-h")
+	for _, want := range []string{"--site-col COLUMN", "(default site)", "--window LENGTH", "(default 1d)", "--min-coverage SHARE", "(default 0.6)", "--lattice SHAPE", "(default hex)", "--unfamiliar-q QUANTILE", "(default 0.99)"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("run -h lacks %q", want)
+		}
+	}
+}
+
+func TestSpreadMulti(t *testing.T) {
+	got := spreadMulti([]string{"--data", "a", "b", "--out", "o", "-data", "c", "--data=d", "--data"}, "data")
+	want := []string{"--data=a", "--data=b", "--out", "o", "--data=c", "--data=d", "--data"}
+	if !slices.Equal(got, want) {
+		t.Errorf("spreadMulti = %q, want %q", got, want)
+	}
+}
+
+// A new user's path: write a scenario, map it, apply the model to the same
+// dump, then update it, each writing all outputs.
+func TestScenarioRunAssignUpdate(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end run")
+	}
+	dir := t.TempDir()
+	data := filepath.Join(dir, "fleet")
+	code, stdout, stderr := invoke("scenario", "pumping", "--out", data, "--sites", "40", "--weeks", "2", "--seed", "7")
+	if code != exitOK {
+		t.Fatalf("scenario: exit status %d:\n%s", code, stderr)
+	}
+	if n := strings.Count(stdout, "\n"); n != len(scenarios.FileNames()) {
+		t.Errorf("scenario listed %d files, want %d:\n%s", n, len(scenarios.FileNames()), stdout)
+	}
+	dump := filepath.Join(data, scenarios.FileLongParquet)
+	register := filepath.Join(data, scenarios.FileSites)
+	first := filepath.Join(dir, "week1")
+	history := filepath.Join(dir, "history")
+	steps := [][]string{
+		{"run", "--data", dump, "--sites", register, "--out", first, "--history", history, "--quiet"},
+		{"assign", "--model", filepath.Join(first, export.ModelFile), "--data", dump, "--sites", register, "--out", filepath.Join(dir, "assigned"), "--history", history},
+		{"update", "--model", filepath.Join(first, export.ModelFile), "--data", dump, "--out", filepath.Join(dir, "updated"), "--epochs", "3"},
+	}
+	for _, args := range steps {
+		code, stdout, stderr := invoke(args...)
+		if code != exitOK {
+			t.Fatalf("%s: exit status %d:\n%s", args[0], code, stderr)
+		}
+		out := args[slices.Index(args, "--out")+1]
+		if !strings.Contains(stdout, filepath.Join(out, export.ReportFile)) {
+			t.Errorf("%s does not say where the report is:\n%s", args[0], stdout)
+		}
+		for _, name := range []string{export.SitesFile, export.RegimesFile, export.TimelineParquetFile, export.TimelineCSVFile, export.SwitchesCSVFile, export.SwitchesParquetFile, export.FeaturesFile, export.ModelFile, export.RunFile, export.ReportFile} {
+			if _, err := os.Stat(filepath.Join(out, name)); err != nil {
+				t.Errorf("%s: %v", args[0], err)
+			}
+		}
+	}
+	periods, err := os.ReadDir(history)
+	if err != nil || len(periods) != 1 {
+		t.Errorf("history holds %d periods (%v), want 1: the same dump twice replaces its period", len(periods), err)
+	}
+}

@@ -1,0 +1,207 @@
+// Package kinmap maps the behaviour of sensor fleets. It wires the stages of
+// the pipeline: ingest reads the dumps, features cuts each site's series into
+// windows and computes their features, mapper trains a self-organising map on
+// a torus and groups its units into regimes, timeline decodes each site's
+// windows into regime segments and switch events, and export writes GeoJSON,
+// timelines, pictures and a report.
+//
+// kinmap is an analysis aid, not a protective or control function.
+package kinmap
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"path/filepath"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+// Version is the version of kinmap recorded in run.json.
+const Version = "0.1.0"
+
+// Options configures a run of the pipeline.
+type Options struct {
+	Data     []string // dump files or glob patterns
+	Sites    string   // site register file; "" for none
+	Ingest   ingest.Options
+	Register ingest.RegisterOptions
+	Features features.Config
+	Scaling  string             // "zscore" or "robust"
+	Weights  map[string]float64 // per-feature weights; nil for all 1
+	Map      mapper.Config
+	Timeline timeline.Config
+	History  string    // folder of earlier timelines; "" for none
+	Log      io.Writer // progress messages; nil for none
+}
+
+// DefaultOptions returns the defaults of the command.
+func DefaultOptions() Options {
+	in := ingest.DefaultOptions()
+	return Options{
+		Ingest:   in,
+		Register: ingest.RegisterOptions{Key: in.SiteCol, LatCol: in.LatCol, LonCol: in.LonCol},
+		Features: features.DefaultConfig(),
+		Scaling:  "zscore",
+		Map:      mapper.Config{Hex: true},
+		Timeline: timeline.DefaultConfig(),
+	}
+}
+
+// UsageError is an error in the options of a run, as opposed to an error in
+// the data. The command exits with status 2 for it.
+type UsageError struct{ Err error }
+
+func (e *UsageError) Error() string { return e.Err.Error() }
+func (e *UsageError) Unwrap() error { return e.Err }
+
+func usage(format string, a ...any) error { return &UsageError{fmt.Errorf(format, a...)} }
+
+// IsUsage reports whether err is a usage error: one in the options rather
+// than the data.
+func IsUsage(err error) bool {
+	var u *UsageError
+	return errors.As(err, &u) || errors.Is(err, ingest.ErrUsage)
+}
+
+// Result is the outcome of a run: what was read, the feature table, the
+// model, where each window landed and the decoded timelines.
+type Result struct {
+	Ingest      ingest.Summary
+	Register    *ingest.Register
+	Table       *features.Table
+	X           *mat.Dense // scaled features, one row per window of Table
+	Model       *mapper.Model
+	Assignments []mapper.Assignment
+	Entries     []timeline.Entry
+	Switches    []timeline.Switch
+	Changes     []mapper.RegimeChange // regime renumbering by Update
+	Info        RunInfo
+}
+
+// RunInfo is the machine-readable summary of a run, written as run.json.
+type RunInfo struct {
+	Tool     string               `json:"tool"`
+	Version  string               `json:"version"`
+	Command  string               `json:"command"`
+	Started  time.Time            `json:"started"`
+	Finished time.Time            `json:"finished"`
+	Inputs   []ingest.FileSummary `json:"inputs"`
+	Register string               `json:"register,omitempty"`
+	Model    string               `json:"model,omitempty"`
+	Options  OptionsRecord        `json:"options"`
+	Counts   Counts               `json:"counts"`
+	Quality  mapper.Quality       `json:"quality"`
+	Timings  map[string]float64   `json:"timings_seconds"`
+	Warnings []string             `json:"warnings"`
+}
+
+// Counts are the sizes of a run.
+type Counts struct {
+	Rows           int64 `json:"rows"`
+	Readings       int64 `json:"readings"`
+	Dropped        int64 `json:"readings_dropped"`
+	Duplicates     int64 `json:"duplicates"`
+	Sites          int   `json:"sites"`
+	Channels       int   `json:"channels"`
+	Windows        int   `json:"windows"`
+	SkippedWindows int   `json:"windows_skipped"`
+	Features       int   `json:"features"`
+	Units          int   `json:"units"`
+	Regimes        int   `json:"regimes"`
+	Switches       int   `json:"switches"`
+	Unfamiliar     int   `json:"unfamiliar_windows"`
+}
+
+// OptionsRecord is the part of Options that run.json records.
+type OptionsRecord struct {
+	Ingest   ingest.Options         `json:"ingest"`
+	Register ingest.RegisterOptions `json:"register"`
+	Features features.Config        `json:"features"`
+	Scaling  string                 `json:"scaling"`
+	Weights  map[string]float64     `json:"weights,omitempty"`
+	Map      mapper.Config          `json:"map"`
+	Timeline timeline.Config        `json:"timeline"`
+	History  string                 `json:"history,omitempty"`
+}
+
+// Validate reports the first usage error in the options.
+func (o *Options) Validate() error {
+	if len(o.Data) == 0 {
+		return usage("kinmap: no dump given: name one or more files with --data")
+	}
+	if err := o.Ingest.Validate(); err != nil {
+		return err
+	}
+	if o.Scaling != "zscore" && o.Scaling != "robust" {
+		return usage("kinmap: scaling %q: want zscore or robust", o.Scaling)
+	}
+	return nil
+}
+
+// Write writes every output file of the run into dir. Files are staged and
+// renamed into place only when all were written, so a failed write leaves the
+// outputs of an earlier run as they were.
+func (r *Result) Write(dir string) error {
+	return export.Write(dir, &export.Run{
+		Model:       r.Model,
+		Table:       r.Table,
+		Assignments: r.Assignments,
+		Entries:     r.Entries,
+		Switches:    r.Switches,
+		Register:    r.Register,
+		Summary:     &r.Ingest,
+		Changes:     r.Changes,
+		Info:        r.Info,
+		Warnings:    r.Info.Warnings,
+	})
+}
+
+// stopwatch records the duration of named steps.
+type stopwatch struct {
+	last  time.Time
+	times map[string]float64
+}
+
+func newStopwatch() *stopwatch { return &stopwatch{last: time.Now(), times: map[string]float64{}} }
+
+func (s *stopwatch) lap(name string) {
+	now := time.Now()
+	s.times[name] += now.Sub(s.last).Seconds()
+	s.last = now
+}
+
+// logf writes a progress message when a log is set.
+func (o *Options) logf(format string, a ...any) {
+	if o.Log != nil {
+		fmt.Fprintf(o.Log, format+"\n", a...)
+	}
+}
+
+// readInput reads the register and the dumps.
+func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
+	if o.Sites != "" {
+		reg, err := ingest.ReadRegister(o.Sites, o.Register)
+		if err != nil {
+			return nil, err
+		}
+		res.Register = reg
+		o.Ingest.Register = reg
+		o.logf("register: %d sites from %s", len(reg.Sites), filepath.Base(o.Sites))
+	}
+	o.logf("reading %d input(s)", len(o.Data))
+	ds, err := ingest.Read(o.Data, o.Ingest)
+	if err != nil {
+		return nil, err
+	}
+	res.Ingest = ds.Summary
+	o.logf("%s", ds.Summary.String())
+	return ds, nil
+}

@@ -1,0 +1,260 @@
+package kinmap
+
+import (
+	"fmt"
+	"maps"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+// Train runs the whole pipeline on the dumps of o: it reads them, computes
+// the window features, fits the normalisation, trains a new map, finds its
+// regimes and decodes every site's timeline.
+func Train(o Options) (*Result, error) {
+	if err := o.Validate(); err != nil {
+		return nil, err
+	}
+	res, sw := start("run", &o)
+	ds, err := readInput(&o, res)
+	if err != nil {
+		return nil, err
+	}
+	sw.lap("read")
+	if err := extract(&o, res, ds, o.Features); err != nil {
+		return nil, err
+	}
+	sw.lap("features")
+
+	sc, err := features.FitScaler(res.Table, o.Scaling, o.Weights)
+	if err != nil {
+		return nil, err
+	}
+	for _, name := range sc.Dropped {
+		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("feature %s has no variance in the training windows and is left out", name))
+	}
+	if res.X, err = sc.Transform(res.Table); err != nil {
+		return nil, err
+	}
+	mc := o.Map
+	mc.Progress = progress(&o)
+	o.logf("training on %d windows × %d features", res.X.RawMatrix().Rows, len(sc.Names))
+	model, asg, err := mapper.Fit(res.X, sc.Names, mc)
+	if err != nil {
+		return nil, err
+	}
+	model.FeatureNames = res.Table.Names
+	model.FeatureConfig = res.Table.Config
+	model.Scaler = sc
+	res.Model, res.Assignments = model, asg
+	sw.lap("train")
+
+	if err := decode(&o, res); err != nil {
+		return nil, err
+	}
+	sw.lap("decode")
+	finish(res, sw)
+	return res, nil
+}
+
+// Assign maps the dumps of o onto an existing model without training: the
+// same windows and features, the same normalisation, the same lattice and
+// the same regime numbers.
+func Assign(o Options, m *mapper.Model) (*Result, error) {
+	if err := o.Validate(); err != nil {
+		return nil, err
+	}
+	res, sw := start("assign", &o)
+	if err := project(&o, res, m, sw); err != nil {
+		return nil, err
+	}
+	res.Model = m
+	res.Assignments = m.Map.Assign(res.X, o.Map.Workers)
+	sw.lap("assign")
+	if err := decode(&o, res); err != nil {
+		return nil, err
+	}
+	sw.lap("decode")
+	finish(res, sw)
+	return res, nil
+}
+
+// Update continues training an existing model on the dumps of o with a
+// small neighbourhood, derives the regimes again and matches them to the
+// model's regimes (Hungarian algorithm on centroid distances), so that a
+// regime keeps its number; Result.Changes lists every renumbering, new
+// regime, split and merge. The number of regimes stays that of the model
+// unless o.Map.Regimes sets another. The feature schema and the normalisation stay
+// those of the model.
+func Update(o Options, prev *mapper.Model) (*Result, error) {
+	if err := o.Validate(); err != nil {
+		return nil, err
+	}
+	res, sw := start("update", &o)
+	if err := project(&o, res, prev, sw); err != nil {
+		return nil, err
+	}
+	mc := o.Map
+	mc.Rule, mc.Init = prev.Training.Rule, prev.Training.Init
+	if mc.Regimes == 0 {
+		// The number of regimes stays unless asked otherwise: choosing it
+		// afresh on every dump would make numbers come and go with noise.
+		mc.Regimes = len(prev.Regimes)
+	}
+	mc.Progress = progress(&o)
+	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, mc)
+	if err != nil {
+		return nil, err
+	}
+	res.Model, res.Assignments, res.Changes = model, asg, changes
+	sw.lap("train")
+	if err := decode(&o, res); err != nil {
+		return nil, err
+	}
+	sw.lap("decode")
+	finish(res, sw)
+	return res, nil
+}
+
+// progress returns the per-epoch progress report of o, or nil.
+func progress(o *Options) func(int, float64) {
+	if o.Map.Progress != nil || o.Log == nil {
+		return o.Map.Progress
+	}
+	return func(epoch int, qe float64) { o.logf("epoch %d: quantization error %.4f", epoch, qe) }
+}
+
+// project reads the dumps and turns them into the model's scaled feature
+// space.
+func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
+	ds, err := readInput(o, res)
+	if err != nil {
+		return err
+	}
+	sw.lap("read")
+	fc := m.FeatureConfig
+	fc.Workers = o.Features.Workers
+	if err := extract(o, res, ds, fc); err != nil {
+		return err
+	}
+	if err := m.CheckSchema(res.Table.Names); err != nil {
+		return err
+	}
+	if res.X, err = m.Scaler.Transform(res.Table); err != nil {
+		return err
+	}
+	sw.lap("features")
+	return nil
+}
+
+func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) error {
+	t, err := features.Extract(ds, fc)
+	if err != nil {
+		return err
+	}
+	if len(t.Windows) == 0 {
+		return fmt.Errorf("kinmap: no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", skipReasons(t))
+	}
+	res.Table = t
+	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))
+	return nil
+}
+
+func decode(o *Options, res *Result) error {
+	var priors map[string]timeline.Prior
+	if o.History != "" {
+		var err error
+		if priors, err = historyPriors(o.History, res.Table); err != nil {
+			return err
+		}
+		o.logf("history: %d sites continue from earlier dumps", len(priors))
+	}
+	var err error
+	res.Entries, res.Switches, err = timeline.BuildFrom(res.Model, res.Table, res.X, res.Assignments, o.Timeline, priors)
+	if err != nil {
+		return err
+	}
+	o.logf("timelines: %d switches", len(res.Switches))
+	return nil
+}
+
+func start(command string, o *Options) (*Result, *stopwatch) {
+	res := &Result{Info: RunInfo{
+		Tool:     "kinmap",
+		Version:  Version,
+		Command:  command,
+		Started:  time.Now().UTC(),
+		Register: o.Sites,
+		Options: OptionsRecord{
+			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
+			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History,
+		},
+	}}
+	return res, newStopwatch()
+}
+
+func finish(res *Result, sw *stopwatch) {
+	info := &res.Info
+	info.Finished = time.Now().UTC()
+	info.Timings = sw.times
+	info.Inputs = res.Ingest.Files
+	info.Quality = res.Model.Map.Quality(res.Assignments)
+	info.Warnings = append(info.Warnings, info.Quality.Warnings...)
+	var dropped int64
+	for _, n := range res.Ingest.Dropped {
+		dropped += n
+	}
+	unfamiliar := 0
+	for _, e := range res.Entries {
+		if e.Unfamiliar {
+			unfamiliar++
+		}
+	}
+	info.Counts = Counts{
+		Rows:           res.Ingest.Rows,
+		Readings:       res.Ingest.Readings,
+		Dropped:        dropped,
+		Duplicates:     res.Ingest.Duplicates,
+		Sites:          res.Ingest.Sites,
+		Channels:       len(res.Ingest.Channels),
+		Windows:        len(res.Table.Windows),
+		SkippedWindows: skipped(res.Table),
+		Features:       len(res.Model.Scaler.Names),
+		Units:          res.Model.Map.Units(),
+		Regimes:        len(res.Model.Regimes),
+		Switches:       len(res.Switches),
+		Unfamiliar:     unfamiliar,
+	}
+}
+
+func skipped(t *features.Table) int {
+	n := 0
+	for _, s := range t.Skipped {
+		for _, c := range s {
+			n += c
+		}
+	}
+	return n
+}
+
+func skipReasons(t *features.Table) string {
+	by := map[string]int{}
+	for _, s := range t.Skipped {
+		for r, c := range s {
+			by[r] += c
+		}
+	}
+	if len(by) == 0 {
+		return "no windows at all"
+	}
+	var parts []string
+	for _, r := range slices.Sorted(maps.Keys(by)) {
+		parts = append(parts, fmt.Sprintf("%d for %s", by[r], r))
+	}
+	return strings.Join(parts, ", ")
+}

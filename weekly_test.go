@@ -1,0 +1,226 @@
+package kinmap_test
+
+import (
+	"encoding/csv"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"testing"
+	"time"
+
+	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/scenarios"
+)
+
+// writeDump writes the readings of fleet in [from, to) as a long CSV dump,
+// with times moved by shift and values multiplied by 1 + noise·N(0, 1).
+func writeDump(t *testing.T, path string, fleet *scenarios.Fleet, from, to time.Time, shift time.Duration, noise float64, seed uint64) {
+	t.Helper()
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	w := csv.NewWriter(f)
+	w.Write([]string{"site", "time", "channel", "value"})
+	rng := rand.New(rand.NewPCG(seed, 1))
+	for _, s := range fleet.Sites {
+		r := s.Readings
+		for i, ns := range r.Times {
+			at := time.Unix(0, ns).UTC()
+			if at.Before(from) || !at.Before(to) {
+				continue
+			}
+			for c, ch := range fleet.Channels {
+				v := r.Values[c][i]
+				if math.IsNaN(v) {
+					continue
+				}
+				v *= 1 + noise*rng.NormFloat64()
+				w.Write([]string{s.ID, at.Add(shift).Format(time.RFC3339), ch.Name, strconv.FormatFloat(v, 'g', -1, 64)})
+			}
+		}
+	}
+	w.Flush()
+	if err := w.Error(); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func fleetT(t *testing.T, sites, weeks int) *scenarios.Fleet {
+	t.Helper()
+	spec, err := scenarios.DefaultSpec("pumping")
+	if err != nil {
+		t.Fatal(err)
+	}
+	spec.Sites, spec.Weeks = sites, weeks
+	fleet, err := scenarios.Generate(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return fleet
+}
+
+func options(data ...string) kinmap.Options {
+	o := kinmap.DefaultOptions()
+	o.Data = data
+	return o
+}
+
+// Assigning the training dump to its own model, read back from its file,
+// gives exactly the BMUs of training.
+func TestAssignTrainingDump(t *testing.T) {
+	fleet := fleetT(t, 30, 2)
+	dir := t.TempDir()
+	dump := filepath.Join(dir, "dump.csv")
+	writeDump(t, dump, fleet, fleet.WindowStart(0), fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+	trained, err := kinmap.Train(options(dump))
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(dir, "model")
+	if err := trained.Model.WriteFile(path); err != nil {
+		t.Fatal(err)
+	}
+	model, err := mapper.ReadModelFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	assigned, err := kinmap.Assign(options(dump), model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(assigned.Entries) != len(trained.Entries) {
+		t.Fatalf("%d windows assigned, %d trained", len(assigned.Entries), len(trained.Entries))
+	}
+	for i, e := range assigned.Entries {
+		if tr := trained.Entries[i]; e.Site != tr.Site || !e.Start.Equal(tr.Start) || e.BMU != tr.BMU || e.Regime != tr.Regime {
+			t.Fatalf("window %d: assigned %+v, trained %+v", i, e, tr)
+		}
+	}
+}
+
+// When week 2 is week 1 plus noise, updating the model with week 2 keeps
+// every regime's number: the regimes of the updated model are those of the
+// first, each nearest to the centroid of the regime with its own number.
+func TestUpdateKeepsRegimeNumbers(t *testing.T) {
+	fleet := fleetT(t, 60, 1)
+	dir := t.TempDir()
+	week1, week2 := filepath.Join(dir, "week1.csv"), filepath.Join(dir, "week2.csv")
+	from, to := fleet.WindowStart(0), fleet.WindowStart(7)
+	writeDump(t, week1, fleet, from, to, 0, 0, 1)
+	writeDump(t, week2, fleet, from, to, 7*24*time.Hour, 0.01, 2)
+	first, err := kinmap.Train(options(week1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	second, err := kinmap.Update(options(week2), first.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ids := func(m *mapper.Model) []int {
+		var out []int
+		for _, r := range m.Regimes {
+			out = append(out, r.ID)
+		}
+		slices.Sort(out)
+		return out
+	}
+	if a, b := ids(first.Model), ids(second.Model); !slices.Equal(a, b) {
+		t.Fatalf("regimes %v before the update, %v after; changes %+v", a, b, second.Changes)
+	}
+	for _, r := range second.Model.Regimes {
+		nearest, best := 0, math.Inf(1)
+		for _, p := range first.Model.Regimes {
+			if d := dist(r.Centroid, p.Centroid); d < best {
+				nearest, best = p.ID, d
+			}
+		}
+		if nearest != r.ID {
+			t.Errorf("updated regime %d lies nearest to regime %d of the first model", r.ID, nearest)
+		}
+	}
+	for _, c := range second.Changes {
+		if c.Kind != mapper.ChangeRenumbered {
+			t.Errorf("change %+v after an update on the same behaviour", c)
+		}
+	}
+}
+
+func dist(a, b []float64) float64 {
+	var s float64
+	for i := range a {
+		s += (a[i] - b[i]) * (a[i] - b[i])
+	}
+	return math.Sqrt(s)
+}
+
+// A switch planted at the boundary of two dumps is found once, at the right
+// window, when the second dump is decoded against the history of the first.
+func TestSwitchAcrossDumps(t *testing.T) {
+	fleet := fleetT(t, 120, 4)
+	var planted scenarios.Switch
+	for _, sw := range fleet.Switches() {
+		if sw.Window >= 10 && sw.Window <= fleet.Windows()-7 {
+			planted = sw
+			break
+		}
+	}
+	if planted.Site == "" {
+		t.Fatal("the scenario planted no switch away from its ends")
+	}
+	dir := t.TempDir()
+	before, after := filepath.Join(dir, "before.csv"), filepath.Join(dir, "after.csv")
+	writeDump(t, before, fleet, fleet.WindowStart(0), planted.Time, 0, 0, 1)
+	writeDump(t, after, fleet, planted.Time, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+	history := filepath.Join(dir, "history")
+
+	o := options(before)
+	o.History = history
+	first, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := first.AppendHistory(history); err != nil {
+		t.Fatal(err)
+	}
+	o = options(after)
+	o.History = history
+	var found []time.Time
+	for run := range 2 { // the same dump twice: its period is replaced, not doubled
+		second, err := kinmap.Assign(o, first.Model)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := second.AppendHistory(history); err != nil {
+			t.Fatal(err)
+		}
+		found = found[:0]
+		for _, sw := range second.Switches {
+			if sw.Site == planted.Site {
+				found = append(found, sw.Time)
+			}
+		}
+		if len(found) != 1 || !found[0].Equal(planted.Time) {
+			t.Errorf("run %d: switches of %s at %v, want one at %s", run, planted.Site, found, planted.Time.Format(time.DateOnly))
+		}
+	}
+	o.History = ""
+	alone, err := kinmap.Assign(o, first.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, sw := range alone.Switches {
+		if sw.Site == planted.Site && sw.Time.Equal(planted.Time) {
+			t.Errorf("without the history a switch at the first window was found: the test would not tell")
+		}
+	}
+	periods, _ := os.ReadDir(history)
+	if len(periods) != 2 {
+		t.Errorf("history holds %d periods, want 2", len(periods))
+	}
+}

@@ -50,7 +50,7 @@ func DefaultOptions() Options {
 		Register: ingest.RegisterOptions{Key: in.SiteCol, LatCol: in.LatCol, LonCol: in.LonCol},
 		Features: features.DefaultConfig(),
 		Scaling:  "zscore",
-		Map:      mapper.Config{Hex: true},
+		Map:      mapper.Config{Hex: true, Rule: "batch", Init: "pca", Eta0: 0.5},
 		Timeline: timeline.DefaultConfig(),
 	}
 }
@@ -142,6 +142,17 @@ func (o *Options) Validate() error {
 	}
 	if o.Scaling != "zscore" && o.Scaling != "robust" {
 		return usage("kinmap: scaling %q: want zscore or robust", o.Scaling)
+	}
+	if err := o.Features.Validate(); err != nil {
+		return &UsageError{err}
+	}
+	// The data size only sets defaults; a large one keeps the check from
+	// refusing a number of regimes that a default grid would hold.
+	if err := o.Map.WithDefaults(1_000_000, 1, 1).Validate(); err != nil {
+		return &UsageError{err}
+	}
+	if err := o.Timeline.Validate(); err != nil {
+		return &UsageError{err}
 	}
 	return nil
 }

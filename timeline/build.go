@@ -149,6 +149,20 @@ func startOf(m *mapper.Model, priors map[string]Prior, site string, switchCost f
 	return start{state: k, dwell: p.Windows}, initial
 }
 
+// Validate reports whether the settings can be used; zero fields are
+// defaults and valid.
+func (cfg Config) Validate() error {
+	switch {
+	case cfg.MinDwell < 0:
+		return fmt.Errorf("timeline: minimum dwell %d: must be at least 1 window", cfg.MinDwell)
+	case cfg.UnfamiliarQ != 0 && !(cfg.UnfamiliarQ > 0 && cfg.UnfamiliarQ <= 1):
+		return fmt.Errorf("timeline: unfamiliar quantile %g: must be in (0, 1]", cfg.UnfamiliarQ)
+	case cfg.SwitchCost < 0 || math.IsNaN(cfg.SwitchCost) || math.IsInf(cfg.SwitchCost, 0):
+		return fmt.Errorf("timeline: switch cost %g: must be a finite number ≥ 0", cfg.SwitchCost)
+	}
+	return nil
+}
+
 // resolve fills the defaults of cfg and checks it.
 func resolve(cfg Config, m *mapper.Model) (Config, error) {
 	def := DefaultConfig()
@@ -158,13 +172,8 @@ func resolve(cfg Config, m *mapper.Model) (Config, error) {
 	if cfg.UnfamiliarQ == 0 {
 		cfg.UnfamiliarQ = def.UnfamiliarQ
 	}
-	switch {
-	case cfg.MinDwell < 0:
-		return cfg, fmt.Errorf("timeline: minimum dwell %d: must be at least 1 window", cfg.MinDwell)
-	case !(cfg.UnfamiliarQ > 0 && cfg.UnfamiliarQ <= 1):
-		return cfg, fmt.Errorf("timeline: unfamiliar quantile %g: must be in (0, 1]", cfg.UnfamiliarQ)
-	case cfg.SwitchCost < 0 || math.IsNaN(cfg.SwitchCost) || math.IsInf(cfg.SwitchCost, 0):
-		return cfg, fmt.Errorf("timeline: switch cost %g: must be a finite number ≥ 0", cfg.SwitchCost)
+	if err := cfg.Validate(); err != nil {
+		return cfg, err
 	}
 	if len(m.QEQuantiles) == 0 {
 		return cfg, fmt.Errorf("timeline: the model holds no quantiles of its training quantization errors")

@@ -45,15 +45,15 @@ func featureFlags(f *flags, o *kinmap.Options) {
 func mapFlags(f *flags, o *kinmap.Options, training bool) {
 	f.section("Map")
 	if training {
-		f.value(gridValue{&o.Map.Cols, &o.Map.Rows}, "grid", "lattice `COLSxROWS` (default: about 5·√N units for N windows)")
+		f.value(gridValue{&o.Map.Cols, &o.Map.Rows}, "grid", "lattice `SIZE`, COLSxROWS such as 30x20 (default: about 5·√N units for N windows)")
 		shape := "hex"
 		f.value(choiceValue{&shape, []string{"hex", "rect"}}, "lattice", "unit `SHAPE`: hex (6 neighbours) or rect (4)")
 		f.after(func() { o.Map.Hex = shape == "hex" })
 		f.boolean(&o.Map.Flat, "sheet", false, "a flat sheet with edges instead of a torus")
 		f.value(choiceValue{&o.Map.Rule, []string{"batch", "online"}}, "rule", "training `RULE`: batch or online")
-		f.str(&o.Map.Init, "init", o.Map.Init, "`INIT`ialisation: pca or random")
+		f.value(choiceValue{&o.Map.Init, []string{"pca", "random"}}, "init", "initialisation `METHOD`: pca (first two principal components) or random (data samples)")
 		f.num(&o.Map.Eta0, "eta0", o.Map.Eta0, "online rule: initial learning `RATE` in (0, 1]")
-		f.integer(&o.Map.Regimes, "regimes", 0, "number of `K` regimes; 0 chooses by the Davies–Bouldin index over 2..12")
+		f.integer(&o.Map.Regimes, "regimes", 0, "number of regimes `K`; 0 chooses by the Davies–Bouldin index over 2..12")
 	}
 	f.integer(&o.Map.Epochs, "epochs", o.Map.Epochs, "training `EPOCHS`; 0 chooses from the data size")
 	f.num(&o.Map.Sigma0, "sigma0", o.Map.Sigma0, "initial neighbourhood `WIDTH` in lattice units; 0 chooses from the grid")

@@ -54,12 +54,7 @@ func Train(o Options) (*Result, error) {
 	res.Model, res.Assignments = model, asg
 	sw.lap("train")
 
-	if err := decode(&o, res); err != nil {
-		return nil, err
-	}
-	sw.lap("decode")
-	finish(res, sw)
-	return res, nil
+	return conclude(&o, res, sw)
 }
 
 // Assign maps the dumps of o onto an existing model without training: the
@@ -76,12 +71,7 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 	res.Model = m
 	res.Assignments = m.Map.Assign(res.X, o.Map.Workers)
 	sw.lap("assign")
-	if err := decode(&o, res); err != nil {
-		return nil, err
-	}
-	sw.lap("decode")
-	finish(res, sw)
-	return res, nil
+	return conclude(&o, res, sw)
 }
 
 // Update continues training an existing model on the dumps of o with a
@@ -113,12 +103,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	}
 	res.Model, res.Assignments, res.Changes = model, asg, changes
 	sw.lap("train")
-	if err := decode(&o, res); err != nil {
-		return nil, err
-	}
-	sw.lap("decode")
-	finish(res, sw)
-	return res, nil
+	return conclude(&o, res, sw)
 }
 
 // progress returns the per-epoch progress report of o, or nil.
@@ -163,6 +148,17 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 	res.Table = t
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))
 	return nil
+}
+
+// conclude decodes the timelines of a run whose windows are placed on the
+// map and completes its summary.
+func conclude(o *Options, res *Result, sw *stopwatch) (*Result, error) {
+	if err := decode(o, res); err != nil {
+		return nil, err
+	}
+	sw.lap("decode")
+	finish(res, sw)
+	return res, nil
 }
 
 func decode(o *Options, res *Result) error {

@@ -6,6 +6,8 @@ import (
 	"time"
 
 	"gonum.org/v1/gonum/dsp/fourier"
+
+	"github.com/kinmap/kinmap/internal/selection"
 )
 
 const (
@@ -127,7 +129,7 @@ func quantiles(x []float64) (p05, p50, p95 float64) {
 		return int(h), h - float64(int(h))
 	}
 	mid, f := pos(0.5)
-	selectK(x, mid)
+	selection.Nth(x, mid)
 	next50 := x[mid]
 	if mid+1 < n {
 		next50 = slices.Min(x[mid+1:])
@@ -137,7 +139,7 @@ func quantiles(x []float64) (p05, p50, p95 float64) {
 	i, f := pos(0.05)
 	v, next := x[mid], next50
 	if i < mid {
-		selectK(x[:mid], i)
+		selection.Nth(x[:mid], i)
 		v, next = x[i], slices.Min(x[i+1:mid+1])
 	}
 	p05 = v + f*(next-v)
@@ -145,7 +147,7 @@ func quantiles(x []float64) (p05, p50, p95 float64) {
 	i, f = pos(0.95)
 	v, next = x[mid], next50
 	if i > mid {
-		selectK(x[mid+1:], i-mid-1)
+		selection.Nth(x[mid+1:], i-mid-1)
 		v, next = x[i], x[i]
 		if i+1 < n {
 			next = slices.Min(x[i+1:])
@@ -153,53 +155,6 @@ func quantiles(x []float64) (p05, p50, p95 float64) {
 	}
 	p95 = v + f*(next-v)
 	return p05, p50, p95
-}
-
-// selectK reorders x so that x[k] holds the value sorting would put there,
-// with no larger value before it and no smaller one after it (Hoare's
-// selection with a median-of-three pivot).
-func selectK(x []float64, k int) {
-	lo, hi := 0, len(x)-1
-	for hi-lo > 12 {
-		mid := lo + (hi-lo)/2
-		if x[mid] < x[lo] {
-			x[mid], x[lo] = x[lo], x[mid]
-		}
-		if x[hi] < x[lo] {
-			x[hi], x[lo] = x[lo], x[hi]
-		}
-		if x[hi] < x[mid] {
-			x[hi], x[mid] = x[mid], x[hi]
-		}
-		pivot := x[mid]
-		i, j := lo, hi
-		for i <= j {
-			for x[i] < pivot {
-				i++
-			}
-			for x[j] > pivot {
-				j--
-			}
-			if i <= j {
-				x[i], x[j] = x[j], x[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return
-		}
-	}
-	for i := lo + 1; i <= hi; i++ {
-		for j := i; j > lo && x[j] < x[j-1]; j-- {
-			x[j], x[j-1] = x[j-1], x[j]
-		}
-	}
 }
 
 // quantile7 is definition 7 of Hyndman & Fan (1996) on sorted values.

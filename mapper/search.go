@@ -6,6 +6,8 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
+
+	"github.com/kinmap/kinmap/internal/selection"
 )
 
 // sqdist is the squared Euclidean distance summed term by term in a fixed
@@ -214,7 +216,8 @@ func (s *searcher) prepareShortcut(listLen, workers int) {
 			cut := math.Inf(1)
 			if listLen < u {
 				copy(sorted, dist)
-				cut = nthSmallest(sorted, listLen)
+				selection.Nth(sorted, listLen)
+				cut = sorted[listLen]
 			}
 			list = list[:0]
 			for j, d := range dist {
@@ -235,38 +238,6 @@ func (s *searcher) prepareShortcut(listLen, workers int) {
 			s.beyond[b] = cut
 		}
 	})
-}
-
-// nthSmallest returns the k-th smallest value of v (0-based), reordering v
-// (Hoare's selection algorithm).
-func nthSmallest(v []float64, k int) float64 {
-	lo, hi := 0, len(v)-1
-	for lo < hi {
-		pivot := v[lo+(hi-lo)/2]
-		i, j := lo, hi
-		for i <= j {
-			for v[i] < pivot {
-				i++
-			}
-			for v[j] > pivot {
-				j--
-			}
-			if i <= j {
-				v[i], v[j] = v[j], v[i]
-				i++
-				j--
-			}
-		}
-		switch {
-		case k <= j:
-			hi = j
-		case k >= i:
-			lo = i
-		default:
-			return v[k]
-		}
-	}
-	return v[k]
 }
 
 // shortcut finds the two best units of x by looking outwards from unit prev

@@ -273,21 +273,3 @@ func TestNeighbourhoodTable(t *testing.T) {
 		}
 	}
 }
-
-func TestNthSmallest(t *testing.T) {
-	rng := testRand(2)
-	for trial := range 200 {
-		v := make([]float64, 1+rng.IntN(50))
-		for i := range v {
-			v[i] = float64(rng.IntN(10)) // with repeats
-			if trial%2 == 0 {
-				v[i] = rng.Float64()
-			}
-		}
-		sorted := slices.Sorted(slices.Values(v))
-		k := rng.IntN(len(v))
-		if got := nthSmallest(slices.Clone(v), k); got != sorted[k] {
-			t.Fatalf("%v: %d-th smallest %g, want %g", v, k, got, sorted[k])
-		}
-	}
-}

@@ -20,7 +20,7 @@ func Train(o Options) (*Result, error) {
 	if err := o.Validate(); err != nil {
 		return nil, err
 	}
-	res, sw := start("run", &o)
+	res, sw := Begin("run", o), newStopwatch()
 	ds, err := readInput(&o, res)
 	if err != nil {
 		return nil, err
@@ -31,14 +31,8 @@ func Train(o Options) (*Result, error) {
 	}
 	sw.lap("features")
 
-	sc, err := features.FitScaler(res.Table, o.Scaling, o.Weights)
+	sc, err := res.Scale(o)
 	if err != nil {
-		return nil, err
-	}
-	for _, name := range sc.Dropped {
-		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("feature %s has no variance in the training windows and is left out", name))
-	}
-	if res.X, err = sc.Transform(res.Table); err != nil {
 		return nil, err
 	}
 	mc := o.Map
@@ -53,8 +47,10 @@ func Train(o Options) (*Result, error) {
 	model.Scaler = sc
 	res.Model, res.Assignments = model, asg
 	sw.lap("train")
-
-	return conclude(&o, res, sw)
+	if err := res.Conclude(o, sw.times); err != nil {
+		return nil, err
+	}
+	return res, nil
 }
 
 // Assign maps the dumps of o onto an existing model without training: the
@@ -64,14 +60,17 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 	if err := o.Validate(); err != nil {
 		return nil, err
 	}
-	res, sw := start("assign", &o)
+	res, sw := Begin("assign", o), newStopwatch()
 	if err := project(&o, res, m, sw); err != nil {
 		return nil, err
 	}
 	res.Model = m
 	res.Assignments = m.Map.Assign(res.X, o.Map.Workers)
 	sw.lap("assign")
-	return conclude(&o, res, sw)
+	if err := res.Conclude(o, sw.times); err != nil {
+		return nil, err
+	}
+	return res, nil
 }
 
 // Update continues training an existing model on the dumps of o with a
@@ -85,7 +84,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	if err := o.Validate(); err != nil {
 		return nil, err
 	}
-	res, sw := start("update", &o)
+	res, sw := Begin("update", o), newStopwatch()
 	if err := project(&o, res, prev, sw); err != nil {
 		return nil, err
 	}
@@ -103,7 +102,10 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	}
 	res.Model, res.Assignments, res.Changes = model, asg, changes
 	sw.lap("train")
-	return conclude(&o, res, sw)
+	if err := res.Conclude(o, sw.times); err != nil {
+		return nil, err
+	}
+	return res, nil
 }
 
 // progress returns the per-epoch progress report of o, or nil.
@@ -111,7 +113,7 @@ func progress(o *Options) func(int, float64) {
 	if o.Map.Progress != nil || o.Log == nil {
 		return o.Map.Progress
 	}
-	return func(epoch int, qe float64) { o.logf("epoch %d: quantization error %.4f", epoch, qe) }
+	return func(epoch int, qe float64) { o.logf("epoch %d: quantization error %.4f", epoch+1, qe) }
 }
 
 // project reads the dumps and turns them into the model's scaled feature
@@ -150,15 +152,38 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 	return nil
 }
 
-// conclude decodes the timelines of a run whose windows are placed on the
-// map and completes its summary.
-func conclude(o *Options, res *Result, sw *stopwatch) (*Result, error) {
-	if err := decode(o, res); err != nil {
+// Scale fits the normalisation of o on the feature table of r (the
+// training windows) and scales the table into r.X. Features without
+// variance are left out with a warning.
+func (r *Result) Scale(o Options) (*features.Scaler, error) {
+	sc, err := features.FitScaler(r.Table, o.Scaling, o.Weights)
+	if err != nil {
 		return nil, err
 	}
+	for _, name := range sc.Dropped {
+		r.Info.Warnings = append(r.Info.Warnings, fmt.Sprintf("feature %s has no variance in the training windows and is left out", name))
+	}
+	if r.X, err = sc.Transform(r.Table); err != nil {
+		return nil, err
+	}
+	return sc, nil
+}
+
+// Conclude finishes a run whose windows are on the map (Table, X, Model
+// and Assignments set): it decodes every site's timeline, continuing from
+// the history folder of o when there is one, and completes the run summary
+// with the durations of the earlier steps, by name, in timings.
+func (r *Result) Conclude(o Options, timings map[string]float64) error {
+	sw := &stopwatch{last: time.Now(), times: timings}
+	if sw.times == nil {
+		sw.times = map[string]float64{}
+	}
+	if err := decode(&o, r); err != nil {
+		return err
+	}
 	sw.lap("decode")
-	finish(res, sw)
-	return res, nil
+	finish(r, sw)
+	return nil
 }
 
 func decode(o *Options, res *Result) error {
@@ -179,8 +204,10 @@ func decode(o *Options, res *Result) error {
 	return nil
 }
 
-func start(command string, o *Options) (*Result, *stopwatch) {
-	res := &Result{Info: RunInfo{
+// Begin starts the result of a run of the named command with options o:
+// its summary records the command, the start time and the options.
+func Begin(command string, o Options) *Result {
+	return &Result{Info: RunInfo{
 		Tool:     "kinmap",
 		Version:  Version,
 		Command:  command,
@@ -191,7 +218,6 @@ func start(command string, o *Options) (*Result, *stopwatch) {
 			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History,
 		},
 	}}
-	return res, newStopwatch()
 }
 
 func finish(res *Result, sw *stopwatch) {

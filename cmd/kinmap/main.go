@@ -7,20 +7,11 @@
 package main
 
 import (
-	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"os"
 
-	"github.com/kinmap/kinmap"
-)
-
-// Exit statuses.
-const (
-	exitOK    = 0
-	exitData  = 1
-	exitUsage = 2
+	"github.com/kinmap/kinmap/internal/cli"
 )
 
 func main() {
@@ -29,11 +20,8 @@ func main() {
 
 // command is one subcommand of kinmap.
 type command struct {
-	name    string
-	summary string
-	usage   string // the synopsis line
-	example string
-	run     func(args []string, env *env) error
+	cli.Command
+	run func(args []string, env *env) error
 }
 
 // env is what a command writes to.
@@ -44,17 +32,17 @@ type env struct {
 
 func commands() []command {
 	return []command{
-		{"run", "train a map on dumps and write all outputs", "kinmap run --data FILES... [--sites FILE] --out DIR [options]",
-			"kinmap run --data 'week48/*.parquet' --sites sites.csv --out week48-map", runCmd},
-		{"assign", "map a new dump onto an existing model, without training", "kinmap assign --model FILE --data FILES... --out DIR [options]",
-			"kinmap assign --model week48-map/model --data 'week49/*.parquet' --sites sites.csv --out week49", assignCmd},
-		{"update", "continue training a model on a new dump, keeping regime numbers", "kinmap update --model FILE --data FILES... --out DIR [options]",
-			"kinmap update --model week48-map/model --data 'week49/*.parquet' --out week49", updateCmd},
-		{"demo", "generate the pumping-station scenario and map it", "kinmap demo [--out DIR]",
-			"kinmap demo --out kinmap-demo", demoCmd},
-		{"scenario", "write a synthetic fleet with known ground truth", "kinmap scenario NAME --out DIR [--sites N] [--weeks W] [--seed S]",
-			"kinmap scenario pumping --out fleet --sites 100 --weeks 2", scenarioCmd},
-		{"help", "show the commands, or the options of one", "kinmap help [CMD]", "kinmap help run", nil},
+		{cli.Command{Name: "run", Summary: "train a map on dumps and write all outputs", Usage: "kinmap run --data FILES... [--sites FILE] --out DIR [options]",
+			Example: "kinmap run --data 'week48/*.parquet' --sites sites.csv --out week48-map"}, runCmd},
+		{cli.Command{Name: "assign", Summary: "map a new dump onto an existing model, without training", Usage: "kinmap assign --model FILE --data FILES... --out DIR [options]",
+			Example: "kinmap assign --model week48-map/model --data 'week49/*.parquet' --sites sites.csv --out week49"}, assignCmd},
+		{cli.Command{Name: "update", Summary: "continue training a model on a new dump, keeping regime numbers", Usage: "kinmap update --model FILE --data FILES... --out DIR [options]",
+			Example: "kinmap update --model week48-map/model --data 'week49/*.parquet' --out week49"}, updateCmd},
+		{cli.Command{Name: "demo", Summary: "generate the pumping-station scenario and map it", Usage: "kinmap demo [--out DIR]",
+			Example: "kinmap demo --out kinmap-demo"}, demoCmd},
+		{cli.Command{Name: "scenario", Summary: "write a synthetic fleet with known ground truth", Usage: "kinmap scenario NAME --out DIR [--sites N] [--weeks W] [--seed S]",
+			Example: "kinmap scenario pumping --out fleet --sites 100 --weeks 2"}, scenarioCmd},
+		{cli.Command{Name: "help", Summary: "show the commands, or the options of one", Usage: "kinmap help [CMD]", Example: "kinmap help run"}, nil},
 	}
 }
 
@@ -62,37 +50,25 @@ func run(args []string, stdout, stderr io.Writer) int {
 	e := &env{stdout: stdout, stderr: stderr, terminal: isTerminal(stderr)}
 	if len(args) == 0 {
 		overview(stderr)
-		return exitUsage
+		return cli.ExitUsage
 	}
 	name, rest := args[0], args[1:]
 	if name == "help" || name == "-h" || name == "--help" || name == "-help" {
 		if len(rest) == 0 {
 			overview(stdout)
-			return exitOK
+			return cli.ExitOK
 		}
 		name, rest = rest[0], []string{"-h"}
 	}
 	for _, c := range commands() {
-		if c.name != name || c.run == nil {
+		if c.Name != name || c.run == nil {
 			continue
 		}
-		err := c.run(rest, e)
-		switch {
-		case err == nil:
-			return exitOK
-		case errors.Is(err, flag.ErrHelp):
-			return exitOK
-		case kinmap.IsUsage(err):
-			fmt.Fprintf(stderr, "kinmap %s: %v\nRun 'kinmap %s -h' for its options.\n", name, err, name)
-			return exitUsage
-		default:
-			fmt.Fprintf(stderr, "kinmap %s: %v\n", name, err)
-			return exitData
-		}
+		return cli.Status(stderr, "kinmap "+name, c.run(rest, e))
 	}
 	fmt.Fprintf(stderr, "kinmap: unknown command %q\n\n", name)
 	overview(stderr)
-	return exitUsage
+	return cli.ExitUsage
 }
 
 func overview(w io.Writer) {
@@ -102,7 +78,7 @@ func overview(w io.Writer) {
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "Commands:")
 	for _, c := range commands() {
-		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
+		fmt.Fprintf(w, "  %-9s %s\n", c.Name, c.Summary)
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "Start with 'kinmap demo'. Run 'kinmap CMD -h' for the options of a command.")

@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/internal/cli"
 	"github.com/kinmap/kinmap/scenarios"
 )
 
@@ -51,8 +52,8 @@ func TestUsageErrors(t *testing.T) {
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			code, _, stderr := invoke(tt.args...)
-			if code != exitUsage {
-				t.Errorf("exit status %d, want %d (usage); stderr:\n%s", code, exitUsage, stderr)
+			if code != cli.ExitUsage {
+				t.Errorf("exit status %d, want %d (usage); stderr:\n%s", code, cli.ExitUsage, stderr)
 			}
 			if !strings.Contains(stderr, tt.want) {
 				t.Errorf("stderr does not name %q:\n%s", tt.want, stderr)
@@ -72,8 +73,8 @@ func TestDataErrors(t *testing.T) {
 		{"assign", "--model", notParquet, "--data", notParquet, "--out", filepath.Join(dir, "out")},
 	} {
 		code, _, stderr := invoke(args...)
-		if code != exitData {
-			t.Errorf("%v: exit status %d, want %d (data error); stderr:\n%s", args, code, exitData, stderr)
+		if code != cli.ExitData {
+			t.Errorf("%v: exit status %d, want %d (data error); stderr:\n%s", args, code, cli.ExitData, stderr)
 		}
 		if lines := strings.Count(strings.TrimSpace(stderr), "\n"); lines != 0 {
 			t.Errorf("%v: error takes %d lines, want one:\n%s", args, lines+1, stderr)
@@ -87,27 +88,27 @@ func TestDataErrors(t *testing.T) {
 // Every command documents every option with its default and an example.
 func TestHelp(t *testing.T) {
 	code, stdout, _ := invoke("help")
-	if code != exitOK {
+	if code != cli.ExitOK {
 		t.Fatalf("help: exit status %d", code)
 	}
 	for _, c := range commands() {
-		if !strings.Contains(stdout, c.name) {
-			t.Errorf("help does not list %s", c.name)
+		if !strings.Contains(stdout, c.Name) {
+			t.Errorf("help does not list %s", c.Name)
 		}
 		if c.run == nil {
 			continue
 		}
-		code, out, _ := invoke(c.name, "-h")
-		if code != exitOK {
-			t.Errorf("%s -h: exit status %d", c.name, code)
+		code, out, _ := invoke(c.Name, "-h")
+		if code != cli.ExitOK {
+			t.Errorf("%s -h: exit status %d", c.Name, code)
 		}
-		for _, want := range []string{"Usage:", c.usage, "Example:", c.example} {
+		for _, want := range []string{"Usage:", c.Usage, "Example:", c.Example} {
 			if !strings.Contains(out, want) {
-				t.Errorf("%s -h lacks %q:\n%s", c.name, want, out)
+				t.Errorf("%s -h lacks %q:\n%s", c.Name, want, out)
 			}
 		}
-		if code2, out2, _ := invoke("help", c.name); code2 != exitOK || out2 != out {
-			t.Errorf("help %s differs from %s -h", c.name, c.name)
+		if code2, out2, _ := invoke("help", c.Name); code2 != cli.ExitOK || out2 != out {
+			t.Errorf("help %s differs from %s -h", c.Name, c.Name)
 		}
 	}
 	_, out, _ := invoke("run", "-h")
@@ -115,14 +116,6 @@ func TestHelp(t *testing.T) {
 		if !strings.Contains(out, want) {
 			t.Errorf("run -h lacks %q", want)
 		}
-	}
-}
-
-func TestSpreadMulti(t *testing.T) {
-	got := spreadMulti([]string{"--data", "a", "b", "--out", "o", "-data", "c", "--data=d", "--data"}, "data")
-	want := []string{"--data=a", "--data=b", "--out", "o", "--data=c", "--data=d", "--data"}
-	if !slices.Equal(got, want) {
-		t.Errorf("spreadMulti = %q, want %q", got, want)
 	}
 }
 
@@ -135,7 +128,7 @@ func TestScenarioRunAssignUpdate(t *testing.T) {
 	dir := t.TempDir()
 	data := filepath.Join(dir, "fleet")
 	code, stdout, stderr := invoke("scenario", "pumping", "--out", data, "--sites", "40", "--weeks", "2", "--seed", "7")
-	if code != exitOK {
+	if code != cli.ExitOK {
 		t.Fatalf("scenario: exit status %d:\n%s", code, stderr)
 	}
 	if n := strings.Count(stdout, "\n"); n != len(scenarios.FileNames()) {
@@ -152,7 +145,7 @@ func TestScenarioRunAssignUpdate(t *testing.T) {
 	}
 	for _, args := range steps {
 		code, stdout, stderr := invoke(args...)
-		if code != exitOK {
+		if code != cli.ExitOK {
 			t.Fatalf("%s: exit status %d:\n%s", args[0], code, stderr)
 		}
 		out := args[slices.Index(args, "--out")+1]

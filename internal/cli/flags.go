@@ -1,4 +1,6 @@
-package main
+// Package cli holds what the kinmap commands share on their command lines:
+// the option flags of a run, their value types and the usage text.
+package cli
 
 import (
 	"flag"
@@ -13,71 +15,91 @@ import (
 	"github.com/kinmap/kinmap/features"
 )
 
-// flags is a command's flag set with the usage text kinmap prints.
-type flags struct {
-	*flag.FlagSet
-	cmd    command
-	groups []group  // option groups in the order shown
-	hooks  []func() // run after a successful parse
+// Command describes a command for its usage text.
+type Command struct {
+	Name    string
+	Summary string
+	Usage   string // the synopsis line
+	Example string
 }
 
-// after registers a function that turns parsed flag values into options.
-func (f *flags) after(hook func()) { f.hooks = append(f.hooks, hook) }
+// Flags is a command's flag set with the usage text kinmap prints: options
+// in titled groups, each with its default, and an example.
+type Flags struct {
+	*flag.FlagSet
+	Command Command
+	groups  []group  // option groups in the order shown
+	hooks   []func() // run after a successful parse
+}
+
+// After registers a function that turns parsed flag values into options.
+func (f *Flags) After(hook func()) { f.hooks = append(f.hooks, hook) }
 
 type group struct {
 	title string
 	names []string
 }
 
-func newFlags(c command) *flags {
-	f := &flags{FlagSet: flag.NewFlagSet(c.name, flag.ContinueOnError), cmd: c}
-	f.SetOutput(io.Discard) // errors are reported by run, usage by printUsage
-	f.Usage = func() {}
-	return f
+// New returns the flags of command c on fs, or on a new flag set of its
+// own when fs is nil, whose errors the caller reports.
+func New(c Command, fs *flag.FlagSet) *Flags {
+	if fs == nil {
+		fs = flag.NewFlagSet(c.Name, flag.ContinueOnError)
+		fs.SetOutput(io.Discard) // errors are reported by the caller, usage by PrintUsage
+		fs.Usage = func() {}
+	}
+	return &Flags{FlagSet: fs, Command: c}
 }
 
-// section starts a new group of options in the usage text.
-func (f *flags) section(title string) { f.groups = append(f.groups, group{title: title}) }
+// Section starts a new group of options in the usage text.
+func (f *Flags) Section(title string) { f.groups = append(f.groups, group{title: title}) }
 
-func (f *flags) note(name string) {
+func (f *Flags) note(name string) {
 	g := &f.groups[len(f.groups)-1]
 	g.names = append(g.names, name)
 }
 
-func (f *flags) str(p *string, name, def, help string) {
+// Str registers a flag in the current group.
+func (f *Flags) Str(p *string, name, def, help string) {
 	f.StringVar(p, name, def, help)
 	f.note(name)
 }
 
-func (f *flags) num(p *float64, name string, def float64, help string) {
+// Num registers a flag in the current group.
+func (f *Flags) Num(p *float64, name string, def float64, help string) {
 	f.Float64Var(p, name, def, help)
 	f.note(name)
 }
 
-func (f *flags) integer(p *int, name string, def int, help string) {
+// Int registers a flag in the current group.
+func (f *Flags) Int(p *int, name string, def int, help string) {
 	f.IntVar(p, name, def, help)
 	f.note(name)
 }
 
-func (f *flags) boolean(p *bool, name string, def bool, help string) {
+// Bool registers a flag in the current group.
+func (f *Flags) Bool(p *bool, name string, def bool, help string) {
 	f.BoolVar(p, name, def, help)
 	f.note(name)
 }
 
-func (f *flags) value(v flag.Value, name, help string) {
+// Value registers a flag in the current group.
+func (f *Flags) Value(v flag.Value, name, help string) {
 	f.Var(v, name, help)
 	f.note(name)
 }
 
-// parse parses args, first splitting "--data a b c" into one --data per
-// file, so that a shell-expanded glob works.
-func (f *flags) parse(args []string, e *env) error {
-	if err := f.Parse(spreadMulti(args, "data")); err != nil {
+// Parse parses args, first splitting "--data a b c" into one --data per
+// file, so that a shell-expanded glob works. Asked for help, it prints the
+// usage text to help and returns flag.ErrHelp; other errors are usage
+// errors.
+func (f *Flags) Parse(args []string, help io.Writer) error {
+	if err := f.FlagSet.Parse(SpreadMulti(args, "data")); err != nil {
 		if err == flag.ErrHelp {
-			f.printUsage(e.stdout)
+			f.PrintUsage(help)
 			return err
 		}
-		return usageErr("%v", err)
+		return UsageError("%v", err)
 	}
 	for _, h := range f.hooks {
 		h()
@@ -85,13 +107,14 @@ func (f *flags) parse(args []string, e *env) error {
 	return nil
 }
 
-// usageErr is a usage error of the command line.
-func usageErr(format string, a ...any) error {
+// UsageError is a usage error of the command line: the commands exit with
+// status 2 for it.
+func UsageError(format string, a ...any) error {
 	return &kinmap.UsageError{Err: fmt.Errorf(format, a...)}
 }
 
-// spreadMulti rewrites "--name a b c" as "--name=a --name=b --name=c".
-func spreadMulti(args []string, name string) []string {
+// SpreadMulti rewrites "--name a b c" as "--name=a --name=b --name=c".
+func SpreadMulti(args []string, name string) []string {
 	var out []string
 	for i := 0; i < len(args); i++ {
 		a := args[i]
@@ -112,8 +135,10 @@ func spreadMulti(args []string, name string) []string {
 	return out
 }
 
-func (f *flags) printUsage(w io.Writer) {
-	fmt.Fprintf(w, "%s: %s\n\nUsage:\n  %s\n", f.cmd.name, f.cmd.summary, f.cmd.usage)
+// PrintUsage writes the usage text: synopsis, options by group with their
+// defaults, and the example.
+func (f *Flags) PrintUsage(w io.Writer) {
+	fmt.Fprintf(w, "%s: %s\n\nUsage:\n  %s\n", f.Command.Name, f.Command.Summary, f.Command.Usage)
 	for _, g := range f.groups {
 		fmt.Fprintf(w, "\n%s:\n", g.title)
 		for _, name := range g.names {
@@ -134,7 +159,7 @@ func (f *flags) printUsage(w io.Writer) {
 			}
 		}
 	}
-	fmt.Fprintf(w, "\nExample:\n  %s\n", f.cmd.example)
+	fmt.Fprintf(w, "\nExample:\n  %s\n", f.Command.Example)
 }
 
 // listValue is a repeatable or comma-separated list flag.

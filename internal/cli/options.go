@@ -1,0 +1,159 @@
+package cli
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"path/filepath"
+
+	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/export"
+)
+
+// Exit statuses of the commands.
+const (
+	ExitOK    = 0
+	ExitData  = 1 // an error in the data
+	ExitUsage = 2 // an error in the command line
+)
+
+// Status reports err on stderr as the command called name and returns its
+// exit status: ExitOK without an error or when help was asked for,
+// ExitUsage with a pointer to the help for a usage error, ExitData for any
+// other error.
+func Status(stderr io.Writer, name string, err error) int {
+	switch {
+	case err == nil || errors.Is(err, flag.ErrHelp):
+		return ExitOK
+	case kinmap.IsUsage(err):
+		fmt.Fprintf(stderr, "%s: %v\nRun '%s -h' for its options.\n", name, err, name)
+		return ExitUsage
+	default:
+		fmt.Fprintf(stderr, "%s: %v\n", name, err)
+		return ExitData
+	}
+}
+
+// Outputs are the output flags every mapping command shares.
+type Outputs struct {
+	Out, Model string
+	Quiet      bool
+}
+
+// Input registers the flags of the dumps and the register.
+func (f *Flags) Input(o *kinmap.Options) {
+	f.Section("Input")
+	f.Value(listValue{p: &o.Data}, "data", "dump `FILES`: Parquet, Arrow IPC or CSV (.gz too); globs and several files allowed")
+	f.Str(&o.Sites, "sites", "", "site register `FILE` (CSV, Parquet, Arrow or GeoJSON points) with positions and attributes")
+	f.Str(&o.Register.Key, "sites-key", "", "register id `COLUMN` (default: the --site-col name)")
+	f.Str(&o.Ingest.SiteCol, "site-col", o.Ingest.SiteCol, "site id `COLUMN` of the dump")
+	f.Str(&o.Ingest.TimeCol, "time-col", o.Ingest.TimeCol, "time `COLUMN` of the dump")
+	f.Str(&o.Ingest.ChannelCol, "channel-col", o.Ingest.ChannelCol, "channel name `COLUMN` of a long dump")
+	f.Str(&o.Ingest.ValueCol, "value-col", o.Ingest.ValueCol, "value `COLUMN` of a long dump")
+	f.Str(&o.Ingest.LatCol, "lat-col", o.Ingest.LatCol, "latitude `COLUMN` of the register and of a dump with moving sites")
+	f.Str(&o.Ingest.LonCol, "lon-col", o.Ingest.LonCol, "longitude `COLUMN` of the register and of a dump with moving sites")
+	f.Value(listValue{p: &o.Ingest.Channels, comma: true}, "channels", "wide dump: use only these `CHANNELS` (a,b,c)")
+	f.Value(choiceValue{&o.Ingest.TimeUnit, []string{"s", "ms", "us", "ns"}}, "time-unit", "`UNIT` of integer epoch times: s, ms, us or ns")
+}
+
+// Features registers the flags of the windows, features and scaling.
+func (f *Flags) Features(o *kinmap.Options) {
+	f.Section("Windows and features")
+	f.Value(durationValue{&o.Features.Window}, "window", "window `LENGTH` (Go durations plus d and w, for example 24h, 1d, 1w)")
+	f.Value(durationValue{&o.Features.Stride}, "stride", "`STEP` between window starts for overlapping windows (default: the window length)")
+	f.Str(&o.Features.TZ, "tz", "", "IANA `ZONE` whose midnight windows are aligned to (default UTC)")
+	f.Num(&o.Features.MinCoverage, "min-coverage", o.Features.MinCoverage, "minimum `SHARE` of expected readings for a window to be used; 0 disables the rule")
+	f.Str(&o.Features.Features, "features", o.Features.Features, "`SET`: basic, full, or a list of statistics or feature names")
+	f.Bool(&o.Features.Pairs, "pairs", false, "add the correlation of each channel pair")
+	f.Value(choiceValue{&o.Scaling, []string{"zscore", "robust"}}, "scale", "feature `SCALING`: zscore (mean, std) or robust (median, IQR)")
+	f.Value(weightsValue{&o.Weights}, "weights", "per-feature `WEIGHTS`, for example flow.mean=2,vibration.p95=0.5")
+}
+
+// Map registers the flags of the map: all of them for training a new map,
+// the training length and neighbourhood only for continuing one.
+func (f *Flags) Map(o *kinmap.Options, training bool) {
+	f.Section("Map")
+	if training {
+		f.Value(gridValue{&o.Map.Cols, &o.Map.Rows}, "grid", "lattice `SIZE`, COLSxROWS such as 30x20 (default: about 5·√N units for N windows)")
+		shape := "hex"
+		f.Value(choiceValue{&shape, []string{"hex", "rect"}}, "lattice", "unit `SHAPE`: hex (6 neighbours) or rect (4)")
+		f.After(func() { o.Map.Hex = shape == "hex" })
+		f.Bool(&o.Map.Flat, "sheet", false, "a flat sheet with edges instead of a torus")
+		f.Value(choiceValue{&o.Map.Rule, []string{"batch", "online"}}, "rule", "training `RULE`: batch or online")
+		f.Value(choiceValue{&o.Map.Init, []string{"pca", "random"}}, "init", "initialisation `METHOD`: pca (first two principal components) or random (data samples)")
+		f.Num(&o.Map.Eta0, "eta0", o.Map.Eta0, "online rule: initial learning `RATE` in (0, 1]")
+		f.Int(&o.Map.Regimes, "regimes", 0, "number of regimes `K`; 0 chooses by the Davies–Bouldin index over 2..12")
+	}
+	f.Int(&o.Map.Epochs, "epochs", o.Map.Epochs, "training `EPOCHS`; 0 chooses from the data size")
+	f.Num(&o.Map.Sigma0, "sigma0", o.Map.Sigma0, "initial neighbourhood `WIDTH` in lattice units; 0 chooses from the grid")
+	f.Num(&o.Map.SigmaEnd, "sigma-end", o.Map.SigmaEnd, "final neighbourhood `WIDTH`; 0 chooses")
+	seed := int(o.Map.Seed)
+	f.Int(&seed, "seed", seed, "random `SEED` (initialisation and the online rule)")
+	f.Int(&o.Map.Workers, "workers", 0, "`N` parallel workers; 0 uses all cores")
+	f.After(func() { o.Map.Seed = int64(seed); o.Features.Workers = o.Map.Workers })
+}
+
+// Timeline registers the flags of the decoding of timelines.
+func (f *Flags) Timeline(o *kinmap.Options) {
+	f.Section("Regimes over time")
+	f.Num(&o.Timeline.SwitchCost, "switch-cost", o.Timeline.SwitchCost, "penalty `COST` per regime switch in the decoding; 0 chooses from the model")
+	f.Int(&o.Timeline.MinDwell, "min-dwell", o.Timeline.MinDwell, "`WINDOWS` a site must stay on each side of a switch")
+	f.Num(&o.Timeline.UnfamiliarQ, "unfamiliar-q", o.Timeline.UnfamiliarQ, "a window is unfamiliar above this `QUANTILE` of the training quantization errors")
+}
+
+// Output registers the output flags, with modelHelp for --model.
+func (f *Flags) Output(o *kinmap.Options, out *Outputs, modelHelp string) {
+	f.Section("Output")
+	f.Str(&out.Out, "out", "", "output `DIR`ectory (created if missing)")
+	f.Str(&out.Model, "model", "", modelHelp)
+	f.Str(&o.History, "history", "", "history `DIR`: append this run's timeline and decode switches across dumps")
+	f.Bool(&out.Quiet, "quiet", false, "no progress messages")
+}
+
+// Finish completes the options after parsing: the remaining arguments
+// are more dumps, the register's columns default to the dump's, and --out
+// (and with needModel --model) must be given.
+func (f *Flags) Finish(o *kinmap.Options, out *Outputs, needModel bool) error {
+	o.Data = append(o.Data, f.Args()...)
+	if o.Register.Key == "" {
+		o.Register.Key = o.Ingest.SiteCol
+	}
+	o.Register.LatCol, o.Register.LonCol = o.Ingest.LatCol, o.Ingest.LonCol
+	if out.Out == "" {
+		return UsageError("no output folder: name one with --out DIR")
+	}
+	if needModel && out.Model == "" {
+		return UsageError("no model: name the model file of an earlier run with --model FILE")
+	}
+	return nil
+}
+
+// Write writes the outputs of a run: the output folder, the copy of the
+// model that --model names, and the run's period of the history folder.
+func Write(res *kinmap.Result, o *kinmap.Options, out *Outputs) error {
+	if err := res.Write(out.Out); err != nil {
+		return err
+	}
+	if out.Model != "" {
+		if err := res.Model.WriteFile(out.Model); err != nil {
+			return err
+		}
+	}
+	if o.History != "" {
+		return res.AppendHistory(o.History)
+	}
+	return nil
+}
+
+// Report says what a run found and where its outputs are, and lists its
+// warnings on stderr.
+func Report(stdout, stderr io.Writer, res *kinmap.Result, dir string) {
+	c := res.Info.Counts
+	fmt.Fprintf(stdout, "%d sites, %d windows, %d regimes on a %dx%d map, %d switches, %d unfamiliar windows\n",
+		c.Sites, c.Windows, c.Regimes, res.Model.Map.Lattice.Cols, res.Model.Map.Lattice.Rows, c.Switches, c.Unfamiliar)
+	for _, w := range res.Info.Warnings {
+		fmt.Fprintf(stderr, "warning: %s\n", w)
+	}
+	fmt.Fprintf(stdout, "outputs in %s; open %s first\n", dir, filepath.Join(dir, export.ReportFile))
+}

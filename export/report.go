@@ -213,7 +213,7 @@ func mapFacts(m *mapper.Model) []fact {
 	if l.Flat {
 		surface = "flat sheet with edges"
 	}
-	return []fact{
+	facts := []fact{
 		{"Grid", fmt.Sprintf("%d × %d units", l.Cols, l.Rows)},
 		{"Cells", cells},
 		{"Surface", surface},
@@ -223,6 +223,14 @@ func mapFacts(m *mapper.Model) []fact {
 		{"Topographic error", percent1(m.Quality.TE)},
 		{"Units without windows", percent1(m.Quality.Unused)},
 	}
+	if len(m.Scores) > 0 {
+		parts := make([]string, len(m.Scores))
+		for i, sc := range m.Scores {
+			parts[i] = fmt.Sprintf("%d: %.2f", sc.K, sc.DaviesBouldin)
+		}
+		facts = append(facts, fact{"Regimes chosen by the Davies–Bouldin index (lower is better; set --regimes to choose)", strings.Join(parts, " · ")})
+	}
+	return facts
 }
 
 // readable is a time for people: UTC to the minute, or to the second when

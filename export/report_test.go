@@ -184,3 +184,18 @@ func TestReportListsRegimeChanges(t *testing.T) {
 		t.Error("a run without an update lists regime changes")
 	}
 }
+
+// When the number of regimes was chosen, the report shows the index of
+// every number tried, so that a user can see how close the others came.
+func TestReportShowsRegimeScores(t *testing.T) {
+	r := fixtureRun()
+	r.Model.Scores = []mapper.Score{{K: 2, DaviesBouldin: 1.154}, {K: 3, DaviesBouldin: 0.7203}}
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	doc := html.UnescapeString(string(read(t, dir, ReportFile)))
+	if !strings.Contains(doc, "Davies–Bouldin index") || !strings.Contains(doc, "2: 1.15 · 3: 0.72") {
+		t.Error("report lacks the Davies–Bouldin index of each number of regimes tried")
+	}
+}

@@ -100,4 +100,5 @@ type Model struct {
 	Quality       Quality   // on the training windows
 	QEQuantiles   []float64 // training quantization errors at quantiles 0, 0.001, …, 1
 	Windows       int       // training windows
+	Scores        []Score   // Davies–Bouldin index of each number of regimes tried; nil when it was given
 }

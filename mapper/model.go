@@ -100,7 +100,7 @@ func finish(m *Map, x *mat.Dense, names []string, cfg Config) (*Model, []Assignm
 // it after their epochs; a runner that trains the map elsewhere calls it
 // too. The caller fills FeatureNames, FeatureConfig and Scaler.
 func NewModel(m *Map, x *mat.Dense, names []string, cfg Config, asg []Assignment) (*Model, error) {
-	groups, err := FindRegimes(m, cfg.Regimes, m.Hits(asg))
+	groups, scores, err := FindRegimes(m, cfg.Regimes, m.Hits(asg))
 	if err != nil {
 		return nil, err
 	}
@@ -122,6 +122,7 @@ func NewModel(m *Map, x *mat.Dense, names []string, cfg Config, asg []Assignment
 		Quality:     m.Quality(asg),
 		QEQuantiles: qeQuantiles(asg),
 		Windows:     len(asg),
+		Scores:      scores,
 	}, nil
 }
 

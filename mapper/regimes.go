@@ -30,7 +30,9 @@ const maxTraits = 3
 // regime is a connected area of the map. With k = 0 it chooses k over 2 …
 // 12 by the lowest Davies–Bouldin index (D. L. Davies and D. W. Bouldin,
 // "A cluster separation measure", IEEE PAMI 1(2), 1979), the smaller k on a
-// tie.
+// tie, and returns the index of every k tried. The index favours few,
+// well-separated groups; the scores let a user see how close other
+// choices came.
 //
 // hits, when not nil, holds the windows each unit won (Map.Hits) and weighs
 // every unit by them: Ward's criterion and the Davies–Bouldin index then
@@ -38,30 +40,40 @@ const maxTraits = 3
 // than the units. Units that won nothing weigh nothing and join a
 // neighbour at no cost, so the units a map spreads between clusters of
 // data do not blur the regimes. With nil hits every unit weighs one.
-func FindRegimes(m *Map, k int, hits []int) ([]int, error) {
+func FindRegimes(m *Map, k int, hits []int) ([]int, []Score, error) {
 	u := m.Units()
 	switch {
 	case k < 0 || k > u:
-		return nil, fmt.Errorf("mapper: %d regimes asked of a map of %d units", k, u)
+		return nil, nil, fmt.Errorf("mapper: %d regimes asked of a map of %d units", k, u)
 	case k == 0 && u < minAutoRegimes:
-		return nil, fmt.Errorf("mapper: choosing the number of regimes needs at least %d units, the map has %d", minAutoRegimes, u)
+		return nil, nil, fmt.Errorf("mapper: choosing the number of regimes needs at least %d units, the map has %d", minAutoRegimes, u)
 	case hits != nil && len(hits) != u:
-		return nil, fmt.Errorf("mapper: %d hit counts for a map of %d units", len(hits), u)
+		return nil, nil, fmt.Errorf("mapper: %d hit counts for a map of %d units", len(hits), u)
 	}
 	w := unitWeights(u, hits)
 	tree := wardTree(m, w)
 	if k > 0 {
-		return cutTree(tree, u, k), nil
+		return cutTree(tree, u, k), nil, nil
 	}
 	var best []int
+	var scores []Score
 	bestDB := math.Inf(1)
 	for c := minAutoRegimes; c <= min(maxAutoRegimes, u); c++ {
 		g := cutTree(tree, u, c)
-		if db := daviesBouldin(m, g, w); best == nil || db < bestDB {
+		db := daviesBouldin(m, g, w)
+		scores = append(scores, Score{K: c, DaviesBouldin: db})
+		if best == nil || db < bestDB {
 			best, bestDB = g, db
 		}
 	}
-	return best, nil
+	return best, scores, nil
+}
+
+// Score is the Davies–Bouldin index of one number of regimes K, as
+// FindRegimes weighed it when choosing K: lower is better.
+type Score struct {
+	K             int     `json:"k"`
+	DaviesBouldin float64 `json:"davies_bouldin"`
 }
 
 // merge is one step of the agglomeration: clusters a and b, numbered as

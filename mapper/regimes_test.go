@@ -40,7 +40,7 @@ func TestWardWorkedExample(t *testing.T) {
 		3: {0, 0, 1, 1, 2},
 		5: {0, 1, 2, 3, 4},
 	} {
-		if got, err := FindRegimes(m, k, nil); err != nil || !slices.Equal(got, want) {
+		if got, _, err := FindRegimes(m, k, nil); err != nil || !slices.Equal(got, want) {
 			t.Errorf("k = %d: %v, %v; want %v", k, got, err, want)
 		}
 	}
@@ -50,7 +50,7 @@ func TestWardWorkedExample(t *testing.T) {
 // near 0 are not adjacent, so 10 joins 0.1 (cost ½·9.9² = 49.005) before 0
 // (cost 50), though unconstrained Ward would pair 0 with 0.1.
 func TestWardMergesOnlyNeighbours(t *testing.T) {
-	got, err := FindRegimes(chainMap(0, 10, 0.1), 2, nil)
+	got, _, err := FindRegimes(chainMap(0, 10, 0.1), 2, nil)
 	if err != nil || !slices.Equal(got, []int{0, 1, 1}) {
 		t.Errorf("%v, %v; want [0 1 1]", got, err)
 	}
@@ -138,7 +138,7 @@ func TestRegimesConnected(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, k := range []int{2, 5, 9} {
-		groups, err := FindRegimes(m, k, nil)
+		groups, _, err := FindRegimes(m, k, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -155,7 +155,7 @@ func TestRegimesConnected(t *testing.T) {
 			}
 		}
 	}
-	if _, err := FindRegimes(m, m.Units()+1, nil); err == nil {
+	if _, _, err := FindRegimes(m, m.Units()+1, nil); err == nil {
 		t.Error("more regimes than units accepted")
 	}
 }
@@ -203,9 +203,18 @@ func TestFindRegimesChoosesK(t *testing.T) {
 		values[i] = float64(i/6)*100 + rng.Float64()
 	}
 	m := &Map{Lattice: Lattice{Cols: 6, Rows: 3}, Dim: 1, Codebook: values}
-	groups, err := FindRegimes(m, 0, nil)
+	groups, scores, err := FindRegimes(m, 0, nil)
 	if err != nil {
 		t.Fatal(err)
+	}
+	// One score for each K tried, 2 … 12, the chosen K the lowest.
+	if len(scores) != 11 || scores[0].K != 2 || scores[10].K != 12 {
+		t.Errorf("scores %+v, want one for each K of 2 … 12", scores)
+	}
+	for _, sc := range scores {
+		if sc.K != 3 && sc.DaviesBouldin <= scores[1].DaviesBouldin {
+			t.Errorf("K = %d scores %g, not above the chosen K = 3's %g", sc.K, sc.DaviesBouldin, scores[1].DaviesBouldin)
+		}
 	}
 	want := []int{0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 1, 1, 2, 2, 2, 2, 2, 2}
 	if !slices.Equal(groups, want) {
@@ -256,7 +265,7 @@ func TestDescribeKeepsStrongest(t *testing.T) {
 		t.Fatal(err)
 	}
 	asg := m.Assign(x, 0)
-	groups, err := FindRegimes(m, 2, nil)
+	groups, _, err := FindRegimes(m, 2, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

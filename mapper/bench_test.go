@@ -1,6 +1,7 @@
 package mapper
 
 import (
+	"math"
 	"slices"
 	"sync"
 	"testing"
@@ -9,6 +10,10 @@ import (
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/scenarios"
 )
 
 // The shapes of the performance targets: 100,000 windows of 64 features on
@@ -102,6 +107,8 @@ func lateMap(b *testing.B, kind string) *lateState {
 		x = manifoldData(benchN, benchD, 0.02, 3)
 	case "noise":
 		x = noiseData(benchN, benchD, 4)
+	case "pumping":
+		x = pumpingFeatures(b)
 	}
 	// Train all but the last epoch of an 8-epoch schedule.
 	cfg := Config{Cols: benchCols, Rows: benchRows, Epochs: 8}
@@ -111,7 +118,8 @@ func lateMap(b *testing.B, kind string) *lateState {
 	}
 	cfg.Epochs = 7
 	train(m, x, cfg)
-	st := &lateState{x: x, m: m, prev: make([]int, benchN)}
+	n, _ := x.Dims()
+	st := &lateState{x: x, m: m, prev: make([]int, n)}
 	for i, a := range m.Assign(x, 0) {
 		st.prev[i] = a.BMU
 	}
@@ -125,11 +133,12 @@ func lateMap(b *testing.B, kind string) *lateState {
 // and reports the ratio (target: at most 0.5 on structured data; no exact
 // pruning can help on pure noise).
 func BenchmarkShortcutEpoch(b *testing.B) {
-	for _, kind := range []string{"clusters", "manifold", "noise"} {
+	for _, kind := range []string{"clusters", "manifold", "pumping", "noise"} {
 		b.Run(kind, func(b *testing.B) {
 			st := lateMap(b, kind)
-			full := make([]Assignment, benchN)
-			short := make([]Assignment, benchN)
+			n, _ := st.x.Dims()
+			full := make([]Assignment, n)
+			short := make([]Assignment, n)
 			var tf, ts, cf, cs time.Duration
 			var fallbacks, evals int
 			b.ResetTimer()
@@ -158,8 +167,56 @@ func BenchmarkShortcutEpoch(b *testing.B) {
 			if cf > 0 {
 				b.ReportMetric(cs.Seconds()/cf.Seconds(), "cpu-shortcut/full")
 			}
-			b.ReportMetric(float64(fallbacks)/float64(b.N*benchN), "fallback-share")
-			b.ReportMetric(float64(evals)/float64(b.N*benchN), "evals/row")
+			b.ReportMetric(float64(fallbacks)/float64(b.N*n), "fallback-share")
+			b.ReportMetric(float64(evals)/float64(b.N*n), "evals/row")
 		})
 	}
+}
+
+// pumpingFeatures returns the scaled default features of the daily windows
+// of a pumping-station fleet (1,000 sites, 4 weeks): data with the structure
+// kinmap meets, for the shortcut search.
+func pumpingFeatures(b *testing.B) *mat.Dense {
+	spec, err := scenarios.DefaultSpec("pumping")
+	if err != nil {
+		b.Fatal(err)
+	}
+	spec.Sites = 1000
+	fleet, err := scenarios.Generate(spec)
+	if err != nil {
+		b.Fatal(err)
+	}
+	ds := &ingest.Dataset{}
+	for _, ch := range fleet.Channels {
+		ds.Channels = append(ds.Channels, ch.Name)
+	}
+	for _, s := range fleet.Sites {
+		sd := &ingest.SiteData{ID: s.ID, Series: map[string]ingest.Series{}}
+		for c, ch := range fleet.Channels {
+			var ser ingest.Series
+			for i, t := range s.Readings.Times {
+				v := s.Readings.Values[c][i]
+				if math.IsNaN(v) || (ser.Len() > 0 && ser.Times[ser.Len()-1] == t) {
+					continue // a missing value, or a duplicated row
+				}
+				ser.Times = append(ser.Times, t)
+				ser.Values = append(ser.Values, v)
+			}
+			sd.Series[ch.Name] = ser
+		}
+		ds.Sites = append(ds.Sites, sd)
+	}
+	t, err := features.Extract(ds, features.DefaultConfig())
+	if err != nil {
+		b.Fatal(err)
+	}
+	sc, err := features.FitScaler(t, "zscore", nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	x, err := sc.Transform(t)
+	if err != nil {
+		b.Fatal(err)
+	}
+	return x
 }

@@ -111,6 +111,9 @@ func TestHelp(t *testing.T) {
 			t.Errorf("help %s differs from %s -h", c.Name, c.Name)
 		}
 	}
+	if _, out, _ := invoke("update", "-h"); !strings.Contains(out, "--regimes K") || strings.Contains(out, "--grid") {
+		t.Errorf("update -h should offer --regimes but not --grid:\n%s", out)
+	}
 	_, out, _ := invoke("run", "-h")
 	for _, want := range []string{"--site-col COLUMN", "(default site)", "--window LENGTH", "(default 1d)", "--min-coverage SHARE", "(default 0.6)", "--lattice SHAPE", "(default hex)", "--unfamiliar-q QUANTILE", "(default 0.99)"} {
 		if !strings.Contains(out, want) {

@@ -268,7 +268,7 @@ func describeChange(c mapper.RegimeChange) string {
 	}
 	switch c.Kind {
 	case mapper.ChangeRenumbered:
-		return fmt.Sprintf("The regime derived as %s matches earlier regime %s and keeps its number.", list(c.From), list(c.To))
+		return fmt.Sprintf("The regime found as number %s matches earlier regime %s and takes its number.", list(c.From), list(c.To))
 	case mapper.ChangeNew:
 		return fmt.Sprintf("Regime %s is new: it matches no earlier regime.", list(c.To))
 	case mapper.ChangeGone:

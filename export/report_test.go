@@ -172,7 +172,7 @@ func TestReportListsRegimeChanges(t *testing.T) {
 	doc := string(read(t, dir, ReportFile))
 	for _, want := range []string{
 		"Regime numbers after the update",
-		"The regime derived as 3 matches earlier regime 1 and keeps its number.",
+		"The regime found as number 3 matches earlier regime 1 and takes its number.",
 		"Earlier regime 2 split into regimes 2 and 4.",
 		"Regime 4 is new: it matches no earlier regime.",
 	} {

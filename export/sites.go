@@ -58,7 +58,7 @@ func sites(r *Run) ([]*site, []string) {
 			}
 		}
 	}
-	var warnings []string
+	var warnings, unlocated []string
 	for _, s := range out {
 		slices.SortStableFunc(s.entries, func(a, b int) int { return r.Entries[a].Start.Compare(r.Entries[b].Start) })
 		var qe float64
@@ -91,10 +91,27 @@ func sites(r *Run) ([]*site, []string) {
 			}
 		}
 		if !s.located {
-			warnings = append(warnings, fmt.Sprintf("site %q has no position; its feature in %s has no geometry", s.id, SitesFile))
+			unlocated = append(unlocated, s.id)
 		}
 	}
-	return out, warnings
+	return out, append(warnings, positionWarnings(unlocated)...)
+}
+
+// maxNamedSites is how many sites without a position are named one by one;
+// more are summed up in one warning.
+const maxNamedSites = 3
+
+// positionWarnings warns of the sites without a position.
+func positionWarnings(ids []string) []string {
+	if len(ids) <= maxNamedSites {
+		var w []string
+		for _, id := range ids {
+			w = append(w, fmt.Sprintf("site %q has no position; its feature in %s has no geometry", id, SitesFile))
+		}
+		return w
+	}
+	return []string{fmt.Sprintf("%d sites have no position (%q, %q, %q and %d more); their features in %s have no geometry: give a site register with --sites",
+		len(ids), ids[0], ids[1], ids[2], len(ids)-maxNamedSites, SitesFile)}
 }
 
 // validPosition reports whether lon and lat are WGS 84 degrees in range

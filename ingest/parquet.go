@@ -250,6 +250,10 @@ func (s *parquetSource) next(want []bool) (*batch, error) {
 
 func (s *parquetSource) numBatches() int { return len(s.file.RowGroups()) }
 
+// numRows gives the rows of the file, which lets Read make room for
+// series ahead.
+func (s *parquetSource) numRows() int64 { return s.file.NumRows() }
+
 // batchAt decodes row group i; row groups may be decoded at the same time.
 func (s *parquetSource) batchAt(i int, want []bool) (b *batch, err error) {
 	defer recoverCorrupt(&err)

@@ -16,8 +16,9 @@ type randomAccess interface {
 
 // pipeline reads the batches of src and runs prepare on them on several
 // cores, and merge on each result in read order. Batches are read in
-// parallel too when src allows it. After merge, a batch goes back to the
-// source for reuse of its buffers when the source takes it.
+// parallel too when src allows it. A batch goes back to the source for
+// reuse of its buffers, when the source takes it, once merge is done with
+// it, or right after prepare when that leaves it out of its result.
 func pipeline(src source, want []bool, prepare func(*batch) (*prepared, error), merge func(*prepared) error) error {
 	workers := min(runtime.GOMAXPROCS(0), 4)
 	var (
@@ -25,6 +26,11 @@ func pipeline(src source, want []bool, prepare func(*batch) (*prepared, error), 
 		next int
 		seq  atomic.Int64
 	)
+	recycle := func(b *batch) {
+		if rc, ok := src.(interface{ recycle(*batch) }); ok {
+			rc.recycle(b)
+		}
+	}
 	fetch := func() (int, *batch, error) {
 		if ra, ok := src.(randomAccess); ok {
 			i := int(seq.Add(1) - 1)
@@ -66,6 +72,9 @@ func pipeline(src source, want []bool, prepare func(*batch) (*prepared, error), 
 				if err == nil {
 					p, err = prepare(b)
 				}
+				if err == nil && p.b == nil {
+					recycle(b)
+				}
 				select {
 				case results <- result{i, p, err}:
 				case <-done:
@@ -102,8 +111,8 @@ func pipeline(src source, want []bool, prepare func(*batch) (*prepared, error), 
 		if err := merge(res.p); err != nil {
 			return err
 		}
-		if rc, ok := src.(interface{ recycle(*batch) }); ok {
-			rc.recycle(res.p.b)
+		if res.p.b != nil {
+			recycle(res.p.b)
 		}
 		<-tokens
 	}

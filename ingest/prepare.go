@@ -7,14 +7,14 @@ import "slices"
 // parallel; merge then files them, in read order, under global site and
 // channel numbers.
 type prepared struct {
-	b        *batch
+	b        *batch   // nil once merge needs it no more
+	rows     int      // rows of the batch
 	siteDict []string // the sites of the batch, by local code
 	chanDict []string // long: the channels of the batch; wide: the candidate columns
 	naive    bool
 	drops    [nDrops]int64 // row drops, and value drops of a long batch
 	cols     []wideColumn  // wide: by candidate column
-	arenas   []arena
-	runs     []localRun // by arena, then block, then first appearance
+	arena    arena
 	pos      positions
 	// When a batch has too many sites and channels for a table of every
 	// pair, keys number the pairs met: pairs[key] = site*len(chanDict) +
@@ -55,10 +55,29 @@ func (p *prepared) pair(key int32) int64 {
 	return p.pairs[key]
 }
 
+// arena is the memory a batch is grouped in: its readings, by block, then
+// series, and the runs that find them, by key. Once merge is done with it,
+// it serves a later batch.
+type arena struct {
+	times []int64
+	vals  []float64
+	runs  []localRun
+	keys  []int32    // group: the keys of the rows of a block
+	tmp   []localRun // sortRuns
+}
+
+// empty returns the arena without its readings and runs, keeping the memory.
+func (a arena) empty() arena {
+	a.times, a.vals, a.runs = a.times[:0], a.vals[:0], a.runs[:0]
+	return a
+}
+
 // localRun is readings of the local series key = site*len(chanDict) +
-// channel in arena arena.
+// channel in the arena of the batch.
 type localRun struct {
-	arena, key, off, n int32
+	key, n int32
+	off    int
+	tail   bool // in the last block of the batch
 }
 
 // wideColumn says what a candidate channel column of a wide batch held.
@@ -77,9 +96,13 @@ type positions struct {
 }
 
 // prepare reads the rows of a batch. It uses only the options of the
-// reader, never its accumulating state.
+// reader, never its accumulating state, and arenas that merge is done with.
 func (r *reader) prepare(b *batch, ro roles) (*prepared, error) {
-	p := &prepared{b: b}
+	p := &prepared{b: b, rows: b.n}
+	select {
+	case p.arena = <-r.arenas:
+	default:
+	}
 	codes, dict, err := b.keys(b.cols[ro.site])
 	if err != nil {
 		return nil, err
@@ -116,7 +139,9 @@ func (r *reader) prepare(b *batch, ro roles) (*prepared, error) {
 		}
 	}
 	if ro.channel >= 0 {
-		return p, p.long(b, ro, r.selected, sites, ns)
+		err := p.long(b, ro, r.selected, sites, ns)
+		p.b = nil // merge needs no column of a long batch
+		return p, err
 	}
 	p.cols = make([]wideColumn, len(ro.channels))
 	for _, ci := range ro.channels {
@@ -174,30 +199,33 @@ func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []in
 	}
 	nch := int64(len(dict))
 	nKeys := p.keySpace(int64(len(p.siteDict))*nch, b.n)
-	p.group(sites, nKeys, ns, vals, func(lo int, keys []int32) (kept int) {
-		for i, s := range keys {
-			if s < 0 {
+	p.group(nKeys, ns, vals, func(lo int, t *tally) {
+		sites, codes, vals := sites[lo:lo+len(t.keys)], codes[lo:lo+len(t.keys)], vals[lo:lo+len(t.keys)]
+		direct := p.numbered == nil // p.key without a look-up
+		for i, s := range sites {
+			ch, v := int32(-1), vals[i]
+			if code := codes[i]; s >= 0 && code >= 0 {
+				ch = chans[code]
+			}
+			// Nearly every row is kept: one test for them (v-v is 0
+			// only for a finite v), the reasons of the others after.
+			if ch >= 0 && v-v == 0 && (valid == nil || valid[lo+i]) {
+				if pair := int64(s)*nch + int64(ch); direct {
+					t.put(i, int32(pair))
+				} else {
+					t.put(i, p.key(pair))
+				}
 				continue
 			}
-			keys[i] = -1
-			r := lo + i
-			code := codes[r]
-			if code < 0 {
+			t.keys[i] = -1
+			switch {
+			case s < 0:
+			case codes[i] < 0:
 				p.drops[dNullChannel]++
-				continue
+			case ch >= 0:
+				p.drops[dropOf(v, valid != nil && !valid[lo+i])]++
 			}
-			ch := chans[code]
-			if ch < 0 {
-				continue
-			}
-			if d := dropOf(vals[r], valid != nil && !valid[r]); d >= 0 {
-				p.drops[d]++
-				continue
-			}
-			keys[i] = p.key(int64(s)*nch + int64(ch))
-			kept++
 		}
-		return kept
 	})
 	return nil
 }
@@ -220,21 +248,19 @@ func (p *prepared) wide(b *batch, c *column, j, nKeys int, sites []int32, ns []i
 		return err
 	}
 	nch := int64(len(p.chanDict))
-	p.group(sites, nKeys, ns, vals, func(lo int, keys []int32) (kept int) {
-		for i, s := range keys {
+	p.group(nKeys, ns, vals, func(lo int, t *tally) {
+		for i, s := range sites[lo : lo+len(t.keys)] {
+			t.keys[i] = -1
 			if s < 0 {
 				continue
 			}
-			keys[i] = -1
 			r := lo + i
 			if d := dropOf(vals[r], valid != nil && !valid[r]); d >= 0 {
 				wc.drops[d]++
 				continue
 			}
-			keys[i] = p.key(int64(s)*nch + int64(j))
-			kept++
+			t.put(i, p.key(int64(s)*nch+int64(j)))
 		}
-		return kept
 	})
 	return nil
 }
@@ -252,70 +278,104 @@ func dropOf(v float64, null bool) int {
 	return -1
 }
 
-// group files the readings of a batch into arenas, sorted by key and in
+// group files the readings of a batch into the arena, sorted by key and in
 // read order within a key: a counting sort in blocks small enough for the
-// caches. keysOf turns the local sites of the rows of a block, from row lo
-// on, into keys below nKeys (or numbered by p.key), -1 for a row without
-// reading, and counts the readings. A dump ordered by time puts consecutive readings in different
-// series, and writing thousands of series at random would miss the caches
-// on every reading.
-func (p *prepared) group(sites []int32, nKeys int, ns []int64, vals []float64, keysOf func(lo int, keys []int32) int) {
-	n := len(sites)
-	next := make([]int32, nKeys) // per key: count, then next slot, within a block
-	buf := make([]int32, min(n, groupBlock))
-	var touched []int32
+// caches. keysOf files the rows of a block, from row lo on, under their keys
+// with t.put: keys below nKeys, or numbered by p.key; the others get key
+// -1. A dump ordered by time puts consecutive readings in different series,
+// and writing thousands of series at random would miss the caches on every
+// reading.
+func (p *prepared) group(nKeys int, ns []int64, vals []float64, keysOf func(lo int, t *tally)) {
+	n := len(ns)
+	a := &p.arena
+	a.times, a.vals = slices.Grow(a.times, n), slices.Grow(a.vals, n)
+	a.keys = reuse(a.keys, min(n, groupBlock))
+	t := &tally{next: make([]int32, nKeys)}
+	first := len(a.runs)
 	for lo := 0; lo < n; lo += groupBlock {
-		keys := buf[:min(n-lo, groupBlock)]
-		copy(keys, sites[lo:])
-		kept := keysOf(lo, keys)
-		if kept == 0 {
+		t.keys, t.touched, t.kept = a.keys[:min(n-lo, groupBlock)], t.touched[:0], 0
+		if need := len(p.pairs) + len(t.keys); p.numbered != nil && need > len(t.next) {
+			t.next = append(t.next, make([]int32, need-len(t.next))...) // room for the keys the block may number
+		}
+		keysOf(lo, t)
+		if t.kept == 0 {
 			continue
 		}
-		if len(p.pairs) > len(next) { // keys numbered as they come
-			next = append(next, make([]int32, len(p.pairs)-len(next))...)
-		}
-		touched = touched[:0]
-		for _, k := range keys {
-			if k < 0 {
-				continue
-			}
-			if next[k] == 0 {
-				touched = append(touched, k)
-			}
-			next[k]++
-		}
-		a := int32(len(p.arenas))
+		// Room for as many runs in the blocks to come.
+		a.runs = slices.Grow(a.runs, len(t.touched)*((n-lo+groupBlock-1)/groupBlock))
+		base := len(a.times)
+		next := t.next
 		off := int32(0)
-		p.runs = slices.Grow(p.runs, len(touched))
-		for _, k := range touched {
+		for _, k := range t.touched {
 			c := next[k]
-			p.runs = append(p.runs, localRun{a, k, off, c})
+			a.runs = append(a.runs, localRun{k, c, base + int(off), lo+groupBlock >= n})
 			next[k] = off
 			off += c
 		}
-		ar := arena{times: make([]int64, kept), vals: make([]float64, kept)}
-		ts, vs := ns[lo:lo+len(keys)], vals[lo:lo+len(keys)]
-		for i, k := range keys {
+		a.times, a.vals = a.times[:base+t.kept], a.vals[:base+t.kept]
+		at, av := a.times[base:], a.vals[base:]
+		ts, vs := ns[lo:lo+len(t.keys)], vals[lo:lo+len(t.keys)]
+		for i, k := range t.keys {
 			if k < 0 {
 				continue
 			}
 			q := next[k]
 			next[k]++
-			ar.times[q], ar.vals[q] = ts[i], vs[i]
+			at[q], av[q] = ts[i], vs[i]
 		}
-		for _, k := range touched {
+		for _, k := range t.touched {
 			next[k] = 0
 		}
-		p.arenas = append(p.arenas, ar)
 	}
+	a.sortRuns(first, t.next)
+}
+
+// tally is the keys of the rows of a block, and the readings of each key.
+type tally struct {
+	keys    []int32 // by row, -1 for a row without reading
+	next    []int32 // by key: readings, then group's next slot
+	touched []int32 // keys in order of first reading
+	kept    int
+}
+
+// put files row i under key k.
+func (t *tally) put(i int, k int32) {
+	if t.next[k] == 0 {
+		t.touched = append(t.touched, k)
+	}
+	t.next[k]++
+	t.keys[i] = k
+	t.kept++
+}
+
+// sortRuns puts the runs from first on of a key next to each other, in
+// block order, so that merge copies the readings of a series in one go;
+// count is zero and has a slot for every key.
+func (a *arena) sortRuns(first int, count []int32) {
+	runs := a.runs[first:]
+	for _, r := range runs {
+		count[r.key]++
+	}
+	pos := int32(0)
+	for k, c := range count {
+		count[k] = pos
+		pos += c
+	}
+	a.tmp = reuse(a.tmp, len(runs))
+	for _, r := range runs {
+		a.tmp[count[r.key]] = r
+		count[r.key]++
+	}
+	copy(runs, a.tmp)
 }
 
 // groupBlock is the number of rows group sorts at a time.
-const groupBlock = 1 << 17
+const groupBlock = 1 << 18
 
 // merge files a prepared batch under the global site, channel and series
-// numbers; batches are merged in read order.
-func (r *reader) merge(p *prepared, ro roles) error {
+// numbers; batches are merged in read order. ahead is the number of rows
+// the file has after the batch per row of the batch, 0 when unknown.
+func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 	b := p.b
 	r.sum.NaiveTime = r.sum.NaiveTime || p.naive
 	for i, n := range p.drops {
@@ -344,11 +404,20 @@ func (r *reader) merge(p *prepared, ro roles) error {
 		r.sites[sites[p.pos.site[k]]].track.add(p.pos.t[k], [2]float64{p.pos.lat[k], p.pos.lon[k]})
 	}
 	r.fitTable()
-	base := int32(len(r.kept.arenas))
-	r.kept.arenas = append(r.kept.arenas, p.arenas...)
+	// Room for the readings the rest of the file would bring at the pace
+	// of this batch, a batch more for the rounding of allocations.
+	limit := int64(float64(len(p.arena.times)) * (ahead + 1))
 	nch := int64(len(p.chanDict))
-	for _, lr := range p.runs {
-		pair := p.pair(lr.key)
+	a := &p.arena
+	for i := 0; i < len(a.runs); {
+		key, n := a.runs[i].key, 0
+		j := i
+		for ; j < len(a.runs) && a.runs[j].key == key; j++ {
+			n += int(a.runs[j].n)
+		}
+		runs := a.runs[i:j]
+		i = j
+		pair := p.pair(key)
 		ch := chans[pair%nch]
 		if ch < 0 {
 			continue
@@ -358,7 +427,19 @@ func (r *reader) merge(p *prepared, ro roles) error {
 		if id < 0 {
 			id = r.newSeries(s, ch)
 		}
-		r.kept.runs[id] = append(r.kept.runs[id], run{base + lr.arena, lr.off, lr.n})
+		extra := 0
+		if runs[len(runs)-1].tail { // a series still reporting at the end of the batch
+			extra = int(float64(n) * ahead)
+		}
+		r.kept.reserve(id, n, extra, limit)
+		for _, lr := range runs {
+			end := lr.off + int(lr.n)
+			r.kept.add(id, a.times[lr.off:end], a.vals[lr.off:end])
+		}
+	}
+	select {
+	case r.arenas <- a.empty():
+	default:
 	}
 	return nil
 }

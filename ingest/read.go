@@ -155,10 +155,11 @@ type reader struct {
 	drops    [nDrops]int64
 	sum      Summary
 
-	kept       store   // the readings kept
-	seriesSite []int32 // site of each series
-	seriesChan []int32 // channel of each series
-	table      []int32 // series+1 by site*stride+channel, 0 for none yet
+	kept       store      // the readings kept
+	arenas     chan arena // arenas merge is done with, for prepare to reuse
+	seriesSite []int32    // site of each series
+	seriesChan []int32    // channel of each series
+	table      []int32    // series+1 by site*stride+channel, 0 for none yet
 	stride     int
 }
 
@@ -176,6 +177,7 @@ func newReader(opt Options) *reader {
 		wide:    make(map[string]int),
 		pending: make(map[string]int64),
 		present: make(map[string]bool),
+		arenas:  make(chan arena, 4),
 	}
 	r.epoch, _ = unitNanos(opt.TimeUnit)
 	if len(opt.Channels) > 0 {
@@ -216,11 +218,19 @@ func (r *reader) readFile(path string) error {
 		}
 	}
 	fs := FileSummary{Path: path, Format: in.format}
+	total := int64(-1) // rows of the file, -1 when the source cannot tell
+	if sz, ok := src.(interface{ numRows() int64 }); ok {
+		total = sz.numRows()
+	}
 	err = pipeline(src, want,
 		func(b *batch) (*prepared, error) { return r.prepare(b, ro) },
 		func(p *prepared) error {
-			fs.Rows += int64(p.b.n)
-			return r.merge(p, ro)
+			fs.Rows += int64(p.rows)
+			ahead := 0.0
+			if total > fs.Rows && p.rows > 0 {
+				ahead = float64(total-fs.Rows) / float64(p.rows)
+			}
+			return r.merge(p, ro, ahead)
 		})
 	if err != nil {
 		return err
@@ -367,7 +377,7 @@ func (r *reader) newSeries(s, ch int32) int32 {
 	r.seriesSite = append(r.seriesSite, s)
 	r.seriesChan = append(r.seriesChan, ch)
 	r.table[int(s)*r.stride+int(ch)] = id + 1
-	r.kept.runs = append(r.kept.runs, nil)
+	r.kept.newSeries()
 	return id
 }
 

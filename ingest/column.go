@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"fmt"
 	"math"
 	"strconv"
 	"strings"
@@ -99,6 +100,14 @@ func (b *batch) errAt(i int, column, format string, args ...any) *Error {
 		e.Row = b.first + int64(i) + 1
 	}
 	return e
+}
+
+// place says where row i of the batch is in its file, as errAt does.
+func (b *batch) place(i int) string {
+	if b.lines != nil {
+		return fmt.Sprintf("line %d", b.lines[i])
+	}
+	return fmt.Sprintf("row %d", b.first+int64(i)+1)
 }
 
 // wrongType is the error for a column whose type cannot serve its role.

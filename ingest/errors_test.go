@@ -110,7 +110,9 @@ func TestBadInput(t *testing.T) {
 			return []string{writeFile(t, "long.csv", []byte(goodCSV)), writeFile(t, "wide.csv", []byte("site,time,flow\nA,1,2\n"))}
 		}, nil, false, []string{"wide.csv: wide layout, but the files before are long"}},
 		{"unknown channel", func() []string { return []string{writeFile(t, "c.csv", []byte(goodCSV))} },
-			func(o *Options) { o.Channels = []string{"flow", "pressure"} }, false, []string{`channel "pressure" not found`}},
+			func(o *Options) { o.Channels = []string{"flow", "pressure"} }, false, []string{`c.csv: selected channel "pressure" is not in the dump, whose channels are "flow"`}},
+		{"unknown channel of a wide dump", func() []string { return []string{writeFile(t, "w.csv", []byte("site,time,temp,flow\nA,1,2,3\n"))} },
+			func(o *Options) { o.Channels = []string{"rain"} }, false, []string{`w.csv: selected channel "rain" is not in the dump, whose channels are "flow", "temp"`}},
 		{"non-numeric selected channel", func() []string { return []string{writeFile(t, "n.csv", []byte("site,time,note\nA,1,hello\n"))} },
 			func(o *Options) { o.Channels = []string{"note"} }, false, []string{`n.csv: line 2: column "note": "hello" is not a number`}},
 		{"position out of range", func() []string {

@@ -4,10 +4,12 @@ import (
 	"errors"
 	"fmt"
 	"io/fs"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"strings"
 	"time"
 )
@@ -95,6 +97,11 @@ func expand(paths []string) ([]string, error) {
 		if err != nil {
 			return nil, usagef("bad pattern %q: %v", p, err)
 		}
+		// A pattern such as week48/* may also match folders; they are no dumps.
+		matches = slices.DeleteFunc(matches, func(m string) bool {
+			st, err := os.Stat(m)
+			return err == nil && st.IsDir()
+		})
 		if len(matches) == 0 {
 			return nil, usagef("pattern %q matches no file", p)
 		}
@@ -151,7 +158,7 @@ type reader struct {
 	chanIdx  map[string]int32
 	wide     map[string]int   // wide layout: state of each candidate column
 	pending  map[string]int64 // wide CSV: blank cells of columns still unknown
-	present  map[string]bool  // wide: candidate channel columns met
+	present  map[string]bool  // channels met that are not selected, and wide candidate columns
 	drops    [nDrops]int64
 	sum      Summary
 
@@ -285,6 +292,9 @@ func (r *reader) mapColumns(fields []field) (roles, error) {
 		switch {
 		case i == ro.site || i == ro.time || i == ro.lat || i == ro.lon:
 		case r.selected != nil && !r.selected[f.name]:
+			if f.numeric() {
+				r.present[f.name] = true // for the message of a selected channel never met
+			}
 		case f.name == "":
 			r.skip(fmt.Sprintf("(unnamed column %d)", i+1))
 		case !f.numeric():
@@ -303,9 +313,18 @@ func (r *reader) mapColumns(fields []field) (roles, error) {
 func missingColumn(name string, fields []field) error {
 	names := make([]string, len(fields))
 	for i, f := range fields {
-		names[i] = fmt.Sprintf("%q", f.name)
+		names[i] = f.name
 	}
-	return colErr(name, "no such column (the file has %s)", strings.Join(names, ", "))
+	return colErr(name, "no such column (the file has %s)", quoteList(names))
+}
+
+// quoteList quotes names and joins them with commas.
+func quoteList(names []string) string {
+	q := make([]string, len(names))
+	for i, n := range names {
+		q[i] = strconv.Quote(n)
+	}
+	return strings.Join(q, ", ")
 }
 
 // skip lists a column in Summary.SkippedColumns once.
@@ -348,6 +367,9 @@ func (r *reader) channelIndex(name string) int32 {
 		return i
 	}
 	if r.selected != nil && !r.selected[name] {
+		if !r.present[name] {
+			r.present[strings.Clone(name)] = true // for the message of a selected channel never met
+		}
 		return -1
 	}
 	name = strings.Clone(name)
@@ -384,7 +406,13 @@ func (r *reader) newSeries(s, ch int32) int32 {
 func (r *reader) finish() (*Dataset, error) {
 	for _, ch := range r.opt.Channels {
 		if _, ok := r.chanIdx[ch]; !ok && !r.present[ch] {
-			return nil, &Error{Err: fmt.Errorf("channel %q not found in the dump", ch)}
+			met := slices.Concat(slices.Collect(maps.Keys(r.present)), r.channels)
+			slices.Sort(met)
+			files := make([]string, len(r.sum.Files))
+			for i, f := range r.sum.Files {
+				files[i] = f.Path
+			}
+			return nil, &Error{File: strings.Join(files, ", "), Err: fmt.Errorf("selected channel %q is not in the dump, whose channels are %s", ch, quoteList(met))}
 		}
 	}
 	for _, n := range r.pending {

@@ -104,6 +104,21 @@ type regTable struct {
 	lat, lon []float64
 	located  []bool
 	attrs    []*attrColumn
+	at       map[string]string // where each id was read: "line 2", "row 2", "feature 2"
+}
+
+// addID adds the id of the next row, read at where, and returns where the
+// id was read before, if it was.
+func (t *regTable) addID(id, where string) (before string, dup bool) {
+	if before, dup = t.at[id]; dup {
+		return before, true
+	}
+	if t.at == nil {
+		t.at = make(map[string]string)
+	}
+	t.at[id] = where
+	t.ids = append(t.ids, id)
+	return "", false
 }
 
 type attrColumn struct {
@@ -176,7 +191,10 @@ func (t *regTable) addBatch(b *batch, key, lat, lon int, attrOf []*attrColumn) e
 		if c < 0 {
 			return b.errAt(i, b.cols[key].name, "empty site id")
 		}
-		t.ids = append(t.ids, strings.Clone(dict[c]))
+		id := strings.Clone(dict[c])
+		if before, dup := t.addID(id, b.place(i)); dup {
+			return b.errAt(i, b.cols[key].name, "site id %q appears more than once (first at %s)", id, before)
+		}
 	}
 	if lat >= 0 {
 		la, laOK, err := b.floats(b.cols[lat])
@@ -336,7 +354,9 @@ func geoJSONTable(r io.Reader, opt RegisterOptions) (*regTable, error) {
 		if !ok {
 			return nil, fmt.Errorf("GeoJSON feature %d: no site id (property %q or feature id)", i+1, opt.Key)
 		}
-		t.ids = append(t.ids, idText)
+		if before, dup := t.addID(idText, fmt.Sprintf("feature %d", i+1)); dup {
+			return nil, fmt.Errorf("GeoJSON feature %d: site id %q appears more than once (first at %s)", i+1, idText, before)
+		}
 		var pt orb.Point
 		switch g := f.Geometry.(type) {
 		case nil:

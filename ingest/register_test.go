@@ -73,6 +73,14 @@ func TestReadRegisterGeoJSON(t *testing.T) {
 		!strings.Contains(err.Error(), "LineString geometry, want Point") {
 		t.Errorf("line geometry: %v", err)
 	}
+	twice := `{"type": "FeatureCollection", "features": [
+	 {"type": "Feature", "id": "D", "geometry": null, "properties": null},
+	 {"type": "Feature", "id": "E", "geometry": null, "properties": null},
+	 {"type": "Feature", "geometry": null, "properties": {"site": "D"}}]}`
+	if _, err := ReadRegister(writeFile(t, "twice.geojson", []byte(twice)), RegisterOptions{}); err == nil ||
+		!strings.Contains(err.Error(), `twice.geojson: GeoJSON feature 3: site id "D" appears more than once (first at feature 1)`) {
+		t.Errorf("duplicate feature ids: %v", err)
+	}
 }
 
 func TestReadRegisterParquetAndArrow(t *testing.T) {
@@ -120,7 +128,7 @@ func TestBadRegister(t *testing.T) {
 		want       string
 	}{
 		{"duplicate ids", "site,lat,lon\nA,1,2\nB,3,4\nA,5,6\n", RegisterOptions{}, false,
-			`sites.csv: site id "A" appears more than once`},
+			`sites.csv: line 4: column "site": site id "A" appears more than once (first at line 2)`},
 		// Sydney and Munich with the columns exchanged: latitudes 151 and
 		// 11, longitudes -33 and 48.
 		{"swapped lat and lon", "site,lat,lon\nSYD,151.2093,-33.8688\nMUC,11.5756,48.1372\n", RegisterOptions{}, false,

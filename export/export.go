@@ -6,8 +6,10 @@ package export
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"slices"
@@ -46,7 +48,7 @@ type Run struct {
 	Summary     *ingest.Summary       // what was read; nil when unknown
 	Info        any                   // machine-readable run summary, written as run.json
 	Changes     []mapper.RegimeChange // regime renumbering by an update, listed in the report
-	Warnings    []string              // from earlier stages, shown in the report
+	Warnings    []string              // from earlier stages, shown in the report, each warning once
 	Title       string                // heading of the report; "" means "kinmap run"
 }
 
@@ -72,8 +74,7 @@ type Run struct {
 // tracks.geojson, written only when some site is mobile (its windows have
 // more than one distinct position), holds a LineString of window positions
 // per mobile site and regime segment, with site, regime, start, end,
-// windows and colour. A run without mobile sites removes the tracks.geojson
-// of an earlier run.
+// windows and colour.
 //
 // timeline.parquet and timeline.csv hold one row per window (site,
 // window_start, window_end, col, row, regime, qe, unfamiliar), switches.csv
@@ -86,7 +87,9 @@ type Run struct {
 // Every file is first written in full as a hidden temporary file in dir;
 // only when all were written are they renamed into place, so that a
 // failure leaves neither a half-written file nor a mix of this run's and an
-// earlier run's outputs (short of a failing rename).
+// earlier run's outputs (short of a failing rename). Then the optional
+// outputs this run did not make, tracks.geojson and the pictures (see
+// picture.Files), are removed if an earlier run left them.
 func Write(dir string, r *Run) error {
 	if err := check(r); err != nil {
 		return err
@@ -124,16 +127,35 @@ func Write(dir string, r *Run) error {
 	for _, p := range pics {
 		st.add(p.File, func(w io.Writer) error { _, err := w.Write(p.PNG); return err })
 	}
-	st.add(ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, warnings, pics, st.names) })
+	written := slices.Clone(st.names) // listed by the report, with itself
+	st.add(ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, warnings, pics, written) })
 	if err := st.commit(); err != nil {
 		return err
 	}
-	if len(tracks) == 0 {
-		if err := os.Remove(filepath.Join(dir, TracksFile)); err != nil && !os.IsNotExist(err) {
-			return fmt.Errorf("export: stale %w", err)
+	return removeStale(dir, written)
+}
+
+// removeStale removes from dir the outputs Write can make that this run,
+// which wrote the files named in written, did not: tracks.geojson and the
+// pictures of an earlier run would no longer match the other files.
+func removeStale(dir string, written []string) error {
+	var errs []error
+	removed := false
+	for _, name := range append([]string{TracksFile}, picture.Files()...) {
+		if slices.Contains(written, name) {
+			continue
+		}
+		switch err := os.Remove(filepath.Join(dir, name)); {
+		case err == nil:
+			removed = true
+		case !errors.Is(err, fs.ErrNotExist):
+			errs = append(errs, fmt.Errorf("export: stale output: %w", err))
 		}
 	}
-	return nil
+	if removed {
+		syncDir(dir)
+	}
+	return errors.Join(errs...)
 }
 
 // Warnings returns what Write will warn about in the report, for example a

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"maps"
 	"os"
 	"path/filepath"
@@ -133,22 +134,62 @@ func TestStageNames(t *testing.T) {
 	}
 }
 
-// A run without mobile units removes the tracks of an earlier run, which
-// would no longer match the other files.
-func TestStaleTracksRemoved(t *testing.T) {
-	dir := t.TempDir()
-	if err := Write(dir, fixtureRun()); err != nil {
-		t.Fatal(err)
-	}
-	r := fixtureRun()
-	for i := range r.Table.Windows {
-		r.Table.Windows[i].Located = r.Table.Windows[i].Site != "T-7"
-	}
-	if err := Write(dir, r); err != nil {
-		t.Fatal(err)
-	}
-	if _, err := os.Stat(filepath.Join(dir, TracksFile)); !os.IsNotExist(err) {
-		t.Errorf("%s still there: %v", TracksFile, err)
+// A run that does not make an optional output removes the one an earlier
+// run made, which would no longer match the other files: it leaves the
+// folder as a fresh run into an empty folder would, apart from files that
+// are not outputs.
+func TestStaleOutputsRemoved(t *testing.T) {
+	for _, tc := range []struct {
+		name   string
+		change func(*Run)
+		gone   []string
+	}{
+		{"no mobile site", func(r *Run) {
+			for i := range r.Table.Windows {
+				r.Table.Windows[i].Located = r.Table.Windows[i].Site != "T-7"
+			}
+		}, []string{TracksFile}},
+		{"no located site and no switch", func(r *Run) {
+			r.Register = nil
+			r.Switches = nil
+			for i := range r.Table.Windows {
+				r.Table.Windows[i].Located = false
+			}
+		}, []string{TracksFile, "sites.png", "timelines.png"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			dir := t.TempDir()
+			if err := os.WriteFile(filepath.Join(dir, "notes.txt"), []byte("kept"), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			if err := Write(dir, fixtureRun()); err != nil {
+				t.Fatal(err)
+			}
+			for _, name := range tc.gone {
+				if _, err := os.Stat(filepath.Join(dir, name)); err != nil {
+					t.Fatalf("the first run did not write %s: %v", name, err)
+				}
+			}
+			r := fixtureRun()
+			tc.change(r)
+			if err := Write(dir, r); err != nil {
+				t.Fatal(err)
+			}
+			fresh := t.TempDir()
+			if err := Write(fresh, r); err != nil {
+				t.Fatal(err)
+			}
+			want := append(slices.Sorted(maps.Keys(snapshot(t, fresh))), "notes.txt")
+			slices.Sort(want)
+			if got := slices.Sorted(maps.Keys(snapshot(t, dir))); !slices.Equal(got, want) {
+				t.Errorf("folder holds %v, want %v", got, want)
+			}
+			for _, name := range tc.gone {
+				if _, err := os.Stat(filepath.Join(dir, name)); !errors.Is(err, fs.ErrNotExist) {
+					t.Errorf("%s still there: %v", name, err)
+				}
+			}
+		})
 	}
 }
 

@@ -50,7 +50,7 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 		by := float64(sh.clip.Max.Y) + 6
 		rampStrip(c, x, by, pw, planeBar, lo, hi)
 	}
-	return c, Picture{File: "components.png", Title: "Component planes",
+	return c, Picture{Title: "Component planes",
 		Caption: "One plane per feature: each unit in the colour of its codebook value for that feature, light for low and " +
 			"dark for high, on the feature's own range. " + scaleNote(m) + " " + wrapNote(l)}
 }

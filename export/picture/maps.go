@@ -21,26 +21,6 @@ var dotInk = color.RGBA{0x2F, 0x3B, 0x4A, 0xFF}
 func regimeMap(ft *fonts, in Input) (*canvas, Picture) {
 	m := in.Model
 	l := m.Map.Lattice
-	ids := regimeIDs(m)
-	const legendW, rowH = 400.0, 3*lineGap + 6
-	c, sh, lp := latticePage(ft, l, "Regime map",
-		fmt.Sprintf("%s, %d regimes", shapeName(l), len(m.Regimes)), legendW, float64(len(ids))*rowH+2*lineGap)
-	tiles := sh.tiles()
-	for _, t := range tiles {
-		c.fillRegime(sh.clip, m.UnitRegime[t.u], t.fade(), sh.body(t))
-	}
-	es := sh.edges(tiles)
-	sh.outline(c, es, true)
-	sh.borders(c, es, m.UnitRegime)
-	for _, id := range ids {
-		u, ok := labelUnit(sh, m.UnitRegime, id)
-		if !ok {
-			continue
-		}
-		x, y := l.Position(u)
-		numberBadge(c, sh.px(x, y), sh.s, strconv.Itoa(id))
-	}
-
 	hits := m.Map.Hits(in.Assignments)
 	units := make(map[int]int)
 	windows := make(map[int]int)
@@ -52,29 +32,61 @@ func regimeMap(ft *fonts, in Input) (*canvas, Picture) {
 	for _, r := range m.Regimes {
 		desc[r.ID] = r.Description
 	}
-	y := lp.Y + ascent(ft.head)
-	c.text(lp.X, y, "Regimes", ft.head, ink, alignLeft)
-	y += lineGap + 12
-	for _, id := range ids {
-		swatch := sheet{lat: l, s: 26, pitch: sh.pitch}.shape(pt{lp.X + 13, y - ascent(ft.body)/2}, 0)
-		c.fillRegime(c.img.Bounds(), id, 0, swatch)
-		name, d := strconv.Itoa(id), desc[id]
+	// The legend is laid out first, as its entries take one or two lines
+	// of description and the page must hold them.
+	const legendW, entryGap = 400.0, 14
+	type entry struct {
+		id          int
+		name, count string
+		lines       []string
+	}
+	var legend []entry
+	legendH := ascent(ft.head) + lineGap + 12
+	for _, id := range regimeIDs(m) {
+		e := entry{id: id, name: strconv.Itoa(id), count: plural(units[id], "unit")}
+		d := desc[id]
 		if id < 1 {
-			name, d = "–", "no regime"
+			e.name, d = "–", "no regime"
 		} else if d == "" {
 			d = "no description"
 		}
-		c.text(lp.X+36, y, name, ft.label, ink, alignLeft)
-		lines := wrap(ft.body, d, legendW-64, 2)
-		textLines(c, lp.X+64, y, ft.body, ink, lines...)
-		share := ""
+		e.lines = wrap(ft.body, d, legendW-64, 2)
 		if len(in.Assignments) > 0 {
-			share = fmt.Sprintf(", %.0f %% of windows", 100*float64(windows[id])/float64(len(in.Assignments)))
+			e.count += fmt.Sprintf(", %.0f %% of windows", 100*float64(windows[id])/float64(len(in.Assignments)))
 		}
-		c.text(lp.X+64, y+float64(len(lines))*lineGap, plural(units[id], "unit")+share, ft.small, softInk, alignLeft)
-		y += rowH
+		legend = append(legend, e)
+		legendH += float64(len(e.lines)+1)*lineGap + entryGap
 	}
-	return c, Picture{File: "regimes.png", Title: "Regime map",
+
+	c, sh, lp := latticePage(ft, l, "Regime map",
+		fmt.Sprintf("%s, %d regimes", shapeName(l), len(m.Regimes)), legendW, legendH)
+	tiles := sh.tiles()
+	for _, t := range tiles {
+		c.fillRegime(sh.clip, m.UnitRegime[t.u], t.fade(), sh.body(t))
+	}
+	es := sh.edges(tiles)
+	sh.outline(c, es, true)
+	sh.borders(c, es, m.UnitRegime)
+	for _, e := range legend {
+		u, ok := labelUnit(sh, m.UnitRegime, e.id)
+		if !ok {
+			continue
+		}
+		x, y := l.Position(u)
+		numberBadge(c, sh.px(x, y), sh.s, strconv.Itoa(e.id))
+	}
+
+	y := lp.Y + ascent(ft.head)
+	c.text(lp.X, y, "Regimes", ft.head, ink, alignLeft)
+	y += lineGap + 12
+	for _, e := range legend {
+		swatch := sheet{lat: l, s: 26, pitch: sh.pitch}.shape(pt{lp.X + 13, y - ascent(ft.body)/2}, 0)
+		c.fillRegime(c.img.Bounds(), e.id, 0, swatch)
+		c.text(lp.X+36, y, e.name, ft.label, ink, alignLeft)
+		y = textLines(c, lp.X+64, y, ft.body, ink, e.lines...)
+		y = textLines(c, lp.X+64, y, ft.small, softInk, e.count) + entryGap
+	}
+	return c, Picture{Title: "Regime map",
 		Caption: "Each unit of the map in the colour of its operating regime, with the regime's number at its heart and dark lines " +
 			"where regimes meet. " + wrapNote(l)}
 }
@@ -187,7 +199,7 @@ func uMatrix(ft *fonts, in Input) (*canvas, Picture) {
 	y = textLines(c, lp.X, y, ft.small, softInk, "to neighbours, in", "standardised units")
 	colourBar(c, lp.X, y, 28, 360, lo, hi)
 	textLines(c, lp.X, y+360+lineGap+8, ft.small, softInk, "light: alike neighbours", "dark: a border between", "groups of units")
-	return c, Picture{File: "umatrix.png", Title: "U-matrix",
+	return c, Picture{Title: "U-matrix",
 		Caption: "Mean Euclidean distance between each unit's codebook vector and those of its lattice neighbours, in " +
 			"standardised feature units: light tiles sit among alike neighbours, dark tiles on borders between groups. " + wrapNote(l)}
 }
@@ -243,7 +255,7 @@ func hitMap(ft *fonts, in Input) (*canvas, Picture) {
 	y = cy + 2*lineGap
 	textLines(c, lp.X, y, ft.small, softInk, "dot area proportional to", "the windows a unit won;",
 		fmt.Sprintf("%s unused (%.0f %%)", plural(unused, "unit"), 100*float64(unused)/float64(l.Units())))
-	return c, Picture{File: "hits.png", Title: "Hit counts",
+	return c, Picture{Title: "Hit counts",
 		Caption: "Windows won by each unit of the map: the area of each dot is proportional to the unit's windows, and a cross " +
 			"marks a unit that won none. " + wrapNote(l)}
 }

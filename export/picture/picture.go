@@ -59,11 +59,12 @@ func All(in Input) ([]Picture, error) {
 		return nil, err
 	}
 	var out []Picture
-	for _, d := range []drawer{regimeMap, siteMap, timelines, uMatrix, hitMap, componentPlanes} {
-		c, p := d(ft, in)
+	for _, pg := range pages() {
+		c, p := pg.draw(ft, in)
 		if c == nil {
 			continue
 		}
+		p.File = pg.file
 		p.Width, p.Height = c.img.Bounds().Dx(), c.img.Bounds().Dy()
 		if p.PNG, err = c.encode(); err != nil {
 			return nil, fmt.Errorf("picture: %s: %w", p.File, err)
@@ -73,9 +74,38 @@ func All(in Input) ([]Picture, error) {
 	return out, nil
 }
 
-// drawer draws one picture: it returns the canvas and the picture's names,
-// or a nil canvas when it has nothing to show.
+// Files returns the file names of every picture All can draw, in its
+// order, whether or not a given run draws them, so that a caller can clear
+// away the pictures an earlier run drew and this one does not.
+func Files() []string {
+	var out []string
+	for _, pg := range pages() {
+		out = append(out, pg.file)
+	}
+	return out
+}
+
+// drawer draws one picture: it returns the canvas and the picture's title
+// and caption, or a nil canvas when it has nothing to show.
 type drawer func(*fonts, Input) (*canvas, Picture)
+
+// page is one picture All can draw, with the name of its file.
+type page struct {
+	file string
+	draw drawer
+}
+
+// pages lists the pictures in reading order.
+func pages() []page {
+	return []page{
+		{"regimes.png", regimeMap},
+		{"sites.png", siteMap},
+		{"timelines.png", timelines},
+		{"umatrix.png", uMatrix},
+		{"hits.png", hitMap},
+		{"components.png", componentPlanes},
+	}
+}
 
 // check reports inputs the pictures cannot show.
 func check(in Input) error {

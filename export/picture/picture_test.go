@@ -52,6 +52,11 @@ func inked(img image.Image) (share float64, colours int) {
 
 func TestAllPictures(t *testing.T) {
 	order := []string{"regimes.png", "sites.png", "timelines.png", "umatrix.png", "hits.png", "components.png"}
+	// Files names every picture All can draw, so that an earlier run's
+	// pictures can be cleared away.
+	if got := Files(); !slices.Equal(got, order) {
+		t.Errorf("Files() = %v, want %v", got, order)
+	}
 	for _, tc := range []struct {
 		name string
 		l    mapper.Lattice

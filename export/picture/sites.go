@@ -105,7 +105,7 @@ func siteMap(ft *fonts, in Input) (*canvas, Picture) {
 
 	const legendW = 260.0
 	lx := float64(g.plot.Max.X + legendGap)
-	h := max(g.plot.Max.Y+plotBottom+lineGap, plotTop+len(ids)*(lineGap+6)+8*lineGap)
+	h := max(g.plot.Max.Y+plotBottom+lineGap, plotTop+len(ids)*(lineGap+6)+9*lineGap)
 	c := newCanvas(int(lx+legendW)+padSide, h, ft)
 	heading(c, "Site map", fmt.Sprintf("%s by regime at the end of the run, WGS 84 longitude and latitude",
 		plural(len(located), "located site")))
@@ -134,11 +134,15 @@ func siteMap(ft *fonts, in Input) (*canvas, Picture) {
 	}
 	y += lineGap
 	if n := len(in.Sites) - len(located); n > 0 {
-		y = textLines(c, lx, y, ft.small, softInk, plural(n, "site")+" without a valid", "position not shown")
+		verb := "are"
+		if n == 1 {
+			verb = "is"
+		}
+		y = textLines(c, lx, y, ft.small, softInk, plural(n, "site")+" without a valid position", verb+" not shown.") + 8
 	}
 	textLines(c, lx, y, ft.small, softInk, "Longitude is shrunk by cos φ",
-		fmt.Sprintf("at φ = %s, so that a", degrees(g.midLat(), 1, "N", "S")), "kilometre is as long east–west", "as north–south")
-	return c, Picture{File: "sites.png", Title: "Site map",
+		fmt.Sprintf("at φ = %s, so that a", degrees(g.midLat(), 1, "N", "S")), "kilometre is as long east–west", "as north–south.")
+	return c, Picture{Title: "Site map",
 		Caption: "Located sites on WGS 84 longitude and latitude, coloured by the regime of their last window. The " +
 			"longitude axis is shrunk by the cosine of the middle latitude, so that distances read the same in every " +
 			"direction; the scale bar is measured along that latitude."}

@@ -131,7 +131,7 @@ func timelines(ft *fonts, in Input) (*canvas, Picture) {
 	if omitted > 0 {
 		caption += fmt.Sprintf(" %d more sites that switched are not shown.", omitted)
 	}
-	return c, Picture{File: "timelines.png", Title: "Regime timelines", Caption: caption}
+	return c, Picture{Title: "Regime timelines", Caption: caption}
 }
 
 // run is a stretch of time a site spends in one regime without a gap.

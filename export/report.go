@@ -84,7 +84,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 		return err
 	}
 	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Entries), SwitchesTotal: len(r.Switches)}
-	d.Warnings = slices.Concat(r.Warnings, r.Model.Quality.Warnings, warnings)
+	d.Warnings = once(r.Warnings, r.Model.Quality.Warnings, warnings)
 	d.Files = append(slices.Clone(files), ReportFile)
 	for _, p := range pics {
 		d.Pictures = append(d.Pictures, reportPicture{
@@ -154,6 +154,22 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 		d.Details = string(b)
 	}
 	return t.Execute(w, d)
+}
+
+// once returns the strings of the lists in order, each once: the
+// caller may pass on the model's and Write's own warnings in r.Warnings.
+func once(lists ...[]string) []string {
+	seen := make(map[string]bool)
+	var out []string
+	for _, l := range lists {
+		for _, s := range l {
+			if !seen[s] {
+				seen[s] = true
+				out = append(out, s)
+			}
+		}
+	}
+	return out
 }
 
 func skippedWindows(r *Run) int {

@@ -5,10 +5,12 @@ import (
 	"html"
 	"image"
 	"image/png"
+	"maps"
 	"os"
 	"os/exec"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -197,5 +199,51 @@ func TestReportShowsRegimeScores(t *testing.T) {
 	doc := html.UnescapeString(string(read(t, dir, ReportFile)))
 	if !strings.Contains(doc, "Davies–Bouldin index") || !strings.Contains(doc, "2: 1.15 · 3: 0.72") {
 		t.Error("report lacks the Davies–Bouldin index of each number of regimes tried")
+	}
+}
+
+// A warning reaches the report once, in the order first given, although
+// the caller passes on the model's and Write's own warnings in r.Warnings,
+// which the report also gathers itself.
+func TestReportWarningsOnce(t *testing.T) {
+	r := fixtureRun()
+	r.Model.Quality.Warnings = []string{"few training windows per unit"}
+	own, err := Warnings(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(own) == 0 {
+		t.Fatal("the fixture has no export warning to repeat")
+	}
+	want := slices.Concat(r.Warnings, r.Model.Quality.Warnings, own)
+	r.Warnings = slices.Concat(r.Warnings, r.Model.Quality.Warnings, own)
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	doc := string(read(t, dir, ReportFile))
+	block := regexp.MustCompile(`(?s)<div class="warnings">.*?</ul>`).FindString(doc)
+	var got []string
+	for _, m := range regexp.MustCompile(`<li>(.*?)</li>`).FindAllStringSubmatch(block, -1) {
+		got = append(got, html.UnescapeString(m[1]))
+	}
+	if !slices.Equal(got, want) {
+		t.Errorf("warnings in the report:\n%q\nwant\n%q", got, want)
+	}
+}
+
+// The report's list of files is the folder's, each file once, the report
+// itself included.
+func TestReportListsFiles(t *testing.T) {
+	dir := written(t)
+	doc := string(read(t, dir, ReportFile))
+	section := regexp.MustCompile(`(?s)<section id="files">.*?</section>`).FindString(doc)
+	var listed []string
+	for _, m := range regexp.MustCompile(`<code>(.*?)</code>`).FindAllStringSubmatch(section, -1) {
+		listed = append(listed, m[1])
+	}
+	slices.Sort(listed)
+	if folder := slices.Sorted(maps.Keys(snapshot(t, dir))); !slices.Equal(listed, folder) {
+		t.Errorf("report lists %v, folder holds %v", listed, folder)
 	}
 }

@@ -11,127 +11,231 @@ import (
 	"time"
 )
 
-// checkRFC7946 checks the structure rules of RFC 7946 on a decoded
-// document: a FeatureCollection with a "features" array (section 3.3) of
-// Features with "geometry" and "properties" members (section 3.2), no
-// "crs" member anywhere (section 4), positions of two numbers, longitude
-// first, in WGS 84 ranges (sections 3.1.1 and 4), LineStrings of at least
-// two positions (section 3.1.4), and closed polygon rings of at least four
-// positions, exterior counterclockwise and holes clockwise (section
-// 3.1.6). It returns the features.
+// checkRFC7946 fails the test for every rule of RFC 7946 that doc breaks
+// (see rfc7946) and returns its features.
 func checkRFC7946(t *testing.T, name string, doc []byte) []map[string]any {
 	t.Helper()
+	features, broken := rfc7946(doc)
+	for _, b := range broken {
+		t.Errorf("%s: %s", name, b)
+	}
+	if len(broken) > 0 {
+		t.FailNow()
+	}
+	return features
+}
+
+// rfc7946 checks a document against the structure rules of RFC 7946
+// (section numbers from memory): a FeatureCollection with a "features"
+// array (3.3) of Features with "geometry" and "properties" members (3.2),
+// no "crs" member anywhere (4; the member of the 2008 specification is
+// gone, Appendix B.1), positions of two numbers, longitude first, in
+// WGS 84 ranges (3.1.1 and 4; a third number, the altitude, is allowed by
+// the RFC but kinmap writes none), LineStrings of two or more positions
+// (3.1.4), and polygon rings closed, of four or more positions, the
+// exterior counterclockwise and holes clockwise (3.1.6, the right-hand
+// rule). It returns the features and the rules broken, each naming its
+// section.
+func rfc7946(doc []byte) ([]map[string]any, []string) {
+	var c geoCheck
 	var root map[string]any
 	if err := json.Unmarshal(doc, &root); err != nil {
-		t.Fatalf("%s: not JSON: %v", name, err)
+		return nil, []string{fmt.Sprintf("not a JSON object: %v", err)}
 	}
 	if root["type"] != "FeatureCollection" {
-		t.Fatalf("%s: type %v, want FeatureCollection (RFC 7946, 3.3)", name, root["type"])
+		return nil, []string{fmt.Sprintf("type %v, want FeatureCollection (RFC 7946, 3.3)", root["type"])}
 	}
-	noCRS(t, name, root)
+	c.noCRS(root)
 	list, ok := root["features"].([]any)
 	if !ok {
-		t.Fatalf("%s: features is %T, want an array (RFC 7946, 3.3)", name, root["features"])
+		c.fail("features is %T, want an array (RFC 7946, 3.3)", root["features"])
 	}
 	var out []map[string]any
 	for i, f := range list {
 		feat, ok := f.(map[string]any)
 		if !ok || feat["type"] != "Feature" {
-			t.Fatalf("%s: feature %d is not a Feature object (RFC 7946, 3.2)", name, i)
+			c.fail("feature %d is not a Feature object (RFC 7946, 3.2)", i)
+			continue
 		}
 		g, hasG := feat["geometry"]
 		p, hasP := feat["properties"]
 		if !hasG || !hasP {
-			t.Errorf("%s: feature %d lacks geometry or properties (RFC 7946, 3.2)", name, i)
+			c.fail("feature %d lacks geometry or properties (RFC 7946, 3.2)", i)
 		}
 		if _, ok := p.(map[string]any); p != nil && !ok {
-			t.Errorf("%s: feature %d: properties is %T (RFC 7946, 3.2)", name, i, p)
+			c.fail("feature %d: properties is %T, want an object or null (RFC 7946, 3.2)", i, p)
 		}
-		if g != nil {
-			checkGeometry(t, fmt.Sprintf("%s: feature %d", name, i), g.(map[string]any))
+		if gm, ok := g.(map[string]any); ok {
+			c.geometry(fmt.Sprintf("feature %d", i), gm)
+		} else if g != nil {
+			c.fail("feature %d: geometry is %T, want an object or null (RFC 7946, 3.2)", i, g)
 		}
 		out = append(out, feat)
 	}
-	return out
+	return out, c.broken
 }
 
-func noCRS(t *testing.T, name string, v any) {
+// geoCheck gathers the rules a GeoJSON document breaks.
+type geoCheck struct{ broken []string }
+
+func (c *geoCheck) fail(format string, args ...any) {
+	c.broken = append(c.broken, fmt.Sprintf(format, args...))
+}
+
+func (c *geoCheck) noCRS(v any) {
 	switch v := v.(type) {
 	case map[string]any:
 		if _, ok := v["crs"]; ok {
-			t.Errorf("%s: has a crs member (RFC 7946, 4)", name)
+			c.fail("has a crs member (RFC 7946, 4)")
 		}
-		for _, c := range v {
-			noCRS(t, name, c)
+		for _, m := range v {
+			c.noCRS(m)
 		}
 	case []any:
-		for _, c := range v {
-			noCRS(t, name, c)
+		for _, m := range v {
+			c.noCRS(m)
 		}
 	}
 }
 
-func checkGeometry(t *testing.T, where string, g map[string]any) {
-	t.Helper()
-	c := g["coordinates"]
+func (c *geoCheck) geometry(where string, g map[string]any) {
+	coords := g["coordinates"]
 	switch g["type"] {
 	case "Point":
-		checkPosition(t, where, c)
+		c.position(where, coords)
 	case "MultiPoint":
-		for _, p := range c.([]any) {
-			checkPosition(t, where, p)
+		for _, p := range c.array(where, coords) {
+			c.position(where, p)
 		}
 	case "LineString":
-		line := c.([]any)
+		line := c.array(where, coords)
 		if len(line) < 2 {
-			t.Errorf("%s: LineString of %d positions (RFC 7946, 3.1.4)", where, len(line))
+			c.fail("%s: LineString of %d positions (RFC 7946, 3.1.4)", where, len(line))
 		}
 		for _, p := range line {
-			checkPosition(t, where, p)
+			c.position(where, p)
 		}
 	case "Polygon":
-		checkPolygon(t, where, c.([]any))
+		c.polygon(where, c.array(where, coords))
 	case "MultiPolygon":
-		for _, poly := range c.([]any) {
-			checkPolygon(t, where, poly.([]any))
+		for _, poly := range c.array(where, coords) {
+			c.polygon(where, c.array(where, poly))
 		}
 	default:
-		t.Errorf("%s: geometry type %v not expected here", where, g["type"])
+		c.fail("%s: geometry type %v not expected here", where, g["type"])
 	}
 }
 
-func checkPosition(t *testing.T, where string, p any) [2]float64 {
-	t.Helper()
-	a, ok := p.([]any)
-	if !ok || len(a) != 2 {
-		t.Errorf("%s: position %v is not [lon, lat] (RFC 7946, 3.1.1)", where, p)
+// array returns v as a JSON array, failing when it is not one.
+func (c *geoCheck) array(where string, v any) []any {
+	a, ok := v.([]any)
+	if !ok {
+		c.fail("%s: coordinates %v are not an array (RFC 7946, 3.1)", where, v)
+	}
+	return a
+}
+
+func (c *geoCheck) position(where string, p any) [2]float64 {
+	a, _ := p.([]any)
+	var lon, lat float64
+	ok := len(a) == 2
+	if ok {
+		lon, ok = a[0].(float64)
+	}
+	if ok {
+		lat, ok = a[1].(float64)
+	}
+	if !ok {
+		c.fail("%s: position %v is not [lon, lat] (RFC 7946, 3.1.1)", where, p)
 		return [2]float64{}
 	}
-	lon, lat := a[0].(float64), a[1].(float64)
+	// Latitude written first shows as a latitude beyond ±90° whenever the
+	// longitude is (as for a site in Australia, 151°E).
 	if lon < -180 || lon > 180 || lat < -90 || lat > 90 {
-		t.Errorf("%s: position %v outside WGS 84 ranges (RFC 7946, 4)", where, p)
+		c.fail("%s: position %v outside WGS 84 ranges; longitude first (RFC 7946, 3.1.1 and 4)", where, p)
 	}
 	return [2]float64{lon, lat}
 }
 
-func checkPolygon(t *testing.T, where string, rings []any) {
+func (c *geoCheck) polygon(where string, rings []any) {
 	for i, r := range rings {
-		ring := r.([]any)
 		var pts [][2]float64
-		for _, p := range ring {
-			pts = append(pts, checkPosition(t, where, p))
+		for _, p := range c.array(where, r) {
+			pts = append(pts, c.position(where, p))
 		}
 		if len(pts) < 4 || pts[0] != pts[len(pts)-1] {
-			t.Errorf("%s: ring %d is not closed with 4 or more positions (RFC 7946, 3.1.6)", where, i)
+			c.fail("%s: ring %d is not closed with 4 or more positions (RFC 7946, 3.1.6)", where, i)
 			continue
 		}
-		var area float64 // shoelace: positive when counterclockwise
+		var area float64 // shoelace, longitude east and latitude north: positive when counterclockwise
 		for j := 0; j+1 < len(pts); j++ {
 			area += pts[j][0]*pts[j+1][1] - pts[j+1][0]*pts[j][1]
 		}
 		if (i == 0) != (area > 0) {
-			t.Errorf("%s: ring %d breaks the right-hand rule (RFC 7946, 3.1.6)", where, i)
+			c.fail("%s: ring %d breaks the right-hand rule, exterior counterclockwise and holes clockwise (RFC 7946, 3.1.6)", where, i)
 		}
+	}
+}
+
+// The checker finds each broken rule in a document that breaks only that
+// one, and nothing in a correct document with a polygon and a hole, so
+// that its passing on the outputs means something.
+func TestRFC7946Checker(t *testing.T) {
+	// The polygon with a hole of RFC 7946, Appendix A.3 (from memory):
+	// exterior counterclockwise, hole clockwise.
+	const (
+		exterior = `[[100.0,0.0],[101.0,0.0],[101.0,1.0],[100.0,1.0],[100.0,0.0]]`
+		hole     = `[[100.8,0.8],[100.8,0.2],[100.2,0.2],[100.2,0.8],[100.8,0.8]]`
+		reversed = `[[100.0,0.0],[100.0,1.0],[101.0,1.0],[101.0,0.0],[100.0,0.0]]`
+		ccwHole  = `[[100.8,0.8],[100.2,0.8],[100.2,0.2],[100.8,0.2],[100.8,0.8]]`
+	)
+	collection := func(geometries ...string) []byte {
+		var items []string
+		for _, g := range geometries {
+			items = append(items, `{"type":"Feature","geometry":`+g+`,"properties":{"site":"a"}}`)
+		}
+		return []byte(`{"type":"FeatureCollection","features":[` + strings.Join(items, ",") + `]}`)
+	}
+	polygon := func(rings ...string) string {
+		return `{"type":"Polygon","coordinates":[` + strings.Join(rings, ",") + `]}`
+	}
+	good := collection(
+		`{"type":"Point","coordinates":[151.2093,-33.8688]}`,
+		`{"type":"LineString","coordinates":[[8.5,47.3],[8.6,47.35]]}`,
+		polygon(exterior, hole),
+		`{"type":"MultiPolygon","coordinates":[[`+exterior+`,`+hole+`]]}`,
+		`null`,
+	)
+	if features, broken := rfc7946(good); len(broken) != 0 || len(features) != 5 {
+		t.Errorf("correct document: %d features, rules broken %q", len(features), broken)
+	}
+
+	for _, tc := range []struct {
+		name string
+		doc  []byte
+		want string // the rule reported, with its section
+	}{
+		{"crs member", []byte(`{"type":"FeatureCollection","crs":{"type":"name","properties":{"name":"urn:ogc:def:crs:OGC:1.3:CRS84"}},"features":[]}`),
+			"crs member (RFC 7946, 4)"},
+		{"crs member in a feature", []byte(`{"type":"FeatureCollection","features":[{"type":"Feature","crs":null,"geometry":null,"properties":null}]}`),
+			"crs member (RFC 7946, 4)"},
+		{"latitude first", collection(`{"type":"Point","coordinates":[-33.8688,151.2093]}`),
+			"longitude first (RFC 7946, 3.1.1 and 4)"},
+		{"clockwise exterior", collection(polygon(reversed)), "ring 0 breaks the right-hand rule"},
+		{"counterclockwise hole", collection(polygon(exterior, ccwHole)), "ring 1 breaks the right-hand rule"},
+		{"clockwise exterior in a MultiPolygon", collection(`{"type":"MultiPolygon","coordinates":[[` + reversed + `,` + hole + `]]}`),
+			"ring 0 breaks the right-hand rule"},
+		{"open ring", collection(polygon(`[[100.0,0.0],[101.0,0.0],[101.0,1.0],[100.0,1.0]]`)), "not closed with 4 or more positions (RFC 7946, 3.1.6)"},
+		{"line of one position", collection(`{"type":"LineString","coordinates":[[8.5,47.3]]}`), "LineString of 1 positions (RFC 7946, 3.1.4)"},
+		{"no properties", []byte(`{"type":"FeatureCollection","features":[{"type":"Feature","geometry":null}]}`), "lacks geometry or properties (RFC 7946, 3.2)"},
+		{"not a collection", []byte(`{"type":"Feature","geometry":null,"properties":null}`), "want FeatureCollection (RFC 7946, 3.3)"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, broken := rfc7946(tc.doc)
+			if len(broken) != 1 || !strings.Contains(broken[0], tc.want) {
+				t.Errorf("rules broken %q, want exactly one saying %q", broken, tc.want)
+			}
+		})
 	}
 }
 

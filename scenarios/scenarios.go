@@ -250,12 +250,29 @@ func Generate(spec Spec) (*Fleet, error) {
 	return generate(spec, defaultRates())
 }
 
-func generate(spec Spec, rates defectRates) (*Fleet, error) {
+// Validate reports whether Generate can build the fleet of the spec: a
+// known scenario, 1 to 5000 sites, 1 to 104 weeks, at most 100 million
+// readings in all and a start at a midnight UTC.
+func (spec Spec) Validate() error {
+	_, err := spec.scenario()
+	return err
+}
+
+// scenario returns the scenario of a valid spec.
+func (spec Spec) scenario() (*scenario, error) {
 	sc, err := lookup(spec.Name)
 	if err != nil {
 		return nil, err
 	}
 	if err := sc.validate(spec); err != nil {
+		return nil, err
+	}
+	return sc, nil
+}
+
+func generate(spec Spec, rates defectRates) (*Fleet, error) {
+	sc, err := spec.scenario()
+	if err != nil {
 		return nil, err
 	}
 	spec.Start = spec.Start.UTC()

@@ -91,10 +91,17 @@ func TestGenerateRejectsBadSpecs(t *testing.T) {
 	for _, tt := range tests {
 		spec := good
 		tt.change(&spec)
+		verr := spec.Validate()
+		if verr == nil || !strings.Contains(verr.Error(), tt.want) {
+			t.Errorf("%s: Validate: error %v, want one saying %q", tt.name, verr, tt.want)
+		}
 		_, err := Generate(spec)
 		if err == nil || !strings.Contains(err.Error(), tt.want) {
-			t.Errorf("%s: error %v, want one saying %q", tt.name, err, tt.want)
+			t.Errorf("%s: Generate: error %v, want one saying %q", tt.name, err, tt.want)
 		}
+	}
+	if err := good.Validate(); err != nil {
+		t.Errorf("good spec: Validate: %v", err)
 	}
 	if _, err := Generate(good); err != nil {
 		t.Errorf("good spec: %v", err)

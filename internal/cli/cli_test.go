@@ -38,3 +38,36 @@ func TestStatus(t *testing.T) {
 		}
 	}
 }
+
+// The usage text shows each flag's default once: from the flag, unless the
+// help text states it.
+func TestPrintUsageDefaults(t *testing.T) {
+	var n int
+	var share float64
+	var on bool
+	f := New(Command{Name: "x", Summary: "s", Usage: "x [options]", Example: "x --n 3"}, nil)
+	f.Section("Options")
+	f.Int(&n, "n", 0, "`N` things (default: as many as needed)")
+	f.Num(&share, "share", 0.6, "a `SHARE`")
+	f.Bool(&on, "on", false, "switch it on")
+	var out bytes.Buffer
+	f.PrintUsage(&out)
+	tests := []struct {
+		flag, want, not string
+	}{
+		{"--n N", "(default: as many as needed)", "(default 0)"},
+		{"--share SHARE", "(default 0.6)", ""},
+		{"--on", "switch it on", "(default false)"},
+	}
+	for _, tt := range tests {
+		i := strings.Index(out.String(), tt.flag)
+		if i < 0 {
+			t.Errorf("usage lacks %s:\n%s", tt.flag, out.String())
+			continue
+		}
+		line, _, _ := strings.Cut(out.String()[i:], "\n")
+		if !strings.Contains(line, tt.want) || tt.not != "" && strings.Contains(line, tt.not) {
+			t.Errorf("usage line %q: want %q and not %q", line, tt.want, tt.not)
+		}
+	}
+}

@@ -136,7 +136,8 @@ func SpreadMulti(args []string, name string) []string {
 }
 
 // PrintUsage writes the usage text: synopsis, options by group with their
-// defaults, and the example.
+// defaults, and the example. A flag's default is shown as "(default X)"
+// unless its help text already says "(default ...)".
 func (f *Flags) PrintUsage(w io.Writer) {
 	fmt.Fprintf(w, "%s: %s\n\nUsage:\n  %s\n", f.Command.Name, f.Command.Summary, f.Command.Usage)
 	for _, g := range f.groups {
@@ -148,8 +149,9 @@ func (f *Flags) PrintUsage(w io.Writer) {
 			if arg != "" {
 				left += " " + strings.ToUpper(arg)
 			}
-			def := fl.DefValue
-			if def != "" && def != "false" {
+			// A help text that states its default itself is not given a
+			// second, contradicting one from the flag's zero value.
+			if def := fl.DefValue; def != "" && def != "false" && !strings.Contains(help, "(default") {
 				help += " (default " + def + ")"
 			}
 			if len(left) < 26 {

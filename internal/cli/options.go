@@ -53,7 +53,7 @@ func (f *Flags) Input(o *kinmap.Options) {
 	f.Str(&o.Ingest.ValueCol, "value-col", o.Ingest.ValueCol, "value `COLUMN` of a long dump")
 	f.Str(&o.Ingest.LatCol, "lat-col", o.Ingest.LatCol, "latitude `COLUMN` of the register and of a dump with moving sites")
 	f.Str(&o.Ingest.LonCol, "lon-col", o.Ingest.LonCol, "longitude `COLUMN` of the register and of a dump with moving sites")
-	f.Value(listValue{p: &o.Ingest.Channels, comma: true}, "channels", "wide dump: use only these `CHANNELS` (a,b,c)")
+	f.Value(listValue{p: &o.Ingest.Channels, comma: true}, "channels", "use only these `CHANNELS`, for example flow,pressure (default: all)")
 	f.Value(choiceValue{&o.Ingest.TimeUnit, []string{"s", "ms", "us", "ns"}}, "time-unit", "`UNIT` of integer epoch times: s, ms, us or ns")
 }
 

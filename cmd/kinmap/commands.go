@@ -1,6 +1,7 @@
 package main
 
 import (
+	"flag"
 	"fmt"
 	"path/filepath"
 
@@ -27,12 +28,7 @@ func parse(f *cli.Flags, args []string, e *env, o *kinmap.Options, out *cli.Outp
 func runCmd(args []string, e *env) error {
 	o := kinmap.DefaultOptions()
 	var out cli.Outputs
-	f := cli.New(commandNamed("run"), nil)
-	f.Input(&o)
-	f.Features(&o)
-	f.Map(&o, true)
-	f.Timeline(&o)
-	f.Output(&o, &out, "also write the model to `FILE` (it is always written to DIR/model)")
+	f := runFlags(&o, &out)
 	if err := parse(f, args, e, &o, &out, false); err != nil {
 		return err
 	}
@@ -41,6 +37,17 @@ func runCmd(args []string, e *env) error {
 		return err
 	}
 	return finishRun(res, &o, &out, e)
+}
+
+// runFlags returns the flags of run, which set o and out.
+func runFlags(o *kinmap.Options, out *cli.Outputs) *cli.Flags {
+	f := cli.New(commandNamed("run"), nil)
+	f.Input(o)
+	f.Features(o)
+	f.Map(o, true)
+	f.Timeline(o)
+	f.Output(o, out, "also write the model to `FILE` (it is always written to DIR/model)")
+	return f
 }
 
 func assignCmd(args []string, e *env) error {
@@ -128,9 +135,9 @@ func scenarioCmd(args []string, e *env) error {
 	var sites, weeks, seed int
 	f := cli.New(commandNamed("scenario"), nil)
 	f.Section("Scenario")
-	f.Int(&sites, "sites", 0, "number of `N` sites (default: the scenario's own)")
-	f.Int(&weeks, "weeks", 0, "`WEEKS` of readings (default: the scenario's own)")
-	f.Int(&seed, "seed", 0, "random `SEED` (default: the scenario's own)")
+	f.Int(&sites, "sites", 0, "`N` sites (default: the scenario's own)")
+	f.Int(&weeks, "weeks", 0, "`W` weeks of readings (default: the scenario's own)")
+	f.Int(&seed, "seed", 0, "random seed `S` (default: the scenario's own)")
 	f.Section("Output")
 	f.Str(&out.Out, "out", "", "output `DIR`ectory")
 	// The scenario name comes first; the flag package stops at it otherwise.
@@ -138,11 +145,17 @@ func scenarioCmd(args []string, e *env) error {
 		if err := f.Parse(args, e.stdout); err != nil {
 			return err
 		}
+		if f.NArg() > 0 {
+			return cli.UsageError("the scenario name comes before the options: kinmap scenario %s --out DIR", f.Arg(0))
+		}
 		return cli.UsageError("no scenario named: pick one of %v", scenarios.Names())
 	}
 	name := args[0]
 	if err := f.Parse(args[1:], e.stdout); err != nil {
 		return err
+	}
+	if f.NArg() > 0 {
+		return cli.UsageError("unexpected arguments %q: scenario takes one name and options", f.Args())
 	}
 	spec, err := scenarios.DefaultSpec(name)
 	if err != nil {
@@ -151,14 +164,20 @@ func scenarioCmd(args []string, e *env) error {
 	if out.Out == "" {
 		return cli.UsageError("no output folder: name one with --out DIR")
 	}
-	if sites > 0 {
-		spec.Sites = sites
-	}
-	if weeks > 0 {
-		spec.Weeks = weeks
-	}
-	if seed != 0 {
-		spec.Seed = int64(seed)
+	// Only the flags given replace the scenario's own values, so that
+	// "--seed 0" chooses seed 0 and "--sites 0" is refused by Validate.
+	f.Visit(func(fl *flag.Flag) {
+		switch fl.Name {
+		case "sites":
+			spec.Sites = sites
+		case "weeks":
+			spec.Weeks = weeks
+		case "seed":
+			spec.Seed = int64(seed)
+		}
+	})
+	if err := spec.Validate(); err != nil {
+		return cli.UsageError("%v", err)
 	}
 	files, err := writeScenario(spec, out.Out)
 	if err != nil {

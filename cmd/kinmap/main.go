@@ -47,27 +47,36 @@ func commands() []command {
 }
 
 func run(args []string, stdout, stderr io.Writer) int {
-	e := &env{stdout: stdout, stderr: stderr, terminal: isTerminal(stderr)}
+	return dispatch(args, &env{stdout: stdout, stderr: stderr, terminal: isTerminal(stderr)})
+}
+
+// dispatch runs the command that args[0] names with the rest of args and
+// returns its exit status.
+func dispatch(args []string, e *env) int {
 	if len(args) == 0 {
-		overview(stderr)
+		overview(e.stderr)
 		return cli.ExitUsage
 	}
 	name, rest := args[0], args[1:]
 	if name == "help" || name == "-h" || name == "--help" || name == "-help" {
-		if len(rest) == 0 {
-			overview(stdout)
+		switch len(rest) {
+		case 0:
+			overview(e.stdout)
 			return cli.ExitOK
+		case 1:
+			name, rest = rest[0], []string{"-h"}
+		default:
+			return cli.Status(e.stderr, "kinmap help", cli.UsageError("unexpected arguments %q: help takes one command name", rest[1:]))
 		}
-		name, rest = rest[0], []string{"-h"}
 	}
 	for _, c := range commands() {
 		if c.Name != name || c.run == nil {
 			continue
 		}
-		return cli.Status(stderr, "kinmap "+name, c.run(rest, e))
+		return cli.Status(e.stderr, "kinmap "+name, c.run(rest, e))
 	}
-	fmt.Fprintf(stderr, "kinmap: unknown command %q\n\n", name)
-	overview(stderr)
+	fmt.Fprintf(e.stderr, "kinmap: unknown command %q\n\n", name)
+	overview(e.stderr)
 	return cli.ExitUsage
 }
 

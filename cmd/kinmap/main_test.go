@@ -46,6 +46,14 @@ func TestUsageErrors(t *testing.T) {
 		{"bad scaling", []string{"run", "--data", dump, "--out", t.TempDir(), "--scale", "minmax"}, "minmax"},
 		{"assign without model", []string{"assign", "--data", dump, "--out", t.TempDir()}, "--model FILE"},
 		{"unknown scenario", []string{"scenario", "volcano", "--out", t.TempDir()}, "volcano"},
+		{"too many sites", []string{"scenario", "pumping", "--out", t.TempDir(), "--sites", "6000"}, "6000 sites"},
+		{"no sites", []string{"scenario", "pumping", "--out", t.TempDir(), "--sites", "0"}, "0 sites"},
+		{"negative sites", []string{"scenario", "pumping", "--out", t.TempDir(), "--sites", "-3"}, "-3 sites"},
+		{"no weeks", []string{"scenario", "pumping", "--out", t.TempDir(), "--weeks", "0"}, "0 weeks"},
+		{"negative weeks", []string{"scenario", "reefers", "--out", t.TempDir(), "--weeks", "-1"}, "-1 weeks"},
+		{"scenario with arguments", []string{"scenario", "pumping", "--out", t.TempDir(), "extra"}, "extra"},
+		{"scenario name last", []string{"scenario", "--out", t.TempDir(), "pumping"}, "comes before"},
+		{"help with arguments", []string{"help", "run", "extra"}, "extra"},
 		{"demo with arguments", []string{"demo", "extra"}, "no arguments"},
 		{"pattern matching nothing", []string{"run", "--data", filepath.Join(t.TempDir(), "missing-*.parquet"), "--out", t.TempDir()}, "matches no file"},
 	}
@@ -114,6 +122,9 @@ func TestHelp(t *testing.T) {
 	if _, out, _ := invoke("update", "-h"); !strings.Contains(out, "--regimes K") || strings.Contains(out, "--grid") {
 		t.Errorf("update -h should offer --regimes but not --grid:\n%s", out)
 	}
+	if _, out, _ := invoke("scenario", "-h"); !strings.Contains(out, "(default: the scenario's own)") || strings.Contains(out, "(default 0)") {
+		t.Errorf("scenario -h should state each default once:\n%s", out)
+	}
 	_, out, _ := invoke("run", "-h")
 	for _, want := range []string{"--site-col COLUMN", "(default site)", "--window LENGTH", "(default 1d)", "--min-coverage SHARE", "(default 0.6)", "--lattice SHAPE", "(default hex)", "--unfamiliar-q QUANTILE", "(default 0.99)"} {
 		if !strings.Contains(out, want) {
@@ -164,5 +175,52 @@ func TestScenarioRunAssignUpdate(t *testing.T) {
 	periods, err := os.ReadDir(history)
 	if err != nil || len(periods) != 1 {
 		t.Errorf("history holds %d periods (%v), want 1: the same dump twice replaces its period", len(periods), err)
+	}
+}
+
+// The scenario flags given replace the scenario's own values, and only
+// those: --seed 0 is seed 0, not the default seed.
+func TestScenarioFlags(t *testing.T) {
+	tests := []struct {
+		args   []string
+		change func(*scenarios.Spec)
+	}{
+		{[]string{"--sites", "3", "--weeks", "1"}, func(s *scenarios.Spec) { s.Sites, s.Weeks = 3, 1 }},
+		{[]string{"--sites", "3", "--weeks", "1", "--seed", "0"}, func(s *scenarios.Spec) { s.Sites, s.Weeks, s.Seed = 3, 1, 0 }},
+		{[]string{"--seed", "9", "--weeks", "1", "--sites", "2"}, func(s *scenarios.Spec) { s.Sites, s.Weeks, s.Seed = 2, 1, 9 }},
+	}
+	files := []string{scenarios.FileSites, scenarios.FileLongParquet}
+	var written [][]byte
+	for _, tt := range tests {
+		dir := t.TempDir()
+		if code, _, stderr := invoke(append([]string{"scenario", "pumping", "--out", dir}, tt.args...)...); code != cli.ExitOK {
+			t.Fatalf("scenario %v: exit status %d:\n%s", tt.args, code, stderr)
+		}
+		spec, err := scenarios.DefaultSpec("pumping")
+		if err != nil {
+			t.Fatal(err)
+		}
+		tt.change(&spec)
+		fleet, err := scenarios.Generate(spec)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := t.TempDir()
+		if _, err := fleet.Write(want, files...); err != nil {
+			t.Fatal(err)
+		}
+		for _, name := range files {
+			got, err1 := os.ReadFile(filepath.Join(dir, name))
+			exp, err2 := os.ReadFile(filepath.Join(want, name))
+			if err1 != nil || err2 != nil || !bytes.Equal(got, exp) {
+				t.Errorf("scenario %v: %s differs from the fleet of %+v (%v, %v)", tt.args, name, spec, err1, err2)
+			}
+			if name == scenarios.FileSites {
+				written = append(written, got)
+			}
+		}
+	}
+	if bytes.Equal(written[0], written[1]) {
+		t.Error("--seed 0 wrote the same register as the default seed")
 	}
 }

@@ -77,6 +77,23 @@ func TestNeighboursAtUnitDistance(t *testing.T) {
 	}
 }
 
+// Every pairwise distance agrees with the one computed from cube
+// coordinates and the torus's periods (refDist2).
+func TestDistMatchesCubeCoordinates(t *testing.T) {
+	for _, l := range []Lattice{
+		{Cols: 6, Rows: 4, Hex: true}, {Cols: 5, Rows: 6, Hex: true}, {Cols: 7, Rows: 8, Hex: true},
+		{Cols: 5, Rows: 3, Hex: true, Flat: true}, {Cols: 7, Rows: 5}, {Cols: 6, Rows: 4, Flat: true},
+	} {
+		for a := range l.Units() {
+			for b := range l.Units() {
+				if got, want := l.Dist2(a, b), refDist2(l, a, b); math.Abs(got-want) > 1e-12*(1+want) {
+					t.Errorf("%+v: units %d and %d at squared distance %g, cube coordinates give %g", l, a, b, got, want)
+				}
+			}
+		}
+	}
+}
+
 func TestWrapDistances(t *testing.T) {
 	rect := Lattice{Cols: 10, Rows: 8}
 	flat := Lattice{Cols: 10, Rows: 8, Flat: true}

@@ -180,7 +180,7 @@ func TestEpochPiecesReproduceTrain(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	sharded := &Map{Lattice: m.Lattice, Dim: m.Dim, Codebook: slices.Clone(m.Codebook)}
+	sharded := cloneMap(m)
 	n, _ := x.Dims()
 	rng := testRand(3)
 	for e := range full.Epochs {

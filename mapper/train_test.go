@@ -32,14 +32,7 @@ func TestChainOrders(t *testing.T) {
 	for _, rule := range []string{RuleBatch, RuleOnline} {
 		for seed := range int64(3) {
 			cfg := Config{Cols: 20, Rows: 1, Flat: true, Init: InitRandom, Seed: seed, Rule: rule, Epochs: 30, Sigma0: 5, SigmaEnd: 0.7}
-			start, _, err := InitMap(x, cfg)
-			if err != nil {
-				t.Fatal(err)
-			}
-			m, err := Train(x, cfg)
-			if err != nil {
-				t.Fatal(err)
-			}
+			start, m := initAndTrain(t, x, cfg)
 			if monotone(start.Codebook) {
 				t.Errorf("%s, seed %d: the initial chain is already ordered; the test shows nothing", rule, seed)
 			}
@@ -407,6 +400,151 @@ func TestOnlineSeeded(t *testing.T) {
 	}
 	if a, b := train(1), train(2); slices.Equal(a, b) {
 		t.Error("another seed gives the same map")
+	}
+}
+
+// onlineReference runs the online rule written plainly on a copy of the
+// codebook of m: for the t-th sample x (t = 0 … T−1, T = Epochs·N, the
+// samples of each epoch in the order of the package's seeded generator,
+// which is the implementation's choice), the winner c by a plain loop and
+// every unit moving as
+//
+//	w_j ← w_j + η(t)·exp(−d_cj² / 2σ(t)²)·(x − w_j)
+//
+// (T. Kohonen, Self-Organizing Maps, Springer, 3rd ed. 2001, the basic SOM
+// algorithm with a Gaussian neighbourhood; from memory), with d_cj from
+// refDist2 and the rates decaying exponentially from their start a₀ to
+// their end a₁ as a(t) = a₀·(a₁/a₀)^(t/(T−1)) (H. Ritter, T. Martinetz and
+// K. Schulten, Neural Computation and Self-Organizing Maps,
+// Addison-Wesley 1992, ε(t) = ε_i(ε_f/ε_i)^(t/t_max); from memory).
+func onlineReference(m *Map, x *mat.Dense, cfg Config) *Map {
+	out := cloneMap(m)
+	n, _ := x.Dims()
+	total := float64(cfg.Epochs*n - 1)
+	rng := newRand(cfg.Seed)
+	t := 0
+	for range cfg.Epochs {
+		for _, i := range rng.Perm(n) {
+			xi := x.RawRowView(i)
+			eta := cfg.Eta0 * math.Pow(cfg.EtaEnd/cfg.Eta0, float64(t)/total)
+			sigma := cfg.Sigma0 * math.Pow(cfg.SigmaEnd/cfg.Sigma0, float64(t)/total)
+			t++
+			c := bruteAssign(out, xi).BMU
+			for j := range out.Units() {
+				f := eta * math.Exp(-refDist2(out.Lattice, c, j)/(2*sigma*sigma))
+				w := out.Vector(j)
+				for k, v := range xi {
+					w[k] += f * (v - w[k])
+				}
+			}
+		}
+	}
+	return out
+}
+
+// The online rule, with its per-sample exponential decay of η and σ, is
+// the plain loop of onlineReference.
+func TestOnlineMatchesReference(t *testing.T) {
+	x := uniformData(150, 3, 32)
+	for _, cfg := range []Config{
+		{Cols: 5, Rows: 4, Hex: true, Epochs: 2, Sigma0: 2, SigmaEnd: 0.5, Eta0: 0.5, EtaEnd: 0.01, Seed: 4},
+		{Cols: 6, Rows: 3, Flat: true, Epochs: 3, Sigma0: 1.5, SigmaEnd: 0.3, Eta0: 0.9, EtaEnd: 0.05, Seed: 5},
+	} {
+		cfg.Rule, cfg.Init = RuleOnline, InitRandom
+		start, m := initAndTrain(t, x, cfg)
+		want := onlineReference(start, x, cfg)
+		if d := maxAbsDiff(m.Codebook, want.Codebook); !(d < 1e-9) {
+			t.Errorf("%+v: the codebook is %g from the plain online rule", cfg.Lattice(), d)
+		}
+		if d := maxAbsDiff(m.Codebook, start.Codebook); !(d > 0.01) {
+			t.Errorf("%+v: training moved the codebook by %g only", cfg.Lattice(), d)
+		}
+	}
+}
+
+// maxAbsDiff is the largest absolute difference between two equally long
+// vectors.
+func maxAbsDiff(a, b []float64) float64 {
+	var d float64
+	for i := range a {
+		d = math.Max(d, math.Abs(a[i]-b[i]))
+	}
+	return d
+}
+
+// The random initialisation draws distinct data rows, the same for the
+// same seed and others for another seed.
+func TestRandomInitSeeded(t *testing.T) {
+	const n = 200
+	x := uniformData(n, 3, 33)
+	draw := func(seed int64) *Map {
+		m, _, err := InitMap(x, Config{Cols: 6, Rows: 5, Init: InitRandom, Seed: seed})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return m
+	}
+	a := draw(1)
+	if b := draw(1); !slices.Equal(a.Codebook, b.Codebook) {
+		t.Error("the same seed gives another initial map")
+	}
+	if b := draw(2); slices.Equal(a.Codebook, b.Codebook) {
+		t.Error("another seed gives the same initial map")
+	}
+	seen := map[int]bool{}
+	for u := range a.Units() {
+		row := -1
+		for i := range n {
+			if slices.Equal(a.Vector(u), x.RawRowView(i)) {
+				row = i
+			}
+		}
+		if row < 0 || seen[row] {
+			t.Fatalf("unit %d holds row %d, not a data row drawn once", u, row)
+		}
+		seen[row] = true
+	}
+}
+
+// With no grid given, InitMap sizes it from the data's own singular values:
+// about 5·√N units (common practice, no source), in the aspect of the two
+// leading singular values. The data are built with singular values in the
+// ratio 3:1: the rows 3·cos θ_i·v₁ + sin θ_i·v₂ + c, θ_i = 2πi/N, have
+// orthogonal centred columns cos θ and sin θ of equal norm √(N/2) along the
+// orthonormal v₁ and v₂, so the centred data are [cos θ  sin θ]·diag(3, 1)·
+// [v₁ v₂]ᵀ, an SVD with singular values 3√(N/2) and √(N/2). The sides are
+// whole numbers: rows within half a unit of the ideal (a unit and a half on
+// a hexagonal lattice, which needs an even number) and cols within half a
+// unit of the units over rows.
+func TestInitMapDefaultGrid(t *testing.T) {
+	const n = 20_000
+	v1, v2, c := []float64{2. / 3, 2. / 3, 1. / 3}, []float64{2. / 3, -1. / 3, -2. / 3}, []float64{5, -1, 2}
+	x := mat.NewDense(n, 3, nil)
+	for i := range n {
+		th := 2 * math.Pi * float64(i) / n
+		for j := range 3 {
+			x.Set(i, j, 3*math.Cos(th)*v1[j]+math.Sin(th)*v2[j]+c[j])
+		}
+	}
+	units := 5 * math.Sqrt(n)
+	for _, tc := range []struct {
+		hex  bool
+		init string
+	}{{false, InitPCA}, {true, InitPCA}, {false, InitRandom}} {
+		m, cfg, err := InitMap(x, Config{Hex: tc.hex, Init: tc.init})
+		if err != nil {
+			t.Fatal(err)
+		}
+		pitch, slack := 1.0, 0.5
+		if tc.hex {
+			pitch, slack = math.Sqrt(3)/2, 1.5 // rows √3/2 apart
+		}
+		ideal := math.Sqrt(units / (3 * pitch)) // rows·pitch·3 = cols and cols·rows = units
+		cols, rows := float64(cfg.Cols), float64(cfg.Rows)
+		if math.Abs(rows-ideal) > slack || math.Abs(cols-units/rows) > 0.5 || m.Lattice != cfg.Lattice() {
+			t.Errorf("%+v: grid %dx%d (%d units, planar ratio %.2f), want about %.0f units in ratio 3 (%.2f rows)",
+				tc, cfg.Cols, cfg.Rows, cfg.Cols*cfg.Rows, cols/(rows*pitch), units, ideal)
+		}
 	}
 }
 

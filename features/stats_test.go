@@ -51,6 +51,14 @@ func fullConfig() Config {
 // samples: gonum as an independent reference library (stat.Mean,
 // stat.StdDev with denominator n−1, floats.Min/Max, stat.Quantile,
 // stat.LinearRegression, stat.Correlation, and mat's QR least squares).
+// acf1 is the textbook sample autocorrelation r₁ = c₁/c₀, with
+// c_k = Σ_{t=1}^{n−k} (x_t − x̄)(x_{t+k} − x̄) (G. E. P. Box and
+// G. M. Jenkins, Time Series Analysis: Forecasting and Control, the
+// estimate of the autocorrelation function; from memory), here from
+// stat.Mean and floats.Dot of the lagged deviations. flat is counted from
+// its documented definition. period and period_share have no gonum
+// counterpart short of redoing the regularisation; TestSpectrumFindsPeriod
+// checks them on a signal with a known answer.
 func TestStatsAgreeWithGonum(t *testing.T) {
 	sd := gappy(1)
 	tab, err := Extract(dataset(sd), fullConfig())
@@ -71,6 +79,14 @@ func TestStatsAgreeWithGonum(t *testing.T) {
 				hours[i] = float64(ti-w.Start.UnixNano()) / float64(time.Hour)
 			}
 			_, slope := stat.LinearRegression(hours, x, nil, false)
+			dev := slices.Clone(x)
+			floats.AddConst(-stat.Mean(x, nil), dev)
+			var repeats int
+			for i := 1; i < len(x); i++ {
+				if x[i] == x[i-1] {
+					repeats++
+				}
+			}
 			checks := []struct {
 				stat string
 				want float64
@@ -83,6 +99,8 @@ func TestStatsAgreeWithGonum(t *testing.T) {
 				{"p50", gonumType7(sorted, 0.50)},
 				{"p95", gonumType7(sorted, 0.95)},
 				{"trend", slope},
+				{"acf1", floats.Dot(dev[:len(dev)-1], dev[1:]) / floats.Dot(dev, dev)},
+				{"flat", float64(repeats) / float64(len(x)-1)},
 				{"count", float64(len(x))},
 			}
 			for _, c := range checks {
@@ -289,7 +307,9 @@ func TestSpectrumFindsPeriod(t *testing.T) {
 }
 
 // The trend of a known ramp: 0.75 units per hour over an irregular, gappy
-// day is recovered exactly (least squares is exact on a line).
+// day is recovered exactly, up to rounding: readings that lie on a line are
+// fitted by it with zero residual, so least squares returns that line
+// (common practice, no source).
 func TestTrendOfRamp(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 5))
 	start := time.Date(2024, 1, 8, 0, 0, 0, 0, time.UTC)

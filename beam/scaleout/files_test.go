@@ -4,12 +4,16 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strconv"
 	"testing"
+
+	"github.com/parquet-go/parquet-go"
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/beam/internal/beamtest"
@@ -17,11 +21,12 @@ import (
 	"github.com/kinmap/kinmap/mapper"
 )
 
-// The Beam run writes the files of a local run: byte for byte where no
-// value depends on the last bits of the codebook, and equal up to tol in
-// the quantization errors, confidences and model otherwise. The pictures
-// and the report are left out: they render the codebook, and the report
-// embeds the run's timings.
+// The Beam run writes the files of a local run, the same set of names:
+// byte for byte where no value depends on the last bits of the codebook,
+// and equal up to tol in the quantization errors, confidences and model
+// otherwise, in the CSV and the Parquet tables alike. The contents of the
+// pictures and the report are left out: they render the codebook, and the
+// report embeds the run's timings.
 func TestWriteMatchesLocal(t *testing.T) {
 	local, beam := bothPaths(t, options(fixture(t)), 4)
 	ld, bd := t.TempDir(), t.TempDir()
@@ -47,6 +52,12 @@ func TestWriteMatchesLocal(t *testing.T) {
 	// Columns holding a float computed from the codebook, by file.
 	for name, floatCol := range map[string]int{export.TimelineCSVFile: 6, export.SwitchesCSVFile: 6} {
 		compareCSV(t, name, read(bd, name), read(ld, name), floatCol)
+	}
+	for _, name := range []string{export.TimelineParquetFile, export.SwitchesParquetFile} {
+		compareParquet(t, name, read(bd, name), read(ld, name))
+	}
+	if bn, ln := fileNames(t, bd), fileNames(t, ld); !slices.Equal(bn, ln) {
+		t.Errorf("the Beam run wrote %q, the local run %q", bn, ln)
 	}
 	if _, err := os.Stat(filepath.Join(ld, export.TracksFile)); !os.IsNotExist(err) {
 		t.Errorf("a fleet of fixed sites should have no %s (%v)", export.TracksFile, err)
@@ -115,6 +126,63 @@ func compareCSV(t *testing.T, name string, got, want []byte, floatCol int) {
 			}
 		}
 	}
+}
+
+// compareParquet compares two Parquet files read with parquet-go: the same
+// schema and the same rows, doubles to tol and every other value exactly.
+func compareParquet(t *testing.T, name string, got, want []byte) {
+	t.Helper()
+	rows := func(b []byte) (*parquet.Schema, []parquet.Row) {
+		t.Helper()
+		f, err := parquet.OpenFile(bytes.NewReader(b), int64(len(b)))
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		r := parquet.NewReader(f)
+		defer r.Close()
+		out := make([]parquet.Row, r.NumRows())
+		if n, err := r.ReadRows(out); n != len(out) || err != nil && err != io.EOF {
+			t.Fatalf("%s: read %d of %d rows: %v", name, n, len(out), err)
+		}
+		return r.Schema(), out
+	}
+	gs, g := rows(got)
+	ws, w := rows(want)
+	if gs.String() != ws.String() {
+		t.Fatalf("%s: schema\n%s\nwant\n%s", name, gs, ws)
+	}
+	if len(g) != len(w) || len(w) == 0 {
+		t.Fatalf("%s: %d rows, want %d (and at least one)", name, len(g), len(w))
+	}
+	for i := range w {
+		if len(g[i]) != len(w[i]) {
+			t.Fatalf("%s: row %d has %d values, want %d", name, i, len(g[i]), len(w[i]))
+		}
+		for j, wv := range w[i] {
+			gv := g[i][j]
+			same := parquet.Equal(gv, wv)
+			if wv.Kind() == parquet.Double && gv.Kind() == parquet.Double {
+				same = math.Abs(gv.Double()-wv.Double()) <= tol
+			}
+			if !same {
+				t.Fatalf("%s: row %d, column %d: %v, want %v", name, i, wv.Column(), gv, wv)
+			}
+		}
+	}
+}
+
+// fileNames lists the names of the files in dir, sorted.
+func fileNames(t *testing.T, dir string) []string {
+	t.Helper()
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, e := range entries {
+		names = append(names, e.Name())
+	}
+	return names
 }
 
 // nearlyEqual compares decoded JSON values, numbers to tol, and returns the

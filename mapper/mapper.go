@@ -101,4 +101,8 @@ type Model struct {
 	QEQuantiles   []float64 // training quantization errors at quantiles 0, 0.001, …, 1
 	Windows       int       // training windows
 	Scores        []Score   // Davies–Bouldin index of each number of regimes tried; nil when it was given
+	// Lineage names the regime numbering: set when a map is trained from
+	// scratch and kept by updates, which keep the numbers. Files written
+	// before it existed have none.
+	Lineage string `json:",omitempty"`
 }

@@ -20,8 +20,9 @@ import (
 )
 
 // FormatVersion is the version of the model file this package writes, and
-// the newest it reads.
-const FormatVersion = 1
+// the newest it reads. Version 2 added the lineage, which a version 1 file
+// lacks; it reads as before.
+const FormatVersion = 2
 
 // magic starts every model file, followed by a space and the format version.
 const magic = "kinmap-model"
@@ -288,6 +289,15 @@ func (m *Model) WriteFile(path string) (err error) {
 	if err := bw.Flush(); err != nil {
 		return fmt.Errorf("mapper: %s: %w", path, err)
 	}
+	// CreateTemp makes the file private; a model is shared like the other
+	// outputs. Synced before the rename, so that a crash leaves the old
+	// model or the new one, never an empty file.
+	if err := f.Chmod(0o644); err != nil {
+		return fmt.Errorf("mapper: %s: %w", path, err)
+	}
+	if err := f.Sync(); err != nil {
+		return fmt.Errorf("mapper: %s: %w", path, err)
+	}
 	if err := f.Close(); err != nil {
 		return fmt.Errorf("mapper: %s: %w", path, err)
 	}
@@ -378,17 +388,36 @@ func (m *Model) check() error {
 	case len(m.QEQuantiles) != 0 && len(m.QEQuantiles) != qeSteps+1:
 		return fmt.Errorf("%d error quantiles, want %d", len(m.QEQuantiles), qeSteps+1)
 	}
+	if sc := m.Scaler; sc == nil {
+		return errors.New("no normalisation")
+	} else if len(sc.Names) != m.Map.Dim || len(sc.Center) != m.Map.Dim || len(sc.Scale) != m.Map.Dim || len(sc.Weight) != m.Map.Dim {
+		return fmt.Errorf("normalisation of %d names, %d centres, %d scales and %d weights for a map of dimension %d",
+			len(sc.Names), len(sc.Center), len(sc.Scale), len(sc.Weight), m.Map.Dim)
+	}
 	ids := make(map[int]bool)
+	listed := 0
 	for _, r := range m.Regimes {
+		if ids[r.ID] {
+			return fmt.Errorf("regime %d appears twice", r.ID)
+		}
 		if len(r.Centroid) != m.Map.Dim {
 			return fmt.Errorf("regime %d has a centroid of dimension %d, the map %d", r.ID, len(r.Centroid), m.Map.Dim)
 		}
+		for _, un := range r.Units {
+			if un < 0 || un >= u || m.UnitRegime[un] != r.ID {
+				return fmt.Errorf("regime %d lists unit %d, which is not one of its units", r.ID, un)
+			}
+		}
 		ids[r.ID] = true
+		listed += len(r.Units)
 	}
 	for un, id := range m.UnitRegime {
 		if !ids[id] {
 			return fmt.Errorf("unit %d belongs to regime %d, which the model does not have", un, id)
 		}
+	}
+	if listed != u {
+		return fmt.Errorf("the regimes list %d units, the map has %d", listed, u)
 	}
 	return nil
 }

@@ -2,8 +2,11 @@ package mapper
 
 import (
 	"bytes"
+	"crypto/sha256"
+	"encoding/json"
 	"fmt"
 	"math"
+	"os"
 	"os/exec"
 	"path/filepath"
 	"reflect"
@@ -104,6 +107,36 @@ func TestModelRoundTrip(t *testing.T) {
 	if _, err := ReadModelFile(filepath.Join(t.TempDir(), "none")); err == nil {
 		t.Error("a missing file read")
 	}
+	// Readable by others like every other output (common practice, no
+	// source): CreateTemp alone would leave it 0600.
+	if st, err := os.Stat(path); err != nil || st.Mode().Perm() != 0o644 {
+		t.Errorf("model file mode %v, %v; want -rw-r--r--", st.Mode(), err)
+	}
+}
+
+// TestModelReadsVersion1 reads a file as version 1 wrote it, before models
+// had a lineage: the header and payload say 1 and the payload has no
+// Lineage field.
+func TestModelReadsVersion1(t *testing.T) {
+	mdl, _, _ := fitted(t)
+	old := *mdl
+	old.Version, old.Lineage = 1, ""
+	payload, err := json.Marshal(&old)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if bytes.Contains(payload, []byte("Lineage")) {
+		t.Fatal("a version 1 payload has no Lineage field")
+	}
+	sum := sha256.Sum256(payload)
+	file := fmt.Appendf(nil, "%s 1\n%d %x\n%s", magic, len(payload), sum, payload)
+	back, err := ReadModel(bytes.NewReader(file))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if back.Version != 1 || back.Lineage != "" || !reflect.DeepEqual(back.Map, mdl.Map) {
+		t.Errorf("version 1 file read as version %d, lineage %q", back.Version, back.Lineage)
+	}
 }
 
 func TestModelRefusesDamage(t *testing.T) {
@@ -141,17 +174,45 @@ func TestModelRefusesDamage(t *testing.T) {
 	expect("truncated payload", good[:len(good)-20], "truncated")
 	expect("bytes appended", append(slices.Clone(good), ' '), "after the payload")
 	expect("not a model", []byte("hello\nworld\n"), "not a kinmap model")
-	newer := bytes.Replace(good, []byte(magic+" "+strconv.Itoa(FormatVersion)), []byte(magic+" 2"), 1)
-	expect("newer version", newer, "format version 2 is newer than this build reads (up to 1)")
+	newer := bytes.Replace(good, []byte(magic+" "+strconv.Itoa(FormatVersion)), []byte(magic+" "+strconv.Itoa(FormatVersion+1)), 1)
+	expect("newer version", newer, fmt.Sprintf("format version %d is newer than this build reads (up to %d)", FormatVersion+1, FormatVersion))
 
-	// A payload with a valid checksum but parts that do not fit together.
-	bad := *mdl
-	bad.UnitRegime = bad.UnitRegime[1:]
+	// Payloads with a valid checksum but parts that do not fit together.
 	var bb bytes.Buffer
-	if err := bad.Write(&bb); err != nil {
-		t.Fatal(err)
+	for _, tc := range []struct {
+		name  string
+		spoil func(m *Model)
+		want  string
+	}{
+		{"unit regimes", func(m *Model) { m.UnitRegime = m.UnitRegime[1:] }, "unit regimes"},
+		{"no scaler", func(m *Model) { m.Scaler = nil }, "no normalisation"},
+		{"narrow scaler", func(m *Model) {
+			sc := *m.Scaler
+			sc.Center = sc.Center[1:]
+			m.Scaler = &sc
+		}, "for a map of dimension"},
+		{"unit in two regimes", func(m *Model) {
+			m.Regimes = slices.Clone(m.Regimes)
+			r := m.Regimes[1]
+			r.Units = append(slices.Clone(r.Units), m.Regimes[0].Units[0])
+			m.Regimes[1] = r
+		}, "which is not one of its units"},
+		{"unit in no regime", func(m *Model) {
+			m.Regimes = slices.Clone(m.Regimes)
+			r := m.Regimes[0]
+			r.Units = r.Units[1:]
+			m.Regimes[0] = r
+		}, "the regimes list"},
+		{"regime twice", func(m *Model) { m.Regimes = append(slices.Clone(m.Regimes), m.Regimes[0]) }, "appears twice"},
+	} {
+		bad := *mdl
+		tc.spoil(&bad)
+		bb.Reset()
+		if err := bad.Write(&bb); err != nil {
+			t.Fatal(err)
+		}
+		expect("inconsistent: "+tc.name, bb.Bytes(), tc.want)
 	}
-	expect("inconsistent", bb.Bytes(), "unit regimes")
 
 	nan := *mdl
 	nan.QEQuantiles = slices.Clone(mdl.QEQuantiles)

@@ -13,6 +13,7 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
+	"slices"
 	"time"
 
 	"gonum.org/v1/gonum/mat"
@@ -84,6 +85,8 @@ type Result struct {
 	Switches    []timeline.Switch
 	Changes     []mapper.RegimeChange // regime renumbering by Update
 	Info        RunInfo
+
+	revised []export.Period // history periods whose last windows the decoding revised
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.
@@ -159,9 +162,11 @@ func (o *Options) Validate() error {
 
 // Write writes every output file of the run into dir. Files are staged and
 // renamed into place only when all were written, so a failed write leaves the
-// outputs of an earlier run as they were.
+// outputs of an earlier run as they were. The warnings of the export, such
+// as sites without a position, join r.Info.Warnings first, so that run.json
+// records them.
 func (r *Result) Write(dir string) error {
-	return export.Write(dir, &export.Run{
+	run := &export.Run{
 		Model:       r.Model,
 		Table:       r.Table,
 		Assignments: r.Assignments,
@@ -170,9 +175,20 @@ func (r *Result) Write(dir string) error {
 		Register:    r.Register,
 		Summary:     &r.Ingest,
 		Changes:     r.Changes,
-		Info:        r.Info,
-		Warnings:    r.Info.Warnings,
-	})
+	}
+	ws, err := export.Warnings(run)
+	if err != nil {
+		return err
+	}
+	// The report lists the export's warnings itself: it gets the others.
+	run.Warnings = slices.DeleteFunc(slices.Clone(r.Info.Warnings), func(w string) bool { return slices.Contains(ws, w) })
+	for _, w := range ws {
+		if !slices.Contains(r.Info.Warnings, w) {
+			r.Info.Warnings = append(r.Info.Warnings, w)
+		}
+	}
+	run.Info = r.Info
+	return export.Write(dir, run)
 }
 
 // stopwatch records the duration of named steps.

@@ -100,6 +100,8 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
+	// The update keeps the regime numbers, hence the lineage.
+	model.Lineage = lineageOf(prev)
 	res.Model, res.Assignments, res.Changes = model, asg, changes
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -171,8 +173,10 @@ func (r *Result) Scale(o Options) (*features.Scaler, error) {
 
 // Conclude finishes a run whose windows are on the map (Table, X, Model
 // and Assignments set): it decodes every site's timeline, continuing from
-// the history folder of o when there is one, and completes the run summary
-// with the durations of the earlier steps, by name, in timings.
+// the periods of the history folder of o that the model's lineage numbered,
+// and completes the run summary with the durations of the earlier steps, by
+// name, in timings. A model without a lineage (a new map) is replaced by a
+// copy that has one.
 func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	sw := &stopwatch{last: time.Now(), times: timings}
 	if sw.times == nil {
@@ -186,21 +190,34 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	return nil
 }
 
+// decode decodes the timelines of res, continuing from the history folder
+// of o when there is one.
 func decode(o *Options, res *Result) error {
-	var priors map[string]timeline.Prior
+	if res.Model.Lineage == "" {
+		// A new map, or one that predates lineages, starts its own.
+		m := *res.Model
+		m.Lineage = lineageOf(&m)
+		res.Model = &m
+	}
+	c := &continuation{}
 	if o.History != "" {
 		var err error
-		if priors, err = historyPriors(o.History, res.Table); err != nil {
+		if c, err = readContinuation(o.History, res.Model, res.Table); err != nil {
 			return err
 		}
-		o.logf("history: %d sites continue from earlier dumps", len(priors))
+		res.Info.Warnings = append(res.Info.Warnings, c.warnings...)
+		o.logf("history: %d sites continue from earlier dumps, %d of their windows decoded again", len(c.priors), len(c.tail))
 	}
-	var err error
-	res.Entries, res.Switches, err = timeline.BuildFrom(res.Model, res.Table, res.X, res.Assignments, o.Timeline, priors)
+	t, x, asg := c.prepend(res.Model, res.Table, res.X, res.Assignments)
+	entries, switches, err := timeline.BuildFrom(res.Model, t, x, asg, o.Timeline, c.priors)
 	if err != nil {
 		return err
 	}
+	res.Entries, res.Switches, res.revised = c.settle(entries, switches)
 	o.logf("timelines: %d switches", len(res.Switches))
+	if len(res.revised) > 0 {
+		o.logf("history: the ends of %d earlier periods decoded anew", len(res.revised))
+	}
 	return nil
 }
 

@@ -2,6 +2,7 @@ package kinmap_test
 
 import (
 	"encoding/csv"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -12,8 +13,10 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/scenarios"
+	"github.com/kinmap/kinmap/timeline"
 )
 
 // writeDump writes the readings of fleet in [from, to) as a long CSV dump,
@@ -159,68 +162,127 @@ func dist(a, b []float64) float64 {
 	return math.Sqrt(s)
 }
 
-// A switch planted at the boundary of two dumps is found once, at the right
-// window, when the second dump is decoded against the history of the first.
+// A switch planted at the boundary of two dumps, or one window before it,
+// is found once, at the right window, when the second dump is decoded
+// against the history of the first, with the default minimum dwell: the
+// first dump alone must hold back a change in its last window. Decoding the
+// two dumps in turn gives the planted site the timeline and the switches of
+// one decoding of both together.
 func TestSwitchAcrossDumps(t *testing.T) {
 	fleet := fleetT(t, 120, 4)
 	var planted scenarios.Switch
 	for _, sw := range fleet.Switches() {
-		if sw.Window >= 10 && sw.Window <= fleet.Windows()-7 {
+		if sw.Window >= 10 && sw.Window <= fleet.Windows()-7 && alone(fleet, sw, 7) {
 			planted = sw
 			break
 		}
 	}
 	if planted.Site == "" {
-		t.Fatal("the scenario planted no switch away from its ends")
+		t.Fatal("the scenario planted no switch away from its ends and from other switches")
 	}
-	dir := t.TempDir()
-	before, after := filepath.Join(dir, "before.csv"), filepath.Join(dir, "after.csv")
-	writeDump(t, before, fleet, fleet.WindowStart(0), planted.Time, 0, 0, 1)
-	writeDump(t, after, fleet, planted.Time, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
-	history := filepath.Join(dir, "history")
+	for _, tc := range []struct {
+		name  string
+		ahead int // windows of the new regime at the end of the first dump
+	}{
+		{"at the boundary", 0},
+		{"one window before the boundary", 1},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			dir := t.TempDir()
+			boundary := fleet.WindowStart(planted.Window + tc.ahead)
+			before, after := filepath.Join(dir, "before.csv"), filepath.Join(dir, "after.csv")
+			writeDump(t, before, fleet, fleet.WindowStart(0), boundary, 0, 0, 1)
+			writeDump(t, after, fleet, boundary, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+			history := filepath.Join(dir, "history")
 
-	o := options(before)
-	o.History = history
-	first, err := kinmap.Train(o)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := first.AppendHistory(history); err != nil {
-		t.Fatal(err)
-	}
-	o = options(after)
-	o.History = history
-	var found []time.Time
-	for run := range 2 { // the same dump twice: its period is replaced, not doubled
-		second, err := kinmap.Assign(o, first.Model)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if err := second.AppendHistory(history); err != nil {
-			t.Fatal(err)
-		}
-		found = found[:0]
-		for _, sw := range second.Switches {
-			if sw.Site == planted.Site {
-				found = append(found, sw.Time)
+			o := options(before)
+			o.History = history
+			first, err := kinmap.Train(o)
+			if err != nil {
+				t.Fatal(err)
 			}
+			if err := first.AppendHistory(history); err != nil {
+				t.Fatal(err)
+			}
+			near := func(sws []timeline.Switch) []timeline.Switch {
+				var out []timeline.Switch
+				for _, sw := range sws {
+					if sw.Site == planted.Site && sw.Time.Sub(planted.Time).Abs() <= 7*24*time.Hour {
+						out = append(out, sw)
+					}
+				}
+				return out
+			}
+			o = options(after)
+			o.History = history
+			var second *kinmap.Result
+			for run := range 2 { // the same dump twice: its period is replaced, not doubled
+				if second, err = kinmap.Assign(o, first.Model); err != nil {
+					t.Fatal(err)
+				}
+				if err := second.AppendHistory(history); err != nil {
+					t.Fatal(err)
+				}
+				found := append(near(first.Switches), near(second.Switches)...)
+				if len(found) != 1 || !found[0].Time.Equal(planted.Time) {
+					t.Errorf("run %d: switches of %s near %s: %+v, want one at that window", run, planted.Site, planted.Time.Format(time.DateOnly), found)
+				}
+			}
+			periods, err := export.ReadHistory(history)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(periods) != 2 {
+				t.Errorf("history holds %d periods, want 2", len(periods))
+			}
+
+			// One decoding of both dumps together, without history.
+			joint, err := kinmap.Assign(options(before, after), first.Model)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// Windows as "time regime" and switches as "time from→to".
+			var want, got []string
+			for _, e := range joint.Entries {
+				if e.Site == planted.Site {
+					want = append(want, fmt.Sprintf("%s %d", e.Start.UTC().Format(time.RFC3339), e.Regime))
+				}
+			}
+			for _, p := range periods {
+				for _, w := range p.Windows {
+					if w.Site == planted.Site {
+						got = append(got, fmt.Sprintf("%s %d", w.Start.UTC().Format(time.RFC3339), w.Regime))
+					}
+				}
+			}
+			slices.Sort(got)
+			if !slices.Equal(got, want) {
+				t.Errorf("%s in the history:\n%v\none decoding of both dumps:\n%v", planted.Site, got, want)
+			}
+			changes := func(sws ...[]timeline.Switch) []string {
+				var out []string
+				for _, s := range slices.Concat(sws...) {
+					if s.Site == planted.Site {
+						out = append(out, fmt.Sprintf("%s %d→%d", s.Time.UTC().Format(time.RFC3339), s.From, s.To))
+					}
+				}
+				slices.Sort(out)
+				return out
+			}
+			if g, w := changes(first.Switches, second.Switches), changes(joint.Switches); !slices.Equal(g, w) {
+				t.Errorf("switches of %s, dump by dump: %v; both dumps at once: %v", planted.Site, g, w)
+			}
+		})
+	}
+}
+
+// alone reports whether no other switch of sw's site lies within n windows
+// of it.
+func alone(fleet *scenarios.Fleet, sw scenarios.Switch, n int) bool {
+	for _, o := range fleet.Switches() {
+		if o.Site == sw.Site && o.Window != sw.Window && max(o.Window-sw.Window, sw.Window-o.Window) <= n {
+			return false
 		}
-		if len(found) != 1 || !found[0].Equal(planted.Time) {
-			t.Errorf("run %d: switches of %s at %v, want one at %s", run, planted.Site, found, planted.Time.Format(time.DateOnly))
-		}
 	}
-	o.History = ""
-	alone, err := kinmap.Assign(o, first.Model)
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, sw := range alone.Switches {
-		if sw.Site == planted.Site && sw.Time.Equal(planted.Time) {
-			t.Errorf("without the history a switch at the first window was found: the test would not tell")
-		}
-	}
-	periods, _ := os.ReadDir(history)
-	if len(periods) != 2 {
-		t.Errorf("history holds %d periods, want 2", len(periods))
-	}
+	return true
 }

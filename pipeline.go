@@ -1,6 +1,7 @@
 package kinmap
 
 import (
+	"errors"
 	"fmt"
 	"maps"
 	"slices"
@@ -27,13 +28,13 @@ func Train(o Options) (*Result, error) {
 	}
 	sw.lap("read")
 	if err := extract(&o, res, ds, o.Features); err != nil {
-		return nil, err
+		return nil, settingsError(err)
 	}
 	sw.lap("features")
 
 	sc, err := res.Scale(o)
 	if err != nil {
-		return nil, err
+		return nil, settingsError(err)
 	}
 	mc := o.Map
 	mc.Progress = progress(&o)
@@ -139,6 +140,17 @@ func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
 	}
 	sw.lap("features")
 	return nil
+}
+
+// settingsError makes an error about a feature or channel that the
+// feature list or the weights name and the data lacks a usage error: a
+// misspelt option, which only the data could reveal. Not for assign and
+// update, whose features come from the model.
+func settingsError(err error) error {
+	if errors.Is(err, features.ErrUnknownName) {
+		return &UsageError{err}
+	}
+	return err
 }
 
 func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) error {

@@ -1,6 +1,7 @@
 package features
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -345,6 +346,9 @@ func TestConfigErrors(t *testing.T) {
 		_, err := Extract(ds, cfg)
 		if err == nil || !strings.Contains(err.Error(), tt.msg) || !strings.HasPrefix(err.Error(), "features: ") {
 			t.Errorf("%+v: error %v; want one containing %q", cfg, err, tt.msg)
+		}
+		if unknown := strings.Contains(tt.msg, "unknown channel"); errors.Is(err, ErrUnknownName) != unknown {
+			t.Errorf("%+v: errors.Is(%v, ErrUnknownName) is %v, want %v", cfg, err, !unknown, unknown)
 		}
 	}
 	if err := base.Validate(); err != nil {

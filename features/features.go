@@ -83,6 +83,7 @@
 package features
 
 import (
+	"errors"
 	"time"
 )
 
@@ -133,6 +134,19 @@ type Table struct {
 // Skips counts the windows of one site that were not used, by reason:
 // "empty" (no reading at all) or "coverage" (below Config.MinCoverage).
 type Skips map[string]int
+
+// ErrUnknownName is matched (errors.Is) by the errors of Extract and
+// FitScaler for a feature list or weights that name a channel or a feature
+// the data lacks: a mistake in the caller's settings that only the data can
+// reveal.
+var ErrUnknownName = errors.New("features: a name the data lacks")
+
+// unknownNameError is an error about a name the data lacks.
+type unknownNameError struct{ error }
+
+func (e unknownNameError) Unwrap() error { return e.error }
+
+func (unknownNameError) Is(target error) bool { return target == ErrUnknownName }
 
 // Scaler is a per-feature normalisation fitted on the training windows and
 // stored with the model, so that a later dump is scaled the same way.

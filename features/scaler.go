@@ -38,7 +38,7 @@ func FitScaler(t *Table, method string, weights map[string]float64) (*Scaler, er
 	}
 	if len(unknown) > 0 {
 		sort.Strings(unknown)
-		return nil, fmt.Errorf("features: weights for unknown features %s", strings.Join(unknown, ", "))
+		return nil, unknownNameError{fmt.Errorf("features: weights for unknown features %s (features: %s)", strings.Join(unknown, ", "), strings.Join(t.Names, ", "))}
 	}
 	s := &Scaler{Method: method}
 	col := make([]float64, 0, len(t.Windows))

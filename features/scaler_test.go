@@ -2,6 +2,7 @@ package features
 
 import (
 	"encoding/json"
+	"errors"
 	"math"
 	"reflect"
 	"slices"
@@ -98,8 +99,12 @@ func TestFitScalerDropsAndWeights(t *testing.T) {
 		{"zscore", map[string]float64{"a.mean": math.NaN()}, "must be finite and non-negative"},
 	}
 	for _, e := range errs {
-		if _, err := FitScaler(tab, e.method, e.weights); err == nil || !strings.Contains(err.Error(), e.msg) {
+		_, err := FitScaler(tab, e.method, e.weights)
+		if err == nil || !strings.Contains(err.Error(), e.msg) {
 			t.Errorf("%s %v: error %v, want one containing %q", e.method, e.weights, err, e.msg)
+		}
+		if unknown := strings.Contains(e.msg, "unknown features"); errors.Is(err, ErrUnknownName) != unknown {
+			t.Errorf("%s %v: errors.Is(%v, ErrUnknownName) is %v, want %v", e.method, e.weights, err, !unknown, unknown)
 		}
 	}
 	if _, err := FitScaler(&Table{Names: names}, "zscore", nil); err == nil {

@@ -123,6 +123,12 @@ type plan struct {
 	names    []string
 }
 
+// unknownChannel is the error for a feature list naming a channel the data
+// lacks.
+func unknownChannel(ch string, channels []string) error {
+	return unknownNameError{fmt.Errorf("features: unknown channel %q in the feature list (channels: %s)", ch, strings.Join(channels, ", "))}
+}
+
 func newPlan(channels []string, cfg Config) (*plan, error) {
 	r, err := parseRequest(cfg.Features)
 	if err != nil {
@@ -131,7 +137,7 @@ func newPlan(channels []string, cfg Config) (*plan, error) {
 	p := &plan{channels: channels, stats: make([]statSet, len(channels)), used: make([]bool, len(channels))}
 	for ch := range r.channel {
 		if !slices.Contains(channels, ch) {
-			return nil, fmt.Errorf("features: unknown channel %q in the feature list (channels: %s)", ch, strings.Join(channels, ", "))
+			return nil, unknownChannel(ch, channels)
 		}
 	}
 	for i, ch := range channels {
@@ -146,7 +152,7 @@ func newPlan(channels []string, cfg Config) (*plan, error) {
 	for pr := range r.pairs {
 		for _, ch := range pr {
 			if !slices.Contains(channels, ch) {
-				return nil, fmt.Errorf("features: unknown channel %q in the feature list (channels: %s)", ch, strings.Join(channels, ", "))
+				return nil, unknownChannel(ch, channels)
 			}
 		}
 	}

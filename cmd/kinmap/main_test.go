@@ -55,6 +55,9 @@ func TestUsageErrors(t *testing.T) {
 		{"scenario name last", []string{"scenario", "--out", t.TempDir(), "pumping"}, "comes before"},
 		{"help with arguments", []string{"help", "run", "extra"}, "extra"},
 		{"demo with arguments", []string{"demo", "extra"}, "no arguments"},
+		// Names only the data can judge, but misspelt options all the same.
+		{"unknown channel in the feature list", []string{"run", "--data", dump, "--out", t.TempDir(), "--features", "wind.mean"}, `unknown channel "wind" in the feature list (channels: flow)`},
+		{"weight of an unknown feature", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-coverage", "0", "--weights", "flow.maen=2"}, "weights for unknown features flow.maen"},
 		{"pattern matching nothing", []string{"run", "--data", filepath.Join(t.TempDir(), "missing-*.parquet"), "--out", t.TempDir()}, "matches no file"},
 	}
 	for _, tt := range tests {

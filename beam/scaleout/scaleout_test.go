@@ -200,7 +200,9 @@ func TestTrainWithHistory(t *testing.T) {
 		earlier = append(earlier, e)
 	}
 	o.History = t.TempDir()
-	h := &kinmap.Result{Entries: earlier}
+	// Numbered by the first map, whose regimes both paths make again, so
+	// both continue from it.
+	h := &kinmap.Result{Entries: earlier, Model: first.Model}
 	if err := h.AppendHistory(o.History); err != nil {
 		t.Fatal(err)
 	}
@@ -210,6 +212,9 @@ func TestTrainWithHistory(t *testing.T) {
 	}
 	if reflect.DeepEqual(sites(local.Switches), sites(first.Switches)) {
 		t.Errorf("the history changed no switch (%d of them); the check would not tell", len(local.Switches))
+	}
+	if len(local.Info.Warnings) != len(beam.Info.Warnings) {
+		t.Errorf("warnings: Beam %q, local %q", beam.Info.Warnings, local.Info.Warnings)
 	}
 }
 

@@ -427,8 +427,12 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 		if id < 0 {
 			id = r.newSeries(s, ch)
 		}
+		// A series that earlier batches held and that still reports at the
+		// end of this one, as in a dump ordered by time, will likely report
+		// in every batch to come. One that starts here may be all there is,
+		// as in a dump ordered by site: room for more would be wasted.
 		extra := 0
-		if runs[len(runs)-1].tail { // a series still reporting at the end of the batch
+		if len(r.kept.times[id]) > 0 && runs[len(runs)-1].tail {
 			extra = int(float64(n) * ahead)
 		}
 		r.kept.reserve(id, n, extra, limit)

@@ -9,6 +9,7 @@
 package kinmap
 
 import (
+	"cmp"
 	"errors"
 	"fmt"
 	"io"
@@ -175,6 +176,7 @@ func (r *Result) Write(dir string) error {
 		Register:    r.Register,
 		Summary:     &r.Ingest,
 		Changes:     r.Changes,
+		Title:       "kinmap " + cmp.Or(r.Info.Command, "run"),
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {

@@ -174,6 +174,10 @@ func TestScenarioRunAssignUpdate(t *testing.T) {
 				t.Errorf("%s: %v", args[0], err)
 			}
 		}
+		// The report says which command made it.
+		if report, err := os.ReadFile(filepath.Join(out, export.ReportFile)); err != nil || !strings.Contains(string(report), "<title>kinmap "+args[0]+"</title>") {
+			t.Errorf("%s: the report's title does not name the command (%v)", args[0], err)
+		}
 	}
 	periods, err := os.ReadDir(history)
 	if err != nil || len(periods) != 1 {

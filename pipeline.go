@@ -28,13 +28,13 @@ func Train(o Options) (*Result, error) {
 	}
 	sw.lap("read")
 	if err := extract(&o, res, ds, o.Features); err != nil {
-		return nil, settingsError(err)
+		return nil, OptionError(err)
 	}
 	sw.lap("features")
 
 	sc, err := res.Scale(o)
 	if err != nil {
-		return nil, settingsError(err)
+		return nil, err
 	}
 	mc := o.Map
 	mc.Progress = progress(&o)
@@ -142,11 +142,12 @@ func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
 	return nil
 }
 
-// settingsError makes an error about a feature or channel that the
-// feature list or the weights name and the data lacks a usage error: a
-// misspelt option, which only the data could reveal. Not for assign and
-// update, whose features come from the model.
-func settingsError(err error) error {
+// OptionError returns err as a *UsageError when it reports a name that the
+// feature list or the weights of the options give and the data lacks
+// (features.ErrUnknownName): a misspelt option, which only the data could
+// reveal. It is for runs that take their features from the options; assign
+// and update take them from the model, where such a name is a data error.
+func OptionError(err error) error {
 	if errors.Is(err, features.ErrUnknownName) {
 		return &UsageError{err}
 	}
@@ -168,11 +169,12 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 
 // Scale fits the normalisation of o on the feature table of r (the
 // training windows) and scales the table into r.X. Features without
-// variance are left out with a warning.
+// variance are left out with a warning; weights for a feature the table
+// lacks are a usage error.
 func (r *Result) Scale(o Options) (*features.Scaler, error) {
 	sc, err := features.FitScaler(r.Table, o.Scaling, o.Weights)
 	if err != nil {
-		return nil, err
+		return nil, OptionError(err)
 	}
 	for _, name := range sc.Dropped {
 		r.Info.Warnings = append(r.Info.Warnings, fmt.Sprintf("feature %s has no variance in the training windows and is left out", name))

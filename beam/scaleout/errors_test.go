@@ -24,6 +24,7 @@ func TestErrorsMatchLocal(t *testing.T) {
 		edit func(*kinmap.Options)
 	}{
 		{"unknown feature", func(o *kinmap.Options) { o.Features.Features = "pressure.mean,nosuch.p95" }},
+		{"weight of an unknown feature", func(o *kinmap.Options) { o.Weights = map[string]float64{"nosuch.p95": 2} }},
 		{"missing time column", func(o *kinmap.Options) { o.Ingest.TimeCol = "stamp" }},
 		{"corrupt dump after a good one", func(o *kinmap.Options) { o.Data = []string{f.dumps[0], junk} }},
 		{"missing dump", func(o *kinmap.Options) { o.Data = []string{filepath.Join(t.TempDir(), "none.parquet")} }},

@@ -254,7 +254,7 @@ func (r *run) windows(ctx context.Context, files []string) error {
 	// checks it, with the same message.
 	empty, err := features.Extract(&ingest.Dataset{Channels: channelList}, o.Features)
 	if err != nil {
-		return err
+		return kinmap.OptionError(err)
 	}
 	all, err := r.gatherShards(ctx)
 	if err != nil {

@@ -64,6 +64,10 @@ func dispatch(args []string, e *env) int {
 			overview(e.stdout)
 			return cli.ExitOK
 		case 1:
+			if rest[0] == "help" {
+				overview(e.stdout)
+				return cli.ExitOK
+			}
 			name, rest = rest[0], []string{"-h"}
 		default:
 			return cli.Status(e.stderr, "kinmap help", cli.UsageError("unexpected arguments %q: help takes one command name", rest[1:]))

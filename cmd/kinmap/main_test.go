@@ -102,6 +102,9 @@ func TestHelp(t *testing.T) {
 	if code != cli.ExitOK {
 		t.Fatalf("help: exit status %d", code)
 	}
+	if code, out, _ := invoke("help", "help"); code != cli.ExitOK || out != stdout {
+		t.Errorf("help help: exit status %d, output %q; want the overview", code, out)
+	}
 	for _, c := range commands() {
 		if !strings.Contains(stdout, c.Name) {
 			t.Errorf("help does not list %s", c.Name)

@@ -244,6 +244,7 @@ func Begin(command string, o Options) *Result {
 		Command:  command,
 		Started:  time.Now().UTC(),
 		Register: o.Sites,
+		Warnings: []string{}, // a list in run.json even when empty
 		Options: OptionsRecord{
 			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
 			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History,

@@ -26,7 +26,7 @@ func (m *Map) Assign(x *mat.Dense, workers int) []Assignment {
 // share of units that win no window, with a warning when more than half win
 // none.
 func (m *Map) Quality(asg []Assignment) Quality {
-	var q Quality
+	q := Quality{Warnings: []string{}} // a list in JSON even when empty
 	if len(asg) == 0 {
 		return q
 	}

@@ -80,9 +80,17 @@ func TestRunJSON(t *testing.T) {
 		Counts   map[string]float64 `json:"counts"`
 		Quality  map[string]any     `json:"quality"`
 		Timings  map[string]float64 `json:"timings_seconds"`
+		Warnings json.RawMessage    `json:"warnings"`
 	}
 	if err := json.Unmarshal(raw, &info); err != nil {
 		t.Fatalf("run.json: %v", err)
+	}
+	// Lists, empty or not, so that a reader can always iterate them.
+	if !bytes.HasPrefix(info.Warnings, []byte("[")) {
+		t.Errorf("run.json warnings %s, want a list", info.Warnings)
+	}
+	if _, ok := info.Quality["warnings"].([]any); !ok {
+		t.Errorf("run.json quality.warnings %v, want a list", info.Quality["warnings"])
 	}
 	rows := longRows(fleet)
 	if info.Command != "run" || info.Register != register || info.Finished.Before(info.Started) || info.Started.IsZero() {

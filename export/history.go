@@ -186,16 +186,10 @@ func readPeriod(path string) (Period, error) {
 	rows := make([]historyRow, pf.NumRows())
 	r := parquet.NewGenericReader[historyRow](pf)
 	defer r.Close()
-	// Read may stop at a row group's end; read on until every row is in.
-	for n := 0; n < len(rows); {
-		k, err := r.Read(rows[n:])
-		n += k
-		if errors.Is(err, io.EOF) && n < len(rows) || k == 0 && err == nil {
-			return Period{}, fmt.Errorf("%d of %d rows read", n, len(rows))
-		}
-		if err != nil && !errors.Is(err, io.EOF) {
-			return Period{}, err
-		}
+	if n, err := r.Read(rows); err != nil && !errors.Is(err, io.EOF) {
+		return Period{}, err
+	} else if n != len(rows) {
+		return Period{}, fmt.Errorf("%d of %d rows read", n, len(rows))
 	}
 	p.Windows = make([]HistoryWindow, len(rows))
 	for i, r := range rows {

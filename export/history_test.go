@@ -16,6 +16,7 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/parquet-go/parquet-go"
 
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -146,6 +147,47 @@ func TestHistoryWithoutLineage(t *testing.T) {
 	for i, hw := range got[0].Windows {
 		if hw.Entry != w[i].Entry || hw.Scaled != nil || hw.Revised {
 			t.Errorf("window %d: %+v, want %+v without scaled vector", i, hw, w[i].Entry)
+		}
+	}
+}
+
+// A period written in several row groups, as a long one may be, reads
+// whole.
+func TestHistoryOfRowGroups(t *testing.T) {
+	dir := t.TempDir()
+	folder := filepath.Join(dir, periodPrefix+"2026-03-02")
+	if err := os.MkdirAll(folder, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	f, err := os.Create(filepath.Join(folder, TimelineParquetFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ws := days("a", 0, 9)
+	rows := make([]historyRow, len(ws))
+	for i, w := range ws {
+		rows[i] = historyRow{timelineRow: rowOf(w.Entry), Scaled: w.Scaled}
+	}
+	pw := parquet.NewGenericWriter[historyRow](f, parquet.MaxRowsPerRowGroup(3))
+	if _, err := pw.Write(rows); err != nil {
+		t.Fatal(err)
+	}
+	if err := pw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Close(); err != nil {
+		t.Fatal(err)
+	}
+	got, err := ReadHistory(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != 1 || len(got[0].Windows) != len(ws) {
+		t.Fatalf("periods %+v, want one of %d windows", got, len(ws))
+	}
+	for i, hw := range got[0].Windows {
+		if hw.Entry != ws[i].Entry || !sameFloats(hw.Scaled, ws[i].Scaled) {
+			t.Errorf("window %d: %+v, want %+v", i, hw, ws[i])
 		}
 	}
 }

@@ -182,14 +182,13 @@ func (r *Result) Write(dir string) error {
 	if err != nil {
 		return err
 	}
-	// The report lists the export's warnings itself: it gets the others.
-	run.Warnings = slices.DeleteFunc(slices.Clone(r.Info.Warnings), func(w string) bool { return slices.Contains(ws, w) })
 	for _, w := range ws {
 		if !slices.Contains(r.Info.Warnings, w) {
 			r.Info.Warnings = append(r.Info.Warnings, w)
 		}
 	}
-	run.Info = r.Info
+	// The report shows each warning once, those it finds itself included.
+	run.Warnings, run.Info = r.Info.Warnings, r.Info
 	return export.Write(dir, run)
 }
 

@@ -118,11 +118,11 @@ func sameFloats(a, b []float64) bool {
 	return slices.EqualFunc(a, b, func(x, y float64) bool { return x == y || math.IsNaN(x) && math.IsNaN(y) })
 }
 
-// A period in the plain timeline.parquet format, as written before periods
-// recorded a lineage, reads with no lineage and no scaled vectors.
-func TestHistoryWithoutLineage(t *testing.T) {
-	dir := t.TempDir()
-	folder := filepath.Join(dir, periodPrefix+"2026-03-02")
+// periodFile creates the timeline file of period key in the history folder
+// dir, for a test to write as it likes.
+func periodFile(t *testing.T, dir, key string) *os.File {
+	t.Helper()
+	folder := filepath.Join(dir, periodPrefix+key)
 	if err := os.MkdirAll(folder, 0o755); err != nil {
 		t.Fatal(err)
 	}
@@ -130,6 +130,14 @@ func TestHistoryWithoutLineage(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	return f
+}
+
+// A period in the plain timeline.parquet format, as written before periods
+// recorded a lineage, reads with no lineage and no scaled vectors.
+func TestHistoryWithoutLineage(t *testing.T) {
+	dir := t.TempDir()
+	f := periodFile(t, dir, "2026-03-02")
 	w := days("a", 0, 1)
 	if err := writeParquet(f, []timelineRow{rowOf(w[0].Entry), rowOf(w[1].Entry)}); err != nil {
 		t.Fatal(err)
@@ -155,14 +163,7 @@ func TestHistoryWithoutLineage(t *testing.T) {
 // whole.
 func TestHistoryOfRowGroups(t *testing.T) {
 	dir := t.TempDir()
-	folder := filepath.Join(dir, periodPrefix+"2026-03-02")
-	if err := os.MkdirAll(folder, 0o755); err != nil {
-		t.Fatal(err)
-	}
-	f, err := os.Create(filepath.Join(folder, TimelineParquetFile))
-	if err != nil {
-		t.Fatal(err)
-	}
+	f := periodFile(t, dir, "2026-03-02")
 	ws := days("a", 0, 9)
 	rows := make([]historyRow, len(ws))
 	for i, w := range ws {

@@ -1,13 +1,21 @@
 package score
 
-import "math"
+import (
+	"cmp"
+	"maps"
+	"math"
+	"slices"
+)
 
 // contingency is the table of counts of two labellings of the same items.
 type contingency struct {
 	n          int
-	rows, cols []int          // items per label of the first and second labelling
-	cells      map[[2]int]int // items per pair of labels (indices into rows, cols)
+	rows, cols []int  // items per label of the first and second labelling
+	cells      []cell // the pairs of labels that hold items, in order
 }
+
+// cell is the count of items with the labels rows[i] and cols[j].
+type cell struct{ i, j, n int }
 
 // newContingency counts the items of each pair of labels. It panics when
 // the labellings differ in length.
@@ -15,7 +23,8 @@ func newContingency(a, b []int) contingency {
 	if len(a) != len(b) {
 		panic("score: labellings of different lengths")
 	}
-	c := contingency{n: len(a), cells: map[[2]int]int{}}
+	c := contingency{n: len(a)}
+	counts := map[[2]int]int{}
 	ra, rb := map[int]int{}, map[int]int{}
 	index := func(m map[int]int, counts *[]int, label int) int {
 		i, ok := m[label]
@@ -30,7 +39,14 @@ func newContingency(a, b []int) contingency {
 	for k := range a {
 		i := index(ra, &c.rows, a[k])
 		j := index(rb, &c.cols, b[k])
-		c.cells[[2]int{i, j}]++
+		counts[[2]int{i, j}]++
+	}
+	// In a fixed order, so that sums of logarithms do not vary with the
+	// order of map iteration.
+	for _, ij := range slices.SortedFunc(maps.Keys(counts), func(x, y [2]int) int {
+		return cmp.Or(cmp.Compare(x[0], y[0]), cmp.Compare(x[1], y[1]))
+	}) {
+		c.cells = append(c.cells, cell{ij[0], ij[1], counts[ij]})
 	}
 	return c
 }
@@ -49,8 +65,8 @@ func pairs(n int) float64 { return float64(n) * float64(n-1) / 2 }
 func ARI(truth, pred []int) float64 {
 	c := newContingency(truth, pred)
 	var index, sumRows, sumCols float64
-	for _, n := range c.cells {
-		index += pairs(n)
+	for _, x := range c.cells {
+		index += pairs(x.n)
 	}
 	for _, n := range c.rows {
 		sumRows += pairs(n)
@@ -85,9 +101,9 @@ func AMI(truth, pred []int) float64 {
 	}
 	n := float64(c.n)
 	mi := 0.0
-	for ij, nij := range c.cells {
-		v := float64(nij)
-		mi += v / n * math.Log(n*v/(float64(c.rows[ij[0]])*float64(c.cols[ij[1]])))
+	for _, x := range c.cells {
+		v := float64(x.n)
+		mi += v / n * math.Log(n*v/(float64(c.rows[x.i])*float64(c.cols[x.j])))
 	}
 	mi = math.Max(mi, 0)
 	emi := expectedMI(c)

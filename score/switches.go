@@ -14,14 +14,16 @@ type Event struct {
 
 // Match is the agreement of found switches with true ones.
 type Match struct {
-	TP int // found switches matched to a true one
-	FP int // found switches matched to none
-	FN int // true switches matched to none
+	TP int `json:"tp"` // found switches matched to a true one
+	FP int `json:"fp"` // found switches matched to none
+	FN int `json:"fn"` // true switches matched to none
 
 	// Precision is TP / (TP + FP), and 1 when nothing was found: no found
 	// switch is false. Recall is TP / (TP + FN), and 1 when there was
 	// nothing to find. F1 is their harmonic mean, 0 when both are 0.
-	Precision, Recall, F1 float64
+	Precision float64 `json:"precision"`
+	Recall    float64 `json:"recall"`
+	F1        float64 `json:"f1"`
 }
 
 // Switches matches found switches to true ones and counts the agreement.

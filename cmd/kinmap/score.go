@@ -11,41 +11,53 @@ import (
 	"github.com/kinmap/kinmap/score"
 )
 
-func scoreCmd(args []string, e *env) error {
-	var out, truth string
-	tol := 24 * time.Hour
-	var asJSON bool
+// scoreOptions are the command line of score.
+type scoreOptions struct {
+	out, truth string
+	tolerance  time.Duration
+	json       bool
+}
+
+// scoreFlags returns the flags of score, which set o.
+func scoreFlags(o *scoreOptions) *cli.Flags {
+	o.tolerance = 24 * time.Hour
 	f := cli.New(commandNamed("score"), nil)
 	f.Section("Input")
-	f.Str(&out, "out", "", "output `DIR` of a kinmap run (its timeline and switches tables)")
-	f.Str(&truth, "truth", "", "truth `PATH`: a folder with truth-windows.csv (and truth-switches.csv), or a CSV file of site, window_start, regime")
+	f.Str(&o.out, "out", "", "output `DIR` of a kinmap run (its timeline and switches tables)")
+	f.Str(&o.truth, "truth", "", "truth `PATH`: a folder with truth-windows.csv (and truth-switches.csv), or a CSV file of site, window_start, regime")
 	f.Section("Scoring")
-	f.Duration(&tol, "tolerance", "a found switch matches a true one of the same site at most `LENGTH` apart (Go durations plus d and w)")
+	f.Duration(&o.tolerance, "tolerance", "a found switch matches a true one of the same site at most `LENGTH` apart (Go durations plus d and w)")
 	f.Section("Output")
-	f.Bool(&asJSON, "json", false, "print the report as JSON")
+	f.Bool(&o.json, "json", false, "print the report as JSON")
+	return f
+}
+
+func scoreCmd(args []string, e *env) error {
+	var o scoreOptions
+	f := scoreFlags(&o)
 	if err := f.Parse(args, e.stdout); err != nil {
 		return err
 	}
 	switch {
 	case f.NArg() > 0:
 		return cli.UsageError("unexpected arguments %q: score takes only options", f.Args())
-	case out == "":
+	case o.out == "":
 		return cli.UsageError("no output folder to score: name it with --out DIR")
-	case truth == "":
+	case o.truth == "":
 		return cli.UsageError("no truth: name a folder or windows file with --truth PATH")
-	case tol < 0:
-		return cli.UsageError("--tolerance %v: want a length of 0 or more", tol)
+	case o.tolerance < 0:
+		return cli.UsageError("--tolerance %v: want a length of 0 or more", o.tolerance)
 	}
-	r, err := score.Folder(out, truth, tol)
+	r, err := score.Folder(o.out, o.truth, o.tolerance)
 	if err != nil {
 		return err
 	}
-	if asJSON {
+	if o.json {
 		enc := json.NewEncoder(e.stdout)
 		enc.SetIndent("", "  ")
 		return enc.Encode(r)
 	}
-	printScore(e.stdout, r, out, truth)
+	printScore(e.stdout, r, o.out, o.truth)
 	return nil
 }
 

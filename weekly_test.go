@@ -152,6 +152,27 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 			t.Errorf("change %+v after an update on the same behaviour", c)
 		}
 	}
+
+	// run.json's quality is that of the run's own windows, whether the run
+	// built the model on them or assigned them to an earlier one: its mean
+	// quantization error is the mean distance of each window to its BMU
+	// (T. Kohonen, "Self-Organizing Maps", 3rd ed., 2001).
+	third, err := kinmap.Assign(options(week2), first.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range []struct {
+		name string
+		res  *kinmap.Result
+	}{{"train", first}, {"update", second}, {"assign", third}} {
+		var sum float64
+		for _, a := range r.res.Assignments {
+			sum += a.QE
+		}
+		if mean := sum / float64(len(r.res.Assignments)); math.Abs(r.res.Info.Quality.QE-mean) > 1e-12*mean {
+			t.Errorf("%s: run quality QE %g, mean QE of its windows %g", r.name, r.res.Info.Quality.QE, mean)
+		}
+	}
 }
 
 func dist(a, b []float64) float64 {

@@ -12,7 +12,6 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
-	"github.com/kinmap/kinmap/features"
 )
 
 // Command describes a command for its usage text.
@@ -203,7 +202,7 @@ func (d durationValue) String() string {
 }
 
 func (d durationValue) Set(s string) error {
-	v, err := features.ParseDuration(s)
+	v, err := parseDuration(s)
 	if err != nil {
 		return err
 	}
@@ -212,18 +211,6 @@ func (d durationValue) Set(s string) error {
 }
 
 func (d durationValue) Get() any { return *d.p }
-
-// formatDuration writes whole weeks and days with their suffixes.
-func formatDuration(d time.Duration) string {
-	const day = 24 * time.Hour
-	switch {
-	case d%(7*day) == 0:
-		return strconv.Itoa(int(d/(7*day))) + "w"
-	case d%day == 0:
-		return strconv.Itoa(int(d/day)) + "d"
-	}
-	return d.String()
-}
 
 // gridValue is a COLSxROWS flag.
 type gridValue struct{ cols, rows *int }

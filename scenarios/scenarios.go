@@ -233,9 +233,9 @@ func (f *Fleet) Switches() []Switch {
 }
 
 const (
-	step      = 10 * time.Minute
 	window    = 24 * time.Hour
-	perWindow = 24 * 60 / 10 // slots in a window: window / step
+	perWindow = 144                // slots in a window, of 10 minutes
+	step      = window / perWindow // so that the slots fill the window
 
 	maxSites    = 5000
 	maxWeeks    = 104

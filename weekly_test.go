@@ -54,8 +54,13 @@ func writeDump(t *testing.T, path string, fleet *scenarios.Fleet, from, to time.
 	}
 }
 
+// fleetT generates the pumping fleet of an end-to-end run. Every such run
+// starts here, so here go test -short skips them (DEVELOPERS.md).
 func fleetT(t *testing.T, sites, weeks int) *scenarios.Fleet {
 	t.Helper()
+	if testing.Short() {
+		t.Skip("end-to-end run")
+	}
 	spec, err := scenarios.DefaultSpec("pumping")
 	if err != nil {
 		t.Fatal(err)
@@ -201,6 +206,33 @@ func TestSwitchAcrossDumps(t *testing.T) {
 	if planted.Site == "" {
 		t.Fatal("the scenario planted no switch away from its ends and from other switches")
 	}
+	// One model serves both cases, which differ only in where the dumps
+	// part: trained on the windows before the planted switch, so that the
+	// switch is news to it.
+	dir := t.TempDir()
+	training := filepath.Join(dir, "training.csv")
+	writeDump(t, training, fleet, fleet.WindowStart(0), fleet.WindowStart(planted.Window), 0, 0, 1)
+	trained, err := kinmap.Train(options(training))
+	if err != nil {
+		t.Fatal(err)
+	}
+	model := trained.Model
+	// The dumps hold the planted site and a few others: the checks look
+	// at the planted site, and decoding is per site.
+	few := *fleet
+	few.Sites = nil
+	for _, s := range fleet.Sites {
+		if s.ID == planted.Site || len(few.Sites) < 11 {
+			few.Sites = append(few.Sites, s)
+		}
+	}
+	whole := filepath.Join(dir, "whole.csv")
+	writeDump(t, whole, &few, fleet.WindowStart(0), fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+	// One decoding of the whole record, without history.
+	joint, err := kinmap.Assign(options(whole), model)
+	if err != nil {
+		t.Fatal(err)
+	}
 	for _, tc := range []struct {
 		name  string
 		ahead int // windows of the new regime at the end of the first dump
@@ -212,13 +244,13 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			dir := t.TempDir()
 			boundary := fleet.WindowStart(planted.Window + tc.ahead)
 			before, after := filepath.Join(dir, "before.csv"), filepath.Join(dir, "after.csv")
-			writeDump(t, before, fleet, fleet.WindowStart(0), boundary, 0, 0, 1)
-			writeDump(t, after, fleet, boundary, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+			writeDump(t, before, &few, fleet.WindowStart(0), boundary, 0, 0, 1)
+			writeDump(t, after, &few, boundary, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
 			history := filepath.Join(dir, "history")
 
 			o := options(before)
 			o.History = history
-			first, err := kinmap.Train(o)
+			first, err := kinmap.Assign(o, model)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -238,7 +270,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			o.History = history
 			var second *kinmap.Result
 			for run := range 2 { // the same dump twice: its period is replaced, not doubled
-				if second, err = kinmap.Assign(o, first.Model); err != nil {
+				if second, err = kinmap.Assign(o, model); err != nil {
 					t.Fatal(err)
 				}
 				if err := second.AppendHistory(history); err != nil {
@@ -257,11 +289,6 @@ func TestSwitchAcrossDumps(t *testing.T) {
 				t.Errorf("history holds %d periods, want 2", len(periods))
 			}
 
-			// One decoding of both dumps together, without history.
-			joint, err := kinmap.Assign(options(before, after), first.Model)
-			if err != nil {
-				t.Fatal(err)
-			}
 			// Windows as "time regime" and switches as "time from→to".
 			var want, got []string
 			for _, e := range joint.Entries {

@@ -28,10 +28,7 @@ func For[S any](n, workers int, scratch func() S, fn func(s S, i int)) {
 	var wg sync.WaitGroup
 	for range workers {
 		wg.Go(func() {
-			var s S
-			if scratch != nil {
-				s = scratch()
-			}
+			s := scratchOf(scratch)
 			for {
 				i := int(next.Add(1) - 1)
 				if i >= n {
@@ -105,10 +102,7 @@ func Stream[S, A, B any](workers, ahead int, scratch func() S, take func(i int) 
 	}
 	for range workers {
 		wg.Go(func() {
-			var s S
-			if scratch != nil {
-				s = scratch()
-			}
+			s := scratchOf(scratch)
 			for {
 				i, a, ok := claim()
 				if !ok {
@@ -140,4 +134,14 @@ func Stream[S, A, B any](workers, ahead int, scratch func() S, take func(i int) 
 			<-slots
 		}
 	}
+}
+
+// scratchOf returns a goroutine's scratch: what scratch makes, or the zero S
+// when scratch is nil.
+func scratchOf[S any](scratch func() S) S {
+	var s S
+	if scratch != nil {
+		s = scratch()
+	}
+	return s
 }

@@ -88,6 +88,9 @@ type Result struct {
 	Info        RunInfo
 
 	revised []export.Period // history periods whose last windows the decoding revised
+	// quality is the map's fit to the windows when Model was not built on
+	// them (Assign); nil when Model.Quality measured them already.
+	quality *mapper.Quality
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.

@@ -114,7 +114,7 @@ func Write(dir string, r *Run) error {
 	st.add(TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineHeader, tl) })
 	st.add(SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchHeader, sw) })
 	st.add(SwitchesParquetFile, func(w io.Writer) error { return writeParquet(w, sw) })
-	st.add(FeaturesFile, func(w io.Writer) error { return features.WriteParquet(w, r.Table) })
+	st.add(FeaturesFile, func(w io.Writer) error { return writeFeatures(w, r.Table) })
 	st.add(ModelFile, r.Model.Write)
 	st.add(RunFile, func(w io.Writer) error {
 		b, err := json.MarshalIndent(r.Info, "", "  ")

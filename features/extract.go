@@ -4,13 +4,11 @@ import (
 	"cmp"
 	"errors"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/parallel"
 )
 
 // wallOrigin is the wall-clock instant window starts are counted from:
@@ -105,27 +103,9 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 	}
 	slices.SortStableFunc(order, func(a, b *ingest.SiteData) int { return cmp.Compare(a.ID, b.ID) })
 
-	workers := cfg.Workers
-	if workers == 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	workers = max(1, min(workers, len(order)))
-	results := make([]siteResult, len(order))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			w := newWorker()
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= len(order) {
-					return
-				}
-				results[i] = w.site(order[i], p, cfg, clk)
-			}
-		})
-	}
-	wg.Wait()
+	results := parallel.Map(len(order), cfg.Workers, newWorker, func(w *worker, i int) siteResult {
+		return w.site(order[i], p, cfg, clk)
+	})
 
 	t := &Table{Names: p.names, Config: cfg, Skipped: map[string]Skips{}}
 	total := 0

@@ -131,6 +131,18 @@ type Table struct {
 	Skipped map[string]Skips // windows not used, by site; sites that skipped none are absent
 }
 
+// SkippedWindows returns the number of windows skipped, over all sites and
+// reasons.
+func (t *Table) SkippedWindows() int {
+	n := 0
+	for _, s := range t.Skipped {
+		for _, c := range s {
+			n += c
+		}
+	}
+	return n
+}
+
 // Skips counts the windows of one site that were not used, by reason:
 // "empty" (no reading at all) or "coverage" (below Config.MinCoverage).
 type Skips map[string]int

@@ -163,19 +163,6 @@ func lsqHarmonic(t *testing.T, times []int64, x []float64) (amp, phase float64) 
 	return math.Hypot(b, c), math.Mod(math.Atan2(c, b)*24/(2*math.Pi)+24, 24)
 }
 
-// Known answer: R's quantile(1:10), type 7 by default, prints
-// 1.00 3.25 5.50 7.75 10.00 for 0, 25, 50, 75, 100 % (R documentation of
-// quantile; from memory). numpy.percentile's default "linear" method is
-// the same definition.
-func TestQuantileKnownAnswer(t *testing.T) {
-	x := []float64{1, 2, 3, 4, 5, 6, 7, 8, 9, 10}
-	for _, c := range []struct{ p, want float64 }{{0, 1}, {0.25, 3.25}, {0.5, 5.5}, {0.75, 7.75}, {1, 10}} {
-		if got := quantile7(x, c.p); math.Abs(got-c.want) > 1e-12 {
-			t.Errorf("quantile7(1:10, %v) = %v, want %v", c.p, got, c.want)
-		}
-	}
-}
-
 // Definitions checked by hand on a small example: flat counts readings equal
 // to their predecessor over n−1 (here 3 of 5), count is n, a constant has
 // std 0 and undefined (NaN) acf1, and one reading has NaN std.

@@ -12,7 +12,6 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
-	"github.com/kinmap/kinmap/features"
 )
 
 // Command describes a command for its usage text.
@@ -209,7 +208,7 @@ func (d durationValue) String() string {
 }
 
 func (d durationValue) Set(s string) error {
-	v, err := features.ParseDuration(s)
+	v, err := parseDuration(s)
 	if err != nil {
 		return err
 	}
@@ -218,19 +217,6 @@ func (d durationValue) Set(s string) error {
 }
 
 func (d durationValue) Get() any { return *d.p }
-
-// FormatDuration writes whole weeks and days with their suffixes, other
-// lengths as Go durations.
-func FormatDuration(d time.Duration) string {
-	const day = 24 * time.Hour
-	switch {
-	case d%(7*day) == 0:
-		return strconv.Itoa(int(d/(7*day))) + "w"
-	case d%day == 0:
-		return strconv.Itoa(int(d/day)) + "d"
-	}
-	return d.String()
-}
 
 // gridValue is a COLSxROWS flag.
 type gridValue struct{ cols, rows *int }

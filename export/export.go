@@ -55,16 +55,20 @@ type Run struct {
 // Write writes the outputs of r into dir, creating it if needed.
 //
 // sites.geojson is an RFC 7946 FeatureCollection of one Point per site
-// (longitude, latitude in WGS 84, 6 decimals), at its registered position,
-// else its last located window's; a site with no position has a null
-// geometry (see Warnings). Its properties, flat for GIS tools: site; every
-// register attribute with its own type (renamed register_NAME when kinmap
-// uses NAME itself); regime (the last window's); dominant_regime (most
-// windows, the lower ID on a tie); share_rID, the share of windows in
-// regime ID, for every regime of the model; windows; switches (count);
-// last_switch (RFC 3339, or null); col and row (the last window's BMU
-// cell); qe (mean quantization error); unfamiliar (true when any window
-// was unfamiliar); unfamiliar_windows; mobile.
+// (longitude, latitude in WGS 84, 6 decimals): a fixed site at its
+// registered position, else its last located window's; a mobile site at
+// its last known position (the end of its path, features.Table.Paths, or
+// its last located window's centroid); a site with no position has a null
+// geometry (see Warnings). Its properties, flat for GIS tools and the same
+// whatever the number of regimes: site; every register attribute with its
+// own type (renamed register_NAME when kinmap uses NAME itself); regime
+// (the last window's); dominant_regime (most windows, the lower ID on a
+// tie); shares, an object giving the share of windows in each regime of
+// the model by regime ID; windows; switches (count); last_switch (RFC
+// 3339, or null); col and row (the last window's BMU cell); qe (mean
+// quantization error); unfamiliar (true when any window was unfamiliar);
+// unfamiliar_windows; mobile; home_lon and home_lat, the registered
+// position (null when none).
 //
 // regimes.geojson holds one MultiPoint per regime of the model, made of the
 // located sites whose last window is in it (null when none), with regime,
@@ -72,9 +76,10 @@ type Run struct {
 // (comma-separated) and units (map units).
 //
 // tracks.geojson, written only when some site is mobile (its windows have
-// more than one distinct position), holds a LineString of window positions
-// per mobile site and regime segment, with site, regime, start, end,
-// windows and colour.
+// more than one distinct position), holds a LineString per mobile site and
+// regime segment, drawn through the site's path at features.PathStep and
+// simplified (see trackFeatures), with site, regime, start, end, windows
+// and colour.
 //
 // timeline.parquet and timeline.csv hold one row per window (site,
 // window_start, window_end, col, row, regime, qe, unfamiliar), switches.csv

@@ -27,6 +27,7 @@ const (
 	SitesFile           = "sites.geojson"
 	RegimesFile         = "regimes.geojson"
 	TracksFile          = "tracks.geojson"
+	GeoPackageFile      = "kinmap.gpkg"
 	TimelineParquetFile = "timeline.parquet"
 	TimelineCSVFile     = "timeline.csv"
 	SwitchesCSVFile     = "switches.csv"
@@ -108,17 +109,24 @@ func Write(dir string, r *Run) error {
 	if err != nil {
 		return err
 	}
-	st.add(SitesFile, func(w io.Writer) error { return writeCollection(w, siteFeatures(r, ss)) })
-	st.add(RegimesFile, func(w io.Writer) error { return writeCollection(w, regimeFeatures(r, ss)) })
-	tracks := trackFeatures(r, ss)
+	sites, regimes, tracks := siteFeatures(r, ss), regimeFeatures(r, ss), trackFeatures(r, ss)
+	st.add(SitesFile, func(w io.Writer) error { return writeCollection(w, sites) })
+	st.add(RegimesFile, func(w io.Writer) error { return writeCollection(w, regimes) })
 	if len(tracks) > 0 {
 		st.add(TracksFile, func(w io.Writer) error { return writeCollection(w, tracks) })
 	}
 	tl, sw := timelineRows(r, ss), switchRows(r)
 	st.add(TimelineParquetFile, func(w io.Writer) error { return writeParquet(w, tl) })
-	st.add(TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineHeader, tl) })
-	st.add(SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchHeader, sw) })
+	st.add(TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineColumns, tl) })
+	st.add(SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchColumns, sw) })
 	st.add(SwitchesParquetFile, func(w io.Writer) error { return writeParquet(w, sw) })
+	st.add(GeoPackageFile, func(w io.Writer) error {
+		layers, err := gpkgLayers(sites, regimes, tracks, tl, sw)
+		if err != nil {
+			return err
+		}
+		return writeGeoPackage(w, layers)
+	})
 	st.add(FeaturesFile, func(w io.Writer) error { return features.WriteParquet(w, r.Table) })
 	st.add(ModelFile, r.Model.Write)
 	st.add(RunFile, func(w io.Writer) error {

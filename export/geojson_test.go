@@ -272,7 +272,7 @@ func TestSitesGeoJSON(t *testing.T) {
 		"site": "PS-01", "name": "Aare North", "capacity_kw": 450.0, "elevation_m": 540.5, "active": true,
 		"register_regime": "summer",                    // the register's own "regime" column, renamed
 		"regime":          2.0, "dominant_regime": 1.0, // 3 windows each: the lower ID
-		"windows": 6.0,
+		"windows":  6.0,
 		"switches": 1.0, "last_switch": "2025-03-04T00:00:00Z",
 		"col": 2.0, "row": 0.0, "qe": 0.35, "unfamiliar": false, "unfamiliar_windows": 0.0, "mobile": false,
 		"home_lon": 7.4474, "home_lat": 46.948,

@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strings"
 	"time"
 
@@ -41,6 +42,7 @@ type gpkgLayer struct {
 	name, description string
 	geometry          string
 	columns           []gpkgColumn
+	json              []string       // TEXT columns holding JSON, declared application/json (schema extension)
 	shapes            []orb.Geometry // per row; nil entries are NULL geometries
 	rows              [][]any        // values in column order: nil, string, bool, int, int32, int64, float64, time.Time
 }
@@ -74,6 +76,9 @@ func featureLayer(name, description, geometry string, features []*feature) (gpkg
 					return l, err
 				}
 				v = string(b)
+				if !slices.Contains(l.json, p.key) {
+					l.json = append(l.json, p.key)
+				}
 			}
 			row[i] = v
 			l.columns[i].typ = widen(l.columns[i].typ, gpkgType(v))
@@ -234,9 +239,10 @@ func writeGeoPackage(w io.Writer, layers []gpkgLayer) error {
 }
 
 // gpkgSchema is the core of Requirements 10–11, 13, 18, 21 and 58–59
-// (the SRS, contents, geometry columns and extensions tables); the rows of
-// gpkg_spatial_ref_sys are those the standard requires (-1, 0 and 4326,
-// Requirement 11).
+// (the SRS, contents, geometry columns and extensions tables), and the
+// tables of the schema extension (Annex F.9), which declares JSON columns
+// as such; the rows of gpkg_spatial_ref_sys are those the standard
+// requires (-1, 0 and 4326, Requirement 11).
 const gpkgSchema = `
 CREATE TABLE gpkg_spatial_ref_sys (
   srs_name TEXT NOT NULL,
@@ -267,6 +273,28 @@ CREATE TABLE gpkg_geometry_columns (
   CONSTRAINT fk_gc_tn FOREIGN KEY (table_name) REFERENCES gpkg_contents(table_name),
   CONSTRAINT fk_gc_srs FOREIGN KEY (srs_id) REFERENCES gpkg_spatial_ref_sys (srs_id)
 );
+CREATE TABLE gpkg_data_columns (
+  table_name TEXT NOT NULL,
+  column_name TEXT NOT NULL,
+  name TEXT,
+  title TEXT,
+  description TEXT,
+  mime_type TEXT,
+  constraint_name TEXT,
+  CONSTRAINT pk_gdc PRIMARY KEY (table_name, column_name),
+  CONSTRAINT gdc_tn UNIQUE (table_name, name)
+);
+CREATE TABLE gpkg_data_column_constraints (
+  constraint_name TEXT NOT NULL,
+  constraint_type TEXT NOT NULL,
+  value TEXT,
+  min NUMERIC,
+  min_is_inclusive BOOLEAN,
+  max NUMERIC,
+  max_is_inclusive BOOLEAN,
+  description TEXT,
+  CONSTRAINT gdcc_ntv UNIQUE (constraint_name, constraint_type, value)
+);
 CREATE TABLE gpkg_extensions (
   table_name TEXT,
   column_name TEXT,
@@ -275,6 +303,9 @@ CREATE TABLE gpkg_extensions (
   scope TEXT NOT NULL,
   CONSTRAINT ge_tce UNIQUE (table_name, column_name, extension_name)
 );
+INSERT INTO gpkg_extensions VALUES
+  ('gpkg_data_columns', NULL, 'gpkg_schema', 'http://www.geopackage.org/spec/#extension_schema', 'read-write'),
+  ('gpkg_data_column_constraints', NULL, 'gpkg_schema', 'http://www.geopackage.org/spec/#extension_schema', 'read-write');
 INSERT INTO gpkg_spatial_ref_sys VALUES
   ('Undefined cartesian SRS', -1, 'NONE', -1, 'undefined', 'undefined cartesian coordinate reference system'),
   ('Undefined geographic SRS', 0, 'NONE', 0, 'undefined', 'undefined geographic coordinate reference system'),
@@ -442,6 +473,11 @@ func writeLayer(tx *sql.Tx, l gpkgLayer) error {
 		}
 	}
 
+	for _, c := range l.json {
+		if _, err := tx.Exec(`INSERT INTO gpkg_data_columns (table_name, column_name, name, mime_type) VALUES (?, ?, ?, 'application/json')`, l.name, c, c); err != nil {
+			return err
+		}
+	}
 	if l.geometry == "" {
 		_, err := tx.Exec(`INSERT INTO gpkg_contents (table_name, data_type, identifier, description) VALUES (?, 'attributes', ?, ?)`,
 			l.name, l.name, l.description)

@@ -41,7 +41,7 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 		{"sites", ogrLayer{"Point", 4, map[string]string{
 			"site": "String", "name": "String", "capacity_kw": "Integer64", "elevation_m": "Real",
 			"active": "Integer(Boolean)", "register_regime": "String",
-			"regime": "Integer64", "dominant_regime": "Integer64", "shares": "String",
+			"regime": "Integer64", "dominant_regime": "Integer64", "shares": "String(JSON)",
 			"windows": "Integer64", "switches": "Integer64", "last_switch": "DateTime",
 			"col": "Integer64", "row": "Integer64", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer64", "mobile": "Integer(Boolean)",
@@ -169,10 +169,14 @@ func TestGeoPackageContents(t *testing.T) {
 		t.Errorf("gpkg_geometry_columns %v, want %s", columns, want)
 	}
 	// The R-tree extension (Annex F.3): registered, and one entry per
-	// feature with a geometry (X-9 has none).
+	// feature with a geometry (X-9 has none). The schema extension (Annex
+	// F.9) declares shares JSON.
 	ext := query(t, db, `SELECT table_name, extension_name FROM gpkg_extensions ORDER BY table_name`)
-	if want := "[[regimes gpkg_rtree_index] [sites gpkg_rtree_index] [tracks gpkg_rtree_index]]"; fmt.Sprint(ext) != want {
+	if want := "[[gpkg_data_column_constraints gpkg_schema] [gpkg_data_columns gpkg_schema] [regimes gpkg_rtree_index] [sites gpkg_rtree_index] [tracks gpkg_rtree_index]]"; fmt.Sprint(ext) != want {
 		t.Errorf("gpkg_extensions %v, want %s", ext, want)
+	}
+	if dc := query(t, db, `SELECT table_name, column_name, mime_type FROM gpkg_data_columns`); fmt.Sprint(dc) != "[[sites shares application/json]]" {
+		t.Errorf("gpkg_data_columns %v, want sites.shares as application/json", dc)
 	}
 	if n := query(t, db, `SELECT COUNT(*) FROM rtree_sites_geom`); fmt.Sprint(n) != "[[3]]" {
 		t.Errorf("%v entries in the sites index, want 3", n)

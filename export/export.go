@@ -41,7 +41,7 @@ const (
 // Run is everything the outputs of one run are made from.
 type Run struct {
 	Model       *mapper.Model
-	Table       *features.Table     // the windows, with their positions
+	Table       *features.Table     // the windows, with their positions, and mobile sites' paths
 	Assignments []mapper.Assignment // one per Table.Windows entry
 	Entries     []timeline.Entry    // one per Table.Windows entry, in the same order (timeline.Build)
 	Switches    []timeline.Switch

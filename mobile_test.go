@@ -8,7 +8,6 @@ import (
 	"testing"
 	"time"
 
-	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/scenarios"
 )
@@ -27,21 +26,7 @@ func TestMobileUnitsAtLastPosition(t *testing.T) {
 			t.Fatal(err)
 		}
 		spec.Sites, spec.Weeks, spec.Seed = 16, 2, seed
-		fleet, err := scenarios.Generate(spec)
-		if err != nil {
-			t.Fatal(err)
-		}
-		data := t.TempDir()
-		if _, err := fleet.Write(data, scenarios.FileSites, scenarios.FileLongParquet); err != nil {
-			t.Fatal(err)
-		}
-		o := kinmap.DefaultOptions()
-		o.Data = []string{filepath.Join(data, scenarios.FileLongParquet)}
-		o.Sites = filepath.Join(data, scenarios.FileSites)
-		res, err := kinmap.Train(o)
-		if err != nil {
-			t.Fatal(err)
-		}
+		fleet, res := trainScenario(t, spec)
 		out := t.TempDir()
 		if err := res.Write(out); err != nil {
 			t.Fatal(err)

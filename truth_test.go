@@ -9,6 +9,28 @@ import (
 	"github.com/kinmap/kinmap/score"
 )
 
+// trainScenario generates the fleet of spec, writes its long Parquet dump
+// and register, and runs kinmap.Train on them with the default options.
+func trainScenario(t *testing.T, spec scenarios.Spec) (*scenarios.Fleet, *kinmap.Result) {
+	t.Helper()
+	fleet, err := scenarios.Generate(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	if _, err := fleet.Write(dir, scenarios.FileSites, scenarios.FileLongParquet); err != nil {
+		t.Fatal(err)
+	}
+	o := kinmap.DefaultOptions()
+	o.Data = []string{filepath.Join(dir, scenarios.FileLongParquet)}
+	o.Sites = filepath.Join(dir, scenarios.FileSites)
+	res, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return fleet, res
+}
+
 // The pumping-station scenario of the demo, end to end: the regimes kinmap
 // finds must agree with the planted ones at an adjusted Rand index of at
 // least 0.8, and the switches must be found with precision and recall of at
@@ -21,21 +43,7 @@ func TestGroundTruthPumping(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	fleet, err := scenarios.Generate(spec)
-	if err != nil {
-		t.Fatal(err)
-	}
-	dir := t.TempDir()
-	if _, err := fleet.Write(dir); err != nil {
-		t.Fatal(err)
-	}
-	o := kinmap.DefaultOptions()
-	o.Data = []string{filepath.Join(dir, scenarios.FileLongParquet)}
-	o.Sites = filepath.Join(dir, scenarios.FileSites)
-	res, err := kinmap.Train(o)
-	if err != nil {
-		t.Fatal(err)
-	}
+	fleet, res := trainScenario(t, spec)
 
 	truth := map[string][]int{}
 	for _, s := range fleet.Sites {

@@ -67,6 +67,7 @@ func (c clock) steadyOffset(start, end int64) (int64, bool) {
 type siteResult struct {
 	windows []Window
 	skips   Skips
+	path    []Fix
 }
 
 // Extract cuts every site of ds into windows and computes the features
@@ -117,6 +118,12 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 		t.Windows = append(t.Windows, r.windows...)
 		if len(r.skips) > 0 {
 			t.Skipped[order[i].ID] = r.skips
+		}
+		if len(r.path) > 0 {
+			if t.Paths == nil {
+				t.Paths = map[string][]Fix{}
+			}
+			t.Paths[order[i].ID] = r.path
 		}
 	}
 	return t, nil
@@ -243,6 +250,9 @@ func (w *worker) site(sd *ingest.SiteData, p *plan, cfg Config, clk clock) siteR
 	// The slab no longer grows: hand each window its row.
 	for i := range res.windows {
 		res.windows[i].Values = slab[i*nfeat : (i+1)*nfeat : (i+1)*nfeat]
+	}
+	if len(res.windows) > 0 {
+		res.path = path(track)
 	}
 	return res
 }

@@ -67,13 +67,14 @@
 //     have no chlorine analyser.
 //   - "substations" (600, 3 weeks, 15 minutes): transformers with load
 //     (MVA), top_oil (°C), ambient (°C) and tap (position); "normal" and
-//     "fan-fault" (natural cooling only: twice the oil temperature rise).
+//     "fan-fault" (natural cooling only: 3.5 times the oil temperature
+//     rise).
 //     Load follows the weather and drops at weekends and on a fleet-wide
 //     holiday (days 10 and 11); the fault shows in top_oil only. Class 1.
 //   - "masts" (80, 3 weeks, every minute): weather masts with wind (m/s),
 //     air_temp (°C), humidity (%) and pressure (hPa); "exposed",
-//     "sheltered" and a rare "iced-anemometer" whose wind reading repeats
-//     one value. Class 3.
+//     "sheltered" and a rare "iced-anemometer" whose frozen cups read a
+//     wind of 0. Class 3.
 //   - "coldrooms" (200, 4 weeks, 5 minutes): cold rooms with room_temp,
 //     evap_temp (°C), current (A) and door_open (share); "modulating",
 //     "cycling" (the compressor on for 10 to 40 minutes and off for 14 to
@@ -81,8 +82,8 @@
 //     whose room_temp repeats one value) and "iced-evaporator". Class 3.
 //   - "ahus" (300, 5 weeks, 15 minutes): air-handling units with
 //     supply_temp, return_temp (°C), fan_speed, valve (%) and co2 (ppm);
-//     "office" (weekdays 07:00–19:00, short frost and flush runs at
-//     weekends, like a residential weekday), "residential" (mornings and
+//     "office" (weekdays 07:00–19:00, a short flush run in weekend
+//     mornings, more like a residential weekday than an office one), "residential" (mornings and
 //     evenings, weekend days too) and "continuous". Class 2.
 //   - "boilers" (180, 5 weeks, 5 minutes): boiler houses with flow_temp,
 //     return_temp (°C), burner (share firing), gas_flow (m³/h) and pressure
@@ -96,14 +97,16 @@
 //     Switches happen up to 10 hours from midnight. Classes 2 and 4.
 //   - "irrigation" (120, 10 weeks, 10 minutes): irrigation pumps with flow
 //     (m³/h), pressure (bar), current (A) and soil_moisture (%);
-//     "night-schedule", "morning-schedule", "off-season" and
-//     "leaking-main" (a night schedule at 60 % of the pressure). Every
-//     schedule runs shorter on cool, wet days, fleet-wide; 4 % of the sites
-//     have no soil probe. Class 1.
+//     "sprinkler" (at night), "drip" (by day, twice as long at a third of
+//     the flow and under half the pressure), "off-season" and
+//     "leaking-main" (sprinklers at 60 % of the pressure). Every schedule
+//     runs shorter on cool, wet days, fleet-wide; 4 % of the sites have no
+//     soil probe. Class 1.
 //   - "datahalls" (50, 3 weeks, every minute): data-hall cooling units with
 //     supply_air, return_air (°C), fan_power (kW), chw_valve and humidity
 //     (%); "normal", "high-load", "economiser", "filter-clogging" (fan
-//     power 20 % up from the onset, then 1.5 % a day for 20 days) and the
+//     power 60 % up from the onset, then 2 % a day for 20 days, and the
+//     return air warmer) and the
 //     rare "stuck-humidity". Classes 3 and 5.
 //   - "heatpumps" (300, 5 weeks, 10 minutes): air-source heat pumps with
 //     flow_temp, outdoor_temp (°C), power (kW), compressor_hz (Hz) and
@@ -115,14 +118,16 @@
 //     (Nm³/h), pressure (mbar), power (kW), oxygen (mg/l), speed (%) and
 //     inlet_temp (°C); "diurnal", "storm-flow", "intermittent" (on 16 to 64
 //     minutes, off 20 to 80), "standby", "surge-limited",
-//     "filter-clogging" (speed and power 25 % up from the onset, then 2 % a
-//     day for 20 days) and the rare "fouled-oxygen-probe" (oxygen repeats one value).
+//     "filter-clogging" (from the onset the blower runs flat out, draws
+//     60 % more power, 2 % more a day for 20 days, and delivers 10 % less
+//     air) and the rare "fouled-oxygen-probe" (oxygen repeats one value).
 //     Classes 3 and 5.
 //   - "turbines" (150, 8 weeks, 10 minutes): wind turbines with wind (m/s),
 //     power (kW), rotor_rpm, gearbox_temp, nacelle_temp (°C) and pitch (°)
-//     under a wind shared by the fleet; "normal", "curtailed" (power capped
-//     at half the rating) and "gearbox-wear" (7 °C hotter from the onset,
-//     then 0.35 °C a day for 25 days). Classes 1 and 5.
+//     under a wind shared by the fleet; "normal", "curtailed" (a noise-reduced
+//     mode: pitched out by 6°, 20 % slower, 60 % of the power and at most
+//     half the rating) and "gearbox-wear" (14 °C hotter from the onset,
+//     then 0.15 °C a day for 25 days). Classes 1 and 5.
 //   - "compressors" (240, 6 weeks, 10 minutes): gas compressor stations
 //     with suction_p, discharge_p (bar), speed (rpm), power (MW), gas_temp
 //     (°C), vibration (mm/s), lube_temp (°C) and flow (kNm³/h); "base-load",

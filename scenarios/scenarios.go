@@ -160,7 +160,7 @@
 // # Defects
 //
 // The readings carry telemetry defects at these rates:
-//   - clock jitter: every time stamp is off its 10 minute slot by a whole
+//   - clock jitter: every time stamp is off its sampling slot by a whole
 //     number of seconds drawn uniformly from −5 to +5 (so about 10 in 11 are
 //     off the grid); jitter never moves a reading into another window;
 //   - lost rows: 0.3 % of the rows, independently;
@@ -214,9 +214,10 @@ func Names() []string {
 	return names
 }
 
-// DefaultSpec returns the default size of a scenario: 4 weeks from Monday
-// 1 June 2026 00:00 UTC with seed 1, 300 sites for "pumping" and 60 units for
-// "reefers".
+// DefaultSpec returns the default size of a scenario: its own number of
+// sites and weeks (4 weeks of 300 sites for "pumping" and of 60 units for
+// "reefers"; the family's in the package documentation) from Monday 1 June
+// 2026 00:00 UTC with seed 1.
 func DefaultSpec(name string) (Spec, error) {
 	sc, err := lookup(name)
 	if err != nil {

@@ -68,9 +68,10 @@
 //   - "substations" (600, 3 weeks, 15 minutes): transformers with load
 //     (MVA), top_oil (°C), ambient (°C) and tap (position); "normal" and
 //     "fan-fault" (natural cooling only: 3.5 times the oil temperature
-//     rise).
-//     Load follows the weather and drops at weekends and on a fleet-wide
-//     holiday (days 10 and 11); the fault shows in top_oil only. Class 1.
+//     rise). Load follows the weather and drops at weekends and on a
+//     fleet-wide holiday (local days 10 and 11 of the record: 11 and 12
+//     June from the default start); the fault shows in top_oil only.
+//     Class 1.
 //   - "masts" (80, 3 weeks, every minute): weather masts with wind (m/s),
 //     air_temp (°C), humidity (%) and pressure (hPa); "exposed",
 //     "sheltered" and a rare "iced-anemometer" whose frozen cups read a
@@ -83,8 +84,9 @@
 //   - "ahus" (300, 5 weeks, 15 minutes): air-handling units with
 //     supply_temp, return_temp (°C), fan_speed, valve (%) and co2 (ppm);
 //     "office" (weekdays 07:00–19:00, a short flush run in weekend
-//     mornings, more like a residential weekday than an office one), "residential" (mornings and
-//     evenings, weekend days too) and "continuous". Class 2.
+//     mornings, more like a residential weekday than an office one),
+//     "residential" (mornings and evenings, weekend days too) and
+//     "continuous". Class 2.
 //   - "boilers" (180, 5 weeks, 5 minutes): boiler houses with flow_temp,
 //     return_temp (°C), burner (share firing), gas_flow (m³/h) and pressure
 //     (bar); "hot-water-only", "space-heating" (weather-compensated) and
@@ -106,8 +108,7 @@
 //     supply_air, return_air (°C), fan_power (kW), chw_valve and humidity
 //     (%); "normal", "high-load", "economiser", "filter-clogging" (fan
 //     power 60 % up from the onset, then 2 % a day for 20 days, and the
-//     return air warmer) and the
-//     rare "stuck-humidity". Classes 3 and 5.
+//     return air warmer) and the rare "stuck-humidity". Classes 3 and 5.
 //   - "heatpumps" (300, 5 weeks, 10 minutes): air-source heat pumps with
 //     flow_temp, outdoor_temp (°C), power (kW), compressor_hz (Hz) and
 //     defrost (0 or 1); "heating", "cooling", "standby", "short-cycling"
@@ -124,8 +125,8 @@
 //     Classes 3 and 5.
 //   - "turbines" (150, 8 weeks, 10 minutes): wind turbines with wind (m/s),
 //     power (kW), rotor_rpm, gearbox_temp, nacelle_temp (°C) and pitch (°)
-//     under a wind shared by the fleet; "normal", "curtailed" (a noise-reduced
-//     mode: pitched out by 6°, 20 % slower, 60 % of the power and at most
+//     under a wind shared by the fleet; "normal", "curtailed" (a
+//     noise-reduced mode: pitched out by 6°, 20 % slower, 60 % of the power and at most
 //     half the rating) and "gearbox-wear" (14 °C hotter from the onset,
 //     then 0.15 °C a day for 25 days). Classes 1 and 5.
 //   - "compressors" (240, 6 weeks, 10 minutes): gas compressor stations
@@ -134,7 +135,8 @@
 //     "peak-load", "recycle", "standby-pressurised", "shutdown",
 //     "start-stop" (runs of 1 to 4 hours), "fouled-cooler" (gas 18 °C
 //     hotter) and "bearing-wear" (vibration doubled from the onset, then
-//     up by 8 % of the healthy level a day for 20 days); 3 % of the sites have no lube_temp (K = 8).
+//     up by 8 % of the healthy level a day for 20 days); 3 % of the sites
+//     have no lube_temp (K = 8).
 //
 // The rare regimes hold 3 to 5 % of the windows of both draws; about 5 to
 // 20 % of the sites switch, as each fleet needs.

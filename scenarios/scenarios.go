@@ -126,9 +126,9 @@
 //   - "turbines" (150, 8 weeks, 10 minutes): wind turbines with wind (m/s),
 //     power (kW), rotor_rpm, gearbox_temp, nacelle_temp (°C) and pitch (°)
 //     under a wind shared by the fleet; "normal", "curtailed" (a
-//     noise-reduced mode: pitched out by 6°, 20 % slower, 60 % of the power and at most
-//     half the rating) and "gearbox-wear" (14 °C hotter from the onset,
-//     then 0.15 °C a day for 25 days). Classes 1 and 5.
+//     noise-reduced mode: pitched out by 6°, 20 % slower, 60 % of the
+//     power and at most half the rating) and "gearbox-wear" (14 °C hotter
+//     from the onset, then 0.15 °C a day for 25 days). Classes 1 and 5.
 //   - "compressors" (240, 6 weeks, 10 minutes): gas compressor stations
 //     with suction_p, discharge_p (bar), speed (rpm), power (MW), gas_temp
 //     (°C), vibration (mm/s), lube_temp (°C) and flow (kNm³/h); "base-load",
@@ -152,12 +152,12 @@
 // start of the first window labelled with the new regime. So a change at
 // 08:00 is true at the midnight before it, one at 16:00 at the midnight
 // after it.
-// In "pumping" and "reefers" about 13 % of the sites switch regime once or twice (a third of those
-// twice, when the record has at least 9 windows); every switch happens at a
-// window boundary, with at least 3 windows of the old regime before it and 3
-// of the new one after it, and only to a plausible next regime (a stuck
-// sensor is replaced, a degrading pump is repaired or stopped, a parked
-// trailer goes back on the road).
+// In "pumping" and "reefers" about 13 % of the sites switch regime, in the
+// family as each fleet says; a third of those switch twice, when the record
+// has at least 9 windows. Every switch has at least 3 windows of the old
+// regime before it and 3 of the new one after it, and goes only to a
+// plausible next regime (a stuck sensor is replaced, a degrading pump is
+// repaired or stopped, a parked trailer goes back on the road).
 //
 // # Defects
 //

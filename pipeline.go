@@ -39,7 +39,7 @@ func Train(o Options) (*Result, error) {
 	mc := o.Map
 	mc.Progress = progress(&o)
 	o.logf("training on %d windows × %d features", res.X.RawMatrix().Rows, len(sc.Names))
-	model, asg, err := mapper.Fit(res.X, sc.Names, mc)
+	model, asg, err := mapper.Fit(res.X, sc.Names, res.Table.Sequences(), mc)
 	if err != nil {
 		return nil, err
 	}
@@ -97,7 +97,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 		mc.Regimes = len(prev.Regimes)
 	}
 	mc.Progress = progress(&o)
-	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, mc)
+	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, res.Table.Sequences(), mc)
 	if err != nil {
 		return nil, err
 	}
@@ -259,6 +259,12 @@ func finish(res *Result, sw *stopwatch) {
 	info.Inputs = res.Ingest.Files
 	info.Quality = res.Model.Map.Quality(res.Assignments)
 	info.Warnings = append(info.Warnings, info.Quality.Warnings...)
+	if c := res.Model.Choice; c != nil && info.Command != "assign" {
+		info.Regimes = regimeChoice(c)
+		if c.Marginal {
+			info.Warnings = append(info.Warnings, info.Regimes.Note)
+		}
+	}
 	var dropped int64
 	for _, n := range res.Ingest.Dropped {
 		dropped += n
@@ -311,4 +317,14 @@ func skipReasons(t *features.Table) string {
 		parts = append(parts, fmt.Sprintf("%d for %s", by[r], r))
 	}
 	return strings.Join(parts, ", ")
+}
+
+// regimeChoice words the choice of the number of regimes, with the option
+// that tries the runner-up when the choice is marginal.
+func regimeChoice(c *mapper.Choice) *RegimeChoice {
+	note := c.String()
+	if c.Marginal {
+		note += fmt.Sprintf(": re-run with --regimes %d to see the other", c.RunnerUp)
+	}
+	return &RegimeChoice{Choice: *c, Note: note}
 }

@@ -158,3 +158,16 @@ type Scaler struct {
 	Weight  []float64 `json:"weight"`  // per-feature weight applied after scaling
 	Dropped []string  `json:"dropped"` // zero-variance features left out
 }
+
+// Sequences returns the windows of every site as indices into t.Windows,
+// in time order: one slice per site, sites in the order of the table.
+func (t *Table) Sequences() [][]int {
+	var seqs [][]int
+	for i, w := range t.Windows {
+		if i == 0 || w.Site != t.Windows[i-1].Site {
+			seqs = append(seqs, nil)
+		}
+		seqs[len(seqs)-1] = append(seqs[len(seqs)-1], i)
+	}
+	return seqs
+}

@@ -100,7 +100,8 @@ type Model struct {
 	Quality       Quality   // on the training windows
 	QEQuantiles   []float64 // training quantization errors at quantiles 0, 0.001, …, 1
 	Windows       int       // training windows
-	Scores        []Score   // Davies–Bouldin index of each number of regimes tried; nil when it was given
+	Choice        *Choice   // how the number of regimes was reached; nil in files before format version 3
+	Scores        []Score   `json:",omitempty"` // files before format version 3: the Davies–Bouldin index of each number of regimes tried
 	// Lineage names the regime numbering: set when a map is trained from
 	// scratch and kept by updates, which keep the numbers. Files written
 	// before it existed have none.

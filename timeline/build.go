@@ -14,10 +14,6 @@ import (
 	"github.com/kinmap/kinmap/mapper"
 )
 
-// switchCostPerQE is the automatic switch cost in median training
-// quantization errors; see Config.SwitchCost.
-const switchCostPerQE = 2
-
 // Build places every window of t on the map and decodes each site's windows,
 // in time order, into regime segments: the cost of a window in a regime is
 // the Euclidean distance from its scaled vector (the row of x) to the
@@ -184,7 +180,7 @@ func resolve(cfg Config, m *mapper.Model) (Config, error) {
 		if !(median > 0) || math.IsInf(median, 0) {
 			return cfg, fmt.Errorf("timeline: median training quantization error %g: cannot set the switch cost from it; set it explicitly", median)
 		}
-		cfg.SwitchCost = switchCostPerQE * median
+		cfg.SwitchCost = mapper.SwitchCostPerQE * median
 	}
 	return cfg, nil
 }

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/tooltest"
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
@@ -375,7 +376,7 @@ func TestAcf1OfAR1(t *testing.T) {
 // definition 7 of Hyndman & Fan), polyfit slope, corrcoef, the lag-1
 // autocorrelation from its textbook formula and a lstsq harmonic.
 func TestStatsAgreeWithNumpy(t *testing.T) {
-	py := numpyPython(t)
+	py := tooltest.Python(t, "numpy")
 	sd := gappy(2)
 	tab, err := Extract(dataset(sd), fullConfig())
 	if err != nil {

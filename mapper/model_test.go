@@ -17,6 +17,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/tooltest"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -266,7 +267,7 @@ func TestQEThreshold(t *testing.T) {
 // The stored quantiles agree with numpy.quantile, whose default method is
 // the same definition 7.
 func TestQEQuantilesAgreeWithNumpy(t *testing.T) {
-	py := python(t)
+	py := tooltest.Python(t, "numpy")
 	rng := testRand(32)
 	asg := make([]Assignment, 777)
 	vals := make([]string, len(asg))

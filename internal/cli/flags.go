@@ -83,6 +83,12 @@ func (f *Flags) Bool(p *bool, name string, def bool, help string) {
 	f.note(name)
 }
 
+// Duration registers, in the current group, a length flag that accepts d
+// and w suffixes as well as Go durations; its default is *p.
+func (f *Flags) Duration(p *time.Duration, name, help string) {
+	f.Value(durationValue{p}, name, help)
+}
+
 // Value registers a flag in the current group.
 func (f *Flags) Value(v flag.Value, name, help string) {
 	f.Var(v, name, help)
@@ -199,7 +205,7 @@ func (d durationValue) String() string {
 	if d.p == nil || *d.p == 0 {
 		return ""
 	}
-	return formatDuration(*d.p)
+	return FormatDuration(*d.p)
 }
 
 func (d durationValue) Set(s string) error {
@@ -213,8 +219,9 @@ func (d durationValue) Set(s string) error {
 
 func (d durationValue) Get() any { return *d.p }
 
-// formatDuration writes whole weeks and days with their suffixes.
-func formatDuration(d time.Duration) string {
+// FormatDuration writes whole weeks and days with their suffixes, other
+// lengths as Go durations.
+func FormatDuration(d time.Duration) string {
 	const day = 24 * time.Hour
 	switch {
 	case d%(7*day) == 0:

@@ -9,16 +9,15 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/kinmap/kinmap/internal/tooltest"
 )
 
 // The statistic against scipy.stats.anderson, an independent
 // implementation, which returns the unmodified A² (sample standard
 // deviation with denominator n−1, as here).
 func TestAndersonDarlingAgreesWithSciPy(t *testing.T) {
-	py := python(t)
-	if exec.Command(py, "-c", "import scipy.stats").Run() != nil {
-		t.Skipf("%s has no scipy", py)
-	}
+	py := tooltest.Python(t, "scipy.stats")
 	rng := testRand(11)
 	samples := map[string][]float64{}
 	for _, n := range []int{8, 30, 200} {

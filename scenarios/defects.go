@@ -22,7 +22,7 @@ type defectRates struct {
 	noFix       float64 // per row of a mobile site
 }
 
-func defaultRates() defectRates {
+func defaultRates(step time.Duration) defectRates {
 	slots := func(d time.Duration) int { return int(d / step) }
 	return defectRates{
 		jitter:      5,
@@ -49,14 +49,18 @@ const (
 )
 
 // applyDefects turns one site's clean readings into the rows it sent.
-func applyDefects(g grid, c *clean, site Site, sc *scenario, rates defectRates, outage bool, seed int64, index int) (Readings, Defects) {
+// A channel the site lacks (absent ≥ 0) is missing from every row.
+func applyDefects(g grid, c *clean, site Site, sc *scenario, rates defectRates, outage bool, absent int, seed int64, index int) (Readings, Defects) {
 	slots := g.slots()
 	d := Defects{Slots: int64(slots)}
+	if absent >= 0 {
+		d.Absent = 1
+	}
 	fate := make([]uint8, slots)
 
 	timing := newRand(seed, timingStream, index)
 	if outage {
-		if a, b, ok := placeOutage(slots, site.Switches, rates, timing); ok {
+		if a, b, ok := placeOutage(g, site.Switches, rates, timing); ok {
 			for k := a; k < b; k++ {
 				fate[k] = inOutage
 			}
@@ -67,7 +71,7 @@ func applyDefects(g grid, c *clean, site Site, sc *scenario, rates defectRates, 
 		if timing.Float64() >= rates.gapPerDay {
 			continue
 		}
-		a := day*perWindow + timing.IntN(perWindow)
+		a := day*g.per + timing.IntN(g.per)
 		b := min(a+rates.gapMin+timing.IntN(rates.gapMax-rates.gapMin+1), slots)
 		d.Gaps++
 		for k := a; k < b; k++ {
@@ -109,18 +113,20 @@ func applyDefects(g grid, c *clean, site Site, sc *scenario, rates defectRates, 
 			continue
 		}
 		off := timing.IntN(2*rates.jitter+1) - rates.jitter
-		if k%perWindow == 0 && off < 0 {
+		if k%g.per == 0 && off < 0 {
 			off = -off // stay inside the window
 		}
 		if off != 0 {
 			d.Jittered++
 		}
 		t := g.time(k) + int64(off)*int64(time.Second)
-		regime := site.Regimes[k/perWindow]
+		regime := site.Regimes[k/g.per]
 		for ch, cs := range sc.channels {
 			v := round(c.values[ch][k], cs.digits)
 			spike := spikes.Float64() < rates.spike
 			switch {
+			case ch == absent:
+				v = math.NaN()
 			case missing.Float64() < rates.missing:
 				v = math.NaN()
 				d.Missing++
@@ -163,7 +169,8 @@ func (r *Readings) repeatLast() {
 
 // placeOutage draws an outage [a, b) of slots that keeps clear of the dwell
 // windows around the site's switches. It gives up when none fits.
-func placeOutage(slots int, switches []Switch, rates defectRates, rng *rand.Rand) (a, b int, ok bool) {
+func placeOutage(g grid, switches []Switch, rates defectRates, rng *rand.Rand) (a, b int, ok bool) {
+	slots := g.slots()
 	n := rates.outageMin + rng.IntN(rates.outageMax-rates.outageMin+1)
 	if n > slots {
 		return 0, 0, false
@@ -173,7 +180,7 @@ func placeOutage(slots int, switches []Switch, rates defectRates, rng *rand.Rand
 		b = a + n
 		clear := true
 		for _, s := range switches {
-			lo, hi := (s.Window-minDwell)*perWindow, (s.Window+minDwell)*perWindow
+			lo, hi := (s.Window-minDwell)*g.per, (s.Window+minDwell)*g.per
 			if a < hi && lo < b {
 				clear = false
 				break

@@ -2,6 +2,7 @@ package scenarios
 
 import (
 	"math"
+	"slices"
 	"testing"
 	"time"
 )
@@ -22,25 +23,39 @@ func checkRate(t *testing.T, what string, count, n int64, p float64) {
 
 // TestDefectRates measures the defects in the readings themselves and
 // checks them against the documented rates and against Fleet.Defects.
+// Channels a site lacks altogether (missing sensors) are counted apart.
 func TestDefectRates(t *testing.T) {
-	rates := defaultRates()
 	for _, tt := range []struct {
 		name         string
 		sites, weeks int
+		absent       float64 // share of sites lacking a sensor
 	}{
-		{"pumping", 100, 2},
-		{"reefers", 60, 2},
+		{"pumping", 100, 2, 0},
+		{"reefers", 60, 2, 0},
+		{"masts", 60, 1, 0},        // every minute
+		{"tanks", 100, 2, 0.03},    // every 5 minutes
+		{"substations", 150, 2, 0}, // every 15 minutes
+		{"compressors", 100, 2, 0.03},
 	} {
 		t.Run(tt.name, func(t *testing.T) {
 			spec := small(t, tt.name, tt.sites, tt.weeks)
 			f := generateT(t, spec)
+			rates := defaultRates(f.Step)
 			d := f.Defects
 			start := spec.Start.UnixNano()
-			stepNs, jitter := int64(step), int64(rates.jitter)*int64(time.Second)
+			stepNs, jitter := int64(f.Step), int64(rates.jitter)*int64(time.Second)
 
 			var rows, sent, dups, offGrid, values, missing, noFix int64
+			absent := 0
 			for _, s := range f.Sites {
 				r := s.Readings
+				lacks := -1
+				for ch, v := range r.Values {
+					if !slices.ContainsFunc(v, func(x float64) bool { return !math.IsNaN(x) }) {
+						lacks = ch
+						absent++
+					}
+				}
 				for i, tm := range r.Times {
 					rows++
 					if i > 0 && tm == r.Times[i-1] {
@@ -59,13 +74,16 @@ func TestDefectRates(t *testing.T) {
 					if off < -jitter || off > jitter {
 						t.Fatalf("%s: row %d is %v off its slot", s.ID, i, time.Duration(off))
 					}
-					if (tm-start)/int64(window) != slot/perWindow {
+					if (tm-start)/int64(window) != slot/int64(f.Window/f.Step) {
 						t.Fatalf("%s: row %d jittered out of its window", s.ID, i)
 					}
 					if off != 0 {
 						offGrid++
 					}
 					for ch := range r.Values {
+						if ch == lacks {
+							continue
+						}
 						values++
 						if math.IsNaN(r.Values[ch][i]) {
 							missing++
@@ -79,6 +97,9 @@ func TestDefectRates(t *testing.T) {
 			if dups != d.Duplicates || offGrid != d.Jittered || missing != d.Missing || noFix != d.NoFix {
 				t.Errorf("counted %d duplicates, %d off the grid, %d missing, %d without fix; Defects says %+v",
 					dups, offGrid, missing, noFix, d)
+			}
+			if want := int(math.Round(tt.absent * float64(spec.Sites))); absent != want || d.Absent != want {
+				t.Errorf("%d sites lack a sensor, Defects says %d, want %d", absent, d.Absent, want)
 			}
 			if lost := d.Slots - sent; lost != d.LostRows+d.GapRows+d.OutageRows {
 				t.Errorf("%d slots without a row; Defects says %d lost, %d in gaps, %d in outages",
@@ -139,7 +160,7 @@ func checkCoverage(t *testing.T, f *Fleet) {
 func TestSpikes(t *testing.T) {
 	for _, name := range Names() {
 		spec := small(t, name, 60, 2)
-		rates := defaultRates()
+		rates := defaultRates(10 * time.Minute)
 		with, err := generate(spec, rates)
 		if err != nil {
 			t.Fatal(err)
@@ -181,7 +202,7 @@ func TestSpikes(t *testing.T) {
 		if spikes != with.Defects.Spikes {
 			t.Errorf("%s: %d spikes found, Defects says %d", name, spikes, with.Defects.Spikes)
 		}
-		checkRate(t, name+": spikes", spikes, eligible, defaultRates().spike)
+		checkRate(t, name+": spikes", spikes, eligible, defaultRates(10 * time.Minute).spike)
 	}
 }
 

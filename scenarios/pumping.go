@@ -33,6 +33,8 @@ func pumpingScenario() *scenario {
 	return &scenario{
 		name:  "pumping",
 		sites: 300,
+		weeks: 4,
+		step:  10 * time.Minute,
 		channels: []channelSpec{
 			pumpFlow:      {Channel{"flow", "m³/h"}, 1, 300},
 			pumpPressure:  {Channel{"pressure", "bar"}, 2, 3},
@@ -202,41 +204,42 @@ type pumpSite struct {
 	wear        float64 // days of wear of a pump degrading from the start
 }
 
-func (p *pumpSite) simulate(g grid, regimes []int, env *climate, rng *rand.Rand, c *clean) {
+func (p *pumpSite) simulate(g grid, site *Site, env *climate, rng *rand.Rand, c *clean) {
+	regimes := site.Regimes
 	start, stop := make([]float64, g.windows), make([]float64, g.windows)
 	for d := range g.windows {
 		start[d] = 5.5 + rng.Float64()
 		stop[d] = 21.5 + rng.Float64()
 	}
-	heatLag := lag(100 * time.Minute)
+	heatLag := g.lag(100 * time.Minute)
 	noise := 0.0
 	heat := -1.0
 	onset, wear0 := 0, p.wear
 	for k := range g.slots() {
-		w := k / perWindow
+		w := k / g.per
 		r := regimes[w]
-		if k > 0 && r != regimes[(k-1)/perWindow] {
+		if k > 0 && r != regimes[(k-1)/g.per] {
 			onset, wear0 = k, 0
 		}
-		h := localHour(k, p.lon)
+		h := g.hour(k, p.lon)
 		noise = 0.9*noise + 0.01*rng.NormFloat64()
 		load, wear := 0.0, 0.0
 		switch r {
 		case pumpSteady, pumpStuck:
-			load = 0.95*(1+0.03*dailyCycle(k, p.lon, 14)) + noise
+			load = 0.95*(1+0.03*g.cycle(k, p.lon, 14)) + noise
 		case pumpCycling:
 			if h >= start[w] && h < stop[w] {
-				load = 1 + 0.04*dailyCycle(k, p.lon, 14) + noise
+				load = 1 + 0.04*g.cycle(k, p.lon, 14) + noise
 			}
 		case pumpStandby:
 			if h >= p.exercise && h < p.exercise+p.exerciseLen {
 				load = 0.9 + noise
 			}
 		case pumpDegrading:
-			wear = min(wear0+float64(k-onset)/perWindow, 20)
-			load = (0.92-0.012*wear)*(1+0.03*dailyCycle(k, p.lon, 14)) + noise
+			wear = min(wear0+float64(k-onset)/float64(g.per), 20)
+			load = (0.92-0.012*wear)*(1+0.03*g.cycle(k, p.lon, 14)) + noise
 		case pumpHighLoad:
-			load = 1.2*(1+0.1*dailyCycle(k, p.lon, 19)) + noise
+			load = 1.2*(1+0.1*g.cycle(k, p.lon, 19)) + noise
 		}
 		if heat < 0 {
 			heat = load * load

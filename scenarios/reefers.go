@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"time"
 
 	"github.com/paulmach/orb"
 	"github.com/paulmach/orb/geo"
@@ -30,6 +31,8 @@ func reeferScenario() *scenario {
 	return &scenario{
 		name:   "reefers",
 		sites:  60,
+		weeks:  4,
+		step:   10 * time.Minute,
 		mobile: true,
 		channels: []channelSpec{
 			reeferBox:     {Channel{"box_temp", "°C"}, 1, 30},
@@ -193,9 +196,10 @@ type reeferState struct {
 	pos        orb.Point
 }
 
-func (u *reeferUnit) simulate(g grid, regimes []int, env *climate, rng *rand.Rand, c *clean) {
+func (u *reeferUnit) simulate(g grid, site *Site, env *climate, rng *rand.Rand, c *clean) {
+	regimes := site.Regimes
+	minutes := int(g.step / time.Minute) // per slot
 	const (
-		minutes  = 10     // per slot
 		gustTau  = 5.0    // minutes for the box air to follow an open door
 		settle   = 8.0    // minutes for the box air to settle after the door closed
 		doorTau  = 1000.0 // minutes for the load to reach the outside air with the door open
@@ -207,16 +211,16 @@ func (u *reeferUnit) simulate(g grid, regimes []int, env *climate, rng *rand.Ran
 	}
 	onset, wear0 := 0, u.wear
 	for k := range g.slots() {
-		r := regimes[k/perWindow]
-		if k > 0 && r != regimes[(k-1)/perWindow] {
+		r := regimes[k/g.per]
+		if k > 0 && r != regimes[(k-1)/g.per] {
 			onset, wear0 = k, 0
 		}
-		if k%perWindow == 0 {
+		if k%g.per == 0 {
 			s.round = 0
 		}
 		air := env.at(k, s.pos.Lon())
-		h := localHour(k, s.pos.Lon())
-		wear := min(wear0+float64(k-onset)/perWindow, 10)
+		h := g.hour(k, s.pos.Lon())
+		wear := min(wear0+float64(k-onset)/float64(g.per), 10)
 		open := 0
 		for m := range minutes {
 			now := k*minutes + m
@@ -283,7 +287,7 @@ func (u *reeferUnit) simulate(g grid, regimes []int, env *climate, rng *rand.Ran
 		c.values[reeferBox][k] = box + 0.15*rng.NormFloat64()
 		c.values[reeferReturn][k] = ret
 		c.values[reeferCurrent][k] = current
-		c.values[reeferDoor][k] = float64(open) / minutes
+		c.values[reeferDoor][k] = float64(open) / float64(minutes)
 		lat := gpsNoise * rng.NormFloat64() / 111_320
 		lon := gpsNoise * rng.NormFloat64() / (111_320 * math.Cos(s.pos.Lat()*math.Pi/180))
 		c.lat[k] = round(s.pos.Lat()+lat, 6)

@@ -46,11 +46,106 @@
 //     to −5 °C;
 //   - parked: standing with the unit off; the box follows the outside air.
 //
+// # The evaluation family
+//
+// Family lists thirteen more fleets, invented to check the analysis on
+// plant it was not developed on. Each tests one or more ways in which
+// grouping windows into regimes fails: (1) shared, fleet-wide variation
+// (weather, a holiday) that moves every site together while a fault shows
+// in one channel of a few sites; (2) calendar cycles; (3) rare regimes (3 to
+// 5 % of the windows) beside a diffuse on/off duty-cycling one; (4)
+// transition days (a switch during the day, a set-point ramp); (5) slow
+// drift with a dated onset. Their starting regimes are dealt in exact
+// proportions; sites, weather and switches differ from seed to seed, and
+// SecondSeed gives each fleet its second draw. Every site has a district
+// and an installation year in the register. The weekdays are those of the
+// local solar time; the default start, 1 June 2026, is a Monday.
+//   - "tanks" (120 sites, 4 weeks, every 5 minutes): drinking-water tanks
+//     with level (m), inflow and outflow (m³/h), water_temp (°C) and
+//     chlorine (mg/l); one regime, "normal", no switch (K = 1): demand
+//     follows the weather and rises later at weekends, and 3 % of the sites
+//     have no chlorine analyser.
+//   - "substations" (600, 3 weeks, 15 minutes): transformers with load
+//     (MVA), top_oil (°C), ambient (°C) and tap (position); "normal" and
+//     "fan-fault" (natural cooling only: twice the oil temperature rise).
+//     Load follows the weather and drops at weekends and on a fleet-wide
+//     holiday (days 10 and 11); the fault shows in top_oil only. Class 1.
+//   - "masts" (80, 3 weeks, every minute): weather masts with wind (m/s),
+//     air_temp (°C), humidity (%) and pressure (hPa); "exposed",
+//     "sheltered" and a rare "iced-anemometer" whose wind reading repeats
+//     one value. Class 3.
+//   - "coldrooms" (200, 4 weeks, 5 minutes): cold rooms with room_temp,
+//     evap_temp (°C), current (A) and door_open (share); "modulating",
+//     "cycling" (the compressor on for 10 to 40 minutes and off for 14 to
+//     56, drawn afresh each time), the rare "stuck-probe" (a cycling room
+//     whose room_temp repeats one value) and "iced-evaporator". Class 3.
+//   - "ahus" (300, 5 weeks, 15 minutes): air-handling units with
+//     supply_temp, return_temp (°C), fan_speed, valve (%) and co2 (ppm);
+//     "office" (weekdays 07:00–19:00, short frost and flush runs at
+//     weekends, like a residential weekday), "residential" (mornings and
+//     evenings, weekend days too) and "continuous". Class 2.
+//   - "boilers" (180, 5 weeks, 5 minutes): boiler houses with flow_temp,
+//     return_temp (°C), burner (share firing), gas_flow (m³/h) and pressure
+//     (bar); "hot-water-only", "space-heating" (weather-compensated) and
+//     "frost-protection". A switch ramps the set point over 12 hours
+//     centred on its onset, which lies up to 10 hours from midnight.
+//     Class 4.
+//   - "chargers" (400, 4 weeks, 15 minutes): EV chargers with power (kW),
+//     plugged (0 or 1) and connector_temp (°C); "workplace" (weekdays),
+//     "overnight", "depot" and "derated" (a depot charger capped at 18 kW).
+//     Switches happen up to 10 hours from midnight. Classes 2 and 4.
+//   - "irrigation" (120, 10 weeks, 10 minutes): irrigation pumps with flow
+//     (m³/h), pressure (bar), current (A) and soil_moisture (%);
+//     "night-schedule", "morning-schedule", "off-season" and
+//     "leaking-main" (a night schedule at 60 % of the pressure). Every
+//     schedule runs shorter on cool, wet days, fleet-wide; 4 % of the sites
+//     have no soil probe. Class 1.
+//   - "datahalls" (50, 3 weeks, every minute): data-hall cooling units with
+//     supply_air, return_air (°C), fan_power (kW), chw_valve and humidity
+//     (%); "normal", "high-load", "economiser", "filter-clogging" (fan
+//     power 20 % up from the onset, then 1.5 % a day for 20 days) and the
+//     rare "stuck-humidity". Classes 3 and 5.
+//   - "heatpumps" (300, 5 weeks, 10 minutes): air-source heat pumps with
+//     flow_temp, outdoor_temp (°C), power (kW), compressor_hz (Hz) and
+//     defrost (0 or 1); "heating", "cooling", "standby", "short-cycling"
+//     (on 5 to 19 minutes, off 7 to 29), "iced-coil" (a defrost every hour)
+//     and "backup-heater" (the compressor off, the resistive heater on);
+//     3 % of the sites report no defrost. Class 3.
+//   - "blowers" (150, 6 weeks, 5 minutes): aeration blowers with airflow
+//     (Nm³/h), pressure (mbar), power (kW), oxygen (mg/l), speed (%) and
+//     inlet_temp (°C); "diurnal", "storm-flow", "intermittent" (on 16 to 64
+//     minutes, off 20 to 80), "standby", "surge-limited",
+//     "filter-clogging" (speed and power 25 % up from the onset, then 2 % a
+//     day for 20 days) and the rare "fouled-oxygen-probe" (oxygen repeats one value).
+//     Classes 3 and 5.
+//   - "turbines" (150, 8 weeks, 10 minutes): wind turbines with wind (m/s),
+//     power (kW), rotor_rpm, gearbox_temp, nacelle_temp (°C) and pitch (°)
+//     under a wind shared by the fleet; "normal", "curtailed" (power capped
+//     at half the rating) and "gearbox-wear" (7 °C hotter from the onset,
+//     then 0.35 °C a day for 25 days). Classes 1 and 5.
+//   - "compressors" (240, 6 weeks, 10 minutes): gas compressor stations
+//     with suction_p, discharge_p (bar), speed (rpm), power (MW), gas_temp
+//     (°C), vibration (mm/s), lube_temp (°C) and flow (kNm³/h); "base-load",
+//     "peak-load", "recycle", "standby-pressurised", "shutdown",
+//     "start-stop" (runs of 1 to 4 hours), "fouled-cooler" (gas 18 °C
+//     hotter) and "bearing-wear" (vibration doubled from the onset, then
+//     up by 8 % of the healthy level a day for 20 days); 3 % of the sites have no lube_temp (K = 8).
+//
+// The rare regimes hold 3 to 5 % of the windows of both draws; about 5 to
+// 20 % of the sites switch, as each fleet needs.
+//
 // # Ground truth
 //
 // Truth is kept per site and per daily window [midnight UTC, next midnight
 // UTC), the default window of the analysis. Spec.Start must be a midnight UTC.
-// About 13 % of the sites switch regime once or twice (a third of those
+// A switch during the day (Switch.Onset off the window boundary by less
+// than 12 hours) labels each window with the regime that held for most of
+// it, a ramp counting as the old regime up to its midpoint, the onset; the
+// true switch time (Switch.Time, the time in truth-switches.csv) is the
+// start of the first window labelled with the new regime. So a change at
+// 08:00 is true at the midnight before it, one at 16:00 at the midnight
+// after it.
+// In "pumping" and "reefers" about 13 % of the sites switch regime once or twice (a third of those
 // twice, when the record has at least 9 windows); every switch happens at a
 // window boundary, with at least 3 windows of the old regime before it and 3
 // of the new one after it, and only to a plausible next regime (a stuck
@@ -76,6 +171,10 @@
 //     (door_open and a stuck transmitter have none);
 //   - duplicated rows: 0.05 % of the rows are sent twice, identically;
 //   - lost position fixes (reefers): 0.3 % of the rows have no lat and lon.
+//
+// The family's fleets carry the same defects at the same rates, in their
+// own sampling steps and with spike sizes of their own, and some lack a
+// sensor altogether (Defects.Absent), as listed above.
 //
 // Fleet.Defects counts what was planted in one fleet.
 package scenarios
@@ -121,7 +220,7 @@ func DefaultSpec(name string) (Spec, error) {
 	return Spec{
 		Name:  sc.name,
 		Sites: sc.sites,
-		Weeks: 4,
+		Weeks: sc.weeks,
 		Seed:  1,
 		Start: time.Date(2026, time.June, 1, 0, 0, 0, 0, time.UTC),
 	}, nil
@@ -163,12 +262,15 @@ type Site struct {
 	Switches []Switch // true switches, in time order
 }
 
-// Switch is a planted change of a site's regime. It happens at a midnight
-// UTC window boundary, with at least 3 windows of the old regime before it
-// and 3 of the new one after it.
+// Switch is a planted change of a site's regime, with at least 3 windows of
+// the old regime before it and 3 of the new one after it. Time is the
+// midnight UTC window boundary the truth places it at; the plant itself
+// changes at Onset, which is Time except in fleets whose switches happen
+// during the day (see the package documentation).
 type Switch struct {
 	Site     string
 	Time     time.Time // start of the first window in the new regime (a midnight UTC)
+	Onset    time.Time // instant the plant changed: less than 12 hours from Time
 	Window   int       // index of that window
 	From, To int       // indices into Fleet.Regimes
 }
@@ -181,11 +283,12 @@ type Defects struct {
 	GapRows    int64 // rows lost to gaps
 	Outages    int   // outages of 6 to 48 hours
 	OutageRows int64 // rows lost to outages
-	Jittered   int64 // rows stamped off their 10 minute slot
+	Jittered   int64 // rows stamped off their sampling slot
 	Missing    int64 // single values missing from rows that were sent
 	Spikes     int64 // values with a spike
 	Duplicates int64 // rows sent twice
 	NoFix      int64 // rows without a position (mobile fleets)
+	Absent     int   // sites that never send one of their channels
 }
 
 func (d *Defects) add(o Defects) {
@@ -200,6 +303,7 @@ func (d *Defects) add(o Defects) {
 	d.Spikes += o.Spikes
 	d.Duplicates += o.Duplicates
 	d.NoFix += o.NoFix
+	d.Absent += o.Absent
 }
 
 // Fleet is a generated scenario: sites, readings and ground truth.
@@ -233,9 +337,7 @@ func (f *Fleet) Switches() []Switch {
 }
 
 const (
-	step      = 10 * time.Minute
-	window    = 24 * time.Hour
-	perWindow = 24 * 60 / 10 // slots in a window: window / step
+	window = 24 * time.Hour
 
 	maxSites    = 5000
 	maxWeeks    = 104
@@ -247,7 +349,11 @@ const (
 // Spec.Seed, one per site and purpose): the same spec gives the same fleet
 // and the same files.
 func Generate(spec Spec) (*Fleet, error) {
-	return generate(spec, defaultRates())
+	sc, err := spec.scenario()
+	if err != nil {
+		return nil, err
+	}
+	return generate(spec, defaultRates(sc.step))
 }
 
 // Validate reports whether Generate can build the fleet of the spec: a
@@ -276,17 +382,17 @@ func generate(spec Spec, rates defectRates) (*Fleet, error) {
 		return nil, err
 	}
 	spec.Start = spec.Start.UTC()
-	g := grid{start: spec.Start.UnixNano(), windows: spec.Weeks * 7}
+	g := newGrid(spec.Start, spec.Weeks*7, sc.step)
 	fleetRng := newRand(spec.Seed, fleetStream, 0)
 	sites, sims := sc.model.place(spec.Sites, fleetRng)
-	env := newClimate(g.windows+1, sc.climate, fleetRng)
-	plan := planRegimes(spec.Sites, g.windows, sc, rates, fleetRng)
+	env := newClimate(g, sc.climate, fleetRng)
+	plan := planRegimes(spec.Sites, g, sc, rates, fleetRng)
 
 	f := &Fleet{
 		Name:     sc.name,
 		Spec:     spec,
 		Mobile:   sc.mobile,
-		Step:     step,
+		Step:     sc.step,
 		Window:   window,
 		Regimes:  slices.Clone(sc.regimes),
 		Sites:    make([]*Site, len(sites)),
@@ -305,13 +411,15 @@ func generate(spec Spec, rates defectRates) (*Fleet, error) {
 				site := sites[i]
 				site.Regimes = plan.regimes[i]
 				for j := range plan.switches[i] {
-					plan.switches[i][j].Site = site.ID
-					plan.switches[i][j].Time = f.WindowStart(plan.switches[i][j].Window)
+					sw := &plan.switches[i][j]
+					sw.Site = site.ID
+					sw.Time = f.WindowStart(sw.Window)
+					sw.Onset = sw.Time.Add(plan.shifts[i][j])
 				}
 				site.Switches = plan.switches[i]
 				c.reset(g.slots(), len(sc.channels), sc.mobile)
-				sims[i].simulate(g, site.Regimes, env, newRand(spec.Seed, physicsStream, i), &c)
-				site.Readings, defects[i] = applyDefects(g, &c, site, sc, rates, plan.outage[i], spec.Seed, i)
+				sims[i].simulate(g, &site, env, newRand(spec.Seed, physicsStream, i), &c)
+				site.Readings, defects[i] = applyDefects(g, &c, site, sc, rates, plan.outage[i], plan.absent[i], spec.Seed, i)
 				f.Sites[i] = &site
 			}
 		})
@@ -334,7 +442,7 @@ func (sc *scenario) validate(spec Spec) error {
 		return fmt.Errorf("scenarios: %s: %d sites: want 1 to %d", sc.name, spec.Sites, maxSites)
 	case spec.Weeks < 1 || spec.Weeks > maxWeeks:
 		return fmt.Errorf("scenarios: %s: %d weeks: want 1 to %d", sc.name, spec.Weeks, maxWeeks)
-	case int64(spec.Sites)*int64(spec.Weeks)*7*int64(perWindow)*int64(len(sc.channels)) > maxReadings:
+	case int64(spec.Sites)*int64(spec.Weeks)*7*int64(window/sc.step)*int64(len(sc.channels)) > maxReadings:
 		return fmt.Errorf("scenarios: %s: %d sites over %d weeks: more than %d readings", sc.name, spec.Sites, spec.Weeks, maxReadings)
 	case spec.Start.IsZero():
 		return fmt.Errorf("scenarios: %s: no start time", sc.name)
@@ -349,7 +457,9 @@ func (sc *scenario) validate(spec Spec) error {
 // the model that places and simulates its sites.
 type scenario struct {
 	name     string
-	sites    int // default number of sites
+	sites    int           // default number of sites
+	weeks    int           // default number of weeks
+	step     time.Duration // sampling step; divides a day
 	mobile   bool
 	channels []channelSpec
 	regimes  []string
@@ -358,6 +468,20 @@ type scenario struct {
 	frozen   []int     // channel a regime flat-lines, or -1
 	climate  climateSpec
 	model    model
+
+	switchShare float64       // share of sites that switch; 0 means switchShare
+	quota       bool          // starting regimes in exact proportions rather than drawn
+	midday      time.Duration // a switch's onset lies less than this off the window boundary
+	absent      []int         // channels a site may lack altogether
+	absentShare float64       // share of sites that lack one of them
+}
+
+// switching returns the share of sites that switch regime.
+func (sc *scenario) switching() float64 {
+	if sc.switchShare > 0 {
+		return sc.switchShare
+	}
+	return switchShare
 }
 
 // channelSpec is a channel with the number of decimal digits its values are
@@ -377,11 +501,11 @@ type model interface {
 // simulator produces one site's clean readings at every slot of the grid,
 // given the site's true regime per window.
 type simulator interface {
-	simulate(g grid, regimes []int, env *climate, rng *rand.Rand, c *clean)
+	simulate(g grid, s *Site, env *climate, rng *rand.Rand, c *clean)
 }
 
 func catalogue() []*scenario {
-	return []*scenario{pumpingScenario(), reeferScenario()}
+	return append([]*scenario{pumpingScenario(), reeferScenario()}, family()...)
 }
 
 func lookup(name string) (*scenario, error) {
@@ -397,12 +521,18 @@ func lookup(name string) (*scenario, error) {
 type grid struct {
 	start   int64 // Unix nanoseconds
 	windows int
+	step    time.Duration
+	per     int // slots in a window: window / step
 }
 
-func (g grid) slots() int { return g.windows * perWindow }
+func newGrid(start time.Time, windows int, step time.Duration) grid {
+	return grid{start: start.UnixNano(), windows: windows, step: step, per: int(window / step)}
+}
+
+func (g grid) slots() int { return g.windows * g.per }
 
 // time returns the nominal time of slot k in Unix nanoseconds.
-func (g grid) time(k int) int64 { return g.start + int64(k)*int64(step) }
+func (g grid) time(k int) int64 { return g.start + int64(k)*int64(g.step) }
 
 // clean holds one site's readings before defects: one row per slot.
 type clean struct {

@@ -35,12 +35,6 @@ func generateT(t testing.TB, spec Spec) *Fleet {
 	return f
 }
 
-func TestGridConstants(t *testing.T) {
-	if perWindow != int(window/step) {
-		t.Fatalf("perWindow = %d, want %d", perWindow, window/step)
-	}
-}
-
 func TestDefaultSpec(t *testing.T) {
 	tests := []struct {
 		name  string
@@ -49,7 +43,7 @@ func TestDefaultSpec(t *testing.T) {
 		{"pumping", 300},
 		{"reefers", 60},
 	}
-	if got, want := Names(), []string{"pumping", "reefers"}; !slices.Equal(got, want) {
+	if got, want := Names(), slices.Sorted(slices.Values(append([]string{"pumping", "reefers"}, Family()...))); !slices.Equal(got, want) {
 		t.Fatalf("Names() = %v, want %v", got, want)
 	}
 	for _, tt := range tests {
@@ -141,7 +135,9 @@ func TestDeterministic(t *testing.T) {
 			if !bytes.Equal(b, again[file]) {
 				t.Errorf("%s: %s differs between two runs of the same spec", name, file)
 			}
-			if bytes.Equal(b, other[file]) {
+			if bytes.Equal(b, other[file]) && bytes.Count(b, []byte("\n")) > 1 {
+				// Only a header row, such as the switches of a fleet that
+				// has none, may be the same for both seeds.
 				t.Errorf("%s: %s is the same for seeds %d and %d", name, file, spec.Seed-1, spec.Seed)
 			}
 		}
@@ -153,14 +149,15 @@ func TestSizes(t *testing.T) {
 		spec := small(t, name, 7, 3)
 		f := generateT(t, spec)
 		windows := spec.Weeks * 7
-		if len(f.Sites) != spec.Sites || f.Windows() != windows || f.Step != 10*time.Minute || f.Window != 24*time.Hour {
-			t.Fatalf("%s: %d sites, %d windows, step %v, window %v", name, len(f.Sites), f.Windows(), f.Step, f.Window)
+		if len(f.Sites) != spec.Sites || f.Windows() != windows || f.Window != 24*time.Hour {
+			t.Fatalf("%s: %d sites, %d windows, window %v", name, len(f.Sites), f.Windows(), f.Window)
 		}
+		per := int(f.Window / f.Step)
 		if got := f.WindowStart(windows); !got.Equal(spec.Start.AddDate(0, 0, windows)) {
 			t.Errorf("%s: end of the last window %v", name, got)
 		}
-		if f.Defects.Slots != int64(spec.Sites*windows*144) {
-			t.Errorf("%s: %d slots, want %d", name, f.Defects.Slots, spec.Sites*windows*144)
+		if f.Defects.Slots != int64(spec.Sites*windows*per) {
+			t.Errorf("%s: %d slots, want %d", name, f.Defects.Slots, spec.Sites*windows*per)
 		}
 		ids := make([]string, len(f.Sites))
 		start, end := spec.Start.UnixNano(), f.WindowStart(windows).UnixNano()
@@ -203,6 +200,7 @@ func TestTruth(t *testing.T) {
 		spec := small(t, name, 150, 3)
 		f := generateT(t, spec)
 		sc, _ := lookup(name)
+		dead := slices.ContainsFunc(sc.next, func(to []int) bool { return len(to) == 0 })
 		movers, twice := 0, 0
 		seen := make([]int, len(f.Regimes))
 		for _, s := range f.Sites {
@@ -241,10 +239,11 @@ func TestTruth(t *testing.T) {
 				twice++
 			}
 		}
-		if want := int(math.Round(switchShare * float64(spec.Sites))); movers != want {
+		// Sites drawn to switch from a regime that nothing follows stay.
+		if want := int(math.Round(sc.switching() * float64(spec.Sites))); movers != want && !(dead && movers < want) {
 			t.Errorf("%s: %d sites switch, want %d", name, movers, want)
 		}
-		if want := int(math.Round(twiceShare * math.Round(switchShare*float64(spec.Sites)))); twice != want {
+		if want := int(math.Round(twiceShare * math.Round(sc.switching()*float64(spec.Sites)))); twice != want && !(dead && twice < want) {
 			t.Errorf("%s: %d sites switch twice, want %d", name, twice, want)
 		}
 		for r, n := range seen {

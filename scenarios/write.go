@@ -318,8 +318,9 @@ func (f *Fleet) coverage(s *Site) []float64 {
 		}
 		counts[(t-start)/int64(f.Window)]++
 	}
+	per := float64(f.Window / f.Step)
 	for i := range counts {
-		counts[i] /= perWindow
+		counts[i] /= per
 	}
 	return counts
 }

@@ -100,8 +100,7 @@ func purity(truth, found []int) (float64, int) {
 // A fleet in one state, however strongly the shared weather moves it from
 // day to day and however much its sites differ, is one regime: the
 // weather averages out within every site's segment, and the site offsets
-// are one normal mode. Davies–Bouldin on the codebook split such fleets
-// into up to 12 groups.
+// are one normal mode.
 func TestFindRegimesHomogeneousFleet(t *testing.T) {
 	for _, seed := range []uint64{1, 2} {
 		spec := fleetSpec{

@@ -39,7 +39,7 @@ func Train(o Options) (*Result, error) {
 	mc := o.Map
 	mc.Progress = progress(&o)
 	o.logf("training on %d windows × %d features", res.X.RawMatrix().Rows, len(sc.Names))
-	model, asg, err := mapper.Fit(res.X, sc.Names, res.Table.Sequences(), mc)
+	model, asg, err := mapper.Fit(res.X, sc.Names, RegimeTimelines(res.Table), mc)
 	if err != nil {
 		return nil, err
 	}
@@ -97,7 +97,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 		mc.Regimes = len(prev.Regimes)
 	}
 	mc.Progress = progress(&o)
-	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, res.Table.Sequences(), mc)
+	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, RegimeTimelines(res.Table), mc)
 	if err != nil {
 		return nil, err
 	}
@@ -327,4 +327,10 @@ func regimeChoice(c *mapper.Choice) *RegimeChoice {
 		note += fmt.Sprintf(": re-run with --regimes %d to see the other", c.RunnerUp)
 	}
 	return &RegimeChoice{Choice: *c, Note: note}
+}
+
+// RegimeTimelines returns the sites' windows of t in time order and the
+// windows of a week, with which mapper.FindRegimes chooses the regimes.
+func RegimeTimelines(t *features.Table) mapper.Timelines {
+	return mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun()}
 }

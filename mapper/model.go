@@ -42,10 +42,11 @@ const qeSteps = 1000
 
 // Fit trains a map on the rows of x, whose columns names names, assigns the
 // windows, measures the quality, finds and describes the regimes, and
-// returns the model with the assignments of x. seqs holds each site's rows
-// in time order, which FindRegimes decodes; nil counts every row as a site
-// of its own. The caller fills FeatureNames, FeatureConfig and Scaler.
-func Fit(x *mat.Dense, names []string, seqs [][]int, cfg Config) (*Model, []Assignment, error) {
+// returns the model with the assignments of x. tl holds each site's rows
+// in time order, which FindRegimes decodes; no sequences count every row
+// as a site of its own. The caller fills FeatureNames, FeatureConfig and
+// Scaler.
+func Fit(x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, error) {
 	if err := checkNames(x, names); err != nil {
 		return nil, nil, err
 	}
@@ -54,15 +55,15 @@ func Fit(x *mat.Dense, names []string, seqs [][]int, cfg Config) (*Model, []Assi
 		return nil, nil, err
 	}
 	train(m, x, cfg)
-	return finish(m, x, names, seqs, cfg)
+	return finish(m, x, names, tl, cfg)
 }
 
 // Update continues training prev's map on x (see TrainFrom), derives the
-// regimes again with cfg.Regimes (seqs as for Fit), and numbers them after prev's regimes
+// regimes again with cfg.Regimes (tl as for Fit), and numbers them after prev's regimes
 // with MatchRegimes. The model returned keeps prev's feature schema,
 // feature settings and scaler; the changes list every renumbering, split
 // and merge.
-func Update(prev *Model, x *mat.Dense, names []string, seqs [][]int, cfg Config) (*Model, []Assignment, []RegimeChange, error) {
+func Update(prev *Model, x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, []RegimeChange, error) {
 	if err := checkNames(x, names); err != nil {
 		return nil, nil, nil, err
 	}
@@ -70,7 +71,7 @@ func Update(prev *Model, x *mat.Dense, names []string, seqs [][]int, cfg Config)
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	next, asg, err := finish(m, x, names, seqs, cfg)
+	next, asg, err := finish(m, x, names, tl, cfg)
 	if err != nil {
 		return nil, nil, nil, err
 	}
@@ -98,28 +99,29 @@ func checkNames(x *mat.Dense, names []string) error {
 }
 
 // finish builds the model of a trained map.
-func finish(m *Map, x *mat.Dense, names []string, seqs [][]int, cfg Config) (*Model, []Assignment, error) {
+func finish(m *Map, x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, error) {
 	asg := m.Assign(x, cfg.Workers)
-	md, err := NewModel(m, x, names, seqs, cfg, asg)
+	md, err := NewModel(m, x, names, tl, cfg, asg)
 	return md, asg, err
 }
 
 // NewModel builds the model of a map trained with the complete settings cfg
 // (Config.WithDefaults) on x, whose windows landed at asg and whose sites'
-// windows in time order seqs holds (nil: every window a site of its own):
+// windows in time order tl holds (no sequences: every window a site of its
+// own):
 // the regimes (FindRegimes on those windows, then Describe), the quality and
 // the quantiles of the training quantization errors. Fit and Update call
 // it after their epochs; a runner that trains the map elsewhere calls it
 // too. The caller fills FeatureNames, FeatureConfig and Scaler.
-func NewModel(m *Map, x *mat.Dense, names []string, seqs [][]int, cfg Config, asg []Assignment) (*Model, error) {
-	if seqs == nil {
+func NewModel(m *Map, x *mat.Dense, names []string, tl Timelines, cfg Config, asg []Assignment) (*Model, error) {
+	if tl.Sequences == nil {
 		n, _ := x.Dims()
-		seqs = make([][]int, n)
-		for i := range seqs {
-			seqs[i] = []int{i}
+		tl.Sequences = make([][]int, n)
+		for i := range tl.Sequences {
+			tl.Sequences[i] = []int{i}
 		}
 	}
-	groups, choice, err := FindRegimes(m, cfg.Regimes, &Windows{X: x, Assignments: asg, Sequences: seqs})
+	groups, choice, err := FindRegimes(m, cfg.Regimes, &Windows{X: x, Assignments: asg, Timelines: tl})
 	if err != nil {
 		return nil, err
 	}

@@ -21,11 +21,23 @@ const maxTraits = 3
 
 // Windows are the training windows as FindRegimes needs them to choose the
 // regimes: their scaled features (one row per window), where each landed on
-// the map, and each site's windows in time order (indices into the rows).
+// the map, and the sites' timelines.
 type Windows struct {
 	X           *mat.Dense
 	Assignments []Assignment
-	Sequences   [][]int
+	Timelines
+}
+
+// Timelines are each site's windows in time order, as indices into the
+// rows of the training windows, and the number of windows a decoded
+// segment must span to stand for a state (MinRun; 0 or 1: every segment).
+// A segment shorter than MinRun counts only when it is the site's whole
+// sequence. With daily windows MinRun is 7: a week, the period of the
+// calendar, so that weekly cycles and passing weather average out within
+// every segment that is tested.
+type Timelines struct {
+	Sequences [][]int
+	MinRun    int
 }
 
 // FindRegimes groups the units of m into k regimes, returning the group
@@ -47,8 +59,8 @@ type Windows struct {
 // current regimes as the timelines are (Euclidean distances to the
 // centroids, a switch cost of SwitchCostPerQE median quantization errors
 // and a dwell of DefaultMinDwell windows, by the shared Viterbi decoder),
-// and each decoded segment — a run of one site in one regime — counts as
-// one observation, its mean window. A regime's split into the two groups
+// and each decoded segment — a run of one site in one regime, at least
+// MinRun windows long — counts as one observation, its mean window. A regime's split into the two groups
 // Ward joined last in it is tested as in G-means (G. Hamerly and C. Elkan,
 // "Learning the k in k-means", NIPS 16, 2003): the segment means are
 // projected on the line between the two groups' centroids and the

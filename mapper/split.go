@@ -220,6 +220,10 @@ func (s *splitter) segments(cents [][]float64) []segment {
 			if t < len(path) && path[t] == path[start] {
 				continue
 			}
+			if t-start < s.win.MinRun && (start > 0 || t < len(path)) {
+				start = t
+				continue // too short to stand for a state
+			}
 			mean := make([]float64, d)
 			for _, i := range seq[start:t] {
 				for j, v := range x.RawRowView(i) {

@@ -63,7 +63,7 @@ func findFleetRegimes(t *testing.T, x *mat.Dense, seqs [][]int) ([]int, *Choice)
 		t.Fatal(err)
 	}
 	asg := m.Assign(x, 1)
-	groups, ch, err := FindRegimes(m, 0, &Windows{X: x, Assignments: asg, Sequences: seqs})
+	groups, ch, err := FindRegimes(m, 0, &Windows{X: x, Assignments: asg, Timelines: Timelines{Sequences: seqs, MinRun: 7}})
 	if err != nil {
 		t.Fatal(err)
 	}

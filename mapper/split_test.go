@@ -117,6 +117,30 @@ func TestFindRegimesHomogeneousFleet(t *testing.T) {
 	}
 }
 
+// A weekly cycle that every site goes through (five working days in one
+// state, a weekend in another) is one regime: the tested segments span a
+// week, over which the cycle averages out.
+func TestFindRegimesWeeklyCycle(t *testing.T) {
+	for _, seed := range []uint64{5, 6} {
+		spec := fleetSpec{
+			sites: 80, days: 28,
+			centres: [][]float64{{0, 0, 0, 0}, {3, -3, 0, 2}},
+			state: func(_, day int) int {
+				if day%7 >= 5 {
+					return 1
+				}
+				return 0
+			},
+			siteSD: 0.5, weatherSD: 0.5, noiseSD: 0.3,
+		}
+		x, seqs, _ := spec.fleet(seed)
+		_, ch := findFleetRegimes(t, x, seqs)
+		if ch.K != 1 {
+			t.Errorf("seed %d: %d regimes (%+v), want 1", seed, ch.K, ch.Splits)
+		}
+	}
+}
+
 // Persistent states are found whatever the weather, a rare one included:
 // 4 of 100 sites (4 % of the windows) hold a distant state, 60 a diffuse
 // one, the rest a third, and 10 sites switch once from the diffuse state

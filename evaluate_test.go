@@ -10,6 +10,7 @@ import (
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/scenarios"
+	"github.com/kinmap/kinmap/score"
 )
 
 // evalRun is how kinmap with its defaults did on one generated fleet.
@@ -89,15 +90,21 @@ func evaluate(t *testing.T, name string, seed int64) evalRun {
 		want = append(want, truth[e.Site][i])
 		got = append(got, e.Regime)
 	}
-	sw := fleet.Switches()
+	var planted, found []score.Event
+	for _, sw := range fleet.Switches() {
+		planted = append(planted, score.Event{Site: sw.Site, Time: sw.Time})
+	}
+	for _, sw := range res.Switches {
+		found = append(found, score.Event{Site: sw.Site, Time: sw.Time})
+	}
 	var secs float64
 	for _, v := range res.Info.Timings {
 		secs += v
 	}
 	return evalRun{
 		fleet: name, seed: seed, k: len(res.Model.Regimes), trueK: len(fleet.Regimes),
-		ari: adjustedRand(want, got), found: len(res.Switches), planted: len(sw),
-		hits: matchSwitches(res.Switches, sw, fleet.Window), seconds: secs,
+		ari: score.ARI(want, got), found: len(found), planted: len(planted),
+		hits: score.Switches(planted, found, fleet.Window).TP, seconds: secs,
 		splits: splitText(res),
 	}
 }

@@ -1,7 +1,6 @@
 package score
 
 import (
-	"cmp"
 	"maps"
 	"slices"
 	"time"
@@ -117,13 +116,13 @@ func Compare(truth, found []Window, trueSwitches, foundSwitches []Event, tol tim
 	r.Found = Measures{
 		ARI:      ARI(trueLabels, foundLabels),
 		AMI:      AMI(trueLabels, foundLabels),
-		Covering: ratioOf(foundCovered, len(scored)),
+		Covering: ratio(foundCovered, len(scored)),
 		Switches: Switches(trueSwitches, foundSwitches, tol),
 	}
 	r.Baseline = Measures{
 		ARI:      ARI(trueLabels, baseline),
 		AMI:      AMI(trueLabels, baseline),
-		Covering: ratioOf(baseCovered, len(scored)),
+		Covering: ratio(baseCovered, len(scored)),
 		Switches: Switches(trueSwitches, nil, tol),
 	}
 	return r
@@ -131,11 +130,7 @@ func Compare(truth, found []Window, trueSwitches, foundSwitches []Event, tol tim
 
 // sortedWindows returns a copy of ws sorted by site, then start.
 func sortedWindows(ws []Window) []Window {
-	s := slices.Clone(ws)
-	slices.SortFunc(s, func(a, b Window) int {
-		return cmp.Or(cmp.Compare(a.Site, b.Site), a.Start.Compare(b.Start))
-	})
-	return s
+	return sortedBySite(ws, func(w Window) (string, time.Time) { return w.Site, w.Start })
 }
 
 // labelsOf numbers n names in the order the names sort and returns the
@@ -172,12 +167,4 @@ func majority(labels, out []int) {
 	for i := range out {
 		out[i] = best
 	}
-}
-
-// ratioOf is covered / n, and 1 when n is 0, as Covering of nothing.
-func ratioOf(covered float64, n int) float64 {
-	if n == 0 {
-		return 1
-	}
-	return covered / float64(n)
 }

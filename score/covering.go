@@ -1,9 +1,8 @@
 package score
 
 // Covering returns the segment covering of one sequence of windows in time
-// order (Arbeláez et al. 2011, eq. 5; van den Burg and Williams 2020,
-// eq. 2): with the true segments A and the found segments A′ (maximal runs
-// of one label),
+// order (Arbeláez et al. 2011; van den Burg and Williams 2020): with the
+// true segments A and the found segments A′ (maximal runs of one label),
 //
 //	C = 1/T · Σ_A |A| · max_A′ |A ∩ A′| / |A ∪ A′|,
 //

@@ -134,19 +134,15 @@ func readTimeline(dir string) ([]Window, error) {
 		WindowStart time.Time `parquet:"window_start,timestamp(microsecond:utc)"`
 		Regime      int32     `parquet:"regime"`
 	}
-	path := filepath.Join(dir, timelineParquet)
-	rows, err := parquet.ReadFile[row](path)
-	if errors.Is(err, fs.ErrNotExist) {
-		return nil, fmt.Errorf("score: %s: no %s or %s: not an output folder of kinmap: %w", dir, timelineCSV, timelineParquet, err)
-	}
+	rows, err := readParquet[row](dir, timelineCSV, timelineParquet)
 	if err != nil {
-		return nil, fmt.Errorf("score: %s: %w", path, err)
+		return nil, err
 	}
 	ws = make([]Window, len(rows))
 	for i, r := range rows {
 		ws[i] = Window{r.Site, r.WindowStart, strconv.Itoa(int(r.Regime))}
 	}
-	return ws, checkUnique(path, ws)
+	return ws, checkUnique(filepath.Join(dir, timelineParquet), ws)
 }
 
 // readSwitches reads the switches of an output folder.
@@ -159,19 +155,29 @@ func readSwitches(dir string) ([]Event, error) {
 		Site string    `parquet:"site"`
 		Time time.Time `parquet:"time,timestamp(microsecond:utc)"`
 	}
-	path := filepath.Join(dir, switchesParquet)
-	rows, err := parquet.ReadFile[row](path)
-	if errors.Is(err, fs.ErrNotExist) {
-		return nil, fmt.Errorf("score: %s: no %s or %s: not an output folder of kinmap: %w", dir, switchesCSV, switchesParquet, err)
-	}
+	rows, err := readParquet[row](dir, switchesCSV, switchesParquet)
 	if err != nil {
-		return nil, fmt.Errorf("score: %s: %w", path, err)
+		return nil, err
 	}
 	es = make([]Event, len(rows))
 	for i, r := range rows {
 		es[i] = Event{r.Site, r.Time}
 	}
 	return es, nil
+}
+
+// readParquet reads the rows of the Parquet table name in dir, read when
+// its CSV twin csvName is missing.
+func readParquet[T any](dir, csvName, name string) ([]T, error) {
+	path := filepath.Join(dir, name)
+	rows, err := parquet.ReadFile[T](path)
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil, fmt.Errorf("score: %s: no %s or %s: not an output folder of kinmap: %w", dir, csvName, name, err)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("score: %s: %w", path, err)
+	}
+	return rows, nil
 }
 
 // readWindowsCSV reads site, window_start and regime from a CSV file and

@@ -217,3 +217,22 @@ func TestFolderErrors(t *testing.T) {
 		})
 	}
 }
+
+// The no-switch baseline holds a site whose windows split evenly in the
+// regime whose name sorts first. Site X spends two windows in "a" and two
+// in "b", site Y all four in "a": held in "a", X makes the baseline one
+// group, which scores ARI 0; held in "b", it would score above 0.
+func TestCompareBaselineTie(t *testing.T) {
+	var truth []Window
+	for i, regime := range []string{"b", "b", "a", "a", "a", "a", "a", "a"} {
+		site := "X"
+		if i >= 4 {
+			site = "Y"
+		}
+		truth = append(truth, Window{site, day0.AddDate(0, 0, i%4), regime})
+	}
+	r := Compare(truth, truth, nil, nil, 0)
+	if r.Baseline.ARI != 0 || r.Found.ARI != 1 {
+		t.Errorf("baseline ARI %g, found ARI %g; want 0 (X held in a) and 1", r.Baseline.ARI, r.Found.ARI)
+	}
+}

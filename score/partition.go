@@ -55,15 +55,20 @@ func newContingency(a, b []int) contingency {
 func pairs(n int) float64 { return float64(n) * float64(n-1) / 2 }
 
 // ARI returns the adjusted Rand index of two labellings of the same items
-// (Hubert and Arabie 1985, eq. 5): (index − expected) / (max − expected),
+// (Hubert and Arabie 1985): (index − expected) / (max − expected),
 // with index = Σ C(n_ij, 2) over the contingency table, max = (Σ C(a_i, 2)
 // + Σ C(b_j, 2)) / 2 and expected = Σ C(a_i, 2) · Σ C(b_j, 2) / C(n, 2).
-// Label values only name groups. When max equals expected, which happens
-// only when both labellings put all items together or all apart, the
-// partitions are the same and ARI is 1, as in scikit-learn. It panics when
-// the labellings differ in length.
+// Label values only name groups. Max equals expected only when both
+// labellings put all items together or both put them all apart; the
+// partitions are then the same and ARI is 1, as in scikit-learn. That case
+// is told by the group counts, not by comparing the two sums, which
+// rounding may part for a large n. It panics when the labellings differ in
+// length.
 func ARI(truth, pred []int) float64 {
 	c := newContingency(truth, pred)
+	if len(c.rows) <= 1 && len(c.cols) <= 1 || len(c.rows) == c.n && len(c.cols) == c.n {
+		return 1
+	}
 	var index, sumRows, sumCols float64
 	for _, x := range c.cells {
 		index += pairs(x.n)
@@ -75,22 +80,15 @@ func ARI(truth, pred []int) float64 {
 		sumCols += pairs(n)
 	}
 	top := (sumRows + sumCols) / 2
-	expected := 0.0
-	if c.n > 1 {
-		expected = sumRows * sumCols / pairs(c.n)
-	}
-	if top == expected {
-		return 1
-	}
+	expected := sumRows * sumCols / pairs(c.n)
 	return (index - expected) / (top - expected)
 }
 
 // AMI returns the adjusted mutual information of two labellings of the
-// same items (Vinh, Epps and Bailey 2010, eq. 24 with the arithmetic mean
-// of the entropies as the upper bound): (MI − E[MI]) / ((H(U) + H(V))/2 −
-// E[MI]), where E[MI] is the expected mutual information of two random
-// labellings with the same group sizes under the hypergeometric model (their
-// eq. 24a). When both labellings have one label it is 1; otherwise a
+// same items (Vinh, Epps and Bailey 2010, with the arithmetic mean of the
+// entropies as the upper bound): (MI − E[MI]) / ((H(U) + H(V))/2 − E[MI]),
+// where E[MI] is the expected mutual information of two random labellings
+// with the same group sizes under the hypergeometric model. When both labellings have one label it is 1; otherwise a
 // denominator that rounding made zero is replaced by ±ε of float64, with
 // its sign kept, both as scikit-learn does. It panics when the labellings
 // differ in length.
@@ -130,7 +128,7 @@ func entropy(sizes []int, n int) float64 {
 }
 
 // expectedMI is the expected mutual information of two labellings with the
-// group sizes of c, drawn at random (Vinh, Epps and Bailey 2010, eq. 24a):
+// group sizes of c, drawn at random (Vinh, Epps and Bailey 2010):
 //
 //	Σ_i Σ_j Σ_{n_ij} n_ij/N · log(N n_ij / (a_i b_j)) ·
 //	    a_i! b_j! (N−a_i)! (N−b_j)! / (N! n_ij! (a_i−n_ij)! (b_j−n_ij)! (N−a_i−b_j+n_ij)!)

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os/exec"
+	"slices"
 	"strings"
 	"testing"
 
@@ -36,6 +37,9 @@ func TestPartitionWorked(t *testing.T) {
 		{name: "crossed", a: []int{0, 0, 1, 1}, b: []int{0, 1, 0, 1}, ari: -0.5, ami: -0.5, checkAMI: true},
 		// One group on both sides: the same partition.
 		{name: "one group", a: []int{1, 1, 1}, b: []int{2, 2, 2}, ari: 1, ami: 1, checkAMI: true},
+		// One group of a large fleet's size, n = 111 964, where C(n, 2)² / C(n, 2)
+		// does not round back to C(n, 2) in float64.
+		{name: "one large group", a: make([]int, 111_964), b: slices.Repeat([]int{4}, 111_964), ari: 1, ami: 1, checkAMI: true},
 		// All apart on both sides: the same partition again.
 		{name: "all apart", a: []int{0, 1, 2}, b: []int{2, 0, 1}, ari: 1},
 		// One group against two: no pair agrees beyond chance. Σ C(a_i, 2)

@@ -64,8 +64,8 @@ func Switches(truth, found []Event, tol time.Duration) Match {
 			j++
 		}
 	}
-	m.Precision = ratio(m.TP, m.TP+m.FP)
-	m.Recall = ratio(m.TP, m.TP+m.FN)
+	m.Precision = ratio(float64(m.TP), m.TP+m.FP)
+	m.Recall = ratio(float64(m.TP), m.TP+m.FN)
 	if s := m.Precision + m.Recall; s > 0 {
 		m.F1 = 2 * m.Precision * m.Recall / s
 	}
@@ -74,17 +74,26 @@ func Switches(truth, found []Event, tol time.Duration) Match {
 
 // sortedEvents returns a copy of es sorted by site, then time.
 func sortedEvents(es []Event) []Event {
-	s := slices.Clone(es)
-	slices.SortFunc(s, func(a, b Event) int {
-		return cmp.Or(cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
+	return sortedBySite(es, func(e Event) (string, time.Time) { return e.Site, e.Time })
+}
+
+// sortedBySite returns a copy of xs sorted by the site, then the time, that
+// key gives.
+func sortedBySite[T any](xs []T, key func(T) (string, time.Time)) []T {
+	s := slices.Clone(xs)
+	slices.SortFunc(s, func(a, b T) int {
+		sa, ta := key(a)
+		sb, tb := key(b)
+		return cmp.Or(cmp.Compare(sa, sb), ta.Compare(tb))
 	})
 	return s
 }
 
-// ratio is k / n, and 1 when n is 0.
-func ratio(k, n int) float64 {
+// ratio is k / n, and 1 when n is 0: nothing was wrong, as a precision with
+// nothing found or a covering of no windows.
+func ratio(k float64, n int) float64 {
 	if n == 0 {
 		return 1
 	}
-	return float64(k) / float64(n)
+	return k / float64(n)
 }

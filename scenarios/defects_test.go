@@ -202,7 +202,7 @@ func TestSpikes(t *testing.T) {
 		if spikes != with.Defects.Spikes {
 			t.Errorf("%s: %d spikes found, Defects says %d", name, spikes, with.Defects.Spikes)
 		}
-		checkRate(t, name+": spikes", spikes, eligible, defaultRates(10 * time.Minute).spike)
+		checkRate(t, name+": spikes", spikes, eligible, defaultRates(10*time.Minute).spike)
 	}
 }
 

@@ -219,8 +219,8 @@ func (u *unit) regimeAt(t time.Time, s *Site) (from, to int, share float64, onse
 	return r, r, 0, onset
 }
 
-// load is a signal's on/off share for a slot: 1 when on, 0 when off.
-func load(on bool) float64 {
+// onOff is 1 when on, 0 when off.
+func onOff(on bool) float64 {
 	if on {
 		return 1
 	}

@@ -43,8 +43,8 @@ func ahusScenario() *scenario {
 				switch {
 				case !m.weekend && m.between(7, 19):
 					fan, people = 80, 1
-				case m.weekend && (m.between(6, 9) || m.between(17, 20)):
-					fan = 40 // frost and flush runs at the weekend
+				case m.weekend && m.between(6, 8):
+					fan = 30 // a flush run at the weekend
 				}
 			case ahuResidential:
 				if m.between(6, 9) || m.between(17, 23) || (m.weekend && m.between(9, 17)) {
@@ -53,7 +53,7 @@ func ahusScenario() *scenario {
 			case ahuContinuous:
 				fan, people = 70, 0.5+0.3*m.cycle(13)
 			}
-			fan += 3 * u.p[0] * load(fan > 0)
+			fan += 3 * u.p[0] * onOff(fan > 0)
 			valve := 0.0
 			if fan > 0 {
 				valve = min(max(50-4*(m.air-12)+5*u.p[1], 0), 100)
@@ -120,9 +120,9 @@ func coldroomsScenario() *scenario {
 				current = amps * (0.55 + 0.01*(m.air-20) + 0.4*door) * (1 + 0.03*m.n())
 			case coldCycling, coldStuck:
 				on := u.duty(0, m, 25, 35)
-				room = u.follow(1, m, set+1.5-3*load(on)+4*door, 40*time.Minute) + 0.1*m.n()
-				evap = set - 1 - 10*load(on) + 0.3*m.n()
-				current = (amps*load(on) + 0.3) * (1 + 0.03*m.n())
+				room = u.follow(1, m, set+1.5-3*onOff(on)+4*door, 40*time.Minute) + 0.1*m.n()
+				evap = set - 1 - 10*onOff(on) + 0.3*m.n()
+				current = (amps*onOff(on) + 0.3) * (1 + 0.03*m.n())
 			case coldIced:
 				room = set + 2 + 0.3*m.n() + 3*door
 				evap = set - 17 + 0.5*m.n()
@@ -171,7 +171,7 @@ func boilersScenario() *scenario {
 			var set, fire float64
 			switch r {
 			case boilSummer:
-				set, fire = 60, 0.12+0.1*load(m.between(6, 8) || m.between(18, 21))
+				set, fire = 60, 0.12+0.1*onOff(m.between(6, 8) || m.between(18, 21))
 			case boilHeating:
 				set = 72 + 1.0*(10-m.air)
 				fire = min(max(0.55+0.03*(10-m.air)+0.1*m.cycle(6), 0.1), 1)
@@ -227,7 +227,7 @@ func datahallsScenario() *scenario {
 		prefix: "DH", kind: "data hall", area: [4]float64{53.2, -6.6, 53.5, -6.0},
 		signal: func(u *unit, r int, m *moment, out []float64) {
 			it := 1 + 0.08*m.cycle(15) + 0.05*u.p[0]
-			fan, valve, supply := 7.5*(1+0.05*u.p[1]), 45.0, 18.0
+			fan, valve, supply, warm := 7.5*(1+0.05*u.p[1]), 45.0, 18.0, 0.0
 			switch r {
 			case dhHighLoad:
 				it *= 1.4
@@ -235,12 +235,15 @@ func datahallsScenario() *scenario {
 			case dhEconomiser:
 				valve, supply = 5, 16+0.3*(m.air-12)
 			case dhFilter:
-				// A filter that clogs from its onset: a step, then a slow rise.
-				fan *= 1.2 + 0.015*min(m.days, 20)
+				// A filter that clogs from its onset: a step, then a slow
+				// rise; less air crosses the coil, so the return air warms.
+				clog := 0.6 + 0.02*min(m.days, 20)
+				fan *= 1 + clog
+				warm = 5 * clog
 			}
 			fan *= it
 			out[0] = supply + 0.2*m.n()
-			out[1] = supply + 9*it + 0.3*m.n()
+			out[1] = supply + 9*it + warm + 0.3*m.n()
 			out[2] = fan * (1 + 0.02*m.n())
 			out[3] = min(max(valve+5*u.p[2]+20*(it-1)+2*m.n(), 0), 100)
 			out[4] = 45 + 3*u.p[3] - 0.5*(out[1]-27) + 0.5*m.n()

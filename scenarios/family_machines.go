@@ -42,6 +42,9 @@ func mastsScenario() *scenario {
 			}
 			gust := u.follow(0, m, m.n(), 10*time.Minute)
 			out[0] = max(mean*(1+0.08*m.weather)*(1+0.25*gust), 0)
+			if r == mastIced {
+				out[0] = 0 // the cups are frozen still
+			}
 			out[1] = temp + 0.1*m.n()
 			out[2] = min(max(80-2*(temp-m.air)-3*m.weather+3*u.p[2]+m.n(), 5), 100)
 			out[3] = 1010 - 0.12*(600+200*u.p[3]) + 2*m.weather + 0.1*m.n()
@@ -87,22 +90,23 @@ func turbinesScenario() *scenario {
 			const rated = 3000.0
 			frac := min(max((wind-3)/(12-3), 0), 1)
 			power := rated * frac * frac * frac
-			pitch := 0.0
+			pitch, rpm := 0.0, 0.0
 			if wind > 12 {
 				pitch = 2.2 * (wind - 12)
 			}
-			if r == wtCurtailed && power > 0.5*rated {
-				power, pitch = 0.5*rated, pitch+8
-			}
-			rpm := 0.0
 			if wind > 3 {
 				rpm = min(6+8*frac, 14.5)
 			}
-			gear := 45 + 25*power/rated + 0.3*(m.air-12) + u.p[1]
+			if r == wtCurtailed {
+				// A noise-reduced mode: pitched out by 6° and slower at
+				// every wind speed, capped at half the rating.
+				power, pitch, rpm = min(0.6*power, 0.5*rated), pitch+6, 0.8*rpm
+			}
+			gear := 50 + 8*power/rated + 0.3*(m.air-12) + u.p[1]
 			if r == wtGearboxWear {
 				// A damaged bearing heats the gearbox from its onset: a step,
 				// then a slow rise that levels off after 25 days.
-				gear += 7 + 0.35*min(m.days, 25)
+				gear += 14 + 0.15*min(m.days, 25)
 			}
 			out[0] = wind
 			out[1] = max(power*(1+0.01*m.n()), 0)
@@ -164,14 +168,17 @@ func blowersScenario() *scenario {
 			case blStorm:
 				demand, oxygen = 1.0+0.05*m.cycle(11), 1.2
 			case blIntermittent:
-				demand = 0.85 * load(u.duty(0, m, 40, 50))
+				demand = 0.85 * onOff(u.duty(0, m, 40, 50))
 				oxygen = u.follow(1, m, 0.3+2.5*demand, 30*time.Minute)
 			case blStandby:
 				demand, oxygen = 0, 0.2
 			case blSurgeLimited:
 				demand, oxygen = 0.55, 1.0
 			case blFilter:
-				drop = 1.25 + 0.02*min(m.days, 20)
+				// A clogged inlet filter: the blower runs flat out, draws
+				// more power and still falls short of the air asked for.
+				drop = 1.6 + 0.02*min(m.days, 20)
+				demand *= 0.9
 			}
 			flow := size * demand * (1 + 0.02*m.n())
 			pressure := 0.0
@@ -181,7 +188,10 @@ func blowersScenario() *scenario {
 			if r == blSurgeLimited {
 				pressure += 90
 			}
-			speed := 100 * math.Sqrt(demand) * drop
+			speed := 70 * math.Sqrt(demand)
+			if r == blFilter {
+				speed = 100
+			}
 			power := flow * pressure / 1e5 * 3.2 * drop
 			out[0] = max(flow, 0)
 			out[1] = pressure + 3*m.n()

@@ -115,7 +115,11 @@ func TestFamilyRareRegimes(t *testing.T) {
 func TestFamilyOnsets(t *testing.T) {
 	for _, name := range Family() {
 		sc, _ := lookup(name)
-		f := generateT(t, small(t, name, 150, 3))
+		sites := 40
+		if sc.midday > 0 {
+			sites = 150
+		}
+		f := generateT(t, small(t, name, sites, 2))
 		off := 0
 		for _, sw := range f.Switches() {
 			d := sw.Onset.Sub(sw.Time)

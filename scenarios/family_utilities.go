@@ -62,11 +62,11 @@ func substationsScenario() *scenario {
 			{Channel{"tap", "1"}, 0, 0},
 		},
 		regimes:     []string{subNormal: "normal", subFanFault: "fan-fault"},
-		shares:      []float64{subNormal: 0.94, subFanFault: 0.06},
+		shares:      []float64{subNormal: 0.9, subFanFault: 0.1},
 		next:        [][]int{subNormal: {subFanFault}, subFanFault: {subNormal}},
 		frozen:      noneFrozen(2),
-		climate:     climateSpec{mean: 19, trend: 0.15, swing: 6, weather: 3.5},
-		switchShare: 0.1,
+		climate:     climateSpec{mean: 19, trend: 0, swing: 6, weather: 3},
+		switchShare: 0.08,
 	}, &plantModel{
 		prefix: "TX", kind: "substation", area: [4]float64{50.5, 7.0, 52.0, 9.5},
 		holidays: []int{10, 11},
@@ -77,11 +77,13 @@ func substationsScenario() *scenario {
 				share *= 0.75
 			}
 			share = max(share*(1+0.03*m.n()), 0.05)
-			rise := 38 * (1 + 0.05*u.p[2])
+			// The oil's rise over the air follows the losses: no-load losses
+			// a fifth of the load losses at rating.
+			rise := 38 * (1 + 0.05*u.p[2]) * (0.2 + share*share) / 1.2
 			if r == subFanFault {
-				rise *= 2 // the fans have stopped: natural cooling only
+				rise *= 3.5 // the fans and oil pumps have stopped: natural cooling only
 			}
-			oil := u.follow(0, m, m.air+rise*share*share, 3*time.Hour)
+			oil := u.follow(0, m, m.air+rise, 3*time.Hour)
 			out[0] = rating * share
 			out[1] = oil + 0.3*m.n()
 			out[2] = m.air + 0.3*m.n()
@@ -143,7 +145,7 @@ func chargersScenario() *scenario {
 				power = kw * (0.9 + 0.1*m.rng.Float64())
 			}
 			out[0] = power
-			out[1] = load(plugged)
+			out[1] = onOff(plugged)
 			out[2] = u.follow(0, m, m.air+0.5*power, 30*time.Minute) + 0.3*m.n()
 		},
 	})
@@ -151,8 +153,8 @@ func chargersScenario() *scenario {
 
 // Regimes of the irrigation fleet.
 const (
-	irrNight = iota
-	irrMorning
+	irrSprinkler = iota
+	irrDrip
 	irrOff
 	irrLeak
 )
@@ -168,13 +170,13 @@ func irrigationScenario() *scenario {
 			{Channel{"current", "A"}, 1, 40},
 			{Channel{"soil_moisture", "%"}, 1, 0},
 		},
-		regimes: []string{irrNight: "night-schedule", irrMorning: "morning-schedule", irrOff: "off-season", irrLeak: "leaking-main"},
-		shares:  []float64{irrNight: 0.4, irrMorning: 0.3, irrOff: 0.2, irrLeak: 0.1},
+		regimes: []string{irrSprinkler: "sprinkler", irrDrip: "drip", irrOff: "off-season", irrLeak: "leaking-main"},
+		shares:  []float64{irrSprinkler: 0.4, irrDrip: 0.3, irrOff: 0.2, irrLeak: 0.1},
 		next: [][]int{
-			irrNight:   {irrLeak, irrOff, irrMorning},
-			irrMorning: {irrNight, irrOff},
-			irrOff:     {irrNight, irrMorning},
-			irrLeak:    {irrNight},
+			irrSprinkler: {irrLeak, irrOff, irrDrip},
+			irrDrip:      {irrSprinkler, irrOff},
+			irrOff:       {irrSprinkler, irrDrip},
+			irrLeak:      {irrSprinkler},
 		},
 		frozen:  noneFrozen(4),
 		climate: climateSpec{mean: 22, trend: 0.05, swing: 7, weather: 3},
@@ -185,14 +187,17 @@ func irrigationScenario() *scenario {
 			// Cool, wet days need less water: every schedule runs shorter.
 			hours := 6 * min(max(1+0.12*m.weather, 0.4), 1.4)
 			var on bool
-			switch r {
-			case irrNight, irrLeak:
-				on = m.between(22, math.Mod(22+hours, 24))
-			case irrMorning:
-				on = m.between(4, 4+hours*0.8)
-			}
 			rated := 90 * math.Exp(0.2*u.p[0])
 			head := 3.6 * (1 + 0.05*u.p[1])
+			switch r {
+			case irrSprinkler, irrLeak:
+				on = m.between(22, math.Mod(22+hours, 24))
+			case irrDrip:
+				// Drip lines run twice as long at a third of the flow and
+				// under half the pressure.
+				on = m.between(5, 5+2*hours)
+				rated, head = rated*0.35, head*0.45
+			}
 			static := 0.6
 			if r == irrLeak {
 				head *= 0.6
@@ -202,7 +207,7 @@ func irrigationScenario() *scenario {
 			if on {
 				flow = rated * (1 + 0.02*m.n())
 				pressure = head * (1 + 0.015*m.n())
-				current = 0.35 * rated * (1 + 0.02*m.n())
+				current = 0.1 * rated * head * (1 + 0.02*m.n())
 			}
 			wet := 0.0
 			if r != irrOff {

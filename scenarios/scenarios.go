@@ -67,13 +67,15 @@
 //     have no chlorine analyser.
 //   - "substations" (600, 3 weeks, 15 minutes): transformers with load
 //     (MVA), top_oil (°C), ambient (°C) and tap (position); "normal" and
-//     "fan-fault" (natural cooling only: twice the oil temperature rise).
-//     Load follows the weather and drops at weekends and on a fleet-wide
-//     holiday (days 10 and 11); the fault shows in top_oil only. Class 1.
+//     "fan-fault" (natural cooling only: 3.5 times the oil temperature
+//     rise). Load follows the weather and drops at weekends and on a
+//     fleet-wide holiday (local days 10 and 11 of the record: 11 and 12
+//     June from the default start); the fault shows in top_oil only.
+//     Class 1.
 //   - "masts" (80, 3 weeks, every minute): weather masts with wind (m/s),
 //     air_temp (°C), humidity (%) and pressure (hPa); "exposed",
-//     "sheltered" and a rare "iced-anemometer" whose wind reading repeats
-//     one value. Class 3.
+//     "sheltered" and a rare "iced-anemometer" whose frozen cups read a
+//     wind of 0. Class 3.
 //   - "coldrooms" (200, 4 weeks, 5 minutes): cold rooms with room_temp,
 //     evap_temp (°C), current (A) and door_open (share); "modulating",
 //     "cycling" (the compressor on for 10 to 40 minutes and off for 14 to
@@ -81,9 +83,10 @@
 //     whose room_temp repeats one value) and "iced-evaporator". Class 3.
 //   - "ahus" (300, 5 weeks, 15 minutes): air-handling units with
 //     supply_temp, return_temp (°C), fan_speed, valve (%) and co2 (ppm);
-//     "office" (weekdays 07:00–19:00, short frost and flush runs at
-//     weekends, like a residential weekday), "residential" (mornings and
-//     evenings, weekend days too) and "continuous". Class 2.
+//     "office" (weekdays 07:00–19:00, a short flush run in weekend
+//     mornings, more like a residential weekday than an office one),
+//     "residential" (mornings and evenings, weekend days too) and
+//     "continuous". Class 2.
 //   - "boilers" (180, 5 weeks, 5 minutes): boiler houses with flow_temp,
 //     return_temp (°C), burner (share firing), gas_flow (m³/h) and pressure
 //     (bar); "hot-water-only", "space-heating" (weather-compensated) and
@@ -96,15 +99,16 @@
 //     Switches happen up to 10 hours from midnight. Classes 2 and 4.
 //   - "irrigation" (120, 10 weeks, 10 minutes): irrigation pumps with flow
 //     (m³/h), pressure (bar), current (A) and soil_moisture (%);
-//     "night-schedule", "morning-schedule", "off-season" and
-//     "leaking-main" (a night schedule at 60 % of the pressure). Every
-//     schedule runs shorter on cool, wet days, fleet-wide; 4 % of the sites
-//     have no soil probe. Class 1.
+//     "sprinkler" (at night), "drip" (by day, twice as long at a third of
+//     the flow and under half the pressure), "off-season" and
+//     "leaking-main" (sprinklers at 60 % of the pressure). Every schedule
+//     runs shorter on cool, wet days, fleet-wide; 4 % of the sites have no
+//     soil probe. Class 1.
 //   - "datahalls" (50, 3 weeks, every minute): data-hall cooling units with
 //     supply_air, return_air (°C), fan_power (kW), chw_valve and humidity
 //     (%); "normal", "high-load", "economiser", "filter-clogging" (fan
-//     power 20 % up from the onset, then 1.5 % a day for 20 days) and the
-//     rare "stuck-humidity". Classes 3 and 5.
+//     power 60 % up from the onset, then 2 % a day for 20 days, and the
+//     return air warmer) and the rare "stuck-humidity". Classes 3 and 5.
 //   - "heatpumps" (300, 5 weeks, 10 minutes): air-source heat pumps with
 //     flow_temp, outdoor_temp (°C), power (kW), compressor_hz (Hz) and
 //     defrost (0 or 1); "heating", "cooling", "standby", "short-cycling"
@@ -115,21 +119,24 @@
 //     (Nm³/h), pressure (mbar), power (kW), oxygen (mg/l), speed (%) and
 //     inlet_temp (°C); "diurnal", "storm-flow", "intermittent" (on 16 to 64
 //     minutes, off 20 to 80), "standby", "surge-limited",
-//     "filter-clogging" (speed and power 25 % up from the onset, then 2 % a
-//     day for 20 days) and the rare "fouled-oxygen-probe" (oxygen repeats one value).
+//     "filter-clogging" (from the onset the blower runs flat out, draws
+//     60 % more power, 2 % more a day for 20 days, and delivers 10 % less
+//     air) and the rare "fouled-oxygen-probe" (oxygen repeats one value).
 //     Classes 3 and 5.
 //   - "turbines" (150, 8 weeks, 10 minutes): wind turbines with wind (m/s),
 //     power (kW), rotor_rpm, gearbox_temp, nacelle_temp (°C) and pitch (°)
-//     under a wind shared by the fleet; "normal", "curtailed" (power capped
-//     at half the rating) and "gearbox-wear" (7 °C hotter from the onset,
-//     then 0.35 °C a day for 25 days). Classes 1 and 5.
+//     under a wind shared by the fleet; "normal", "curtailed" (a
+//     noise-reduced mode: pitched out by 6°, 20 % slower, 60 % of the
+//     power and at most half the rating) and "gearbox-wear" (14 °C hotter
+//     from the onset, then 0.15 °C a day for 25 days). Classes 1 and 5.
 //   - "compressors" (240, 6 weeks, 10 minutes): gas compressor stations
 //     with suction_p, discharge_p (bar), speed (rpm), power (MW), gas_temp
 //     (°C), vibration (mm/s), lube_temp (°C) and flow (kNm³/h); "base-load",
 //     "peak-load", "recycle", "standby-pressurised", "shutdown",
 //     "start-stop" (runs of 1 to 4 hours), "fouled-cooler" (gas 18 °C
 //     hotter) and "bearing-wear" (vibration doubled from the onset, then
-//     up by 8 % of the healthy level a day for 20 days); 3 % of the sites have no lube_temp (K = 8).
+//     up by 8 % of the healthy level a day for 20 days); 3 % of the sites
+//     have no lube_temp (K = 8).
 //
 // The rare regimes hold 3 to 5 % of the windows of both draws; about 5 to
 // 20 % of the sites switch, as each fleet needs.
@@ -145,17 +152,17 @@
 // start of the first window labelled with the new regime. So a change at
 // 08:00 is true at the midnight before it, one at 16:00 at the midnight
 // after it.
-// In "pumping" and "reefers" about 13 % of the sites switch regime once or twice (a third of those
-// twice, when the record has at least 9 windows); every switch happens at a
-// window boundary, with at least 3 windows of the old regime before it and 3
-// of the new one after it, and only to a plausible next regime (a stuck
-// sensor is replaced, a degrading pump is repaired or stopped, a parked
-// trailer goes back on the road).
+// In "pumping" and "reefers" about 13 % of the sites switch regime, in the
+// family as each fleet says; a third of those switch twice, when the record
+// has at least 9 windows. Every switch has at least 3 windows of the old
+// regime before it and 3 of the new one after it, and goes only to a
+// plausible next regime (a stuck sensor is replaced, a degrading pump is
+// repaired or stopped, a parked trailer goes back on the road).
 //
 // # Defects
 //
 // The readings carry telemetry defects at these rates:
-//   - clock jitter: every time stamp is off its 10 minute slot by a whole
+//   - clock jitter: every time stamp is off its sampling slot by a whole
 //     number of seconds drawn uniformly from −5 to +5 (so about 10 in 11 are
 //     off the grid); jitter never moves a reading into another window;
 //   - lost rows: 0.3 % of the rows, independently;
@@ -209,9 +216,10 @@ func Names() []string {
 	return names
 }
 
-// DefaultSpec returns the default size of a scenario: 4 weeks from Monday
-// 1 June 2026 00:00 UTC with seed 1, 300 sites for "pumping" and 60 units for
-// "reefers".
+// DefaultSpec returns the default size of a scenario: its own number of
+// sites and weeks (4 weeks of 300 sites for "pumping" and of 60 units for
+// "reefers"; the family's in the package documentation) from Monday 1 June
+// 2026 00:00 UTC with seed 1.
 func DefaultSpec(name string) (Spec, error) {
 	sc, err := lookup(name)
 	if err != nil {

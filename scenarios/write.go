@@ -60,7 +60,7 @@ const (
 //   - sites.csv: the site register, columns site, name, lat, lon and the
 //     fleet's attributes;
 //   - truth-windows.csv: site, window_start, window_end (RFC 3339, UTC),
-//     regime (name) and coverage (share of the window's 10 minute slots for
+//     regime (name) and coverage (share of the window's sampling slots for
 //     which the site sent a row, 0 to 1), one row per site and daily window;
 //   - truth-switches.csv: site, time (RFC 3339, the start of the first window
 //     in the new regime), from_regime and to_regime.

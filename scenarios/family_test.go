@@ -164,3 +164,38 @@ func TestFamilyStuckSensors(t *testing.T) {
 		}
 	}
 }
+
+// TestRegimeAt checks when the plant changes at a switch during the day:
+// at its onset for a step, and over a ramp centred on the onset, which is
+// halfway.
+func TestRegimeAt(t *testing.T) {
+	day := time.Date(2026, 6, 6, 0, 0, 0, 0, time.UTC)
+	onset := day.Add(8 * time.Hour)
+	site := &Site{
+		Regimes:  []int{0, 0, 0, 0, 0, 1, 1, 1},
+		Switches: []Switch{{Time: day, Onset: onset, Window: 5, From: 0, To: 1}},
+	}
+	tests := []struct {
+		ramp      time.Duration
+		at        time.Time
+		from, to  int
+		share     float64
+		fromOnset bool // the regime's onset is the switch's
+	}{
+		{0, onset.Add(-time.Minute), 0, 0, 0, false},
+		{0, onset, 1, 1, 0, true},
+		{12 * time.Hour, onset.Add(-6 * time.Hour), 0, 0, 0, false},
+		{12 * time.Hour, onset.Add(-3 * time.Hour), 0, 1, 0.25, false},
+		{12 * time.Hour, onset, 0, 1, 0.5, true},
+		{12 * time.Hour, onset.Add(3 * time.Hour), 0, 1, 0.75, true},
+		{12 * time.Hour, onset.Add(6 * time.Hour), 1, 1, 0, true},
+	}
+	for _, tt := range tests {
+		u := &unit{model: &plantModel{ramp: tt.ramp}}
+		from, to, share, got := u.regimeAt(tt.at, site)
+		if from != tt.from || to != tt.to || math.Abs(share-tt.share) > 1e-12 || got.Equal(onset) != tt.fromOnset {
+			t.Errorf("ramp %v, at %v: regimeAt = %d, %d, %g, %v; want %d, %d, %g (onset %v)",
+				tt.ramp, tt.at.Sub(onset), from, to, share, got, tt.from, tt.to, tt.share, tt.fromOnset)
+		}
+	}
+}

@@ -106,8 +106,18 @@ type RunInfo struct {
 	Options  OptionsRecord        `json:"options"`
 	Counts   Counts               `json:"counts"`
 	Quality  mapper.Quality       `json:"quality"`
+	Regimes  *RegimeChoice        `json:"regime_choice,omitempty"`
 	Timings  map[string]float64   `json:"timings_seconds"`
 	Warnings []string             `json:"warnings"`
+}
+
+// RegimeChoice is how the run reached its number of regimes (K, the
+// runner-up and how close it came, every split tested), with a sentence
+// that says so. Runs that train or update a map record it; assign does
+// not, as its regimes are the model's.
+type RegimeChoice struct {
+	mapper.Choice
+	Note string `json:"note"`
 }
 
 // Counts are the sizes of a run.

@@ -39,7 +39,7 @@ func Train(o Options) (*Result, error) {
 	mc := o.Map
 	mc.Progress = progress(&o)
 	o.logf("training on %d windows × %d features", res.X.RawMatrix().Rows, len(sc.Names))
-	model, asg, err := mapper.Fit(res.X, sc.Names, mc)
+	model, asg, err := mapper.Fit(res.X, sc.Names, RegimeTimelines(res.Table), mc)
 	if err != nil {
 		return nil, err
 	}
@@ -99,7 +99,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 		mc.Regimes = len(prev.Regimes)
 	}
 	mc.Progress = progress(&o)
-	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, mc)
+	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, RegimeTimelines(res.Table), mc)
 	if err != nil {
 		return nil, err
 	}
@@ -264,6 +264,12 @@ func finish(res *Result, sw *stopwatch) {
 		info.Quality = *res.quality
 	}
 	info.Warnings = append(info.Warnings, info.Quality.Warnings...)
+	if c := res.Model.Choice; c != nil && info.Command != "assign" {
+		info.Regimes = regimeChoice(c)
+		if c.Marginal {
+			info.Warnings = append(info.Warnings, info.Regimes.Note)
+		}
+	}
 	var dropped int64
 	for _, n := range res.Ingest.Dropped {
 		dropped += n
@@ -306,4 +312,20 @@ func skipReasons(t *features.Table) string {
 		parts = append(parts, fmt.Sprintf("%d for %s", by[r], r))
 	}
 	return strings.Join(parts, ", ")
+}
+
+// regimeChoice words the choice of the number of regimes, with the option
+// that tries the runner-up when the choice is marginal.
+func regimeChoice(c *mapper.Choice) *RegimeChoice {
+	note := c.String()
+	if c.Marginal {
+		note += fmt.Sprintf(": re-run with --regimes %d to see the other", c.RunnerUp)
+	}
+	return &RegimeChoice{Choice: *c, Note: note}
+}
+
+// RegimeTimelines returns the sites' windows of t in time order and the
+// windows of a week, with which mapper.FindRegimes chooses the regimes.
+func RegimeTimelines(t *features.Table) mapper.Timelines {
+	return mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun()}
 }

@@ -6,7 +6,6 @@ import (
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/scenarios"
-	"github.com/kinmap/kinmap/score"
 )
 
 // trainScenario generates the fleet of spec, writes its long Parquet dump
@@ -39,39 +38,28 @@ func TestGroundTruthPumping(t *testing.T) {
 	if testing.Short() {
 		t.Skip("end-to-end run")
 	}
-	spec, err := scenarios.DefaultSpec("pumping")
-	if err != nil {
-		t.Fatal(err)
+	r := evaluate(t, "pumping", 1)
+	t.Log(r)
+	if r.ari < 0.8 {
+		t.Errorf("adjusted Rand index %.3f, want at least 0.8", r.ari)
 	}
-	fleet, res := trainScenario(t, spec)
+	if p, rec := r.precision(), r.recall(); p < 0.9 || rec < 0.9 {
+		t.Errorf("switch precision %.3f and recall %.3f, want both at least 0.9", p, rec)
+	}
+}
 
-	truth := map[string][]int{}
-	for _, s := range fleet.Sites {
-		truth[s.ID] = s.Regimes
+// The mobile scenario with the defaults finds the
+// true number of regimes, an adjusted Rand index of at least 0.9 and a
+// switch F1 of at least 0.9 within one window. (With the number of regimes
+// chosen by the Davies–Bouldin index it found 2 of 5 regimes and 2 of 11
+// switches.)
+func TestGroundTruthReefers(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end run")
 	}
-	var want, got []int
-	for _, e := range res.Entries {
-		i := int(e.Start.Sub(fleet.WindowStart(0)) / fleet.Window)
-		want = append(want, truth[e.Site][i])
-		got = append(got, e.Regime)
-	}
-	ari := score.ARI(want, got)
-
-	var trueSwitches, found []score.Event
-	for _, sw := range fleet.Switches() {
-		trueSwitches = append(trueSwitches, score.Event{Site: sw.Site, Time: sw.Time})
-	}
-	for _, sw := range res.Switches {
-		found = append(found, score.Event{Site: sw.Site, Time: sw.Time})
-	}
-	m := score.Switches(trueSwitches, found, fleet.Window)
-	matched, precision, recall := m.TP, m.Precision, m.Recall
-	t.Logf("%d windows, %d regimes found (%d planted): ARI %.3f; switches: %d found, %d planted, %d matched: precision %.3f, recall %.3f",
-		len(got), len(res.Model.Regimes), len(fleet.Regimes), ari, len(res.Switches), len(trueSwitches), matched, precision, recall)
-	if ari < 0.8 {
-		t.Errorf("adjusted Rand index %.3f, want at least 0.8", ari)
-	}
-	if precision < 0.9 || recall < 0.9 {
-		t.Errorf("switch precision %.3f and recall %.3f, want both at least 0.9", precision, recall)
+	r := evaluate(t, "reefers", 1)
+	t.Log(r)
+	if r.k != r.trueK || r.ari < 0.9 || r.f1() < 0.9 {
+		t.Errorf("%d regimes (%d planted), ARI %.3f, switch F1 %.3f; want the planted number, at least 0.9 and 0.9", r.k, r.trueK, r.ari, r.f1())
 	}
 }

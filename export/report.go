@@ -229,6 +229,9 @@ func mapFacts(m *mapper.Model) []fact {
 		{"Topographic error", percent1(m.Quality.TE)},
 		{"Units without windows", percent1(m.Quality.Unused)},
 	}
+	if m.Choice != nil {
+		facts = append(facts, fact{"Regimes", m.Choice.String()})
+	}
 	if len(m.Scores) > 0 {
 		parts := make([]string, len(m.Scores))
 		for i, sc := range m.Scores {

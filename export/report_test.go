@@ -305,6 +305,21 @@ func TestReportShowsRegimeScores(t *testing.T) {
 	}
 }
 
+// A model that records how its number of regimes was reached shows it: K,
+// the runner-up and its p-value against the threshold.
+func TestReportShowsRegimeChoice(t *testing.T) {
+	r := fixtureRun()
+	r.Model.Choice = &mapper.Choice{K: 3, Alpha: 1e-4, RunnerUp: 4, RunnerUpP: 3e-4, Marginal: true}
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	doc := html.UnescapeString(string(read(t, dir, ReportFile)))
+	if !strings.Contains(doc, "3 regimes found; runner-up 4") || !strings.Contains(doc, "p = 0.0003") || !strings.Contains(doc, "marginal") {
+		t.Errorf("report lacks the choice of the number of regimes: %q", r.Model.Choice.String())
+	}
+}
+
 // A warning reaches the report once, in the order first given, although
 // the caller passes on the model's and Write's own warnings in r.Warnings,
 // which the report also gathers itself.

@@ -176,3 +176,30 @@ type Scaler struct {
 	Weight  []float64 `json:"weight"`  // per-feature weight applied after scaling
 	Dropped []string  `json:"dropped"` // zero-variance features left out
 }
+
+// WeekRun returns the number of windows that span a week: 7 days over the
+// stride, rounded up, at least 1.
+func (t *Table) WeekRun() int {
+	stride := t.Config.Stride
+	if stride == 0 {
+		stride = t.Config.Window
+	}
+	if stride <= 0 {
+		return 1
+	}
+	week := 7 * 24 * time.Hour
+	return max(1, int((week+stride-1)/stride))
+}
+
+// Sequences returns the windows of every site as indices into t.Windows,
+// in time order: one slice per site, sites in the order of the table.
+func (t *Table) Sequences() [][]int {
+	var seqs [][]int
+	for i, w := range t.Windows {
+		if i == 0 || w.Site != t.Windows[i-1].Site {
+			seqs = append(seqs, nil)
+		}
+		seqs[len(seqs)-1] = append(seqs[len(seqs)-1], i)
+	}
+	return seqs
+}

@@ -56,7 +56,7 @@ func DefaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
 //     the smaller of 1 and Sigma0;
 //   - Eta0 0.5 and EtaEnd Eta0/50 (online rule only, but always filled).
 //
-// Regimes 0 (choose by the Davies–Bouldin index) and Workers 0 (all cores)
+// Regimes 0 (choose the number, see FindRegimes) and Workers 0 (all cores)
 // are kept: they are meaningful as they are.
 func (c Config) WithDefaults(n int, sv1, sv2 float64) Config {
 	if c.Rule == "" {

@@ -8,6 +8,14 @@
 // checksummed file by Write and read back by ReadModel. Update continues a
 // model on a later dump and keeps its regime numbers with MatchRegimes.
 //
+// Regimes are states that sites hold for days. FindRegimes builds Ward's
+// tree of the units, only lattice neighbours merging, and splits it from
+// the top while the decoded segments of the sites (runs of one site in one
+// regime) show two modes along the split (an Anderson–Darling test at
+// level Alpha, as in G-means); Choice records each split, the runner-up
+// number and how close it came. The decoding is the timelines' own
+// (package internal/viterbi, SwitchCostPerQE, DefaultMinDwell).
+//
 // Winners are exact: the matrix product that scores every unit only
 // shortlists candidates, and every near-tie is settled by one fixed
 // distance computation, ties going to the lower unit; the shortcut search
@@ -42,7 +50,7 @@ type Config struct {
 	EtaEnd   float64                     `json:"eta_end"`   // online rule: final learning rate
 	Init     string                      `json:"init"`      // "pca" (default) or "random"
 	Seed     int64                       `json:"seed"`
-	Regimes  int                         `json:"regimes"` // number of regimes; 0 chooses by the Davies–Bouldin index over 2..12
+	Regimes  int                         `json:"regimes"` // number of regimes; 0 chooses it (FindRegimes), at most 12
 	Workers  int                         `json:"-"`       // parallelism; 0 means all cores
 	Progress func(epoch int, qe float64) `json:"-"`       // called after each epoch when set
 }
@@ -100,7 +108,8 @@ type Model struct {
 	Quality       Quality   // on the training windows
 	QEQuantiles   []float64 // training quantization errors at quantiles 0, 0.001, …, 1
 	Windows       int       // training windows
-	Scores        []Score   // Davies–Bouldin index of each number of regimes tried; nil when it was given
+	Choice        *Choice   // how the number of regimes was reached; nil in files before format version 3
+	Scores        []Score   `json:",omitempty"` // files before format version 3: the Davies–Bouldin index of each number of regimes tried
 	// Lineage names the regime numbering: set when a map is trained from
 	// scratch and kept by updates, which keep the numbers. Files written
 	// before it existed have none.

@@ -23,8 +23,17 @@ import (
 
 // FormatVersion is the version of the model file this package writes, and
 // the newest it reads. Version 2 added the lineage, which a version 1 file
-// lacks; it reads as before.
-const FormatVersion = 2
+// lacks; it reads as before. Version 3 records how the number of regimes
+// was reached (Choice) instead of the Davies–Bouldin scores, which older
+// files keep.
+const FormatVersion = 3
+
+// Score is the Davies–Bouldin index of one number of regimes K, as model
+// files before format version 3 recorded it: lower was better.
+type Score struct {
+	K             int     `json:"k"`
+	DaviesBouldin float64 `json:"davies_bouldin"`
+}
 
 // magic starts every model file, followed by a space and the format version.
 const magic = "kinmap-model"
@@ -35,9 +44,11 @@ const qeSteps = 1000
 
 // Fit trains a map on the rows of x, whose columns names names, assigns the
 // windows, measures the quality, finds and describes the regimes, and
-// returns the model with the assignments of x. The caller fills
-// FeatureNames, FeatureConfig and Scaler.
-func Fit(x *mat.Dense, names []string, cfg Config) (*Model, []Assignment, error) {
+// returns the model with the assignments of x. tl holds each site's rows
+// in time order, which FindRegimes decodes; no sequences count every row
+// as a site of its own. The caller fills FeatureNames, FeatureConfig and
+// Scaler.
+func Fit(x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, error) {
 	if err := checkNames(x, names); err != nil {
 		return nil, nil, err
 	}
@@ -46,15 +57,15 @@ func Fit(x *mat.Dense, names []string, cfg Config) (*Model, []Assignment, error)
 		return nil, nil, err
 	}
 	train(m, x, cfg)
-	return finish(m, x, names, cfg)
+	return finish(m, x, names, tl, cfg)
 }
 
 // Update continues training prev's map on x (see TrainFrom), derives the
-// regimes again with cfg.Regimes, and numbers them after prev's regimes
+// regimes again with cfg.Regimes (tl as for Fit), and numbers them after prev's regimes
 // with MatchRegimes. The model returned keeps prev's feature schema,
 // feature settings and scaler; the changes list every renumbering, split
 // and merge.
-func Update(prev *Model, x *mat.Dense, names []string, cfg Config) (*Model, []Assignment, []RegimeChange, error) {
+func Update(prev *Model, x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, []RegimeChange, error) {
 	if err := checkNames(x, names); err != nil {
 		return nil, nil, nil, err
 	}
@@ -62,7 +73,7 @@ func Update(prev *Model, x *mat.Dense, names []string, cfg Config) (*Model, []As
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	next, asg, err := finish(m, x, names, cfg)
+	next, asg, err := finish(m, x, names, tl, cfg)
 	if err != nil {
 		return nil, nil, nil, err
 	}
@@ -90,20 +101,29 @@ func checkNames(x *mat.Dense, names []string) error {
 }
 
 // finish builds the model of a trained map.
-func finish(m *Map, x *mat.Dense, names []string, cfg Config) (*Model, []Assignment, error) {
+func finish(m *Map, x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, error) {
 	asg := m.Assign(x, cfg.Workers)
-	md, err := NewModel(m, x, names, cfg, asg)
+	md, err := NewModel(m, x, names, tl, cfg, asg)
 	return md, asg, err
 }
 
 // NewModel builds the model of a map trained with the complete settings cfg
-// (Config.WithDefaults) on x, whose windows landed at asg: the regimes
-// (FindRegimes weighted by the hits of asg, then Describe), the quality and
+// (Config.WithDefaults) on x, whose windows landed at asg and whose sites'
+// windows in time order tl holds (no sequences: every window a site of its
+// own):
+// the regimes (FindRegimes on those windows, then Describe), the quality and
 // the quantiles of the training quantization errors. Fit and Update call
 // it after their epochs; a runner that trains the map elsewhere calls it
 // too. The caller fills FeatureNames, FeatureConfig and Scaler.
-func NewModel(m *Map, x *mat.Dense, names []string, cfg Config, asg []Assignment) (*Model, error) {
-	groups, scores, err := FindRegimes(m, cfg.Regimes, m.Hits(asg))
+func NewModel(m *Map, x *mat.Dense, names []string, tl Timelines, cfg Config, asg []Assignment) (*Model, error) {
+	if tl.Sequences == nil {
+		n, _ := x.Dims()
+		tl.Sequences = make([][]int, n)
+		for i := range tl.Sequences {
+			tl.Sequences[i] = []int{i}
+		}
+	}
+	groups, choice, err := FindRegimes(m, cfg.Regimes, &Windows{X: x, Assignments: asg, Timelines: tl})
 	if err != nil {
 		return nil, err
 	}
@@ -125,7 +145,7 @@ func NewModel(m *Map, x *mat.Dense, names []string, cfg Config, asg []Assignment
 		Quality:     m.Quality(asg),
 		QEQuantiles: qeQuantiles(asg),
 		Windows:     len(asg),
-		Scores:      scores,
+		Choice:      choice,
 	}, nil
 }
 

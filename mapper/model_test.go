@@ -26,7 +26,7 @@ func fitted(t *testing.T) (*Model, *mat.Dense, []Assignment) {
 	t.Helper()
 	x, _ := clusterData(600, 4, 3, 6, 0.5, 31)
 	names := []string{"flow.mean", "flow.p95", "vibration.mean", "vibration.p95"}
-	mdl, asg, err := Fit(x, names, Config{Cols: 8, Rows: 6, Epochs: 6, Regimes: 3})
+	mdl, asg, err := Fit(x, names, Timelines{}, Config{Cols: 8, Rows: 6, Epochs: 6, Regimes: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -84,7 +84,7 @@ func TestFit(t *testing.T) {
 	if again := back.Map.Assign(x, 1); !slices.Equal(again, asg) {
 		t.Error("the model read back assigns the training windows differently")
 	}
-	if _, _, err := Fit(x, []string{"a"}, Config{}); err == nil || !strings.Contains(err.Error(), "1 feature names for 4 columns") {
+	if _, _, err := Fit(x, []string{"a"}, Timelines{}, Config{}); err == nil || !strings.Contains(err.Error(), "1 feature names for 4 columns") {
 		t.Errorf("wrong names: %v", err)
 	}
 }
@@ -317,7 +317,7 @@ func TestUpdateKeepsNumbers(t *testing.T) {
 			week2.Set(i, j, x.At(i, j)+0.05*rng.NormFloat64())
 		}
 	}
-	next, asg, changes, err := Update(mdl, week2, []string{"flow.mean", "flow.p95", "vibration.mean", "vibration.p95"}, Config{Epochs: 3, Regimes: 3})
+	next, asg, changes, err := Update(mdl, week2, []string{"flow.mean", "flow.p95", "vibration.mean", "vibration.p95"}, Timelines{}, Config{Epochs: 3, Regimes: 3})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -13,67 +13,123 @@ import (
 	"gonum.org/v1/gonum/stat"
 )
 
-// Regime counts tried when FindRegimes chooses one.
-const (
-	minAutoRegimes = 2
-	maxAutoRegimes = 12
-)
+// maxAutoRegimes is the most regimes FindRegimes chooses by itself.
+const maxAutoRegimes = 12
 
 // maxTraits is the number of traits Describe keeps for a regime.
 const maxTraits = 3
 
+// Windows are the training windows as FindRegimes needs them to choose the
+// regimes: their scaled features (one row per window), where each landed on
+// the map, and the sites' timelines.
+type Windows struct {
+	X           *mat.Dense
+	Assignments []Assignment
+	Timelines
+}
+
+// Timelines are each site's windows in time order, as indices into the
+// rows of the training windows, and the number of windows a decoded
+// segment must span to stand for a state (MinRun; 0 or 1: every segment).
+// A segment shorter than MinRun counts only when it is the site's whole
+// sequence. With daily windows MinRun is 7: a week, the period of the
+// calendar, so that weekly cycles and passing weather average out within
+// every segment that is tested.
+type Timelines struct {
+	Sequences [][]int
+	MinRun    int
+}
+
 // FindRegimes groups the units of m into k regimes, returning the group
-// (0 … k−1) of every unit, groups numbered in order of their lowest unit.
-// It clusters the codebook by Ward's minimum-variance criterion (J. H. Ward,
-// "Hierarchical grouping to optimize an objective function", JASA 58, 1963),
-// merging only groups that are adjacent on the lattice, so that every
-// regime is a connected area of the map. With k = 0 it chooses k over 2 …
-// 12 by the lowest Davies–Bouldin index (D. L. Davies and D. W. Bouldin,
-// "A cluster separation measure", IEEE PAMI 1(2), 1979), the smaller k on a
-// tie, and returns the index of every k tried. The index favours few,
-// well-separated groups; the scores let a user see how close other
-// choices came.
+// (0 … K−1) of every unit, groups numbered in order of their lowest unit,
+// and how K was reached.
 //
-// hits, when not nil, holds the windows each unit won (Map.Hits) and weighs
-// every unit by them: Ward's criterion and the Davies–Bouldin index then
-// measure the windows, each stood for by its BMU's codebook vector, rather
-// than the units. Units that won nothing weigh nothing and join a
-// neighbour at no cost, so the units a map spreads between clusters of
-// data do not blur the regimes. With nil hits every unit weighs one.
-func FindRegimes(m *Map, k int, hits []int) ([]int, []Score, error) {
+// The units are first agglomerated by Ward's minimum-variance criterion
+// (J. H. Ward, "Hierarchical grouping to optimize an objective function",
+// JASA 58, 1963), merging only groups that are adjacent on the lattice, so
+// that every regime is a connected area of the map. With win, each unit
+// weighs the windows it won, and Ward's criterion measures the windows,
+// each stood for by its BMU's codebook vector; units that won nothing
+// weigh nothing and join a neighbour at no cost. Without win every unit
+// weighs one.
+//
+// The regimes are then found from the top of that tree down, one split at
+// a time, with the site timelines in the loop: a regime is a state that a
+// site holds for days. The windows of every site are decoded against the
+// current regimes as the timelines are (Euclidean distances to the
+// centroids, a switch cost of SwitchCostPerQE median quantization errors
+// and a dwell of DefaultMinDwell windows, by the shared Viterbi decoder),
+// and each decoded segment — a run of one site in one regime, at least
+// MinRun windows long — counts as one observation, its mean window. A regime's split into the two groups
+// Ward joined last in it is tested as in G-means (G. Hamerly and C. Elkan,
+// "Learning the k in k-means", NIPS 16, 2003): the segment means are
+// projected on the line between the two groups' centroids and the
+// Anderson–Darling test asks whether the projections could come from one
+// normal distribution. Windows that vary from day to day around one state
+// (weather, noise, a slow drift) average out within a segment and leave
+// one mode; sites that hold two different states leave two. The segments,
+// not the windows, are the sample, since the windows of one site in one
+// state are far from independent.
+//
+// The most significant split is made first, and the segments decoded
+// again. With k = 0, splitting stops when no split is significant at
+// level Alpha (or at 12 regimes), so a homogeneous fleet keeps one
+// regime; with k > 0 it goes on to k regimes, the most significant split
+// first. A regime with fewer than minSegments segments cannot be tested
+// and is split only to reach a given k, in Ward's order (the last merge
+// first), which is all there is without win: FindRegimes(m, k, nil) cuts
+// Ward's tree at k groups.
+func FindRegimes(m *Map, k int, win *Windows) ([]int, *Choice, error) {
 	u := m.Units()
 	switch {
 	case k < 0 || k > u:
 		return nil, nil, fmt.Errorf("mapper: %d regimes asked of a map of %d units", k, u)
-	case k == 0 && u < minAutoRegimes:
-		return nil, nil, fmt.Errorf("mapper: choosing the number of regimes needs at least %d units, the map has %d", minAutoRegimes, u)
-	case hits != nil && len(hits) != u:
-		return nil, nil, fmt.Errorf("mapper: %d hit counts for a map of %d units", len(hits), u)
+	case k == 0 && win == nil:
+		return nil, nil, fmt.Errorf("mapper: choosing the number of regimes needs the training windows")
+	}
+	var hits []int
+	if win != nil {
+		if err := win.check(m); err != nil {
+			return nil, nil, err
+		}
+		hits = m.Hits(win.Assignments)
 	}
 	w := unitWeights(u, hits)
-	tree := wardTree(m, w)
-	if k > 0 {
-		return cutTree(tree, u, k), nil, nil
+	s := &splitter{m: m, w: w, tree: wardTree(m, w), win: win}
+	if win != nil {
+		s.switchCost = SwitchCostPerQE * medianQE(win.Assignments)
 	}
-	var best []int
-	var scores []Score
-	bestDB := math.Inf(1)
-	for c := minAutoRegimes; c <= min(maxAutoRegimes, u); c++ {
-		g := cutTree(tree, u, c)
-		db := daviesBouldin(m, g, w)
-		scores = append(scores, Score{K: c, DaviesBouldin: db})
-		if best == nil || db < bestDB {
-			best, bestDB = g, db
-		}
-	}
-	return best, scores, nil
+	return s.run(k)
 }
 
-// Score is the Davies–Bouldin index of one number of regimes K, as
-// FindRegimes weighed it when choosing K: lower is better.
-type Score struct {
-	K             int     `json:"k"`
-	DaviesBouldin float64 `json:"davies_bouldin"`
+// check reports windows that do not fit m.
+func (win *Windows) check(m *Map) error {
+	if win.X == nil {
+		return fmt.Errorf("mapper: no windows to find regimes on")
+	}
+	n, d := win.X.Dims()
+	switch {
+	case d != m.Dim:
+		return fmt.Errorf("mapper: windows of %d features for a map of dimension %d", d, m.Dim)
+	case len(win.Assignments) != n:
+		return fmt.Errorf("mapper: %d assignments for %d windows", len(win.Assignments), n)
+	}
+	seen := make([]bool, n)
+	for _, seq := range win.Sequences {
+		for _, i := range seq {
+			if i < 0 || i >= n || seen[i] {
+				return fmt.Errorf("mapper: window %d is outside the %d windows or in two sequences", i, n)
+			}
+			seen[i] = true
+		}
+	}
+	return nil
+}
+
+// medianQE is the median quantization error of asg.
+func medianQE(asg []Assignment) float64 {
+	q := qeQuantiles(asg)
+	return q[len(q)/2]
 }
 
 // merge is one step of the agglomeration: clusters a and b, numbered as
@@ -195,36 +251,6 @@ func (h *edgeHeap) Pop() any {
 	return x
 }
 
-// cutTree applies the first units−k merges of tree and returns the group of
-// every unit, groups numbered in order of their lowest unit.
-func cutTree(tree []merge, units, k int) []int {
-	parent := make([]int, units)
-	for i := range parent {
-		parent[i] = i
-	}
-	var find func(int) int
-	find = func(i int) int {
-		for parent[i] != i {
-			parent[i] = parent[parent[i]]
-			i = parent[i]
-		}
-		return i
-	}
-	rep := make([]int, units, units+len(tree)) // a unit of each cluster
-	for i := range rep {
-		rep[i] = i
-	}
-	for s, mg := range tree {
-		if s >= units-k {
-			break
-		}
-		ra, rb := find(rep[mg.a]), find(rep[mg.b])
-		parent[max(ra, rb)] = min(ra, rb)
-		rep = append(rep, min(ra, rb))
-	}
-	return numberGroups(units, find)
-}
-
 // numberGroups labels units by their root, in order of the lowest unit.
 func numberGroups(units int, root func(int) int) []int {
 	label := make(map[int]int)
@@ -239,37 +265,6 @@ func numberGroups(units int, root func(int) int) []int {
 		g[i] = l
 	}
 	return g
-}
-
-// daviesBouldin returns the Davies–Bouldin index of the grouping of the
-// codebook vectors weighted by w: the mean over groups of the largest
-// (S_i + S_j)/M_ij, with S the weighted mean Euclidean distance of a group's
-// vectors to its weighted centroid and M the distance between centroids
-// (the paper's q = 1, p = 2). Groups of weight zero stand for no window and
-// take no part.
-func daviesBouldin(m *Map, groups []int, w []float64) float64 {
-	k := slices.Max(groups) + 1
-	cent, weight := groupMeans(m, groups, k, w)
-	scatter := make([]float64, k)
-	for u, g := range groups {
-		scatter[g] += w[u] * math.Sqrt(sqdist(m.Vector(u), cent[g]))
-	}
-	var db float64
-	used := 0
-	for i := range k {
-		if weight[i] == 0 {
-			continue
-		}
-		used++
-		worst := 0.0
-		for j := range k {
-			if j != i && weight[j] > 0 {
-				worst = math.Max(worst, (scatter[i]/weight[i]+scatter[j]/weight[j])/math.Sqrt(sqdist(cent[i], cent[j])))
-			}
-		}
-		db += worst
-	}
-	return db / float64(used)
 }
 
 // groupMeans returns the mean codebook vector of every group weighted by w,

@@ -160,65 +160,15 @@ func TestRegimesConnected(t *testing.T) {
 	}
 }
 
-// The Davies–Bouldin index by hand from its definition (D. L. Davies and
-// D. W. Bouldin, IEEE PAMI 1(2), 1979), with S the mean distance to the
-// centroid and M the distance between centroids.
-func TestDaviesBouldinByHand(t *testing.T) {
-	// Groups {0, 2} and {10, 14}: centroids 1 and 12, S = 1 and 2, M = 11,
-	// so R = 3/11 for both and the index is 3/11.
-	if got := daviesBouldin(chainMap(0, 2, 10, 14), []int{0, 0, 1, 1}, unitWeights(4, nil)); math.Abs(got-3.0/11) > 1e-15 {
-		t.Errorf("two groups: %g, want 3/11", got)
-	}
-	// Adding {30, 31} (centroid 30.5, S = 0.5): R12 = 3/11, R13 = 1.5/29.5,
-	// R23 = 2.5/18.5, so the worst ratios are 3/11, 3/11 and 2.5/18.5.
-	want := (3.0/11 + 3.0/11 + 2.5/18.5) / 3
-	if got := daviesBouldin(chainMap(0, 2, 10, 14, 30, 31), []int{0, 0, 1, 1, 2, 2}, unitWeights(6, nil)); math.Abs(got-want) > 1e-15 {
-		t.Errorf("three groups: %g, want %g", got, want)
-	}
-}
-
 // Weighted by hits, by hand from the same definitions. Ward on the chain
 // 0, 1, 5 with hits 2, 1, 0: the unused unit joins its neighbour at no
 // cost, keeping the mean 1; then {0} (weight 2) and {1, 5} (weight 1) merge
 // at 2·1/3·1² = 2/3, the weighted sum of squares about the weighted mean
-// 1/3. Davies–Bouldin on 0, 2, 10, 14 with hits 1, 3, 2, 0 and groups
-// {0, 2}, {10, 14}: centroids 1.5 and 10, S = (1.5 + 3·0.5)/4 = 0.75 and 0,
-// M = 8.5, so the index is 0.75/8.5.
+// 1/3.
 func TestWeightedByHand(t *testing.T) {
 	tree := wardTree(chainMap(0, 1, 5), unitWeights(3, []int{2, 1, 0}))
 	if len(tree) != 2 || tree[0].cost != 0 || math.Abs(tree[1].cost-2.0/3) > 1e-15 || tree[0].a != 1 || tree[0].b != 2 {
 		t.Errorf("weighted Ward merges %+v, want {1 2 0} then a merge costing 2/3", tree)
-	}
-	got := daviesBouldin(chainMap(0, 2, 10, 14), []int{0, 0, 1, 1}, unitWeights(4, []int{1, 3, 2, 0}))
-	if math.Abs(got-0.75/8.5) > 1e-15 {
-		t.Errorf("weighted Davies–Bouldin %g, want 0.75/8.5", got)
-	}
-}
-
-// With k = 0, three well-separated groups of units give three regimes.
-func TestFindRegimesChoosesK(t *testing.T) {
-	rng := testRand(4)
-	values := make([]float64, 18)
-	for i := range values {
-		values[i] = float64(i/6)*100 + rng.Float64()
-	}
-	m := &Map{Lattice: Lattice{Cols: 6, Rows: 3}, Dim: 1, Codebook: values}
-	groups, scores, err := FindRegimes(m, 0, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	// One score for each K tried, 2 … 12, the chosen K the lowest.
-	if len(scores) != 11 || scores[0].K != 2 || scores[10].K != 12 {
-		t.Errorf("scores %+v, want one for each K of 2 … 12", scores)
-	}
-	for _, sc := range scores {
-		if sc.K != 3 && sc.DaviesBouldin <= scores[1].DaviesBouldin {
-			t.Errorf("K = %d scores %g, not above the chosen K = 3's %g", sc.K, sc.DaviesBouldin, scores[1].DaviesBouldin)
-		}
-	}
-	want := []int{0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 1, 1, 2, 2, 2, 2, 2, 2}
-	if !slices.Equal(groups, want) {
-		t.Errorf("%v, want the three rows %v", groups, want)
 	}
 }
 

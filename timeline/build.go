@@ -10,12 +10,9 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/viterbi"
 	"github.com/kinmap/kinmap/mapper"
 )
-
-// switchCostPerQE is the automatic switch cost in median training
-// quantization errors; see Config.SwitchCost.
-const switchCostPerQE = 2
 
 // Build places every window of t on the map and decodes each site's windows,
 // in time order, into regime segments: the cost of a window in a regime is
@@ -103,12 +100,12 @@ func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.As
 			}
 		}
 		from, initial := startOf(m, priors, site, cfg.SwitchCost)
-		path, total := decode(costs, cfg.SwitchCost, initial, cfg.MinDwell, from)
+		path, total := viterbi.Decode(costs, cfg.SwitchCost, initial, cfg.MinDwell, from)
 		for j, i := range idx {
 			entries[i].Regime = m.Regimes[path[j]].ID
 		}
 		for _, sw := range segmentSwitches(costs, cfg.SwitchCost, initial, from, path, total) {
-			before := from.state
+			before := from.State
 			if sw.at > 0 {
 				before = path[sw.at-1]
 			}
@@ -131,14 +128,14 @@ func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.As
 
 // startOf returns the decoding start of a site from its prior, and the
 // initial costs that go with it; none when it has no usable prior.
-func startOf(m *mapper.Model, priors map[string]Prior, site string, switchCost float64) (start, []float64) {
+func startOf(m *mapper.Model, priors map[string]Prior, site string, switchCost float64) (viterbi.Start, []float64) {
 	p, ok := priors[site]
 	if !ok || p.Windows < 1 {
-		return noStart, nil
+		return viterbi.NoStart, nil
 	}
 	k := slices.IndexFunc(m.Regimes, func(r mapper.Regime) bool { return r.ID == p.Regime })
 	if k < 0 {
-		return noStart, nil
+		return viterbi.NoStart, nil
 	}
 	initial := make([]float64, len(m.Regimes))
 	for j := range initial {
@@ -146,7 +143,7 @@ func startOf(m *mapper.Model, priors map[string]Prior, site string, switchCost f
 			initial[j] = switchCost
 		}
 	}
-	return start{state: k, dwell: p.Windows}, initial
+	return viterbi.Start{State: k, Dwell: p.Windows}, initial
 }
 
 // Validate reports whether the settings can be used; zero fields are
@@ -183,7 +180,7 @@ func resolve(cfg Config, m *mapper.Model) (Config, error) {
 		if !(median > 0) || math.IsInf(median, 0) {
 			return cfg, fmt.Errorf("timeline: median training quantization error %g: cannot set the switch cost from it; set it explicitly", median)
 		}
-		cfg.SwitchCost = switchCostPerQE * median
+		cfg.SwitchCost = mapper.SwitchCostPerQE * median
 	}
 	return cfg, nil
 }
@@ -210,7 +207,7 @@ type boundary struct {
 
 // segmentSwitches lists the changes of state of path, whose cost is total,
 // with their confidence (see Build and BuildFrom).
-func segmentSwitches(costs [][]float64, switchCost float64, initial []float64, from start, path []int, total float64) []boundary {
+func segmentSwitches(costs [][]float64, switchCost float64, initial []float64, from viterbi.Start, path []int, total float64) []boundary {
 	var starts []int // start of each segment, then len(path)
 	for t := range path {
 		if t == 0 || path[t] != path[t-1] {
@@ -220,26 +217,26 @@ func segmentSwitches(costs [][]float64, switchCost float64, initial []float64, f
 	starts = append(starts, len(path))
 	var out []boundary
 	alt := make([]int, len(path))
-	if from.state >= 0 && path[0] != from.state {
+	if from.State >= 0 && path[0] != from.State {
 		// A switch from the prior state at the first window: the history
 		// cannot be changed, so the only alternative keeps the prior.
-		fill(alt, from.state)
+		fill(alt, from.State)
 		copy(alt[starts[1]:], path[starts[1]:])
-		delta := max(pathCost(costs, switchCost, initial, alt)-total, 0)
-		out = append(out, boundary{at: 0, before: from.dwell, after: starts[1], confidence: delta / (delta + switchCost)})
+		delta := max(viterbi.Cost(costs, switchCost, initial, alt)-total, 0)
+		out = append(out, boundary{at: 0, before: from.Dwell, after: starts[1], confidence: delta / (delta + switchCost)})
 	}
 	for i := 1; i+1 < len(starts); i++ {
 		prev, at, next := starts[i-1], starts[i], starts[i+1]
 		before := at - prev
-		if prev == 0 && path[0] == from.state {
-			before += from.dwell
+		if prev == 0 && path[0] == from.State {
+			before += from.Dwell
 		}
 		copy(alt, path)
 		fill(alt[at:next], path[at-1])
-		keepOld := pathCost(costs, switchCost, initial, alt)
+		keepOld := viterbi.Cost(costs, switchCost, initial, alt)
 		copy(alt, path)
 		fill(alt[prev:at], path[at])
-		keepNew := pathCost(costs, switchCost, initial, alt)
+		keepNew := viterbi.Cost(costs, switchCost, initial, alt)
 		delta := max(min(keepOld, keepNew)-total, 0)
 		out = append(out, boundary{at: at, before: before, after: next - at, confidence: delta / (delta + switchCost)})
 	}

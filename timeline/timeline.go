@@ -2,7 +2,11 @@
 // segments and switch events, and flags unfamiliar windows.
 package timeline
 
-import "time"
+import (
+	"time"
+
+	"github.com/kinmap/kinmap/mapper"
+)
 
 // Entry is one window of one site on the map.
 type Entry struct {
@@ -64,5 +68,5 @@ type Config struct {
 // DefaultConfig returns the defaults: an automatic switch cost, a dwell of
 // at least 2 windows and the 99th percentile for unfamiliar windows.
 func DefaultConfig() Config {
-	return Config{MinDwell: 2, UnfamiliarQ: 0.99}
+	return Config{MinDwell: mapper.DefaultMinDwell, UnfamiliarQ: 0.99}
 }

@@ -181,7 +181,7 @@ func (r *run) train(ctx context.Context) error {
 	if res.Assignments, err = r.assign(ctx, m, shard); err != nil {
 		return err
 	}
-	if res.Model, err = mapper.NewModel(m, res.X, sc.Names, cfg, res.Assignments); err != nil {
+	if res.Model, err = mapper.NewModel(m, res.X, sc.Names, kinmap.RegimeTimelines(res.Table), cfg, res.Assignments); err != nil {
 		return err
 	}
 	res.Model.FeatureNames = res.Table.Names

@@ -83,7 +83,7 @@ func (f *Flags) Map(o *kinmap.Options, training bool) {
 		f.Value(choiceValue{&o.Map.Rule, []string{"batch", "online"}}, "rule", "training `RULE`: batch or online")
 		f.Value(choiceValue{&o.Map.Init, []string{"pca", "random"}}, "init", "initialisation `METHOD`: pca (first two principal components) or random (data samples)")
 		f.Num(&o.Map.Eta0, "eta0", o.Map.Eta0, "online rule: initial learning `RATE` in (0, 1]")
-		f.Int(&o.Map.Regimes, "regimes", 0, "number of regimes `K`; 0 chooses by the Davies–Bouldin index over 2..12")
+		f.Int(&o.Map.Regimes, "regimes", 0, "number of regimes `K`; 0 chooses it from the site timelines, at most 12")
 	} else {
 		f.Int(&o.Map.Regimes, "regimes", 0, "number of regimes `K`; 0 keeps the model's number")
 	}

@@ -1,0 +1,31 @@
+package kinmap
+
+import (
+	"strings"
+	"testing"
+
+	"github.com/kinmap/kinmap/mapper"
+)
+
+// A marginal choice names the option that tries the runner-up; a clear
+// one and a given K do not.
+func TestRegimeChoiceNote(t *testing.T) {
+	tests := []struct {
+		c    mapper.Choice
+		want string
+		not  string
+	}{
+		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 6, RunnerUpP: 4e-4, Marginal: true}, "re-run with --regimes 6 to see the other", ""},
+		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 4, RunnerUpP: 1e-20}, "a clear choice", "--regimes"},
+		{mapper.Choice{K: 3, Given: true}, "3 regimes, as set", "--regimes"},
+	}
+	for _, tt := range tests {
+		got := regimeChoice(&tt.c)
+		if !strings.Contains(got.Note, tt.want) || tt.not != "" && strings.Contains(got.Note, tt.not) {
+			t.Errorf("%+v: note %q, want %q without %q", tt.c, got.Note, tt.want, tt.not)
+		}
+		if got.K != tt.c.K || got.RunnerUp != tt.c.RunnerUp {
+			t.Errorf("%+v: recorded %+v", tt.c, got.Choice)
+		}
+	}
+}

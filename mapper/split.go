@@ -1,0 +1,315 @@
+package mapper
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/kinmap/kinmap/internal/viterbi"
+)
+
+// Decoding settings with which FindRegimes reads the site timelines: those
+// of the timeline package's defaults, so that the regimes are chosen on
+// the decoding that the timelines will show.
+const (
+	// SwitchCostPerQE is the cost of a change of regime in median
+	// quantization errors of the training windows.
+	SwitchCostPerQE = 2
+	// DefaultMinDwell is the least number of windows a site spends in a
+	// regime on each side of a switch.
+	DefaultMinDwell = 2
+)
+
+// Alpha is the significance level at which FindRegimes makes a split: the
+// level G-means uses (Hamerly and Elkan 2003). A strict level suits a test
+// made many times, on the regimes of every step.
+const Alpha = 1e-4
+
+// Choice records how FindRegimes reached the number of regimes K: every
+// split it made, and the best split it turned down, with the test of each.
+// It goes into the model and run.json.
+type Choice struct {
+	K      int     `json:"k"`      // regimes found
+	Given  bool    `json:"given"`  // K was asked for, not chosen
+	Alpha  float64 `json:"alpha"`  // significance level of a split
+	Splits []Split `json:"splits"` // in the order made; a last one not made, when one was tested
+
+	// RunnerUp is the other number of regimes that came closest, K−1
+	// (undo the weakest split made) or K+1 (make the strongest split
+	// turned down), and RunnerUpP the p-value of that split; 0 when K was
+	// given or there is none.
+	RunnerUp  int     `json:"runner_up,omitempty"`
+	RunnerUpP float64 `json:"runner_up_p,omitempty"`
+	// Marginal is set when the runner-up's p-value lies within a factor of
+	// ten of Alpha, either side: the data barely tell the two apart.
+	Marginal bool `json:"marginal"`
+}
+
+// Split is one split of a regime in two, tested on the decoded segments
+// of its sites.
+type Split struct {
+	K         int     `json:"k"`         // regimes after the split
+	Segments  int     `json:"segments"`  // decoded segments tested; 0 when too few to test
+	Statistic float64 `json:"statistic"` // Anderson–Darling A*² of their projections
+	P         float64 `json:"p"`         // its p-value; 1 when not tested
+	Made      bool    `json:"made"`
+}
+
+// splitter divides Ward's tree of the units from the top down.
+type splitter struct {
+	m          *Map
+	w          []float64 // unit weights
+	tree       []merge
+	win        *Windows // nil: Ward's order only
+	switchCost float64
+}
+
+// candidate is the test of splitting one regime of the current partition.
+type candidate struct {
+	at       int // index in the partition
+	segments int
+	stat, p  float64
+}
+
+// run splits from the root until k groups (k > 0) or while a split is
+// significant (k = 0).
+func (s *splitter) run(k int) ([]int, *Choice, error) {
+	u := s.m.Units()
+	parts := []int{u + len(s.tree) - 1} // tree nodes; the root
+	ch := &Choice{Given: k > 0, Alpha: Alpha}
+	limit := k
+	if k == 0 {
+		limit = min(maxAutoRegimes, u)
+	}
+	for len(parts) < limit {
+		best, ok := s.best(parts)
+		if !ok {
+			break // only single units are left
+		}
+		made := k > 0 || best.p < Alpha
+		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Made: made})
+		if !made {
+			break
+		}
+		mg := s.tree[parts[best.at]-u]
+		parts = append(parts[:best.at], append([]int{mg.a, mg.b}, parts[best.at+1:]...)...)
+	}
+	ch.K = len(parts)
+	if k == 0 {
+		ch.runnerUp()
+	}
+	root := make([]int, u)
+	for i, p := range parts {
+		s.eachUnit(p, func(unit int) { root[unit] = i })
+	}
+	return numberGroups(u, func(unit int) int { return root[unit] }), ch, nil
+}
+
+// runnerUp sets the runner-up: the weakest split made or the strongest
+// turned down, whichever p-value lies closer to Alpha on a log scale.
+func (ch *Choice) runnerUp() {
+	closeness := func(p float64) float64 { return math.Abs(math.Log10(math.Max(p, 1e-300) / ch.Alpha)) }
+	best := math.Inf(1)
+	for _, sp := range ch.Splits {
+		if sp.Segments == 0 {
+			continue
+		}
+		if c := closeness(sp.P); c < best {
+			best, ch.RunnerUpP = c, sp.P
+			ch.RunnerUp = sp.K
+			if sp.Made {
+				ch.RunnerUp = sp.K - 1
+			}
+		}
+	}
+	ch.Marginal = best <= 1
+}
+
+// best returns the split to make next in the partition parts: the most
+// significant one, or, when none can be tested, the one Ward made last.
+// It reports false when no group has two parts.
+func (s *splitter) best(parts []int) (candidate, bool) {
+	u := s.m.Units()
+	var tested []candidate
+	if s.win != nil {
+		tested = s.test(parts)
+	}
+	var out candidate
+	found := false
+	for _, c := range tested {
+		if c.segments > 0 && (!found || c.p < out.p || c.p == out.p && c.stat > out.stat) {
+			out, found = c, true
+		}
+	}
+	if found {
+		return out, true
+	}
+	last := -1
+	for i, p := range parts {
+		if p >= u && (last < 0 || p > parts[last]) {
+			last = i
+		}
+	}
+	return candidate{at: last, p: 1}, last >= 0
+}
+
+// test decodes the site sequences against the groups of parts and tests
+// the split of every group that has two parts, both of which won windows.
+func (s *splitter) test(parts []int) []candidate {
+	u, d := s.m.Units(), s.m.Dim
+	cents := make([][]float64, len(parts))
+	for i, p := range parts {
+		cents[i], _ = s.centroid(p)
+	}
+	segs := s.segments(cents)
+	var out []candidate
+	for i, p := range parts {
+		if p < u {
+			continue
+		}
+		mg := s.tree[p-u]
+		ca, wa := s.centroid(mg.a)
+		cb, wb := s.centroid(mg.b)
+		if wa == 0 || wb == 0 {
+			continue // a group that won nothing is no regime
+		}
+		dir := make([]float64, d)
+		for j := range dir {
+			dir[j] = ca[j] - cb[j]
+		}
+		var proj []float64
+		for _, sg := range segs {
+			if sg.regime == i {
+				proj = append(proj, dot(dir, sg.mean))
+			}
+		}
+		c := candidate{at: i, p: 1}
+		if len(proj) >= minSegments {
+			c.segments, c.stat = len(proj), andersonDarling(proj)
+			c.p = normalP(c.stat)
+		}
+		out = append(out, c)
+	}
+	return out
+}
+
+// segment is a run of one site's windows decoded in one regime.
+type segment struct {
+	regime int
+	mean   []float64
+}
+
+// segments decodes every site sequence against the centroids and returns
+// its segments.
+func (s *splitter) segments(cents [][]float64) []segment {
+	x := s.win.X
+	_, d := x.Dims()
+	var out []segment
+	var costs [][]float64
+	for _, seq := range s.win.Sequences {
+		costs = costs[:0]
+		for _, i := range seq {
+			row := make([]float64, len(cents))
+			for k, c := range cents {
+				row[k] = math.Sqrt(sqdist(x.RawRowView(i), c))
+			}
+			costs = append(costs, row)
+		}
+		path, _ := viterbi.Decode(costs, s.switchCost, nil, DefaultMinDwell, viterbi.NoStart)
+		start := 0
+		for t := 1; t <= len(path); t++ {
+			if t < len(path) && path[t] == path[start] {
+				continue
+			}
+			if t-start < s.win.MinRun && (start > 0 || t < len(path)) {
+				start = t
+				continue // too short to stand for a state
+			}
+			mean := make([]float64, d)
+			for _, i := range seq[start:t] {
+				for j, v := range x.RawRowView(i) {
+					mean[j] += v
+				}
+			}
+			for j := range mean {
+				mean[j] /= float64(t - start)
+			}
+			out = append(out, segment{regime: path[start], mean: mean})
+			start = t
+		}
+	}
+	return out
+}
+
+// centroid returns the weighted mean codebook vector of the units of tree
+// node p (a unit, or U+s for the cluster of merge s) and their weight; the
+// plain mean when they weigh nothing.
+func (s *splitter) centroid(p int) ([]float64, float64) {
+	c := make([]float64, s.m.Dim)
+	var weight, count float64
+	s.eachUnit(p, func(unit int) {
+		weight += s.w[unit]
+		count++
+	})
+	s.eachUnit(p, func(unit int) {
+		f := 1 / count
+		if weight > 0 {
+			f = s.w[unit] / weight
+		}
+		for j, v := range s.m.Vector(unit) {
+			c[j] += f * v
+		}
+	})
+	return c, weight
+}
+
+// eachUnit calls fn for every unit under tree node p.
+func (s *splitter) eachUnit(p int, fn func(int)) {
+	stack := []int{p}
+	u := s.m.Units()
+	for len(stack) > 0 {
+		q := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
+		if q < u {
+			fn(q)
+			continue
+		}
+		mg := s.tree[q-u]
+		stack = append(stack, mg.b, mg.a)
+	}
+}
+
+func dot(a, b []float64) float64 {
+	var s float64
+	for i, v := range a {
+		s += v * b[i]
+	}
+	return s
+}
+
+// String says in words how K was reached, for people: the number given,
+// or the number chosen with its runner-up and how close it came.
+func (c *Choice) String() string {
+	if c.Given {
+		return fmt.Sprintf("%d regimes, as set", c.K)
+	}
+	s := fmt.Sprintf("%d %s found", c.K, plural(c.K, "regime", "regimes"))
+	if c.RunnerUp == 0 {
+		return s + "; no other number could be tested"
+	}
+	verb := "undoes"
+	if c.RunnerUp > c.K {
+		verb = "makes"
+	}
+	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g, and a split is made below p = %g", c.RunnerUp, verb, c.RunnerUpP, c.Alpha)
+	if c.Marginal {
+		return s + ", so the choice is marginal"
+	}
+	return s + ", a clear choice"
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}

@@ -1,0 +1,207 @@
+package mapper
+
+import (
+	"math"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// fleetSpec describes an invented fleet of sites observed daily: each site
+// holds a state (a centre in feature space) that may change, has its own
+// constant offset, and every window also carries the fleet's shared
+// weather (an AR(1) process over the days, the same for every site) and
+// noise of its own.
+type fleetSpec struct {
+	sites, days int
+	centres     [][]float64
+	state       func(site, day int) int
+	siteSD      float64 // spread of the site offsets
+	weatherSD   float64 // stationary spread of the shared weather, along every feature
+	noiseSD     float64
+}
+
+// fleet draws the windows of spec: the scaled rows, each site's rows in
+// time order, and the true state of every row.
+func (spec fleetSpec) fleet(seed uint64) (*mat.Dense, [][]int, []int) {
+	rng := testRand(seed)
+	d := len(spec.centres[0])
+	weather := make([]float64, spec.days)
+	const phi = 0.8 // day-to-day persistence of the weather
+	w := rng.NormFloat64() * spec.weatherSD
+	for t := range weather {
+		weather[t] = w
+		w = phi*w + math.Sqrt(1-phi*phi)*spec.weatherSD*rng.NormFloat64()
+	}
+	x := mat.NewDense(spec.sites*spec.days, d, nil)
+	seqs := make([][]int, spec.sites)
+	truth := make([]int, spec.sites*spec.days)
+	for s := range spec.sites {
+		offset := make([]float64, d)
+		for j := range offset {
+			offset[j] = spec.siteSD * rng.NormFloat64()
+		}
+		for t := range spec.days {
+			i := s*spec.days + t
+			k := spec.state(s, t)
+			truth[i] = k
+			seqs[s] = append(seqs[s], i)
+			for j := range d {
+				x.Set(i, j, spec.centres[k][j]+offset[j]+weather[t]+spec.noiseSD*rng.NormFloat64())
+			}
+		}
+	}
+	return x, seqs, truth
+}
+
+// findFleetRegimes trains a small map on the fleet and finds its regimes
+// with k = 0, returning the regime of every window (its BMU's group).
+func findFleetRegimes(t *testing.T, x *mat.Dense, seqs [][]int) ([]int, *Choice) {
+	t.Helper()
+	m, err := Train(x, Config{Cols: 12, Rows: 10, Hex: true, Epochs: 12})
+	if err != nil {
+		t.Fatal(err)
+	}
+	asg := m.Assign(x, 1)
+	groups, ch, err := FindRegimes(m, 0, &Windows{X: x, Assignments: asg, Timelines: Timelines{Sequences: seqs, MinRun: 7}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	out := make([]int, len(asg))
+	for i, a := range asg {
+		out[i] = groups[a.BMU]
+	}
+	return out, ch
+}
+
+// purity is the share of items whose found group is the most common found
+// group of their true group, and the number of distinct found groups that
+// are the most common of some true group.
+func purity(truth, found []int) (float64, int) {
+	count := map[[2]int]int{}
+	for i := range truth {
+		count[[2]int{truth[i], found[i]}]++
+	}
+	best := map[int][2]int{} // true group → found group, count
+	for tf, n := range count {
+		if b, ok := best[tf[0]]; !ok || n > b[1] || n == b[1] && tf[1] < b[0] {
+			best[tf[0]] = [2]int{tf[1], n}
+		}
+	}
+	hit := 0
+	distinct := map[int]bool{}
+	for _, b := range best {
+		hit += b[1]
+		distinct[b[0]] = true
+	}
+	return float64(hit) / float64(len(truth)), len(distinct)
+}
+
+// A fleet in one state, however strongly the shared weather moves it from
+// day to day and however much its sites differ, is one regime: the
+// weather averages out within every site's segment, and the site offsets
+// are one normal mode.
+func TestFindRegimesHomogeneousFleet(t *testing.T) {
+	for _, seed := range []uint64{1, 2} {
+		spec := fleetSpec{
+			sites: 80, days: 28,
+			centres: [][]float64{{0, 0, 0, 0}},
+			state:   func(int, int) int { return 0 },
+			siteSD:  0.5, weatherSD: 1.5, noiseSD: 0.3,
+		}
+		x, seqs, _ := spec.fleet(seed)
+		found, ch := findFleetRegimes(t, x, seqs)
+		if ch.K != 1 || found[0] != 0 {
+			t.Errorf("seed %d: %d regimes (%+v), want 1", seed, ch.K, ch.Splits)
+		}
+	}
+}
+
+// A weekly cycle that every site goes through (five working days in one
+// state, a weekend in another) is one regime: the tested segments span a
+// week, over which the cycle averages out.
+func TestFindRegimesWeeklyCycle(t *testing.T) {
+	for _, seed := range []uint64{5, 6} {
+		spec := fleetSpec{
+			sites: 80, days: 28,
+			centres: [][]float64{{0, 0, 0, 0}, {3, -3, 0, 2}},
+			state: func(_, day int) int {
+				if day%7 >= 5 {
+					return 1
+				}
+				return 0
+			},
+			siteSD: 0.5, weatherSD: 0.5, noiseSD: 0.3,
+		}
+		x, seqs, _ := spec.fleet(seed)
+		_, ch := findFleetRegimes(t, x, seqs)
+		if ch.K != 1 {
+			t.Errorf("seed %d: %d regimes (%+v), want 1", seed, ch.K, ch.Splits)
+		}
+	}
+}
+
+// Persistent states are found whatever the weather, a rare one included:
+// 4 of 100 sites (4 % of the windows) hold a distant state, 60 a diffuse
+// one, the rest a third, and 10 sites switch once from the diffuse state
+// to the third.
+func TestFindRegimesPersistentStates(t *testing.T) {
+	for _, seed := range []uint64{3, 4} {
+		spec := fleetSpec{
+			sites: 100, days: 28,
+			centres: [][]float64{{0, 0, 0, 0}, {4, 0, 3, 0}, {0, -6, 0, 6}},
+			state: func(s, day int) int {
+				switch {
+				case s < 4:
+					return 2
+				case s < 14 && day >= 7+s:
+					return 1
+				case s < 64:
+					return 0
+				}
+				return 1
+			},
+			siteSD: 0.6, weatherSD: 0.8, noiseSD: 0.4,
+		}
+		x, seqs, truth := spec.fleet(seed)
+		found, ch := findFleetRegimes(t, x, seqs)
+		p, distinct := purity(truth, found)
+		if ch.K != 3 || distinct != 3 || p < 0.9 {
+			t.Errorf("seed %d: %d regimes, %d distinct for the 3 states, purity %.3f (%+v); want 3, 3, ≥ 0.9", seed, ch.K, distinct, p, ch.Splits)
+		}
+		// Each split made was significant; the one turned down was not.
+		for _, sp := range ch.Splits {
+			if sp.Made != (sp.P < Alpha) {
+				t.Errorf("seed %d: split to %d with p %g made %v", seed, sp.K, sp.P, sp.Made)
+			}
+		}
+	}
+}
+
+// The runner-up is the number whose deciding split's p-value lies closest
+// to Alpha on a log scale, and within a factor of ten it is marginal.
+func TestChoiceRunnerUp(t *testing.T) {
+	tests := []struct {
+		splits   []Split
+		runnerUp int
+		marginal bool
+	}{
+		// The split to 3 was turned down at p = 3e-4, 0.48 decades from
+		// Alpha; the one to 2 was made 16 decades below it.
+		{[]Split{{K: 2, Segments: 50, P: 1e-20, Made: true}, {K: 3, Segments: 40, P: 3e-4}}, 3, true},
+		// The split to 3 was made at 5e-5, 0.3 decades below Alpha; the
+		// one to 4 was turned down 3.5 decades above it.
+		{[]Split{{K: 2, Segments: 50, P: 1e-20, Made: true}, {K: 3, Segments: 40, P: 5e-5, Made: true}, {K: 4, Segments: 30, P: 0.3}}, 2, true},
+		// Nothing close: the runner-up is the split turned down at 0.2.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Made: true}, {K: 3, Segments: 40, P: 0.2}}, 3, false},
+		// An untested split (too few segments) is no runner-up.
+		{[]Split{{K: 2, Segments: 0, P: 1}}, 0, false},
+	}
+	for i, tt := range tests {
+		ch := &Choice{Alpha: Alpha, Splits: tt.splits}
+		ch.runnerUp()
+		if ch.RunnerUp != tt.runnerUp || ch.Marginal != tt.marginal {
+			t.Errorf("case %d: runner-up %d, marginal %v; want %d, %v", i, ch.RunnerUp, ch.Marginal, tt.runnerUp, tt.marginal)
+		}
+	}
+}

@@ -248,3 +248,47 @@ func TestDecodeFromEarlierState(t *testing.T) {
 		}
 	}
 }
+
+// A minimum dwell far beyond the data (--min-dwell 1000000000) must decode
+// as the definition says, checked by exhaustive search, without the
+// K·minDwell table that ran out of memory.
+func TestDecodeHugeDwell(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	const huge = 1_000_000_000
+	for trial := range 50 {
+		T, K := 1+r.IntN(4), 2+r.IntN(2)
+		costs := randomCosts(r, T, K)
+		sc := r.Float64() * 2
+		want, wantCost, _ := bruteForce(costs, sc, nil, huge)
+		got, gotCost := decode(costs, sc, nil, huge, noStart)
+		if math.Abs(gotCost-wantCost) > 1e-9 || !slices.Equal(got, want) {
+			t.Fatalf("trial %d: cost %g for %v, brute force %g for %v", trial, gotCost, got, wantCost, want)
+		}
+		// Continuing a segment of huge−1 steps, the site may leave after
+		// its first step, but no new segment can be finished: as after T
+		// forced steps with a minimum dwell of T+1, brute-forced.
+		from := start{state: r.IntN(K), dwell: huge - 1}
+		initial := make([]float64, K)
+		forced := make([][]float64, 0, 2*T)
+		for k := range initial {
+			if k != from.state {
+				initial[k] = sc
+			}
+		}
+		for range T {
+			row := make([]float64, K)
+			for k := range row {
+				if k != from.state {
+					row[k] = math.Inf(1)
+				}
+			}
+			forced = append(forced, row)
+		}
+		forced = append(forced, costs...)
+		want, wantCost, _ = bruteForce(forced, sc, nil, T+1)
+		got, gotCost = decode(costs, sc, initial, huge, from)
+		if math.Abs(gotCost-wantCost) > 1e-9 || !slices.Equal(got, want[T:]) {
+			t.Fatalf("trial %d: from %v: cost %g for %v, brute force %g for %v", trial, from, gotCost, got, wantCost, want[T:])
+		}
+	}
+}

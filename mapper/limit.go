@@ -12,5 +12,5 @@ type LimitError struct {
 }
 
 func (e *LimitError) Error() string {
-	return fmt.Sprintf("mapper: %s: %g %s exceed the limit of %g", e.What, e.Value, e.Unit, e.Limit)
+	return fmt.Sprintf("mapper: %s: %.0f %s exceed the limit of %.0f", e.What, e.Value, e.Unit, e.Limit)
 }

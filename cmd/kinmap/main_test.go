@@ -58,6 +58,14 @@ func TestUsageErrors(t *testing.T) {
 		// Names only the data can judge, but misspelt options all the same.
 		{"unknown channel in the feature list", []string{"run", "--data", dump, "--out", t.TempDir(), "--features", "wind.mean"}, `unknown channel "wind" in the feature list (channels: flow)`},
 		{"weight of an unknown feature", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-coverage", "0", "--weights", "flow.maen=2"}, "weights for unknown features flow.maen"},
+		// A NaN weight once passed the flag and failed later as a data error.
+		{"NaN weight", []string{"run", "--data", dump, "--out", t.TempDir(), "--weights", "flow.mean=NaN"}, `weight "flow.mean=NaN"`},
+		{"negative weight", []string{"run", "--data", dump, "--out", t.TempDir(), "--weights", "flow.mean=-3"}, `weight "flow.mean=-3"`},
+		{"infinite weight", []string{"run", "--data", dump, "--out", t.TempDir(), "--weights", "flow.mean=+Inf"}, `weight "flow.mean=+Inf"`},
+		{"NaN width", []string{"run", "--data", dump, "--out", t.TempDir(), "--sigma0", "NaN"}, "want a finite number"},
+		{"NaN coverage", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-coverage", "nan"}, "want a finite number"},
+		// Ran out of memory in the batch rule before the limit.
+		{"huge grid", []string{"run", "--data", dump, "--out", t.TempDir(), "--grid", "1000x1000"}, "limit of 4096"},
 		{"pattern matching nothing", []string{"run", "--data", filepath.Join(t.TempDir(), "missing-*.parquet"), "--out", t.TempDir()}, "matches no file"},
 	}
 	for _, tt := range tests {

@@ -23,9 +23,12 @@ type arrowSource struct {
 
 func openArrowFile(f *os.File) (src *arrowSource, err error) {
 	defer recoverCorrupt(&err)
+	if err := checkArrowFile(f); err != nil {
+		return nil, fmt.Errorf("not a readable Arrow IPC file (truncated or corrupt?): %w", err)
+	}
 	r, err := ipc.NewFileReader(f)
 	if err != nil {
-		return nil, fmt.Errorf("not a readable Arrow IPC file (truncated or corrupt?): %v", err)
+		return nil, fmt.Errorf("not a readable Arrow IPC file (truncated or corrupt?): %w", err)
 	}
 	i := 0
 	return newArrowSource(r.Schema(), func() (arrow.RecordBatch, error) {
@@ -37,11 +40,11 @@ func openArrowFile(f *os.File) (src *arrowSource, err error) {
 	}, func() { r.Close() }), nil
 }
 
-func openArrowStream(rd io.Reader) (src *arrowSource, err error) {
+func openArrowStream(rd io.Reader, size int64) (src *arrowSource, err error) {
 	defer recoverCorrupt(&err)
-	r, err := ipc.NewReader(rd)
+	r, err := ipc.NewReader(newCheckedStream(rd, size))
 	if err != nil {
-		return nil, fmt.Errorf("not a readable Arrow IPC stream (truncated or corrupt?): %v", err)
+		return nil, fmt.Errorf("not a readable Arrow IPC stream (truncated or corrupt?): %w", err)
 	}
 	return newArrowSource(r.Schema(), func() (arrow.RecordBatch, error) {
 		if r.Next() {
@@ -111,7 +114,7 @@ func (s *arrowSource) next(want []bool) (b *batch, err error) {
 		return nil, err
 	}
 	if err != nil {
-		return nil, fmt.Errorf("record batch %d: %v (truncated or corrupt file?)", s.batches+1, err)
+		return nil, fmt.Errorf("record batch %d: %w (truncated or corrupt file?)", s.batches+1, err)
 	}
 	s.batches++
 	if int(rec.NumCols()) != len(s.fields) {
@@ -136,6 +139,17 @@ func (s *arrowSource) next(want []bool) (b *batch, err error) {
 // released once read).
 func fromArrow(c *column, a arrow.Array) error {
 	n := a.Len()
+	// Every type read takes at least a bit per row in its buffers; a row
+	// count beyond that is a damaged file, refused before allocating.
+	var held int
+	for _, b := range a.Data().Buffers() {
+		if b != nil {
+			held += b.Len()
+		}
+	}
+	if n > 8*held {
+		return fmt.Errorf("%d rows held in %d bytes (truncated or corrupt file?)", n, held)
+	}
 	if a.NullN() > 0 {
 		c.valid = make([]bool, n)
 		for i := range c.valid {

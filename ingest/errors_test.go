@@ -12,7 +12,7 @@ import (
 
 const goodCSV = "site,time,channel,value\nA,2024-01-01T00:00:00Z,flow,1\n"
 
-func smallRecord(t *testing.T) arrow.RecordBatch {
+func smallRecord(t testing.TB) arrow.RecordBatch {
 	schema := arrow.NewSchema([]arrow.Field{
 		{Name: "site", Type: arrow.BinaryTypes.String},
 		{Name: "time", Type: &arrow.TimestampType{Unit: arrow.Millisecond, TimeZone: "UTC"}},

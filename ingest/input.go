@@ -82,6 +82,15 @@ func (in *input) close() {
 	in.f.Close()
 }
 
+// size bounds the bytes the content may hold: the size of a plain file,
+// maxArrowBody for a decompressed one.
+func (in *input) size() int64 {
+	if st, err := in.f.Stat(); err == nil && in.gz == nil {
+		return st.Size()
+	}
+	return maxArrowBody
+}
+
 // source opens the columnar reader of the input; GeoJSON has none.
 func (in *input) source() (source, error) {
 	switch in.format {
@@ -90,7 +99,7 @@ func (in *input) source() (source, error) {
 	case FormatArrowFile:
 		return openArrowFile(in.f)
 	case FormatArrowStream:
-		return openArrowStream(in.r)
+		return openArrowStream(in.r, in.size())
 	case FormatCSV:
 		return openCSV(in.r)
 	}

@@ -144,14 +144,29 @@ func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
 
 // OptionError returns err as a *UsageError when it reports a name that the
 // feature list or the weights of the options give and the data lacks
-// (features.ErrUnknownName): a misspelt option, which only the data could
-// reveal. It is for runs that take their features from the options; assign
+// (features.ErrUnknownName), or windows that do not suit the data
+// (features.StepError, features.WindowLimitError): a misspelt option,
+// which only the data could reveal. It is for runs that take their features from the options; assign
 // and update take them from the model, where such a name is a data error.
 func OptionError(err error) error {
-	if errors.Is(err, features.ErrUnknownName) {
+	var (
+		step  *features.StepError
+		limit *features.WindowLimitError
+	)
+	if errors.Is(err, features.ErrUnknownName) || errors.As(err, &step) || errors.As(err, &limit) {
 		return &UsageError{err}
 	}
 	return err
+}
+
+// NoWindowError reports a dump of which every window was skipped, by the
+// coverage rule or for want of readings.
+type NoWindowError struct {
+	Reasons string // windows skipped for each reason, such as "12 for low coverage"
+}
+
+func (e *NoWindowError) Error() string {
+	return fmt.Sprintf("kinmap: no usable window: every window of every site was skipped (%s); lower the minimum coverage or lengthen the window", e.Reasons)
 }
 
 func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) error {
@@ -160,7 +175,7 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 		return err
 	}
 	if len(t.Windows) == 0 {
-		return fmt.Errorf("kinmap: no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", skipReasons(t))
+		return &NoWindowError{Reasons: skipReasons(t)}
 	}
 	res.Table = t
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"fmt"
 	"os"
 	"path/filepath"
 	"slices"
@@ -25,12 +26,26 @@ func TestUsageErrors(t *testing.T) {
 	if err := os.WriteFile(dump, []byte("site,time,channel,value\na,2026-01-01T00:00:00Z,flow,1\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
+	// An hour of readings every 5 s.
+	var steady strings.Builder
+	steady.WriteString("site,time,channel,value\n")
+	for i := range 720 {
+		fmt.Fprintf(&steady, "a,%d,flow,%d\n", 1_780_000_000+5*i, i%7)
+	}
+	dump5s := filepath.Join(t.TempDir(), "dump5s.csv")
+	if err := os.WriteFile(dump5s, []byte(steady.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	tests := []struct {
 		name string
 		args []string
 		want string // in stderr
 	}{
 		{"no command", nil, "Commands:"},
+		// Ran four minutes, or never ended, or took 8 GB.
+		{"window shorter than the step", []string{"run", "--data", dump5s, "--out", t.TempDir(), "--window", "10ms"}, "--window 10ms is shorter than the sampling step found in the data (5s)"},
+		{"window of 1ns", []string{"run", "--data", dump5s, "--out", t.TempDir(), "--window", "1ns"}, "--window 1ns is shorter"},
+		{"stride shorter than the step", []string{"run", "--data", dump5s, "--out", t.TempDir(), "--window", "10m", "--stride", "1ms"}, "--stride 1ms is shorter"},
 		{"unknown command", []string{"crunch"}, `unknown command "crunch"`},
 		{"unknown flag", []string{"run", "--colour", "red"}, "colour"},
 		{"no output folder", []string{"run", "--data", dump}, "--out DIR"},

@@ -20,17 +20,22 @@ const (
 
 // Status reports err on stderr as the command called name and returns its
 // exit status: ExitOK without an error or when help was asked for,
-// ExitUsage with a pointer to the help for a usage error, ExitData for any
-// other error.
+// ExitUsage with a pointer to the help for a usage error, worded with the
+// options (Words), ExitData for any other error.
 func Status(stderr io.Writer, name string, err error) int {
 	switch {
 	case err == nil || errors.Is(err, flag.ErrHelp):
 		return ExitOK
 	case kinmap.IsUsage(err):
-		fmt.Fprintf(stderr, "%s: %v\nRun '%s -h' for its options.\n", name, err, name)
+		fmt.Fprintf(stderr, "%s: %s\nRun '%s -h' for its options.\n", name, Words(err), name)
 		return ExitUsage
 	default:
-		fmt.Fprintf(stderr, "%s: %v\n", name, err)
+		msg := err.Error()
+		var none *kinmap.NoWindowError
+		if name == "kinmap run" && errors.As(err, &none) { // only run sets the windows
+			msg = Words(err)
+		}
+		fmt.Fprintf(stderr, "%s: %s\n", name, msg)
 		return ExitData
 	}
 }

@@ -124,6 +124,9 @@ func (s *arrowSource) next(want []bool) (b *batch, err error) {
 	s.row += rec.NumRows()
 	err = b.fill(s.fields, want, func(i int, fl *field) (*column, error) {
 		c := &column{field: fl}
+		if n := rec.Column(i).Len(); n != b.n {
+			return nil, colErr(fl.name, "%d values in a record batch of %d rows (truncated or corrupt file?)", n, b.n)
+		}
 		if err := fromArrow(c, rec.Column(i)); err != nil {
 			return nil, colErr(fl.name, "%v", err)
 		}

@@ -13,6 +13,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"path/filepath"
 	"slices"
 	"time"
@@ -230,6 +231,10 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 		return nil, err
 	}
 	res.Ingest = ds.Summary
+	for _, site := range slices.Sorted(maps.Keys(ds.Summary.Sentinels)) {
+		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("site %s: %d readings of magnitude %g or more dropped as sentinel values (bad-quality markers)",
+			site, ds.Summary.Sentinels[site], ingest.SentinelMagnitude))
+	}
 	o.logf("%s", ds.Summary.String())
 	return ds, nil
 }

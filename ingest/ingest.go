@@ -99,7 +99,17 @@ const (
 	DropNullValue   = "null value"
 	DropNaN         = "NaN value"
 	DropInf         = "infinite value"
+	DropSentinel    = "sentinel value"
 )
+
+// SentinelMagnitude is the magnitude from which a finite reading is taken
+// for a sentinel, not a measurement, and dropped (DropSentinel): historians
+// and loggers mark bad-quality or missing readings with the largest float64
+// (±1.797e308), the largest float32 (±3.4e38) or ±1e30 (common practice, no
+// source). No quantity a sensor reports in any unit comes near it, and
+// squares of smaller values stay finite, so one marked reading cannot turn
+// a window's statistics into infinities.
+const SentinelMagnitude = 1e30
 
 // DefaultOptions returns the column names the command uses by default.
 func DefaultOptions() Options {
@@ -160,6 +170,7 @@ type Summary struct {
 	Channels       []string
 	Start, End     time.Time        // earliest and latest reading kept
 	Dropped        map[string]int64 // readings dropped, by reason
+	Sentinels      map[string]int64 // readings dropped as sentinels (DropSentinel), by site
 	Duplicates     int64            // duplicate (site, channel, time) readings resolved
 	SkippedColumns []string         // non-numeric extra columns of a wide dump
 	NaiveTime      bool             // timestamps without UTC adjustment were read as UTC

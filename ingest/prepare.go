@@ -13,6 +13,7 @@ type prepared struct {
 	chanDict []string // long: the channels of the batch; wide: the candidate columns
 	naive    bool
 	drops    [nDrops]int64 // row drops, and value drops of a long batch
+	sentinel []int64       // long: sentinels dropped, by local site code
 	cols     []wideColumn  // wide: by candidate column
 	arena    arena
 	pos      positions
@@ -86,6 +87,8 @@ type wideColumn struct {
 	bad    int  // first row that is not a number, -1 for none
 	filled int  // rows with a cell that is not blank
 	drops  [nDrops]int64
+	// sentinels dropped, by local site code
+	sentinel []int64
 }
 
 // positions are the rows with a position, by local site code.
@@ -207,9 +210,10 @@ func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []in
 			if code := codes[i]; s >= 0 && code >= 0 {
 				ch = chans[code]
 			}
-			// Nearly every row is kept: one test for them (v-v is 0
-			// only for a finite v), the reasons of the others after.
-			if ch >= 0 && v-v == 0 && (valid == nil || valid[lo+i]) {
+			// Nearly every row is kept: one test for them (false for
+			// NaN, infinities and sentinels), the reasons of the others
+			// after.
+			if ch >= 0 && v < SentinelMagnitude && v > -SentinelMagnitude && (valid == nil || valid[lo+i]) {
 				if pair := int64(s)*nch + int64(ch); direct {
 					t.put(i, int32(pair))
 				} else {
@@ -223,7 +227,11 @@ func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []in
 			case codes[i] < 0:
 				p.drops[dNullChannel]++
 			case ch >= 0:
-				p.drops[dropOf(v, valid != nil && !valid[lo+i])]++
+				d := dropOf(v, valid != nil && !valid[lo+i])
+				p.drops[d]++
+				if d == dSentinel {
+					p.sentinel = countSite(p.sentinel, s, len(p.siteDict))
+				}
 			}
 		}
 	})
@@ -257,6 +265,9 @@ func (p *prepared) wide(b *batch, c *column, j, nKeys int, sites []int32, ns []i
 			r := lo + i
 			if d := dropOf(vals[r], valid != nil && !valid[r]); d >= 0 {
 				wc.drops[d]++
+				if d == dSentinel {
+					wc.sentinel = countSite(wc.sentinel, s, len(p.siteDict))
+				}
 				continue
 			}
 			t.put(i, p.key(int64(s)*nch+int64(j)))
@@ -274,8 +285,20 @@ func dropOf(v float64, null bool) int {
 		return dNaN
 	case v-v != 0: // ±Inf
 		return dInf
+	case v >= SentinelMagnitude || v <= -SentinelMagnitude:
+		return dSentinel
 	}
 	return -1
+}
+
+// countSite adds one to the count of site s in counts, made for n sites
+// when nil.
+func countSite(counts []int64, s int32, n int) []int64 {
+	if counts == nil {
+		counts = make([]int64, n)
+	}
+	counts[s]++
+	return counts
 }
 
 // group files the readings of a batch into the arena, sorted by key and in
@@ -385,6 +408,7 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 	for j, id := range p.siteDict {
 		sites[j] = r.siteIndex(id)
 	}
+	r.addSentinels(p.sentinel, sites)
 	chans := make([]int32, len(p.chanDict))
 	for j, name := range p.chanDict {
 		if ro.channel >= 0 {
@@ -394,6 +418,9 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 		keep, err := r.wideColumn(b, b.cols[ro.channels[j]], &p.cols[j])
 		if err != nil {
 			return err
+		}
+		if keep {
+			r.addSentinels(p.cols[j].sentinel, sites)
 		}
 		chans[j] = -1
 		if keep {
@@ -473,4 +500,14 @@ func (r *reader) wideColumn(b *batch, c *column, wc *wideColumn) (keep bool, err
 		r.drops[i] += n
 	}
 	return true, nil
+}
+
+// addSentinels adds the sentinels of a batch, by local site code, to the
+// sites they belong to (sites maps local codes to global ones).
+func (r *reader) addSentinels(counts []int64, sites []int32) {
+	for j, n := range counts {
+		if n > 0 {
+			r.sites[sites[j]].sentinels += n
+		}
+	}
 }

@@ -43,7 +43,8 @@ import (
 // of rows holds anything else is skipped, and a later non-number in a
 // numeric column is an error). Null sites, null or out-of-range times, null
 // channels, and null, NaN or infinite values are dropped and counted in
-// Summary.Dropped.
+// Summary.Dropped; so are values of magnitude SentinelMagnitude or more,
+// bad-quality markers, which Summary.Sentinels also counts by site.
 //
 // Duplicates: of several readings of the same site, channel and time, the
 // one read last wins (files in the order given, rows in file order); the
@@ -134,10 +135,11 @@ const (
 	dNullValue
 	dNaN
 	dInf
+	dSentinel
 	nDrops
 )
 
-var dropNames = [nDrops]string{DropNullSite, DropNullTime, DropTimeRange, DropNullChannel, DropNullValue, DropNaN, DropInf}
+var dropNames = [nDrops]string{DropNullSite, DropNullTime, DropTimeRange, DropNullChannel, DropNullValue, DropNaN, DropInf, DropSentinel}
 
 // States of a candidate channel column of a wide dump.
 const (
@@ -172,8 +174,9 @@ type reader struct {
 
 // siteAcc collects the positions of one site.
 type siteAcc struct {
-	id    string
-	track builder[[2]float64]
+	id        string
+	track     builder[[2]float64]
+	sentinels int64 // readings dropped as sentinels
 }
 
 func newReader(opt Options) *reader {
@@ -473,6 +476,14 @@ func (r *reader) finish() (*Dataset, error) {
 	sum.Channels = ds.Channels
 	sum.Sites = len(ds.Sites)
 	sum.Dropped = make(map[string]int64)
+	for _, sa := range r.sites {
+		if sa.sentinels > 0 {
+			if sum.Sentinels == nil {
+				sum.Sentinels = make(map[string]int64)
+			}
+			sum.Sentinels[sa.id] += sa.sentinels
+		}
+	}
 	for i, n := range r.drops {
 		if n > 0 {
 			sum.Dropped[dropNames[i]] = n

@@ -39,12 +39,12 @@ func referenceRows() []reading {
 	}
 	at := func(k int) time.Time { return base.Add(time.Duration(k) * 15 * time.Minute) }
 	return append(rows,
-		reading{"A", at(3), "flow", 42.125},        // replaces the reading at 3
-		reading{"B", at(9), "flow", nil},           // null value
-		reading{"B", at(10), "flow", math.NaN()},   // NaN
-		reading{"C", at(11), "temp", math.Inf(-1)}, // -Inf
-		reading{nil, at(12), "temp", 1.0},          // null site
-		reading{"C", at(13), "temp", 5e-324},       // smallest subnormal
+		reading{"A", at(3), "flow", 42.125},                   // replaces the reading at 3
+		reading{"B", at(9), "flow", nil},                      // null value
+		reading{"B", at(10), "flow", math.NaN()},              // NaN
+		reading{"C", at(11), "temp", math.Inf(-1)},            // -Inf
+		reading{nil, at(12), "temp", 1.0},                     // null site
+		reading{"C", at(13), "temp", 5e-324},                  // smallest subnormal
 		reading{"A", at(14), "temp", -1.7976931348623157e308}, // a historian's bad-quality marker
 		reading{"A", at(15), "temp", 9.999999999999999e29},    // the largest kept below the sentinel rule
 	)

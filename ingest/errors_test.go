@@ -200,3 +200,35 @@ func TestValidate(t *testing.T) {
 		}
 	}
 }
+
+// Names that are not UTF-8 are refused naming the row and the encoding
+// problem: written as they are they make invalid GeoJSON (RFC 8259 section
+// 8.1), and replaced by U+FFFD the distinct ids caf\xe9 and caf\xe8 merged
+// into one site.
+func TestNotUTF8(t *testing.T) {
+	schema := arrow.NewSchema([]arrow.Field{
+		{Name: "site", Type: arrow.BinaryTypes.String},
+		{Name: "time", Type: arrow.PrimitiveTypes.Int64},
+		{Name: "flow", Type: arrow.PrimitiveTypes.Float64},
+	}, nil)
+	rec := record(t, schema, [][]any{{"café", 1, 1.0}, {"caf\xe9", 2, 1.0}, {"caf\xe8", 3, 1.0}})
+	defer rec.Release()
+	latin1 := "site,time,flow\ncaf\xe9,1,1\ncaf\xe8,2,1\n"
+	late := "site,time,flow\n" + strings.Repeat("plain,1,1\n", 500) + "caf\xe9,1,1\n"
+	tests := []struct {
+		name, path, want string
+	}{
+		{"arrow site ids", writeArrowIPC(t, "ids.arrow", false, rec), `row 2: column "site": site id "caf\xe9" is not UTF-8 (byte 0xe9 at offset 3)`},
+		{"Latin-1 CSV", writeFile(t, "latin1.csv", []byte(latin1)), "line 2: text that is not UTF-8 (byte 0xe9)"},
+		{"Latin-1 past the head", writeFile(t, "late.csv", []byte(late)), `line 502: column "site": site id "caf\xe9" is not UTF-8`},
+		{"Latin-1 channel", writeFile(t, "long.csv", []byte("site,time,channel,value\na,1,d\xe9bit,1\n")), "line 2: text that is not UTF-8 (byte 0xe9)"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			_, err := Read([]string{tt.path}, DefaultOptions())
+			if err == nil || !strings.Contains(err.Error(), tt.want) || !strings.Contains(err.Error(), "convert it to UTF-8") {
+				t.Errorf("error %v, want one saying %q", err, tt.want)
+			}
+		})
+	}
+}

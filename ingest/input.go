@@ -70,6 +70,9 @@ func openInput(path string) (*input, error) {
 		if len(bytes.TrimSpace(bytes.TrimPrefix(head, utf8BOM))) == 0 {
 			return nil, errors.New("empty file")
 		}
+		if err := notUTF8(head); err != nil {
+			return nil, err
+		}
 		return nil, errors.New("not a Parquet, Arrow IPC, CSV or GeoJSON file")
 	}
 	return in, nil

@@ -1,6 +1,9 @@
 package ingest
 
-import "slices"
+import (
+	"slices"
+	"unicode/utf8"
+)
 
 // prepared is a batch turned into readings grouped by series, by work that
 // needs nothing shared between batches, so that batches are prepared in
@@ -110,6 +113,9 @@ func (r *reader) prepare(b *batch, ro roles) (*prepared, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := b.checkUTF8(codes, dict, b.cols[ro.site].name, "site id"); err != nil {
+		return nil, err
+	}
 	ns, state, naive, err := b.times(b.cols[ro.time], r.epoch)
 	if err != nil {
 		return nil, err
@@ -187,6 +193,9 @@ func (p *prepared) positions(b *batch, ro roles, sites []int32, ns []int64) erro
 func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []int32, ns []int64) error {
 	codes, dict, err := b.keys(b.cols[ro.channel])
 	if err != nil {
+		return err
+	}
+	if err := b.checkUTF8(codes, dict, b.cols[ro.channel].name, "channel name"); err != nil {
 		return err
 	}
 	vals, valid, err := b.floats(b.cols[ro.value])
@@ -510,4 +519,39 @@ func (r *reader) addSentinels(counts []int64, sites []int32) {
 			r.sites[sites[j]].sentinels += n
 		}
 	}
+}
+
+// checkUTF8 refuses names (site ids, channel names) that are not UTF-8,
+// naming the first row that holds one. They are keys of the outputs, and
+// GeoJSON and JSON must be UTF-8 (RFC 8259 section 8.1, RFC 7946): written
+// as they are they would become invalid files, and replacing the bad bytes
+// would merge distinct names such as "caf\xe9" and "caf\xe8". Guessing the
+// encoding could be wrong, so the user converts the file.
+func (b *batch) checkUTF8(codes []int32, dict []string, column, what string) error {
+	bad := -1
+	for j, name := range dict {
+		if !utf8.ValidString(name) {
+			bad = j
+			break
+		}
+	}
+	if bad < 0 {
+		return nil
+	}
+	name := dict[bad]
+	at := 0
+	for at < len(name) {
+		r, size := utf8.DecodeRuneInString(name[at:])
+		if r == utf8.RuneError && size <= 1 {
+			break
+		}
+		at += size
+	}
+	for i, c := range codes {
+		if int(c) == bad {
+			return b.errAt(i, column, "%s %q is not UTF-8 (byte 0x%02x at offset %d): the file has another encoding; convert it to UTF-8 (for example iconv -f latin1 -t utf-8)",
+				what, name, name[at], at)
+		}
+	}
+	return nil
 }

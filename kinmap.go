@@ -235,6 +235,9 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("site %s: %d readings of magnitude %g or more dropped as sentinel values (bad-quality markers)",
 			site, ds.Summary.Sentinels[site], ingest.SentinelMagnitude))
 	}
+	if u := ds.Summary.EpochUnit; u != nil {
+		res.Info.Warnings = append(res.Info.Warnings, u.Error())
+	}
 	o.logf("%s", ds.Summary.String())
 	return ds, nil
 }

@@ -163,10 +163,24 @@ func OptionError(err error) error {
 // coverage rule or for want of readings.
 type NoWindowError struct {
 	Reasons string // windows skipped for each reason, such as "12 for low coverage"
+	// Unit is set when integer epoch times look like another unit than
+	// the one they were read in, the likely cause.
+	Unit *ingest.UnitError
 }
 
 func (e *NoWindowError) Error() string {
+	if e.Unit != nil {
+		return fmt.Sprintf("kinmap: no usable window: every window of every site was skipped (%s): %v", e.Reasons, e.Unit)
+	}
 	return fmt.Sprintf("kinmap: no usable window: every window of every site was skipped (%s); lower the minimum coverage or lengthen the window", e.Reasons)
+}
+
+// Unwrap returns the likely cause, nil when none is known.
+func (e *NoWindowError) Unwrap() error {
+	if e.Unit == nil {
+		return nil
+	}
+	return e.Unit
 }
 
 func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) error {
@@ -175,7 +189,7 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 		return err
 	}
 	if len(t.Windows) == 0 {
-		return &NoWindowError{Reasons: skipReasons(t)}
+		return &NoWindowError{Reasons: skipReasons(t), Unit: res.Ingest.EpochUnit}
 	}
 	res.Table = t
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))

@@ -232,3 +232,41 @@ func TestNotUTF8(t *testing.T) {
 		})
 	}
 }
+
+// Integer epochs read in the wrong unit once ended in "time out of range"
+// (milliseconds read as seconds) or in a coverage error far downstream
+// (seconds read as milliseconds). The summary, and the error when nothing
+// is left, say which unit the values look like. 1780000000 s is
+// 2026-05-28T20:26:40Z (date -u -d @1780000000).
+func TestEpochUnitHint(t *testing.T) {
+	tests := []struct {
+		name, cells, unit, likely string
+		fails                     bool
+	}{
+		{"ms read as s", "1780000000000", "s", "ms", true},
+		{"s read as ms", "1780000000", "ms", "s", false},
+		{"us read as ns", "1780000000000000", "ns", "us", false},
+		{"s read as s", "1780000000", "s", "", false},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			path := writeFile(t, "epochs.csv", []byte("site,time,channel,value\na,"+tt.cells+",flow,1\n"))
+			ds, err := Read([]string{path}, Options{SiteCol: "site", TimeCol: "time", ChannelCol: "channel", ValueCol: "value", TimeUnit: tt.unit})
+			var ue *UnitError
+			switch {
+			case tt.fails:
+				if !errors.As(err, &ue) || ue.Likely != tt.likely || !strings.Contains(err.Error(), "look like epochs in milliseconds, not seconds") {
+					t.Fatalf("error %v, want one saying the times look like %s", err, tt.likely)
+				}
+			case err != nil:
+				t.Fatal(err)
+			case tt.likely == "":
+				if ds.Summary.EpochUnit != nil {
+					t.Errorf("hint %v for times in the unit given", ds.Summary.EpochUnit)
+				}
+			case ds.Summary.EpochUnit == nil || ds.Summary.EpochUnit.Likely != tt.likely || ds.Summary.EpochUnit.Given != tt.unit:
+				t.Errorf("hint %+v, want %s for %s", ds.Summary.EpochUnit, tt.likely, tt.unit)
+			}
+		})
+	}
+}

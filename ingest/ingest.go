@@ -162,19 +162,22 @@ type Dataset struct {
 
 // Summary says what was read and what was dropped.
 type Summary struct {
-	Files          []FileSummary
-	Layout         string // "long" or "wide"
-	Rows           int64  // rows read from all files
-	Readings       int64  // readings kept
-	Sites          int
-	Channels       []string
-	Start, End     time.Time        // earliest and latest reading kept
-	Dropped        map[string]int64 // readings dropped, by reason
-	Sentinels      map[string]int64 // readings dropped as sentinels (DropSentinel), by site
-	Duplicates     int64            // duplicate (site, channel, time) readings resolved
-	SkippedColumns []string         // non-numeric extra columns of a wide dump
-	NaiveTime      bool             // timestamps without UTC adjustment were read as UTC
-	Unregistered   []string         // sites in the dump but not in the register
+	Files      []FileSummary
+	Layout     string // "long" or "wide"
+	Rows       int64  // rows read from all files
+	Readings   int64  // readings kept
+	Sites      int
+	Channels   []string
+	Start, End time.Time        // earliest and latest reading kept
+	Dropped    map[string]int64 // readings dropped, by reason
+	Sentinels  map[string]int64 // readings dropped as sentinels (DropSentinel), by site
+	// EpochUnit is set when integer epoch times look like another unit
+	// than Options.TimeUnit.
+	EpochUnit      *UnitError `json:",omitempty"`
+	Duplicates     int64      // duplicate (site, channel, time) readings resolved
+	SkippedColumns []string   // non-numeric extra columns of a wide dump
+	NaiveTime      bool       // timestamps without UTC adjustment were read as UTC
+	Unregistered   []string   // sites in the dump but not in the register
 }
 
 // FileSummary describes one file read.

@@ -10,16 +10,18 @@ import (
 // parallel; merge then files them, in read order, under global site and
 // channel numbers.
 type prepared struct {
-	b        *batch   // nil once merge needs it no more
-	rows     int      // rows of the batch
-	siteDict []string // the sites of the batch, by local code
-	chanDict []string // long: the channels of the batch; wide: the candidate columns
-	naive    bool
-	drops    [nDrops]int64 // row drops, and value drops of a long batch
-	sentinel []int64       // long: sentinels dropped, by local site code
-	cols     []wideColumn  // wide: by candidate column
-	arena    arena
-	pos      positions
+	b         *batch   // nil once merge needs it no more
+	rows      int      // rows of the batch
+	siteDict  []string // the sites of the batch, by local code
+	chanDict  []string // long: the channels of the batch; wide: the candidate columns
+	naive     bool
+	drops     [nDrops]int64 // row drops, and value drops of a long batch
+	sentinel  []int64       // long: sentinels dropped, by local site code
+	epoch     int64         // the batch's first integer epoch time, if epochSeen
+	epochSeen bool
+	cols      []wideColumn // wide: by candidate column
+	arena     arena
+	pos       positions
 	// When a batch has too many sites and channels for a table of every
 	// pair, keys number the pairs met: pairs[key] = site*len(chanDict) +
 	// channel. Otherwise a key is that number itself.
@@ -121,6 +123,7 @@ func (r *reader) prepare(b *batch, ro roles) (*prepared, error) {
 		return nil, err
 	}
 	p.siteDict, p.naive = dict, naive
+	p.epoch, p.epochSeen = b.epoch, b.epochSeen
 	sites := codes // local site of a row, -1 when it is dropped
 	if state != nil {
 		sites = make([]int32, b.n)
@@ -410,6 +413,9 @@ const groupBlock = 1 << 18
 func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 	b := p.b
 	r.sum.NaiveTime = r.sum.NaiveTime || p.naive
+	if p.epochSeen && !r.epochSeen {
+		r.epochSample, r.epochSeen = p.epoch, true
+	}
 	for i, n := range p.drops {
 		r.drops[i] += n
 	}

@@ -163,6 +163,9 @@ type reader struct {
 	present  map[string]bool  // channels met that are not selected, and wide candidate columns
 	drops    [nDrops]int64
 	sum      Summary
+	// the first integer epoch time read, as written
+	epochSample int64
+	epochSeen   bool
 
 	kept       store      // the readings kept
 	arenas     chan arena // arenas merge is done with, for prepare to reuse
@@ -489,12 +492,21 @@ func (r *reader) finish() (*Dataset, error) {
 			sum.Dropped[dropNames[i]] = n
 		}
 	}
+	if r.epochSeen {
+		if likely := likelyUnit(r.epochSample); likely != "" && likely != r.opt.TimeUnit {
+			sum.EpochUnit = &UnitError{Sample: r.epochSample, Given: r.opt.TimeUnit, Likely: likely}
+		}
+	}
 	if sum.Readings == 0 {
 		paths := make([]string, len(sum.Files))
 		for i, f := range sum.Files {
 			paths[i] = f.Path
 		}
-		return nil, &Error{Err: fmt.Errorf("no readings in %s (%d rows%s)", strings.Join(paths, ", "), sum.Rows, dropList(sum.Dropped, "; dropped: "))}
+		err := fmt.Errorf("no readings in %s (%d rows%s)", strings.Join(paths, ", "), sum.Rows, dropList(sum.Dropped, "; dropped: "))
+		if sum.EpochUnit != nil {
+			err = fmt.Errorf("%w: %w", err, sum.EpochUnit)
+		}
+		return nil, &Error{Err: err}
 	}
 	sum.Start, sum.End = time.Unix(0, start).UTC(), time.Unix(0, end).UTC()
 	ds.Summary = *sum

@@ -42,6 +42,10 @@ func TestStatus(t *testing.T) {
 		{&kinmap.UsageError{Err: &features.WindowLimitError{Windows: 6e8, Stride: time.Millisecond}}, ExitUsage, "about 600000000 windows, beyond the limit of 5000000: give a longer --stride"},
 		{&kinmap.UsageError{Err: &mapper.LimitError{What: "lattice 1000x1000", Value: 1e6, Limit: 4096, Unit: "units"}}, ExitUsage, "--grid: 1000x1000: 1000000 units, beyond the limit of 4096"},
 		{fmt.Errorf("decoding: %w", &kinmap.NoWindowError{Reasons: "3 for low coverage"}), ExitData, "(3 for low coverage); try a lower --min-coverage or a longer --window\n"},
+		{&kinmap.NoWindowError{Reasons: "5 for coverage", Unit: &ingest.UnitError{Sample: 1780000000, Given: "ms", Likely: "s"}}, ExitData,
+			"(5 for coverage): integer times such as 1780000000 look like epochs in seconds, not milliseconds; read them with --time-unit s\n"},
+		{&ingest.Error{File: "a.csv", Err: fmt.Errorf("no readings: %w", &ingest.UnitError{Sample: 1780000000000, Given: "s", Likely: "ms"})}, ExitData,
+			"look like epochs in milliseconds, not seconds; read them with --time-unit ms\n"},
 	}
 	for _, tt := range tests {
 		var stderr bytes.Buffer

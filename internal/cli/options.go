@@ -9,6 +9,7 @@ import (
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/ingest"
 )
 
 // Exit statuses of the commands.
@@ -34,6 +35,10 @@ func Status(stderr io.Writer, name string, err error) int {
 		var none *kinmap.NoWindowError
 		if name == "kinmap run" && errors.As(err, &none) { // only run sets the windows
 			msg = Words(err)
+		}
+		var unit *ingest.UnitError
+		if errors.As(err, &unit) {
+			msg += fmt.Sprintf("; read them with --time-unit %s", unit.Likely)
 		}
 		fmt.Fprintf(stderr, "%s: %s\n", name, msg)
 		return ExitData

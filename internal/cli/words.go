@@ -34,6 +34,8 @@ func Words(err error) string {
 	case errors.As(err, &grid):
 		return fmt.Sprintf("--grid: %s: %.0f %s, beyond the limit of %.0f: give a smaller grid, or none to let the data choose",
 			strings.TrimPrefix(grid.What, "lattice "), grid.Value, grid.Unit, grid.Limit)
+	case errors.As(err, &none) && none.Unit != nil:
+		return fmt.Sprintf("no usable window: every window of every site was skipped (%s): %v", none.Reasons, none.Unit)
 	case errors.As(err, &none):
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", none.Reasons)
 	}

@@ -118,6 +118,12 @@ func TestBadInput(t *testing.T) {
 		{"position out of range", func() []string {
 			return []string{writeFile(t, "p.csv", []byte("site,time,lat,lon,v\nA,1,48.1,11.5,1\nA,2,148.1,11.5,1\n"))}
 		}, nil, false, []string{"p.csv: line 3: latitude 148.1", "look swapped"}},
+		{"one latitude of 999", func() []string {
+			return []string{writeFile(t, "p.csv", []byte("site,time,lat,lon,v\nA,1,48.1,11.5,1\nA,2,999,11.5,1\n"))}
+		}, nil, false, []string{`p.csv: line 3: latitude 999 (column "lat") is outside [-90, 90]`}},
+		{"NaN latitude", func() []string {
+			return []string{writeFile(t, "p.csv", []byte("site,time,lat,lon,v\nA,1,48.1,11.5,1\nA,2,NaN,11.5,1\n"))}
+		}, nil, false, []string{`p.csv: line 3: latitude NaN (column "lat") is not a number`}},
 		{"lat without lon", func() []string { return []string{writeFile(t, "l.csv", []byte("site,time,lat,v\nA,1,48.1,1\n"))} },
 			nil, false, []string{`l.csv: column "lat": position column without its partner "lon"`}},
 		{"unknown time unit", func() []string { return []string{writeFile(t, "u.csv", []byte(goodCSV))} },

@@ -182,7 +182,7 @@ func (p *prepared) positions(b *batch, ro roles, sites []int32, ns []int64) erro
 		if s < 0 || latOK != nil && !latOK[i] || lonOK != nil && !lonOK[i] {
 			continue
 		}
-		if err := checkPosition(lat[i], lon[i], latC.name, lonC.name, lon[i] >= -90 && lon[i] <= 90); err != nil {
+		if err := checkPosition(lat[i], lon[i], latC.name, lonC.name, swappable(lat[i], lon[i])); err != nil {
 			return b.errAt(i, "", "%v", err)
 		}
 		p.pos.site = append(p.pos.site, s)

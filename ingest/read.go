@@ -346,6 +346,10 @@ func (r *reader) skip(name string) {
 // reported as a sign of swapped columns.
 func checkPosition(lat, lon float64, latName, lonName string, swapHint bool) error {
 	switch {
+	case math.IsNaN(lat):
+		return fmt.Errorf("latitude NaN (column %q) is not a number", latName)
+	case math.IsNaN(lon):
+		return fmt.Errorf("longitude NaN (column %q) is not a number", lonName)
 	case !(lat >= -90 && lat <= 90) && swapHint:
 		return fmt.Errorf("latitude %g is outside [-90, 90] while the longitudes lie within [-90, 90]: the columns %q and %q look swapped", lat, latName, lonName)
 	case !(lat >= -90 && lat <= 90):

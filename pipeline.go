@@ -122,6 +122,11 @@ func progress(o *Options) func(int, float64) {
 // project reads the dumps and turns them into the model's scaled feature
 // space.
 func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
+	// Only the model's channels are read unless the options choose: a
+	// model trained on some channels of a dump applies to the whole dump.
+	if len(o.Ingest.Channels) == 0 {
+		o.Ingest.Channels = features.Channels(m.FeatureNames)
+	}
 	ds, err := readInput(o, res)
 	if err != nil {
 		return err

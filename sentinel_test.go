@@ -58,3 +58,33 @@ func TestSentinelKeepsFeatureSet(t *testing.T) {
 		t.Errorf("features of the clean dump %d, with one bad sensor %d:\n%v\n%v", len(names[0]), len(names[1]), names[0], names[1])
 	}
 }
+
+// A model trained on some channels applies to the whole dump: assign once
+// listed dozens of "extra" features of the channels left out. Asked for
+// other channels, it says which channels the model uses.
+func TestAssignUsesTheModelsChannels(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end run")
+	}
+	fleet := fleetT(t, 12, 1)
+	dump := filepath.Join(t.TempDir(), "dump.csv")
+	writeDump(t, dump, fleet, fleet.Spec.Start, fleet.Spec.Start.Add(7*24*time.Hour), 0, 0, 1)
+	o := options(dump)
+	o.Ingest.Channels = []string{"flow", "pressure"}
+	trained, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := kinmap.Assign(options(dump), trained.Model)
+	if err != nil {
+		t.Fatalf("assign without --channels: %v", err)
+	}
+	if !slices.Equal(res.Ingest.Channels, []string{"flow", "pressure"}) {
+		t.Errorf("assign read channels %v", res.Ingest.Channels)
+	}
+	other := options(dump)
+	other.Ingest.Channels = []string{"flow", "current"}
+	if _, err := kinmap.Assign(other, trained.Model); err == nil || !strings.Contains(err.Error(), "which uses the channels flow, pressure") {
+		t.Errorf("assign with other channels: %v, want the model's channels named", err)
+	}
+}

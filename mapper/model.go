@@ -17,6 +17,8 @@ import (
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/features"
 )
 
 // FormatVersion is the version of the model file this package writes, and
@@ -225,7 +227,8 @@ func (m *Model) CheckSchema(names []string) error {
 		if len(extra) > 0 {
 			parts = append(parts, "extra "+strings.Join(extra, ", "))
 		}
-		return fmt.Errorf("mapper: the feature table does not match the model: %s", strings.Join(parts, "; "))
+		return fmt.Errorf("mapper: the feature table does not match the model, which uses the channels %s: %s",
+			strings.Join(features.Channels(m.FeatureNames), ", "), strings.Join(parts, "; "))
 	}
 	for i, n := range names {
 		if n != m.FeatureNames[i] {

@@ -227,18 +227,7 @@ func TestDecodeFromEarlierState(t *testing.T) {
 				initial[k] = sc
 			}
 		}
-		forced := make([][]float64, 0, from.dwell+T)
-		for range from.dwell {
-			row := make([]float64, K)
-			for k := range row {
-				if k != from.state {
-					row[k] = math.Inf(1)
-				}
-			}
-			forced = append(forced, row)
-		}
-		forced = append(forced, costs...)
-		want, wantCost, second := bruteForce(forced, sc, nil, minDwell)
+		want, wantCost, second := bruteForce(forcedPrefix(from.state, from.dwell, costs), sc, nil, minDwell)
 		got, gotCost := decode(costs, sc, initial, minDwell, from)
 		if math.Abs(gotCost-wantCost) > 1e-9 {
 			t.Fatalf("trial %d (T=%d K=%d dwell %d, from %v): cost %g for %v, brute force %g for %v", trial, T, K, minDwell, from, gotCost, got, wantCost, want[from.dwell:])
@@ -269,26 +258,31 @@ func TestDecodeHugeDwell(t *testing.T) {
 		// forced steps with a minimum dwell of T+1, brute-forced.
 		from := start{state: r.IntN(K), dwell: huge - 1}
 		initial := make([]float64, K)
-		forced := make([][]float64, 0, 2*T)
 		for k := range initial {
 			if k != from.state {
 				initial[k] = sc
 			}
 		}
-		for range T {
-			row := make([]float64, K)
-			for k := range row {
-				if k != from.state {
-					row[k] = math.Inf(1)
-				}
-			}
-			forced = append(forced, row)
-		}
-		forced = append(forced, costs...)
-		want, wantCost, _ = bruteForce(forced, sc, nil, T+1)
+		want, wantCost, _ = bruteForce(forcedPrefix(from.state, T, costs), sc, nil, T+1)
 		got, gotCost = decode(costs, sc, initial, huge, from)
 		if math.Abs(gotCost-wantCost) > 1e-9 || !slices.Equal(got, want[T:]) {
 			t.Fatalf("trial %d: from %v: cost %g for %v, brute force %g for %v", trial, from, gotCost, got, wantCost, want[T:])
 		}
 	}
+}
+
+// forcedPrefix returns costs after steps that only state may take, so that
+// exhaustive search sees a segment of that state already steps long.
+func forcedPrefix(state, steps int, costs [][]float64) [][]float64 {
+	forced := make([][]float64, 0, steps+len(costs))
+	for range steps {
+		row := make([]float64, len(costs[0]))
+		for k := range row {
+			if k != state {
+				row[k] = math.Inf(1)
+			}
+		}
+		forced = append(forced, row)
+	}
+	return append(forced, costs...)
 }

@@ -87,3 +87,16 @@ func TestPrintUsageDefaults(t *testing.T) {
 		}
 	}
 }
+
+// Library warnings name settings by their fields; the command words them
+// with its options.
+func TestWordWarning(t *testing.T) {
+	for _, tt := range []struct{ in, want string }{
+		{"mapper: 57% of the 56 units win no window, so the winners form thin lines across the map: use a smaller grid or a larger initial neighbourhood width (Config.Sigma0)",
+			"use a smaller grid or a larger initial neighbourhood width (--sigma0)"},
+	} {
+		if got := WordWarning(tt.in); !strings.HasSuffix(got, tt.want) {
+			t.Errorf("WordWarning(%q) = %q, want it to end %q", tt.in, got, tt.want)
+		}
+	}
+}

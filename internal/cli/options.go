@@ -165,7 +165,7 @@ func Report(stdout, stderr io.Writer, res *kinmap.Result, dir string) {
 	fmt.Fprintf(stdout, "%d sites, %d windows, %d regimes on a %dx%d map, %d switches, %d unfamiliar windows\n",
 		c.Sites, c.Windows, c.Regimes, res.Model.Map.Lattice.Cols, res.Model.Map.Lattice.Rows, c.Switches, c.Unfamiliar)
 	for _, w := range res.Info.Warnings {
-		fmt.Fprintf(stderr, "warning: %s\n", w)
+		fmt.Fprintf(stderr, "warning: %s\n", WordWarning(w))
 	}
 	fmt.Fprintf(stdout, "outputs in %s; open %s first\n", dir, filepath.Join(dir, export.ReportFile))
 }

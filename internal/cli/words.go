@@ -14,6 +14,14 @@ import (
 // library's errors name.
 var flagNames = map[string]string{"Window": "--window", "Stride": "--stride"}
 
+// fieldFlags words the settings that library warnings name by their
+// fields with the options that set them.
+var fieldFlags = strings.NewReplacer("(Config.Sigma0)", "(--sigma0)")
+
+// WordWarning returns a warning of the library in the words of the
+// command's options.
+func WordWarning(w string) string { return fieldFlags.Replace(w) }
+
 // Words returns the message of err in the words of the run command's
 // options: the library reports settings by their fields, the command by
 // its options.

@@ -186,6 +186,9 @@ func (t *regTable) addBatch(b *batch, key, lat, lon int, attrOf []*attrColumn) e
 	if err != nil {
 		return err
 	}
+	if err := b.checkUTF8(codes, dict, b.cols[key].name, "site id"); err != nil {
+		return err
+	}
 	for i, c := range codes {
 		if c < 0 {
 			return b.errAt(i, b.cols[key].name, "empty site id")

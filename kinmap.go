@@ -13,6 +13,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"path/filepath"
 	"slices"
 	"time"
@@ -243,6 +244,13 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 		return nil, err
 	}
 	res.Ingest = ds.Summary
+	for _, site := range slices.Sorted(maps.Keys(ds.Summary.Sentinels)) {
+		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("site %s: %d readings of magnitude %g or more dropped as sentinel values (bad-quality markers)",
+			site, ds.Summary.Sentinels[site], ingest.SentinelMagnitude))
+	}
+	if u := ds.Summary.EpochUnit; u != nil {
+		res.Info.Warnings = append(res.Info.Warnings, u.Error())
+	}
 	o.logf("%s", ds.Summary.String())
 	return ds, nil
 }

@@ -124,6 +124,11 @@ func progress(o *Options) func(int, float64) {
 // project reads the dumps and turns them into the model's scaled feature
 // space.
 func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
+	// Only the model's channels are read unless the options choose: a
+	// model trained on some channels of a dump applies to the whole dump.
+	if len(o.Ingest.Channels) == 0 {
+		o.Ingest.Channels = features.Channels(m.FeatureNames)
+	}
 	ds, err := readInput(o, res)
 	if err != nil {
 		return err
@@ -146,14 +151,43 @@ func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
 
 // OptionError returns err as a *UsageError when it reports a name that the
 // feature list or the weights of the options give and the data lacks
-// (features.ErrUnknownName): a misspelt option, which only the data could
-// reveal. It is for runs that take their features from the options; assign
+// (features.ErrUnknownName), or windows that do not suit the data
+// (features.StepError, features.WindowLimitError): a misspelt option,
+// which only the data could reveal. It is for runs that take their features from the options; assign
 // and update take them from the model, where such a name is a data error.
 func OptionError(err error) error {
-	if errors.Is(err, features.ErrUnknownName) {
+	var (
+		step  *features.StepError
+		limit *features.WindowLimitError
+	)
+	if errors.Is(err, features.ErrUnknownName) || errors.As(err, &step) || errors.As(err, &limit) {
 		return &UsageError{err}
 	}
 	return err
+}
+
+// NoWindowError reports a dump of which every window was skipped, by the
+// coverage rule or for want of readings.
+type NoWindowError struct {
+	Reasons string // windows skipped for each reason, such as "12 for low coverage"
+	// Unit is set when integer epoch times look like another unit than
+	// the one they were read in, the likely cause.
+	Unit *ingest.UnitError
+}
+
+func (e *NoWindowError) Error() string {
+	if e.Unit != nil {
+		return fmt.Sprintf("kinmap: no usable window: every window of every site was skipped (%s): %v", e.Reasons, e.Unit)
+	}
+	return fmt.Sprintf("kinmap: no usable window: every window of every site was skipped (%s); lower the minimum coverage or lengthen the window", e.Reasons)
+}
+
+// Unwrap returns the likely cause, nil when none is known.
+func (e *NoWindowError) Unwrap() error {
+	if e.Unit == nil {
+		return nil
+	}
+	return e.Unit
 }
 
 func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) error {
@@ -162,7 +196,7 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 		return err
 	}
 	if len(t.Windows) == 0 {
-		return fmt.Errorf("kinmap: no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", skipReasons(t))
+		return &NoWindowError{Reasons: skipReasons(t), Unit: res.Ingest.EpochUnit}
 	}
 	res.Table = t
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))

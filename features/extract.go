@@ -91,6 +91,9 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := checkData(ds, p, cfg); err != nil {
+		return nil, err
+	}
 	clk := clock{loc: loc}
 	if loc == time.UTC {
 		clk.loc = nil

@@ -395,3 +395,12 @@ func TestOrderAndWorkers(t *testing.T) {
 		}
 	}
 }
+
+// Channels reads the channels back from feature names, those of pairs
+// included; a channel name may hold a dot.
+func TestChannelsOfNames(t *testing.T) {
+	got := Channels([]string{"pump.flow.mean", "pump.flow.p95", "pressure.std", "pressure~temp.corr", "temp.mean"})
+	if want := []string{"pressure", "pump.flow", "temp"}; !slices.Equal(got, want) {
+		t.Errorf("Channels = %v, want %v", got, want)
+	}
+}

@@ -204,3 +204,23 @@ func (c Config) location() (*time.Location, error) {
 	}
 	return loc, nil
 }
+
+// Channels returns the channels that feature names (<channel>.<stat> and
+// <a>~<b>.corr) are computed from, sorted, each once.
+func Channels(names []string) []string {
+	var out []string
+	for _, name := range names {
+		i := strings.LastIndex(name, ".")
+		if i < 0 {
+			continue
+		}
+		ch, stat := name[:i], name[i+1:]
+		if a, b, ok := strings.Cut(ch, pairSep); ok && stat == corrStat {
+			out = append(out, a, b)
+		} else {
+			out = append(out, ch)
+		}
+	}
+	slices.Sort(out)
+	return slices.Compact(out)
+}

@@ -23,6 +23,9 @@ type arrowSource struct {
 
 func openArrowFile(f *os.File) (src *arrowSource, err error) {
 	defer recoverCorrupt(&err)
+	if err := checkArrowFile(f); err != nil {
+		return nil, fmt.Errorf("not a readable Arrow IPC file (truncated or corrupt?): %w", err)
+	}
 	r, err := ipc.NewFileReader(f)
 	if err != nil {
 		return nil, fmt.Errorf("not a readable Arrow IPC file (truncated or corrupt?): %w", err)
@@ -37,9 +40,9 @@ func openArrowFile(f *os.File) (src *arrowSource, err error) {
 	}, func() { r.Close() }), nil
 }
 
-func openArrowStream(rd io.Reader) (src *arrowSource, err error) {
+func openArrowStream(rd io.Reader, size int64) (src *arrowSource, err error) {
 	defer recoverCorrupt(&err)
-	r, err := ipc.NewReader(rd)
+	r, err := ipc.NewReader(newCheckedStream(rd, size))
 	if err != nil {
 		return nil, fmt.Errorf("not a readable Arrow IPC stream (truncated or corrupt?): %w", err)
 	}
@@ -121,6 +124,9 @@ func (s *arrowSource) next(want []bool) (b *batch, err error) {
 	s.row += rec.NumRows()
 	err = b.fill(s.fields, want, func(i int, fl *field) (*column, error) {
 		c := &column{field: fl}
+		if n := rec.Column(i).Len(); n != b.n {
+			return nil, colErr(fl.name, "%d values in a record batch of %d rows (truncated or corrupt file?)", n, b.n)
+		}
 		if err := fromArrow(c, rec.Column(i)); err != nil {
 			return nil, colErr(fl.name, "%v", err)
 		}
@@ -136,6 +142,17 @@ func (s *arrowSource) next(want []bool) (b *batch, err error) {
 // released once read).
 func fromArrow(c *column, a arrow.Array) error {
 	n := a.Len()
+	// Every type read takes at least a bit per row in its buffers; a row
+	// count beyond that is a damaged file, refused before allocating.
+	var held int
+	for _, b := range a.Data().Buffers() {
+		if b != nil {
+			held += b.Len()
+		}
+	}
+	if n > 8*held {
+		return fmt.Errorf("%d rows held in %d bytes (truncated or corrupt file?)", n, held)
+	}
 	if a.NullN() > 0 {
 		c.valid = make([]bool, n)
 		for i := range c.valid {

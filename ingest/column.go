@@ -69,6 +69,17 @@ type batch struct {
 	first int64     // row of the file the batch starts at, from 0
 	lines []int32   // CSV: line of each row
 	cols  []*column // by field index; nil for columns not asked for
+	// epoch is the first integer epoch time of the batch, as written, for
+	// telling the unit it looks like; epochSeen when there is one.
+	epoch     int64
+	epochSeen bool
+}
+
+// sawEpoch records v as the batch's first integer epoch time.
+func (b *batch) sawEpoch(v int64) {
+	if !b.epochSeen {
+		b.epoch, b.epochSeen = v, true
+	}
 }
 
 // fill decodes the columns marked in want, once it has checked that each
@@ -281,6 +292,9 @@ func (b *batch) times(c *column, epochUnit int64) (ns []int64, state []uint8, na
 			state[i] = s
 		}
 		for i, v := range ns {
+			if c.kind == kindInt && !c.null(i) {
+				b.sawEpoch(v)
+			}
 			switch {
 			case v > hi || v < lo:
 				if !c.null(i) {
@@ -331,6 +345,7 @@ func (b *batch) times(c *column, epochUnit int64) (ns []int64, state []uint8, na
 				continue
 			}
 			if v, err := strconv.ParseInt(s, 10, 64); err == nil {
+				b.sawEpoch(v)
 				if v > maxNanos/epochUnit || v < minNanos/epochUnit {
 					state[i] = timeRange
 				} else {

@@ -225,3 +225,23 @@ func TestManyDistinctKeysWide(t *testing.T) {
 		t.Errorf("s12345/a: %+v", ser)
 	}
 }
+
+// Sentinels in a wide dump are dropped and counted by site, like those of a
+// long one (reference_test.go); values just below the rule are kept.
+func TestWideSentinelsBySite(t *testing.T) {
+	path := writeFile(t, "wide.csv", []byte("site,time,flow,temp\n"+
+		"A,2024-01-01T00:00:00Z,1,-3.4028234663852886e+38\n"+
+		"B,2024-01-01T00:00:00Z,1.7976931348623157e+308,2\n"+
+		"B,2024-01-01T00:01:00Z,-1e30,2\n"+
+		"B,2024-01-01T00:02:00Z,-9.99e29,2\n"))
+	ds := mustRead(t, []string{path}, nil)
+	if want := map[string]int64{"A": 1, "B": 2}; !reflect.DeepEqual(ds.Summary.Sentinels, want) {
+		t.Errorf("sentinels by site %v, want %v", ds.Summary.Sentinels, want)
+	}
+	if got := ds.Summary.Dropped[DropSentinel]; got != 3 {
+		t.Errorf("%d sentinels dropped, want 3", got)
+	}
+	if got := seriesOf(t, ds, "B", "flow"); len(got.Values) != 1 || got.Values[0] != -9.99e29 {
+		t.Errorf("B flow = %v, want the one value below the rule", got.Values)
+	}
+}

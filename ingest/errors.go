@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"time"
 )
 
 // ErrUsage marks errors caused by the way the package was called (options,
@@ -73,4 +74,35 @@ func inFile(err error, path string) error {
 		return err
 	}
 	return &Error{File: path, Err: err}
+}
+
+// UnitError reports integer epoch times that look like another unit than
+// the one they are read in: read in that unit they fall between 1990 and
+// 2100, read in the one given they do not.
+type UnitError struct {
+	Sample int64  // an epoch time as written
+	Given  string // the unit read, as Options.TimeUnit
+	Likely string // the unit it looks like
+}
+
+func (e *UnitError) Error() string {
+	return fmt.Sprintf("integer times such as %d look like epochs in %s, not %s", e.Sample, unitWords[e.Likely], unitWords[e.Given])
+}
+
+// unitWords name the units of Options.TimeUnit.
+var unitWords = map[string]string{"s": "seconds", "ms": "milliseconds", "us": "microseconds", "ns": "nanoseconds"}
+
+// likelyUnit returns the unit in which epoch v falls between 1990 and
+// 2100, the years of digital sensor records (common practice, no source),
+// or "" when none does. The units are 1000 times apart, and the span 110
+// years, so at most one fits.
+func likelyUnit(v int64) string {
+	lo, hi := float64(time.Date(1990, 1, 1, 0, 0, 0, 0, time.UTC).Unix()), float64(time.Date(2100, 1, 1, 0, 0, 0, 0, time.UTC).Unix())
+	for _, u := range []string{"s", "ms", "us", "ns"} {
+		ns, _ := unitNanos(u)
+		if s := float64(v) * float64(ns) / 1e9; s >= lo && s < hi {
+			return u
+		}
+	}
+	return ""
 }

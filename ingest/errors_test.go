@@ -12,7 +12,7 @@ import (
 
 const goodCSV = "site,time,channel,value\nA,2024-01-01T00:00:00Z,flow,1\n"
 
-func smallRecord(t *testing.T) arrow.RecordBatch {
+func smallRecord(t testing.TB) arrow.RecordBatch {
 	schema := arrow.NewSchema([]arrow.Field{
 		{Name: "site", Type: arrow.BinaryTypes.String},
 		{Name: "time", Type: &arrow.TimestampType{Unit: arrow.Millisecond, TimeZone: "UTC"}},
@@ -118,6 +118,12 @@ func TestBadInput(t *testing.T) {
 		{"position out of range", func() []string {
 			return []string{writeFile(t, "p.csv", []byte("site,time,lat,lon,v\nA,1,48.1,11.5,1\nA,2,148.1,11.5,1\n"))}
 		}, nil, false, []string{"p.csv: line 3: latitude 148.1", "look swapped"}},
+		{"one latitude of 999", func() []string {
+			return []string{writeFile(t, "p.csv", []byte("site,time,lat,lon,v\nA,1,48.1,11.5,1\nA,2,999,11.5,1\n"))}
+		}, nil, false, []string{`p.csv: line 3: latitude 999 (column "lat") is outside [-90, 90]`}},
+		{"NaN latitude", func() []string {
+			return []string{writeFile(t, "p.csv", []byte("site,time,lat,lon,v\nA,1,48.1,11.5,1\nA,2,NaN,11.5,1\n"))}
+		}, nil, false, []string{`p.csv: line 3: latitude NaN (column "lat") is not a number`}},
 		{"lat without lon", func() []string { return []string{writeFile(t, "l.csv", []byte("site,time,lat,v\nA,1,48.1,1\n"))} },
 			nil, false, []string{`l.csv: column "lat": position column without its partner "lon"`}},
 		{"unknown time unit", func() []string { return []string{writeFile(t, "u.csv", []byte(goodCSV))} },
@@ -198,5 +204,75 @@ func TestValidate(t *testing.T) {
 		case tt.want != "" && (err == nil || !strings.Contains(err.Error(), tt.want) || !errors.Is(err, ErrUsage)):
 			t.Errorf("%s: error %v, want a usage error with %q", tt.name, err, tt.want)
 		}
+	}
+}
+
+// Names that are not UTF-8 are refused naming the row and the encoding
+// problem: written as they are they make invalid GeoJSON (RFC 8259 section
+// 8.1), and replaced by U+FFFD the distinct ids caf\xe9 and caf\xe8 merged
+// into one site.
+func TestNotUTF8(t *testing.T) {
+	schema := arrow.NewSchema([]arrow.Field{
+		{Name: "site", Type: arrow.BinaryTypes.String},
+		{Name: "time", Type: arrow.PrimitiveTypes.Int64},
+		{Name: "flow", Type: arrow.PrimitiveTypes.Float64},
+	}, nil)
+	rec := record(t, schema, [][]any{{"café", 1, 1.0}, {"caf\xe9", 2, 1.0}, {"caf\xe8", 3, 1.0}})
+	defer rec.Release()
+	latin1 := "site,time,flow\ncaf\xe9,1,1\ncaf\xe8,2,1\n"
+	late := "site,time,flow\n" + strings.Repeat("plain,1,1\n", 500) + "caf\xe9,1,1\n"
+	tests := []struct {
+		name, path, want string
+	}{
+		{"arrow site ids", writeArrowIPC(t, "ids.arrow", false, rec), `row 2: column "site": site id "caf\xe9" is not UTF-8 (byte 0xe9 at offset 3)`},
+		{"Latin-1 CSV", writeFile(t, "latin1.csv", []byte(latin1)), "line 2: text that is not UTF-8 (byte 0xe9)"},
+		{"Latin-1 past the head", writeFile(t, "late.csv", []byte(late)), `line 502: column "site": site id "caf\xe9" is not UTF-8`},
+		{"Latin-1 channel", writeFile(t, "long.csv", []byte("site,time,channel,value\na,1,d\xe9bit,1\n")), "line 2: text that is not UTF-8 (byte 0xe9)"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			_, err := Read([]string{tt.path}, DefaultOptions())
+			if err == nil || !strings.Contains(err.Error(), tt.want) || !strings.Contains(err.Error(), "convert it to UTF-8") {
+				t.Errorf("error %v, want one saying %q", err, tt.want)
+			}
+		})
+	}
+}
+
+// Integer epochs read in the wrong unit once ended in "time out of range"
+// (milliseconds read as seconds) or in a coverage error far downstream
+// (seconds read as milliseconds). The summary, and the error when nothing
+// is left, say which unit the values look like. 1780000000 s is
+// 2026-05-28T20:26:40Z (date -u -d @1780000000).
+func TestEpochUnitHint(t *testing.T) {
+	tests := []struct {
+		name, cells, unit, likely string
+		fails                     bool
+	}{
+		{"ms read as s", "1780000000000", "s", "ms", true},
+		{"s read as ms", "1780000000", "ms", "s", false},
+		{"us read as ns", "1780000000000000", "ns", "us", false},
+		{"s read as s", "1780000000", "s", "", false},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			path := writeFile(t, "epochs.csv", []byte("site,time,channel,value\na,"+tt.cells+",flow,1\n"))
+			ds, err := Read([]string{path}, Options{SiteCol: "site", TimeCol: "time", ChannelCol: "channel", ValueCol: "value", TimeUnit: tt.unit})
+			var ue *UnitError
+			switch {
+			case tt.fails:
+				if !errors.As(err, &ue) || ue.Likely != tt.likely || !strings.Contains(err.Error(), "look like epochs in milliseconds, not seconds") {
+					t.Fatalf("error %v, want one saying the times look like %s", err, tt.likely)
+				}
+			case err != nil:
+				t.Fatal(err)
+			case tt.likely == "":
+				if ds.Summary.EpochUnit != nil {
+					t.Errorf("hint %v for times in the unit given", ds.Summary.EpochUnit)
+				}
+			case ds.Summary.EpochUnit == nil || ds.Summary.EpochUnit.Likely != tt.likely || ds.Summary.EpochUnit.Given != tt.unit:
+				t.Errorf("hint %+v, want %s for %s", ds.Summary.EpochUnit, tt.likely, tt.unit)
+			}
+		})
 	}
 }

@@ -2,6 +2,7 @@ package ingest
 
 import (
 	"bytes"
+	"fmt"
 	"unicode/utf8"
 )
 
@@ -65,4 +66,33 @@ func isText(b []byte) bool {
 		b = b[size:]
 	}
 	return true
+}
+
+// notUTF8 explains a head that DetectFormat refused although it reads as
+// text but for bytes that are not UTF-8, such as Latin-1 letters: an
+// encoding problem, not a file of an unknown format. It returns nil for
+// binary data.
+func notUTF8(head []byte) error {
+	bad := -1
+	for i := 0; i < len(head); {
+		r, size := utf8.DecodeRune(head[i:])
+		switch {
+		case r == utf8.RuneError && size <= 1:
+			if !utf8.FullRune(head[i:]) {
+				i = len(head)
+				continue
+			}
+			if bad < 0 {
+				bad = i
+			}
+		case r < 0x20 && r != '\t' && r != '\r' && r != '\n' || r == 0x7f:
+			return nil
+		}
+		i += max(size, 1)
+	}
+	if bad < 0 {
+		return nil
+	}
+	return &Error{Line: bytes.Count(head[:bad], []byte("\n")) + 1,
+		Err: fmt.Errorf("text that is not UTF-8 (byte 0x%02x): the file has another encoding; convert it to UTF-8 (for example iconv -f latin1 -t utf-8)", head[bad])}
 }

@@ -100,7 +100,17 @@ const (
 	DropNullValue   = "null value"
 	DropNaN         = "NaN value"
 	DropInf         = "infinite value"
+	DropSentinel    = "sentinel value"
 )
+
+// SentinelMagnitude is the magnitude from which a finite reading is taken
+// for a sentinel, not a measurement, and dropped (DropSentinel): historians
+// and loggers mark bad-quality or missing readings with the largest float64
+// (±1.797e308), the largest float32 (±3.4e38) or ±1e30 (common practice, no
+// source). No quantity a sensor reports in any unit comes near it, and
+// squares of smaller values stay finite, so one marked reading cannot turn
+// a window's statistics into infinities.
+const SentinelMagnitude = 1e30
 
 // DefaultOptions returns the column names the command uses by default.
 func DefaultOptions() Options {
@@ -153,18 +163,22 @@ type Dataset struct {
 
 // Summary says what was read and what was dropped.
 type Summary struct {
-	Files          []FileSummary
-	Layout         string // "long" or "wide"
-	Rows           int64  // rows read from all files
-	Readings       int64  // readings kept
-	Sites          int
-	Channels       []string
-	Start, End     time.Time        // earliest and latest reading kept
-	Dropped        map[string]int64 // readings dropped, by reason
-	Duplicates     int64            // duplicate (site, channel, time) readings resolved
-	SkippedColumns []string         // non-numeric extra columns of a wide dump
-	NaiveTime      bool             // timestamps without UTC adjustment were read as UTC
-	Unregistered   []string         // sites in the dump but not in the register
+	Files      []FileSummary
+	Layout     string // "long" or "wide"
+	Rows       int64  // rows read from all files
+	Readings   int64  // readings kept
+	Sites      int
+	Channels   []string
+	Start, End time.Time        // earliest and latest reading kept
+	Dropped    map[string]int64 // readings dropped, by reason
+	Sentinels  map[string]int64 // readings dropped as sentinels (DropSentinel), by site
+	// EpochUnit is set when integer epoch times look like another unit
+	// than Options.TimeUnit.
+	EpochUnit      *UnitError `json:",omitempty"`
+	Duplicates     int64      // duplicate (site, channel, time) readings resolved
+	SkippedColumns []string   // non-numeric extra columns of a wide dump
+	NaiveTime      bool       // timestamps without UTC adjustment were read as UTC
+	Unregistered   []string   // sites in the dump but not in the register
 }
 
 // FileSummary describes one file read.

@@ -70,6 +70,9 @@ func openInput(path string) (*input, error) {
 		if len(bytes.TrimSpace(bytes.TrimPrefix(head, utf8BOM))) == 0 {
 			return nil, errors.New("empty file")
 		}
+		if err := notUTF8(head); err != nil {
+			return nil, err
+		}
 		return nil, errors.New("not a Parquet, Arrow IPC, CSV or GeoJSON file")
 	}
 	return in, nil
@@ -82,6 +85,15 @@ func (in *input) close() {
 	in.f.Close()
 }
 
+// size bounds the bytes the content may hold: the size of a plain file,
+// maxArrowBody for a decompressed one.
+func (in *input) size() int64 {
+	if st, err := in.f.Stat(); err == nil && in.gz == nil {
+		return st.Size()
+	}
+	return maxArrowBody
+}
+
 // source opens the columnar reader of the input; GeoJSON has none.
 func (in *input) source() (source, error) {
 	switch in.format {
@@ -90,7 +102,7 @@ func (in *input) source() (source, error) {
 	case FormatArrowFile:
 		return openArrowFile(in.f)
 	case FormatArrowStream:
-		return openArrowStream(in.r)
+		return openArrowStream(in.r, in.size())
 	case FormatCSV:
 		return openCSV(in.r)
 	}

@@ -1,10 +1,12 @@
 package ingest
 
 import (
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"io"
 	"os"
+	"slices"
 
 	"github.com/apache/arrow-go/v18/arrow/float16"
 	"github.com/parquet-go/parquet-go"
@@ -35,7 +37,15 @@ func openParquet(f *os.File) (src *parquetSource, err error) {
 	if err != nil {
 		return nil, fmt.Errorf("not a readable Parquet file (truncated or corrupt?): %w", err)
 	}
-	elems := leafElements(pf.Metadata().Schema)
+	elems, paths := leafElements(pf.Metadata().Schema)
+	var tail [8]byte
+	if _, err := f.ReadAt(tail[:], st.Size()-8); err != nil {
+		return nil, err
+	}
+	dataEnd := st.Size() - 8 - int64(binary.LittleEndian.Uint32(tail[:4]))
+	if err := checkParquetFooter(pf.Metadata(), elems, paths, dataEnd); err != nil {
+		return nil, fmt.Errorf("Parquet footer does not fit the file (corrupt?): %w", err)
+	}
 	src = &parquetSource{file: pf, free: make(chan *batch, 4)}
 	var row int64
 	for _, g := range pf.RowGroups() {
@@ -72,15 +82,35 @@ func recoverCorrupt(err *error) {
 }
 
 // leafElements lists the schema elements of the leaf columns in column
-// order (depth first, as the schema stores them).
-func leafElements(schema []format.SchemaElement) []*format.SchemaElement {
-	var leaves []*format.SchemaElement
+// order (depth first, as the schema stores them) and their paths.
+func leafElements(schema []format.SchemaElement) ([]*format.SchemaElement, [][]string) {
+	var (
+		leaves []*format.SchemaElement
+		paths  [][]string
+		path   []string
+		left   []int32 // children still to come at each level
+	)
 	for i := range schema {
-		if i > 0 && schema[i].Type.Valid { // schema[0] is the root
-			leaves = append(leaves, &schema[i])
+		for len(left) > 0 && left[len(left)-1] == 0 {
+			left, path = left[:len(left)-1], path[:max(len(path)-1, 0)]
 		}
+		if len(left) > 0 {
+			left[len(left)-1]--
+		}
+		e := &schema[i]
+		if i == 0 { // the root, not part of paths
+			left = append(left, e.NumChildren.V)
+			continue
+		}
+		if e.Type.Valid {
+			leaves = append(leaves, e)
+			paths = append(paths, append(slices.Clone(path), e.Name))
+			continue
+		}
+		path = append(path, e.Name)
+		left = append(left, e.NumChildren.V)
 	}
-	return leaves
+	return leaves, paths
 }
 
 // parquetField maps the types of a leaf column as the Parquet format's

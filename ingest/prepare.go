@@ -1,21 +1,27 @@
 package ingest
 
-import "slices"
+import (
+	"slices"
+	"unicode/utf8"
+)
 
 // prepared is a batch turned into readings grouped by series, by work that
 // needs nothing shared between batches, so that batches are prepared in
 // parallel; merge then files them, in read order, under global site and
 // channel numbers.
 type prepared struct {
-	b        *batch   // nil once merge needs it no more
-	rows     int      // rows of the batch
-	siteDict []string // the sites of the batch, by local code
-	chanDict []string // long: the channels of the batch; wide: the candidate columns
-	naive    bool
-	drops    [nDrops]int64 // row drops, and value drops of a long batch
-	cols     []wideColumn  // wide: by candidate column
-	arena    arena
-	pos      positions
+	b         *batch   // nil once merge needs it no more
+	rows      int      // rows of the batch
+	siteDict  []string // the sites of the batch, by local code
+	chanDict  []string // long: the channels of the batch; wide: the candidate columns
+	naive     bool
+	drops     [nDrops]int64 // row drops, and value drops of a long batch
+	sentinel  []int64       // long: sentinels dropped, by local site code
+	epoch     int64         // the batch's first integer epoch time, if epochSeen
+	epochSeen bool
+	cols      []wideColumn // wide: by candidate column
+	arena     arena
+	pos       positions
 	// When a batch has too many sites and channels for a table of every
 	// pair, keys number the pairs met: pairs[key] = site*len(chanDict) +
 	// channel. Otherwise a key is that number itself.
@@ -86,6 +92,8 @@ type wideColumn struct {
 	bad    int  // first row that is not a number, -1 for none
 	filled int  // rows with a cell that is not blank
 	drops  [nDrops]int64
+	// sentinels dropped, by local site code
+	sentinel []int64
 }
 
 // positions are the rows with a position, by local site code.
@@ -107,11 +115,15 @@ func (r *reader) prepare(b *batch, ro roles) (*prepared, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := b.checkUTF8(codes, dict, b.cols[ro.site].name, "site id"); err != nil {
+		return nil, err
+	}
 	ns, state, naive, err := b.times(b.cols[ro.time], r.epoch)
 	if err != nil {
 		return nil, err
 	}
 	p.siteDict, p.naive = dict, naive
+	p.epoch, p.epochSeen = b.epoch, b.epochSeen
 	sites := codes // local site of a row, -1 when it is dropped
 	if state != nil {
 		sites = make([]int32, b.n)
@@ -170,7 +182,7 @@ func (p *prepared) positions(b *batch, ro roles, sites []int32, ns []int64) erro
 		if s < 0 || latOK != nil && !latOK[i] || lonOK != nil && !lonOK[i] {
 			continue
 		}
-		if err := checkPosition(lat[i], lon[i], latC.name, lonC.name, lon[i] >= -90 && lon[i] <= 90); err != nil {
+		if err := checkPosition(lat[i], lon[i], latC.name, lonC.name, swappable(lat[i], lon[i])); err != nil {
 			return b.errAt(i, "", "%v", err)
 		}
 		p.pos.site = append(p.pos.site, s)
@@ -184,6 +196,9 @@ func (p *prepared) positions(b *batch, ro roles, sites []int32, ns []int64) erro
 func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []int32, ns []int64) error {
 	codes, dict, err := b.keys(b.cols[ro.channel])
 	if err != nil {
+		return err
+	}
+	if err := b.checkUTF8(codes, dict, b.cols[ro.channel].name, "channel name"); err != nil {
 		return err
 	}
 	vals, valid, err := b.floats(b.cols[ro.value])
@@ -207,9 +222,10 @@ func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []in
 			if code := codes[i]; s >= 0 && code >= 0 {
 				ch = chans[code]
 			}
-			// Nearly every row is kept: one test for them (v-v is 0
-			// only for a finite v), the reasons of the others after.
-			if ch >= 0 && v-v == 0 && (valid == nil || valid[lo+i]) {
+			// Nearly every row is kept: one test for them (false for
+			// NaN, infinities and sentinels), the reasons of the others
+			// after.
+			if ch >= 0 && v < SentinelMagnitude && v > -SentinelMagnitude && (valid == nil || valid[lo+i]) {
 				if pair := int64(s)*nch + int64(ch); direct {
 					t.put(i, int32(pair))
 				} else {
@@ -223,7 +239,11 @@ func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []in
 			case codes[i] < 0:
 				p.drops[dNullChannel]++
 			case ch >= 0:
-				p.drops[dropOf(v, valid != nil && !valid[lo+i])]++
+				d := dropOf(v, valid != nil && !valid[lo+i])
+				p.drops[d]++
+				if d == dSentinel {
+					p.sentinel = countSite(p.sentinel, s, len(p.siteDict))
+				}
 			}
 		}
 	})
@@ -257,6 +277,9 @@ func (p *prepared) wide(b *batch, c *column, j, nKeys int, sites []int32, ns []i
 			r := lo + i
 			if d := dropOf(vals[r], valid != nil && !valid[r]); d >= 0 {
 				wc.drops[d]++
+				if d == dSentinel {
+					wc.sentinel = countSite(wc.sentinel, s, len(p.siteDict))
+				}
 				continue
 			}
 			t.put(i, p.key(int64(s)*nch+int64(j)))
@@ -274,8 +297,20 @@ func dropOf(v float64, null bool) int {
 		return dNaN
 	case v-v != 0: // ±Inf
 		return dInf
+	case v >= SentinelMagnitude || v <= -SentinelMagnitude:
+		return dSentinel
 	}
 	return -1
+}
+
+// countSite adds one to the count of site s in counts, made for n sites
+// when nil.
+func countSite(counts []int64, s int32, n int) []int64 {
+	if counts == nil {
+		counts = make([]int64, n)
+	}
+	counts[s]++
+	return counts
 }
 
 // group files the readings of a batch into the arena, sorted by key and in
@@ -378,6 +413,9 @@ const groupBlock = 1 << 18
 func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 	b := p.b
 	r.sum.NaiveTime = r.sum.NaiveTime || p.naive
+	if p.epochSeen && !r.epochSeen {
+		r.epochSample, r.epochSeen = p.epoch, true
+	}
 	for i, n := range p.drops {
 		r.drops[i] += n
 	}
@@ -385,6 +423,7 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 	for j, id := range p.siteDict {
 		sites[j] = r.siteIndex(id)
 	}
+	r.addSentinels(p.sentinel, sites)
 	chans := make([]int32, len(p.chanDict))
 	for j, name := range p.chanDict {
 		if ro.channel >= 0 {
@@ -394,6 +433,9 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 		keep, err := r.wideColumn(b, b.cols[ro.channels[j]], &p.cols[j])
 		if err != nil {
 			return err
+		}
+		if keep {
+			r.addSentinels(p.cols[j].sentinel, sites)
 		}
 		chans[j] = -1
 		if keep {
@@ -473,4 +515,49 @@ func (r *reader) wideColumn(b *batch, c *column, wc *wideColumn) (keep bool, err
 		r.drops[i] += n
 	}
 	return true, nil
+}
+
+// addSentinels adds the sentinels of a batch, by local site code, to the
+// sites they belong to (sites maps local codes to global ones).
+func (r *reader) addSentinels(counts []int64, sites []int32) {
+	for j, n := range counts {
+		if n > 0 {
+			r.sites[sites[j]].sentinels += n
+		}
+	}
+}
+
+// checkUTF8 refuses names (site ids, channel names) that are not UTF-8,
+// naming the first row that holds one. They are keys of the outputs, and
+// GeoJSON and JSON must be UTF-8 (RFC 8259 section 8.1, RFC 7946): written
+// as they are they would become invalid files, and replacing the bad bytes
+// would merge distinct names such as "caf\xe9" and "caf\xe8". Guessing the
+// encoding could be wrong, so the user converts the file.
+func (b *batch) checkUTF8(codes []int32, dict []string, column, what string) error {
+	bad := -1
+	for j, name := range dict {
+		if !utf8.ValidString(name) {
+			bad = j
+			break
+		}
+	}
+	if bad < 0 {
+		return nil
+	}
+	name := dict[bad]
+	at := 0
+	for at < len(name) {
+		r, size := utf8.DecodeRuneInString(name[at:])
+		if r == utf8.RuneError && size <= 1 {
+			break
+		}
+		at += size
+	}
+	for i, c := range codes {
+		if int(c) == bad {
+			return b.errAt(i, column, "%s %q is not UTF-8 (byte 0x%02x at offset %d): the file has another encoding; convert it to UTF-8 (for example iconv -f latin1 -t utf-8)",
+				what, name, name[at], at)
+		}
+	}
+	return nil
 }

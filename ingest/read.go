@@ -43,7 +43,8 @@ import (
 // of rows holds anything else is skipped, and a later non-number in a
 // numeric column is an error). Null sites, null or out-of-range times, null
 // channels, and null, NaN or infinite values are dropped and counted in
-// Summary.Dropped.
+// Summary.Dropped; so are values of magnitude SentinelMagnitude or more,
+// bad-quality markers, which Summary.Sentinels also counts by site.
 //
 // Duplicates: of several readings of the same site, channel and time, the
 // one read last wins (files in the order given, rows in file order); the
@@ -134,10 +135,11 @@ const (
 	dNullValue
 	dNaN
 	dInf
+	dSentinel
 	nDrops
 )
 
-var dropNames = [nDrops]string{DropNullSite, DropNullTime, DropTimeRange, DropNullChannel, DropNullValue, DropNaN, DropInf}
+var dropNames = [nDrops]string{DropNullSite, DropNullTime, DropTimeRange, DropNullChannel, DropNullValue, DropNaN, DropInf, DropSentinel}
 
 // States of a candidate channel column of a wide dump.
 const (
@@ -161,6 +163,9 @@ type reader struct {
 	present  map[string]bool  // channels met that are not selected, and wide candidate columns
 	drops    [nDrops]int64
 	sum      Summary
+	// the first integer epoch time read, as written
+	epochSample int64
+	epochSeen   bool
 
 	kept       store      // the readings kept
 	arenas     chan arena // arenas merge is done with, for prepare to reuse
@@ -172,8 +177,9 @@ type reader struct {
 
 // siteAcc collects the positions of one site.
 type siteAcc struct {
-	id    string
-	track builder[[2]float64]
+	id        string
+	track     builder[[2]float64]
+	sentinels int64 // readings dropped as sentinels
 }
 
 func newReader(opt Options) *reader {
@@ -340,6 +346,10 @@ func (r *reader) skip(name string) {
 // reported as a sign of swapped columns.
 func checkPosition(lat, lon float64, latName, lonName string, swapHint bool) error {
 	switch {
+	case math.IsNaN(lat):
+		return fmt.Errorf("latitude NaN (column %q) is not a number", latName)
+	case math.IsNaN(lon):
+		return fmt.Errorf("longitude NaN (column %q) is not a number", lonName)
 	case !(lat >= -90 && lat <= 90) && swapHint:
 		return fmt.Errorf("latitude %g is outside [-90, 90] while the longitudes lie within [-90, 90]: the columns %q and %q look swapped", lat, latName, lonName)
 	case !(lat >= -90 && lat <= 90):
@@ -473,9 +483,22 @@ func (r *reader) finish() (*Dataset, error) {
 	sum.Channels = ds.Channels
 	sum.Sites = len(ds.Sites)
 	sum.Dropped = make(map[string]int64)
+	for _, sa := range r.sites {
+		if sa.sentinels > 0 {
+			if sum.Sentinels == nil {
+				sum.Sentinels = make(map[string]int64)
+			}
+			sum.Sentinels[sa.id] += sa.sentinels
+		}
+	}
 	for i, n := range r.drops {
 		if n > 0 {
 			sum.Dropped[dropNames[i]] = n
+		}
+	}
+	if r.epochSeen {
+		if likely := likelyUnit(r.epochSample); likely != "" && likely != r.opt.TimeUnit {
+			sum.EpochUnit = &UnitError{Sample: r.epochSample, Given: r.opt.TimeUnit, Likely: likely}
 		}
 	}
 	if sum.Readings == 0 {
@@ -483,7 +506,11 @@ func (r *reader) finish() (*Dataset, error) {
 		for i, f := range sum.Files {
 			paths[i] = f.Path
 		}
-		return nil, &Error{Err: fmt.Errorf("no readings in %s (%d rows%s)", strings.Join(paths, ", "), sum.Rows, dropList(sum.Dropped, "; dropped: "))}
+		err := fmt.Errorf("no readings in %s (%d rows%s)", strings.Join(paths, ", "), sum.Rows, dropList(sum.Dropped, "; dropped: "))
+		if sum.EpochUnit != nil {
+			err = fmt.Errorf("%w: %w", err, sum.EpochUnit)
+		}
+		return nil, &Error{Err: err}
 	}
 	sum.Start, sum.End = time.Unix(0, start).UTC(), time.Unix(0, end).UTC()
 	ds.Summary = *sum

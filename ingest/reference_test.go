@@ -39,23 +39,25 @@ func referenceRows() []reading {
 	}
 	at := func(k int) time.Time { return base.Add(time.Duration(k) * 15 * time.Minute) }
 	return append(rows,
-		reading{"A", at(3), "flow", 42.125},        // replaces the reading at 3
-		reading{"B", at(9), "flow", nil},           // null value
-		reading{"B", at(10), "flow", math.NaN()},   // NaN
-		reading{"C", at(11), "temp", math.Inf(-1)}, // -Inf
-		reading{nil, at(12), "temp", 1.0},          // null site
-		reading{"C", at(13), "temp", 5e-324},       // smallest subnormal
-		reading{"A", at(14), "temp", -1.7976931348623157e308},
+		reading{"A", at(3), "flow", 42.125},                   // replaces the reading at 3
+		reading{"B", at(9), "flow", nil},                      // null value
+		reading{"B", at(10), "flow", math.NaN()},              // NaN
+		reading{"C", at(11), "temp", math.Inf(-1)},            // -Inf
+		reading{nil, at(12), "temp", 1.0},                     // null site
+		reading{"C", at(13), "temp", 5e-324},                  // smallest subnormal
+		reading{"A", at(14), "temp", -1.7976931348623157e308}, // a historian's bad-quality marker
+		reading{"A", at(15), "temp", 9.999999999999999e29},    // the largest kept below the sentinel rule
 	)
 }
 
 // expectedSeries applies the documented rule to the rows directly: last
-// read wins, nulls, NaN and infinities dropped, times ascending.
+// read wins, nulls, NaN, infinities and sentinels (magnitude 1e30 or more)
+// dropped, times ascending.
 func expectedSeries(rows []reading) map[string]Series {
 	last := map[string]map[int64]float64{}
 	for _, r := range rows {
 		v, ok := r.value.(float64)
-		if r.site == nil || !ok || math.IsNaN(v) || math.IsInf(v, 0) {
+		if r.site == nil || !ok || math.IsNaN(v) || math.IsInf(v, 0) || math.Abs(v) >= 1e30 {
 			continue
 		}
 		key := r.site.(string) + "/" + r.channel
@@ -153,9 +155,12 @@ func TestSameSeriesAcrossFormats(t *testing.T) {
 				t.Errorf("series differ from the rows:\ngot  %v\nwant %v", got, want)
 			}
 			sum := ds.Summary
-			wantDrops := map[string]int64{DropNullValue: 1, DropNaN: 1, DropInf: 1, DropNullSite: 1}
+			wantDrops := map[string]int64{DropNullValue: 1, DropNaN: 1, DropInf: 1, DropNullSite: 1, DropSentinel: 1}
 			if !reflect.DeepEqual(sum.Dropped, wantDrops) {
 				t.Errorf("dropped %v, want %v", sum.Dropped, wantDrops)
+			}
+			if want := map[string]int64{"A": 1}; !reflect.DeepEqual(sum.Sentinels, want) {
+				t.Errorf("sentinels by site %v, want %v", sum.Sentinels, want)
 			}
 			if sum.Duplicates != 1 || sum.Rows != int64(len(rows)) || sum.Layout != "long" ||
 				sum.Files[0].Format != formats[name] || sum.NaiveTime {

@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"slices"
 	"strconv"
 	"strings"
@@ -92,7 +91,7 @@ func readRegister(path string, opt RegisterOptions) (*Register, error) {
 	for j, a := range t.attrs {
 		names[j] = a.name
 	}
-	if err := checkSites(sites, opt.LatCol, opt.LonCol); err != nil {
+	if err := checkSites(sites, opt.LatCol, opt.LonCol, func(id string) string { return t.at[id] }); err != nil {
 		return nil, err
 	}
 	return buildRegister(opt.Key, names, sites)
@@ -185,6 +184,9 @@ func columnarTable(in *input, opt RegisterOptions) (*regTable, error) {
 func (t *regTable) addBatch(b *batch, key, lat, lon int, attrOf []*attrColumn) error {
 	codes, dict, err := b.keys(b.cols[key])
 	if err != nil {
+		return err
+	}
+	if err := b.checkUTF8(codes, dict, b.cols[key].name, "site id"); err != nil {
 		return err
 	}
 	for i, c := range codes {
@@ -466,18 +468,17 @@ func inferJSON(vals []any) {
 	}
 }
 
-// checkSites checks the positions of located sites, and refuses a register
-// whose latitudes exceed ±90 while every longitude would fit as a latitude.
-func checkSites(sites []*Site, latName, lonName string) error {
-	swapped := true // every longitude would fit as a latitude
+// checkSites checks the positions of located sites, and says the columns
+// look swapped only when exchanging them would put every site in range.
+// where, when not nil, says where a site was read ("line 12").
+func checkSites(sites []*Site, latName, lonName string, where func(id string) string) error {
+	swapped := true
 	var bad *Site
 	for _, s := range sites {
 		if !s.Located {
 			continue
 		}
-		if math.Abs(s.Lon) > 90 {
-			swapped = false
-		}
+		swapped = swapped && swappable(s.Lat, s.Lon)
 		if bad == nil && checkPosition(s.Lat, s.Lon, latName, lonName, false) != nil {
 			bad = s
 		}
@@ -485,7 +486,16 @@ func checkSites(sites []*Site, latName, lonName string) error {
 	if bad == nil {
 		return nil
 	}
-	return fmt.Errorf("site %q: %w", bad.ID, checkPosition(bad.Lat, bad.Lon, latName, lonName, swapped))
+	at := ""
+	if where != nil && where(bad.ID) != "" {
+		at = where(bad.ID) + ": "
+	}
+	return fmt.Errorf("%ssite %q: %w", at, bad.ID, checkPosition(bad.Lat, bad.Lon, latName, lonName, swapped))
+}
+
+// swappable reports whether lat and lon would both be in range exchanged.
+func swappable(lat, lon float64) bool {
+	return lon >= -90 && lon <= 90 && lat >= -180 && lat <= 180
 }
 
 // NewRegister builds a register from sites made in code: it sorts them by
@@ -521,7 +531,7 @@ func buildRegister(key string, attrNames []string, sites []*Site) (*Register, er
 		}
 		r.index[s.ID] = s
 	}
-	if err := checkSites(r.Sites, "lat", "lon"); err != nil {
+	if err := checkSites(r.Sites, "lat", "lon", nil); err != nil {
 		return nil, err
 	}
 	return r, nil

@@ -2,6 +2,7 @@ package ingest
 
 import (
 	"errors"
+	"fmt"
 	"reflect"
 	"strings"
 	"testing"
@@ -135,6 +136,14 @@ func TestBadRegister(t *testing.T) {
 			`site "SYD": latitude 151.2093 is outside [-90, 90] while the longitudes lie within [-90, 90]: the columns "lat" and "lon" look swapped`},
 		{"latitude out of range", "site,lat,lon\nA,95,100\nB,10,-120\n", RegisterOptions{}, false,
 			`site "A": latitude 95 (column "lat") is outside [-90, 90]`},
+		// One bad latitude in a European fleet, whose longitudes all fit
+		// as latitudes, once read as swapped columns.
+		{"one latitude of 999", "site,lat,lon\nA,48.1,11.5\nB,999,12.0\nC,47.0,13.0\n", RegisterOptions{}, false,
+			`line 3: site "B": latitude 999 (column "lat") is outside [-90, 90]`},
+		{"NaN latitude", "site,lat,lon\nA,48.1,11.5\nB,NaN,12.0\n", RegisterOptions{}, false,
+			`line 3: site "B": latitude NaN (column "lat") is not a number`},
+		{"site id not UTF-8", "site,lat,lon\n" + distinctRows(500) + "caf\xe9,1,1\n", RegisterOptions{}, false,
+			`line 502: column "site": site id "caf\xe9" is not UTF-8`},
 		{"longitude out of range", "site,lat,lon\nA,10,181\n", RegisterOptions{}, false,
 			`site "A": longitude 181 (column "lon") is outside [-180, 180]`},
 		{"text latitude", "site,lat,lon\nA,north,1\n", RegisterOptions{}, false, `line 2: column "lat": "north" is not a number`},
@@ -147,6 +156,9 @@ func TestBadRegister(t *testing.T) {
 		_, err := ReadRegister(writeFile(t, "sites.csv", []byte(tt.text)), tt.opt)
 		if err == nil || !strings.Contains(err.Error(), tt.want) || errors.Is(err, ErrUsage) != tt.usage {
 			t.Errorf("%s: error %v, want one with %q (usage %v)", tt.name, err, tt.want, tt.usage)
+		}
+		if err != nil && strings.Contains(err.Error(), "swapped") != strings.Contains(tt.want, "swapped") {
+			t.Errorf("%s: error %v says swapped columns: %v, want %v", tt.name, err, !strings.Contains(tt.want, "swapped"), strings.Contains(tt.want, "swapped"))
 		}
 	}
 }
@@ -199,4 +211,14 @@ func TestReadWithRegister(t *testing.T) {
 	if !reflect.DeepEqual(ds.Summary.Unregistered, []string{"B", "C"}) || len(ds.Sites) != 3 {
 		t.Errorf("unregistered %v, %d sites", ds.Summary.Unregistered, len(ds.Sites))
 	}
+}
+
+// distinctRows returns n register rows of distinct ids, enough to pass the
+// head that the format is detected from.
+func distinctRows(n int) string {
+	var b strings.Builder
+	for i := range n {
+		fmt.Fprintf(&b, "S%04d,1,1\n", i)
+	}
+	return b.String()
 }

@@ -18,14 +18,14 @@ const (
 const minSide = 4
 
 // DefaultGrid proposes a lattice for n training windows: about 5·√n units
-// (common practice, no source), at least 4 along each side. Its aspect
+// (common practice, no source), at most MaxUnits, at least 4 along each side. Its aspect
 // ratio cols/rows follows sv1/sv2, the two leading singular values of the
 // centred data, which are proportional to the spread of the data along its
 // first two principal axes, so the lattice is stretched like the data. On a
 // hexagonal lattice the ratio is taken in the plane (rows are √3/2 apart) and
 // rows is rounded to an even number, as a hexagonal torus requires.
 func DefaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
-	units := 5 * math.Sqrt(float64(max(n, 1)))
+	units := math.Min(5*math.Sqrt(float64(max(n, 1))), MaxUnits)
 	ratio := 1.0
 	if sv1 > 0 && sv2 > 0 && !math.IsInf(sv1, 0) {
 		ratio = math.Max(sv1, sv2) / math.Min(sv1, sv2)
@@ -43,6 +43,9 @@ func DefaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
 		rows++
 	}
 	cols = max(minSide, int(math.Round(units/float64(rows))))
+	for cols*rows > MaxUnits { // a very stretched grid rounds up past the limit
+		cols--
+	}
 	return cols, rows
 }
 

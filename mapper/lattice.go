@@ -16,11 +16,19 @@ func NewLattice(cols, rows int, hex, flat bool) (Lattice, error) {
 	return l, l.Validate()
 }
 
+// MaxUnits is the largest lattice a map may have. The batch rule and the
+// BMU search each keep a units × units table of float64 (128 MiB at this
+// limit), so the limit bounds their memory before any is allocated; the
+// default grid reaches it only beyond about 670,000 training windows.
+const MaxUnits = 4096
+
 // Validate reports whether the lattice can be built.
 func (l Lattice) Validate() error {
 	switch {
 	case l.Cols < 1 || l.Rows < 1:
 		return fmt.Errorf("mapper: lattice %dx%d: both sides must be at least 1", l.Cols, l.Rows)
+	case l.Cols > MaxUnits || l.Rows > MaxUnits || l.Cols*l.Rows > MaxUnits:
+		return &LimitError{What: fmt.Sprintf("lattice %dx%d", l.Cols, l.Rows), Value: float64(l.Cols) * float64(l.Rows), Limit: MaxUnits, Unit: "units"}
 	case l.Hex && !l.Flat && l.Rows%2 != 0:
 		return fmt.Errorf("mapper: lattice %dx%d: a hexagonal torus needs an even number of rows, not %d", l.Cols, l.Rows, l.Rows)
 	case !l.Flat && (l.Cols < 3 || l.Rows < 3) && l.Cols*l.Rows > 1:

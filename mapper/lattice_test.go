@@ -1,6 +1,7 @@
 package mapper
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"strings"
@@ -167,4 +168,34 @@ func ExampleLattice_Neighbours() {
 	// Output:
 	// [1 3 4 12]
 	// [6 4 1 2 9 10]
+}
+
+// TestLatticeLimit checks that a lattice beyond MaxUnits is refused with a
+// LimitError before anything is allocated: --grid 1000x1000 ran out of
+// memory in the batch rule's units × units table.
+func TestLatticeLimit(t *testing.T) {
+	for _, tc := range []struct {
+		cols, rows int
+		ok         bool
+	}{
+		{64, 64, true},
+		{1000, 1000, false},
+		{MaxUnits + 1, 1, false},
+		{1 << 31, 1 << 31, false}, // the product overflows int32
+	} {
+		_, err := NewLattice(tc.cols, tc.rows, false, true)
+		var le *LimitError
+		if got := errors.As(err, &le); got == tc.ok {
+			t.Errorf("%dx%d: err = %v, want a LimitError: %v", tc.cols, tc.rows, err, !tc.ok)
+		}
+	}
+	// The default grid stays within the limit for any data size.
+	for _, n := range []int{1, 1000, 1e6, 1e9} {
+		for _, ratio := range []float64{1, 50, 1e6} {
+			c, r := DefaultGrid(n, ratio, 1, true)
+			if c*r > MaxUnits {
+				t.Errorf("DefaultGrid(%d, ratio %g) = %dx%d, beyond %d units", n, ratio, c, r, MaxUnits)
+			}
+		}
+	}
 }

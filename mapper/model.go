@@ -18,6 +18,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/internal/quantile"
 )
 
@@ -240,7 +241,8 @@ func (m *Model) CheckSchema(names []string) error {
 		if len(extra) > 0 {
 			parts = append(parts, "extra "+strings.Join(extra, ", "))
 		}
-		return fmt.Errorf("mapper: the feature table does not match the model: %s", strings.Join(parts, "; "))
+		return fmt.Errorf("mapper: the feature table does not match the model, which uses the channels %s: %s",
+			strings.Join(features.Channels(m.FeatureNames), ", "), strings.Join(parts, "; "))
 	}
 	for i, n := range names {
 		if n != m.FeatureNames[i] {
@@ -409,6 +411,9 @@ func (m *Model) check() error {
 		return fmt.Errorf("normalisation of %d names, %d centres, %d scales and %d weights for a map of dimension %d",
 			len(sc.Names), len(sc.Center), len(sc.Scale), len(sc.Weight), m.Map.Dim)
 	}
+	if err := m.checkValues(); err != nil {
+		return err
+	}
 	ids := make(map[int]bool)
 	listed := 0
 	for _, r := range m.Regimes {
@@ -436,3 +441,49 @@ func (m *Model) check() error {
 	}
 	return nil
 }
+
+// checkValues verifies the numbers a checksum cannot vouch for, since a
+// hand-edited file carries a valid one: a zero or negative scale would
+// divide every window by zero, a non-finite codebook or centroid makes
+// every distance NaN, and settings outside their ranges would be used as
+// they stand.
+func (m *Model) checkValues() error {
+	sc := m.Scaler
+	seen := make(map[string]bool, len(sc.Names))
+	for j, name := range sc.Names {
+		switch {
+		case seen[name]:
+			return fmt.Errorf("normalisation: feature %q appears twice", name)
+		case !finite(sc.Center[j]):
+			return fmt.Errorf("normalisation: feature %q: centre %g is not a finite number", name, sc.Center[j])
+		case !(sc.Scale[j] > 0) || !finite(sc.Scale[j]):
+			return fmt.Errorf("normalisation: feature %q: scale %g must be a finite number > 0", name, sc.Scale[j])
+		case !(sc.Weight[j] >= 0) || !finite(sc.Weight[j]):
+			return fmt.Errorf("normalisation: feature %q: weight %g must be a finite number ≥ 0", name, sc.Weight[j])
+		}
+		seen[name] = true
+	}
+	for i, v := range m.Map.Codebook {
+		if !finite(v) {
+			return fmt.Errorf("codebook: unit %d: %g is not a finite number", i/m.Map.Dim, v)
+		}
+	}
+	for _, r := range m.Regimes {
+		for _, v := range r.Centroid {
+			if !finite(v) {
+				return fmt.Errorf("regime %d: centroid value %g is not a finite number", r.ID, v)
+			}
+		}
+	}
+	for i, q := range m.QEQuantiles {
+		if !(q >= 0) || !finite(q) || i > 0 && q < m.QEQuantiles[i-1] {
+			return fmt.Errorf("error quantile %d: %g: the quantiles must be finite, ≥ 0 and ascending", i, q)
+		}
+	}
+	if err := m.FeatureConfig.Validate(); err != nil {
+		return fmt.Errorf("window settings: %w", err)
+	}
+	return nil
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

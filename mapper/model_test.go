@@ -213,6 +213,18 @@ func TestModelRefusesDamage(t *testing.T) {
 			m.Regimes[0] = r
 		}, "the regimes list"},
 		{"regime twice", func(m *Model) { m.Regimes = append(slices.Clone(m.Regimes), m.Regimes[0]) }, "appears twice"},
+		// Hand edits with a recomputed checksum: a zero scale crashed
+		// assign with a division by zero downstream.
+		{"zero scale", func(m *Model) { m.Scaler = spoilScaler(m.Scaler, func(sc *features.Scaler) { sc.Scale[0] = 0 }) }, "scale 0 must be"},
+		{"negative weight", func(m *Model) { m.Scaler = spoilScaler(m.Scaler, func(sc *features.Scaler) { sc.Weight[1] = -3 }) }, "weight -3 must be"},
+		{"feature twice", func(m *Model) {
+			m.Scaler = spoilScaler(m.Scaler, func(sc *features.Scaler) { sc.Names[1] = sc.Names[0] })
+		}, "appears twice"},
+		{"descending quantiles", func(m *Model) {
+			m.QEQuantiles = slices.Clone(m.QEQuantiles)
+			m.QEQuantiles[5] = m.QEQuantiles[4] - 1
+		}, "ascending"},
+		{"no window", func(m *Model) { m.FeatureConfig.Window = 0 }, "window settings"},
 	} {
 		bad := *mdl
 		tc.spoil(&bad)
@@ -383,4 +395,12 @@ func bruteQuality(m Map, x *mat.Dense) (qe float64, broken int, unused float64) 
 		}
 	}
 	return qe / float64(n), broken, float64(free) / float64(len(won))
+}
+
+// spoilScaler returns a copy of sc changed by spoil.
+func spoilScaler(sc *features.Scaler, spoil func(*features.Scaler)) *features.Scaler {
+	c := *sc
+	c.Names, c.Center, c.Scale, c.Weight = slices.Clone(sc.Names), slices.Clone(sc.Center), slices.Clone(sc.Scale), slices.Clone(sc.Weight)
+	spoil(&c)
+	return &c
 }

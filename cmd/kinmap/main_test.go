@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"fmt"
 	"os"
 	"path/filepath"
 	"slices"
@@ -25,12 +26,26 @@ func TestUsageErrors(t *testing.T) {
 	if err := os.WriteFile(dump, []byte("site,time,channel,value\na,2026-01-01T00:00:00Z,flow,1\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
+	// An hour of readings every 5 s.
+	var steady strings.Builder
+	steady.WriteString("site,time,channel,value\n")
+	for i := range 720 {
+		fmt.Fprintf(&steady, "a,%d,flow,%d\n", 1_780_000_000+5*i, i%7)
+	}
+	dump5s := filepath.Join(t.TempDir(), "dump5s.csv")
+	if err := os.WriteFile(dump5s, []byte(steady.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	tests := []struct {
 		name string
 		args []string
 		want string // in stderr
 	}{
 		{"no command", nil, "Commands:"},
+		// Ran four minutes, or never ended, or took 8 GB.
+		{"window shorter than the step", []string{"run", "--data", dump5s, "--out", t.TempDir(), "--window", "10ms"}, "--window 10ms is shorter than the sampling step found in the data (5s)"},
+		{"window of 1ns", []string{"run", "--data", dump5s, "--out", t.TempDir(), "--window", "1ns"}, "--window 1ns is shorter"},
+		{"stride shorter than the step", []string{"run", "--data", dump5s, "--out", t.TempDir(), "--window", "10m", "--stride", "1ms"}, "--stride 1ms is shorter"},
 		{"unknown command", []string{"crunch"}, `unknown command "crunch"`},
 		{"unknown flag", []string{"run", "--colour", "red"}, "colour"},
 		{"no output folder", []string{"run", "--data", dump}, "--out DIR"},
@@ -58,6 +73,14 @@ func TestUsageErrors(t *testing.T) {
 		// Names only the data can judge, but misspelt options all the same.
 		{"unknown channel in the feature list", []string{"run", "--data", dump, "--out", t.TempDir(), "--features", "wind.mean"}, `unknown channel "wind" in the feature list (channels: flow)`},
 		{"weight of an unknown feature", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-coverage", "0", "--weights", "flow.maen=2"}, "weights for unknown features flow.maen"},
+		// A NaN weight once passed the flag and failed later as a data error.
+		{"NaN weight", []string{"run", "--data", dump, "--out", t.TempDir(), "--weights", "flow.mean=NaN"}, `weight "flow.mean=NaN"`},
+		{"negative weight", []string{"run", "--data", dump, "--out", t.TempDir(), "--weights", "flow.mean=-3"}, `weight "flow.mean=-3"`},
+		{"infinite weight", []string{"run", "--data", dump, "--out", t.TempDir(), "--weights", "flow.mean=+Inf"}, `weight "flow.mean=+Inf"`},
+		{"NaN width", []string{"run", "--data", dump, "--out", t.TempDir(), "--sigma0", "NaN"}, "want a finite number"},
+		{"NaN coverage", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-coverage", "nan"}, "want a finite number"},
+		// Ran out of memory in the batch rule before the limit.
+		{"huge grid", []string{"run", "--data", dump, "--out", t.TempDir(), "--grid", "1000x1000"}, "limit of 4096"},
 		{"pattern matching nothing", []string{"run", "--data", filepath.Join(t.TempDir(), "missing-*.parquet"), "--out", t.TempDir()}, "matches no file"},
 	}
 	for _, tt := range tests {

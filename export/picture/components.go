@@ -1,8 +1,10 @@
 package picture
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/kinmap/kinmap/mapper"
 )
@@ -18,6 +20,13 @@ const (
 	planesWide  = 5   // planes per row
 )
 
+// MaxPlanes is the most component planes one picture draws: a dump of
+// thousands of channels once asked for a picture of 17 GB. Beyond it the
+// planes of the features whose codebook values vary most across the units,
+// those the map orders most, are drawn, and the picture says how many were
+// left out.
+const MaxPlanes = 60
+
 // componentPlanes draws one small plane per codebook dimension, each unit
 // in the ramp colour of its value, with the feature's name above and its
 // own colour range below.
@@ -25,7 +34,8 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 	m := in.Model
 	l := m.Map.Lattice
 	names := dimNames(m)
-	n := m.Map.Dim
+	dims := informativeDims(m, MaxPlanes)
+	n := len(dims)
 	wide := min(n, planesWide)
 	probe := newSheet(l, 0, 0, planeMaxW, planeMaxW, 1, 40)
 	pw, ph := float64(probe.clip.Dx()), float64(probe.clip.Dy())
@@ -33,18 +43,23 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 	rows := (n + wide - 1) / wide
 	w := int(math.Max(2*padSide+float64(wide)*cellW-planeGap, 900))
 	c := newCanvas(w, planeTop+int(float64(rows)*cellH)+lineGap, ft)
-	heading(c, "Component planes",
-		fmt.Sprintf("%s: one plane per feature, each with its own colour range shown below it", shapeName(l)))
+	sub := fmt.Sprintf("%s: one plane per feature, each with its own colour range shown below it", shapeName(l))
+	left := ""
+	if out := m.Map.Dim - n; out > 0 {
+		left = fmt.Sprintf(" The %d features whose values vary most across the units are drawn; %d others are left out.", n, out)
+		sub = fmt.Sprintf("%s: the %d of %d features that vary most across the units, each with its own colour range", shapeName(l), n, m.Map.Dim)
+	}
+	heading(c, "Component planes", sub)
 	c.text(padSide, subBase+lineGap, scaleNote(m)+" "+wrapNote(l), ft.small, softInk, alignLeft)
 
-	for k := range n {
+	for k, dim := range dims {
 		x := padSide + float64(k%wide)*cellW
 		y := planeTop + float64(k/wide)*cellH
-		c.text(x, y+ascent(ft.label), fit(ft.label, names[k], pw), ft.label, ink, alignLeft)
+		c.text(x, y+ascent(ft.label), fit(ft.label, names[dim], pw), ft.label, ink, alignLeft)
 		sh := newSheet(l, int(x), int(y+planeName), planeMaxW, planeMaxW, 1, 40)
 		vals := make([]float64, l.Units())
 		for u := range vals {
-			vals[u] = m.Map.Vector(u)[k]
+			vals[u] = m.Map.Vector(u)[dim]
 		}
 		lo, hi := sh.paintValues(c, vals)
 		by := float64(sh.clip.Max.Y) + 6
@@ -52,7 +67,35 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 	}
 	return c, Picture{Title: "Component planes",
 		Caption: "One plane per feature: each unit in the colour of its codebook value for that feature, light for low and " +
-			"dark for high, on the feature's own range. " + scaleNote(m) + " " + wrapNote(l)}
+			"dark for high, on the feature's own range." + left + " " + scaleNote(m) + " " + wrapNote(l)}
+}
+
+// informativeDims returns the codebook dimensions to draw, in order: all of
+// them up to limit, else the limit of them whose values have the largest
+// variance across the units.
+func informativeDims(m *mapper.Model, limit int) []int {
+	dims := make([]int, m.Map.Dim)
+	for k := range dims {
+		dims[k] = k
+	}
+	if len(dims) <= limit {
+		return dims
+	}
+	spread := make([]float64, m.Map.Dim)
+	units := float64(m.Map.Units())
+	for k := range spread {
+		var sum, sq float64
+		for u := range m.Map.Units() {
+			v := m.Map.Vector(u)[k]
+			sum += v
+			sq += v * v
+		}
+		spread[k] = sq/units - (sum/units)*(sum/units)
+	}
+	slices.SortStableFunc(dims, func(a, b int) int { return cmp.Compare(spread[b], spread[a]) })
+	dims = dims[:limit]
+	slices.Sort(dims)
+	return dims
 }
 
 // rampStrip draws the ramp left to right at x, y, w × h, with lo and hi

@@ -7,6 +7,7 @@ import (
 	"image/color"
 	"image/draw"
 	"image/png"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"slices"
@@ -14,6 +15,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -213,5 +215,46 @@ func TestDateTicks(t *testing.T) {
 				t.Errorf("%v–%v: tick %v, want each a %s inside the span", tc.t0, tc.t1, x, tc.what)
 			}
 		}
+	}
+}
+
+// A model of 5,000 features (a wide dump of thousands of channels) once
+// asked for a picture of 17 GB. The picture keeps to MaxPlanes planes: those
+// of the features made to vary most across the units, and says how many it
+// left out.
+func TestComponentPlanesLimit(t *testing.T) {
+	ft, err := newFonts()
+	if err != nil {
+		t.Fatal(err)
+	}
+	l := mapper.Lattice{Cols: 8, Rows: 6, Hex: true}
+	const dim = 5000
+	rng := rand.New(rand.NewPCG(3, 5))
+	names := make([]string, dim)
+	m := &mapper.Model{Map: mapper.Map{Lattice: l, Dim: dim, Codebook: make([]float64, l.Units()*dim)}}
+	for k := range names {
+		names[k] = fmt.Sprintf("c%04d.mean", k)
+	}
+	m.FeatureNames, m.Scaler = names, &features.Scaler{Method: "zscore", Names: names}
+	// The last MaxPlanes features spread a hundred times wider.
+	for u := range l.Units() {
+		v := m.Map.Vector(u)
+		for k := range v {
+			v[k] = rng.NormFloat64()
+			if k >= dim-MaxPlanes {
+				v[k] *= 100
+			}
+		}
+	}
+	c, pic := componentPlanes(ft, Input{Model: m})
+	if h := c.img.Bounds().Dy(); h > 4000 {
+		t.Errorf("picture %d pixels high for %d planes", h, MaxPlanes)
+	}
+	if want := fmt.Sprintf("%d others are left out", dim-MaxPlanes); !strings.Contains(pic.Caption, want) {
+		t.Errorf("caption does not say %q: %s", want, pic.Caption)
+	}
+	dims := informativeDims(m, MaxPlanes)
+	if len(dims) != MaxPlanes || dims[0] != dim-MaxPlanes || dims[MaxPlanes-1] != dim-1 {
+		t.Errorf("planes of dimensions %v, want %d..%d", dims, dim-MaxPlanes, dim-1)
 	}
 }

@@ -4,11 +4,16 @@ import (
 	"bytes"
 	"errors"
 	"flag"
+	"fmt"
 	"slices"
 	"strings"
 	"testing"
+	"time"
 
+	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/mapper"
 )
 
 func TestSpreadMulti(t *testing.T) {
@@ -30,6 +35,17 @@ func TestStatus(t *testing.T) {
 		{UsageError("no output folder"), ExitUsage, "kinmap run: no output folder\nRun 'kinmap run -h' for its options.\n"},
 		{ingest.ErrUsage, ExitUsage, "Run 'kinmap run -h'"},
 		{errors.New("ingest: a.csv: column \"time\": empty"), ExitData, "kinmap run: ingest: a.csv: column \"time\": empty\n"},
+		// Library errors carry fields; the command words them with its options.
+		{&kinmap.UsageError{Err: &features.StepError{Field: "Window", Value: 10 * time.Millisecond, Step: 5 * time.Second}}, ExitUsage,
+			"kinmap run: --window 10ms is shorter than the sampling step found in the data (5s): give at least 5s\n"},
+		{&kinmap.UsageError{Err: &features.StepError{Field: "Stride", Value: time.Millisecond, Step: time.Minute}}, ExitUsage, "--stride 1ms is shorter"},
+		{&kinmap.UsageError{Err: &features.WindowLimitError{Windows: 6e8, Stride: time.Millisecond}}, ExitUsage, "about 600000000 windows, beyond the limit of 5000000: give a longer --stride"},
+		{&kinmap.UsageError{Err: &mapper.LimitError{What: "lattice 1000x1000", Value: 1e6, Limit: 4096, Unit: "units"}}, ExitUsage, "--grid: 1000x1000: 1000000 units, beyond the limit of 4096"},
+		{fmt.Errorf("decoding: %w", &kinmap.NoWindowError{Reasons: "3 for low coverage"}), ExitData, "(3 for low coverage); try a lower --min-coverage or a longer --window\n"},
+		{&kinmap.NoWindowError{Reasons: "5 for coverage", Unit: &ingest.UnitError{Sample: 1780000000, Given: "ms", Likely: "s"}}, ExitData,
+			"(5 for coverage): integer times such as 1780000000 look like epochs in seconds, not milliseconds; read them with --time-unit s\n"},
+		{&ingest.Error{File: "a.csv", Err: fmt.Errorf("no readings: %w", &ingest.UnitError{Sample: 1780000000000, Given: "s", Likely: "ms"})}, ExitData,
+			"look like epochs in milliseconds, not seconds; read them with --time-unit ms\n"},
 	}
 	for _, tt := range tests {
 		var stderr bytes.Buffer
@@ -68,6 +84,19 @@ func TestPrintUsageDefaults(t *testing.T) {
 		line, _, _ := strings.Cut(out.String()[i:], "\n")
 		if !strings.Contains(line, tt.want) || tt.not != "" && strings.Contains(line, tt.not) {
 			t.Errorf("usage line %q: want %q and not %q", line, tt.want, tt.not)
+		}
+	}
+}
+
+// Library warnings name settings by their fields; the command words them
+// with its options.
+func TestWordWarning(t *testing.T) {
+	for _, tt := range []struct{ in, want string }{
+		{"mapper: 57% of the 56 units win no window, so the winners form thin lines across the map: use a smaller grid or a larger initial neighbourhood width (Config.Sigma0)",
+			"use a smaller grid or a larger initial neighbourhood width (--sigma0)"},
+	} {
+		if got := WordWarning(tt.in); !strings.HasSuffix(got, tt.want) {
+			t.Errorf("WordWarning(%q) = %q, want it to end %q", tt.in, got, tt.want)
 		}
 	}
 }

@@ -6,6 +6,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"sort"
 	"strconv"
 	"strings"
@@ -64,10 +65,10 @@ func (f *Flags) Str(p *string, name, def, help string) {
 	f.note(name)
 }
 
-// Num registers a flag in the current group.
+// Num registers a flag of a finite number in the current group.
 func (f *Flags) Num(p *float64, name string, def float64, help string) {
-	f.Float64Var(p, name, def, help)
-	f.note(name)
+	*p = def
+	f.Value(numValue{p}, name, help)
 }
 
 // Int registers a flag in the current group.
@@ -263,7 +264,7 @@ func (w weightsValue) Set(s string) error {
 	for _, part := range strings.Split(s, ",") {
 		name, val, ok := strings.Cut(part, "=")
 		v, err := strconv.ParseFloat(val, 64)
-		if !ok || err != nil || v < 0 {
+		if !ok || err != nil || !(v >= 0) || math.IsInf(v, 1) {
 			return fmt.Errorf("weight %q: want FEATURE=WEIGHT with a weight ≥ 0, for example flow.mean=2", part)
 		}
 		(*w.p)[strings.TrimSpace(name)] = v
@@ -272,6 +273,28 @@ func (w weightsValue) Set(s string) error {
 }
 
 func (w weightsValue) Get() any { return *w.p }
+
+// numValue is a float64 flag that refuses NaN and infinities, which no
+// option means and which pass every range check written as v < lo.
+type numValue struct{ p *float64 }
+
+func (n numValue) String() string {
+	if n.p == nil {
+		return ""
+	}
+	return strconv.FormatFloat(*n.p, 'g', -1, 64)
+}
+
+func (n numValue) Set(s string) error {
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return fmt.Errorf("%q: want a finite number", s)
+	}
+	*n.p = v
+	return nil
+}
+
+func (n numValue) Get() any { return *n.p }
 
 // choiceValue is a string flag limited to some values.
 type choiceValue struct {

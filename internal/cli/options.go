@@ -9,6 +9,7 @@ import (
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/ingest"
 )
 
 // Exit statuses of the commands.
@@ -20,17 +21,26 @@ const (
 
 // Status reports err on stderr as the command called name and returns its
 // exit status: ExitOK without an error or when help was asked for,
-// ExitUsage with a pointer to the help for a usage error, ExitData for any
-// other error.
+// ExitUsage with a pointer to the help for a usage error, worded with the
+// options (Words), ExitData for any other error.
 func Status(stderr io.Writer, name string, err error) int {
 	switch {
 	case err == nil || errors.Is(err, flag.ErrHelp):
 		return ExitOK
 	case kinmap.IsUsage(err):
-		fmt.Fprintf(stderr, "%s: %v\nRun '%s -h' for its options.\n", name, err, name)
+		fmt.Fprintf(stderr, "%s: %s\nRun '%s -h' for its options.\n", name, Words(err), name)
 		return ExitUsage
 	default:
-		fmt.Fprintf(stderr, "%s: %v\n", name, err)
+		msg := err.Error()
+		var none *kinmap.NoWindowError
+		if name == "kinmap run" && errors.As(err, &none) { // only run sets the windows
+			msg = Words(err)
+		}
+		var unit *ingest.UnitError
+		if errors.As(err, &unit) {
+			msg += fmt.Sprintf("; read them with --time-unit %s", unit.Likely)
+		}
+		fmt.Fprintf(stderr, "%s: %s\n", name, msg)
 		return ExitData
 	}
 }
@@ -155,7 +165,7 @@ func Report(stdout, stderr io.Writer, res *kinmap.Result, dir string) {
 	fmt.Fprintf(stdout, "%d sites, %d windows, %d regimes on a %dx%d map, %d switches, %d unfamiliar windows\n",
 		c.Sites, c.Windows, c.Regimes, res.Model.Map.Lattice.Cols, res.Model.Map.Lattice.Rows, c.Switches, c.Unfamiliar)
 	for _, w := range res.Info.Warnings {
-		fmt.Fprintf(stderr, "warning: %s\n", w)
+		fmt.Fprintf(stderr, "warning: %s\n", WordWarning(w))
 	}
 	fmt.Fprintf(stdout, "outputs in %s; open %s first\n", dir, filepath.Join(dir, export.ReportFile))
 }

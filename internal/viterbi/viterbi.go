@@ -55,6 +55,17 @@ func Decode(costs [][]float64, switchCost float64, initial []float64, minDwell i
 		panic("viterbi: no states")
 	}
 	M := max(minDwell, 1)
+	// Only whether a segment has reached M matters. A segment begun in
+	// these T steps never reaches an M beyond T, so M = T+1 decodes the
+	// same once the earlier segment's dwell is shifted by as much. This
+	// bounds the K·M·T table that a minimum dwell of 10⁹ would ask for.
+	if M > T+1 {
+		shift := M - (T + 1)
+		M = T + 1
+		if from.State >= 0 {
+			from.Dwell = max(from.Dwell-shift, 0)
+		}
+	}
 	S := K * M // state (k, d) is k*M + d-1
 	inf := math.Inf(1)
 	cur := make([]float64, S)

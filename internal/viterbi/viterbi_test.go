@@ -119,18 +119,7 @@ func TestDecodeFromEarlierState(t *testing.T) {
 				initial[k] = sc
 			}
 		}
-		forced := make([][]float64, 0, from.Dwell+T)
-		for range from.Dwell {
-			row := make([]float64, K)
-			for k := range row {
-				if k != from.State {
-					row[k] = math.Inf(1)
-				}
-			}
-			forced = append(forced, row)
-		}
-		forced = append(forced, costs...)
-		want, wantCost, second := bruteForce(forced, sc, nil, minDwell)
+		want, wantCost, second := bruteForce(forcedPrefix(from.State, from.Dwell, costs), sc, nil, minDwell)
 		got, gotCost := Decode(costs, sc, initial, minDwell, from)
 		if math.Abs(gotCost-wantCost) > 1e-9 {
 			t.Fatalf("trial %d (T=%d K=%d dwell %d, from %v): cost %g for %v, brute force %g for %v", trial, T, K, minDwell, from, gotCost, got, wantCost, want[from.Dwell:])
@@ -139,4 +128,53 @@ func TestDecodeFromEarlierState(t *testing.T) {
 			t.Fatalf("trial %d: path %v, brute force %v (unique optimum)", trial, got, want[from.Dwell:])
 		}
 	}
+}
+
+// A minimum dwell far beyond the data (--min-dwell 1000000000) must decode
+// as the definition says, checked by exhaustive search, without the
+// K·minDwell table that ran out of memory.
+func TestDecodeHugeDwell(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	const huge = 1_000_000_000
+	for trial := range 50 {
+		T, K := 1+r.IntN(4), 2+r.IntN(2)
+		costs := randomCosts(r, T, K)
+		sc := r.Float64() * 2
+		want, wantCost, _ := bruteForce(costs, sc, nil, huge)
+		got, gotCost := Decode(costs, sc, nil, huge, NoStart)
+		if math.Abs(gotCost-wantCost) > 1e-9 || !slices.Equal(got, want) {
+			t.Fatalf("trial %d: cost %g for %v, brute force %g for %v", trial, gotCost, got, wantCost, want)
+		}
+		// Continuing a segment of huge−1 steps, the site may leave after
+		// its first step, but no new segment can be finished: as after T
+		// forced steps with a minimum dwell of T+1, brute-forced.
+		from := Start{State: r.IntN(K), Dwell: huge - 1}
+		initial := make([]float64, K)
+		for k := range initial {
+			if k != from.State {
+				initial[k] = sc
+			}
+		}
+		want, wantCost, _ = bruteForce(forcedPrefix(from.State, T, costs), sc, nil, T+1)
+		got, gotCost = Decode(costs, sc, initial, huge, from)
+		if math.Abs(gotCost-wantCost) > 1e-9 || !slices.Equal(got, want[T:]) {
+			t.Fatalf("trial %d: from %v: cost %g for %v, brute force %g for %v", trial, from, gotCost, got, wantCost, want[T:])
+		}
+	}
+}
+
+// forcedPrefix returns costs after steps that only state may take, so that
+// exhaustive search sees a segment of that state already steps long.
+func forcedPrefix(state, steps int, costs [][]float64) [][]float64 {
+	forced := make([][]float64, 0, steps+len(costs))
+	for range steps {
+		row := make([]float64, len(costs[0]))
+		for k := range row {
+			if k != state {
+				row[k] = math.Inf(1)
+			}
+		}
+		forced = append(forced, row)
+	}
+	return append(forced, costs...)
 }

@@ -1,0 +1,51 @@
+package cli
+
+import (
+	"errors"
+	"fmt"
+	"strings"
+
+	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/mapper"
+)
+
+// flagNames are the options of the commands that set the Config fields the
+// library's errors name.
+var flagNames = map[string]string{"Window": "--window", "Stride": "--stride"}
+
+// fieldFlags words the settings that library warnings name by their
+// fields with the options that set them.
+var fieldFlags = strings.NewReplacer("(Config.Sigma0)", "(--sigma0)")
+
+// WordWarning returns a warning of the library in the words of the
+// command's options.
+func WordWarning(w string) string { return fieldFlags.Replace(w) }
+
+// Words returns the message of err in the words of the run command's
+// options: the library reports settings by their fields, the command by
+// its options.
+func Words(err error) string {
+	var (
+		step  *features.StepError
+		limit *features.WindowLimitError
+		grid  *mapper.LimitError
+		none  *kinmap.NoWindowError
+	)
+	switch {
+	case errors.As(err, &step):
+		return fmt.Sprintf("%s %v is shorter than the sampling step found in the data (%v): give at least %v",
+			flagNames[step.Field], step.Value, step.Step, step.Step)
+	case errors.As(err, &limit):
+		return fmt.Sprintf("windows every %v would make about %.0f windows, beyond the limit of %d: give a longer --stride (or --window), or a shorter dump",
+			limit.Stride, limit.Windows, features.MaxWindows)
+	case errors.As(err, &grid):
+		return fmt.Sprintf("--grid: %s: %.0f %s, beyond the limit of %.0f: give a smaller grid, or none to let the data choose",
+			strings.TrimPrefix(grid.What, "lattice "), grid.Value, grid.Unit, grid.Limit)
+	case errors.As(err, &none) && none.Unit != nil:
+		return fmt.Sprintf("no usable window: every window of every site was skipped (%s): %v", none.Reasons, none.Unit)
+	case errors.As(err, &none):
+		return fmt.Sprintf("no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", none.Reasons)
+	}
+	return err.Error()
+}

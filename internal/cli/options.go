@@ -141,20 +141,6 @@ func (f *Flags) Finish(o *kinmap.Options, out *Outputs, needModel bool) error {
 // --history naming a file; and any output that is an input (a dump, the
 // register, or the model that assign and update read).
 func checkOutputs(o *kinmap.Options, out *Outputs, modelIsInput bool) error {
-	if _, err := export.CheckDir(out.Out); err != nil {
-		var nf *export.NotFolderError
-		var ff *export.ForeignFilesError
-		switch {
-		case errors.As(err, &nf):
-			return UsageError("--out %s is a file; name a folder", out.Out)
-		case errors.As(err, &ff):
-			return UsageError("--out %s holds %s, which no kinmap run wrote there; kinmap will not replace them: move them or name another folder", out.Out, strings.Join(ff.Files, ", "))
-		}
-		return err
-	}
-	if info, err := os.Stat(o.History); o.History != "" && err == nil && !info.IsDir() {
-		return UsageError("--history %s is a file; name a folder", o.History)
-	}
 	inputs := []string{o.Sites}
 	for _, d := range o.Data {
 		if m, err := filepath.Glob(d); err == nil && len(m) > 0 {
@@ -185,6 +171,20 @@ func checkOutputs(o *kinmap.Options, out *Outputs, modelIsInput bool) error {
 		case o.History != "" && within(in, o.History):
 			return UsageError("--history %s holds the input %s; name another folder", o.History, in)
 		}
+	}
+	if _, err := export.CheckDir(out.Out); err != nil {
+		var nf *export.NotFolderError
+		var ff *export.ForeignFilesError
+		switch {
+		case errors.As(err, &nf):
+			return UsageError("--out %s is a file; name a folder", out.Out)
+		case errors.As(err, &ff):
+			return UsageError("--out %s holds %s, which no kinmap run wrote there; kinmap will not replace them: move them or name another folder", out.Out, strings.Join(ff.Files, ", "))
+		}
+		return err
+	}
+	if info, err := os.Stat(o.History); o.History != "" && err == nil && !info.IsDir() {
+		return UsageError("--history %s is a file; name a folder", o.History)
 	}
 	return nil
 }

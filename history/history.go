@@ -138,6 +138,15 @@ func Read(dir string) (*History, error) {
 		return nil, err
 	}
 	h.Notes = append(notes, h.Notes...)
+	if !h.legacy {
+		// A write that removed a period's last file leaves its folder.
+		items, _ := os.ReadDir(dir)
+		for _, it := range items {
+			if it.IsDir() && strings.HasPrefix(it.Name(), periodPrefix) {
+				os.Remove(filepath.Join(dir, it.Name())) // only when empty
+			}
+		}
+	}
 	return h, nil
 }
 

@@ -383,3 +383,32 @@ func sameFiles(a, b map[string]string) bool {
 	}
 	return true
 }
+
+// A write whose every window moves to another period leaves no empty
+// period folder behind once the history is read again; an aborted first
+// write leaves no folder at all.
+func TestNoEmptyFolders(t *testing.T) {
+	dir := t.TempDir()
+	write(t, dir, "x", days("a", 1, 7))
+	write(t, dir, "x", days("a", 0, 7))
+	read(t, dir)
+	if _, err := os.Stat(filepath.Join(dir, periodPrefix+"2026-03-03")); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("the emptied period's folder remains (%v)", err)
+	}
+	fresh := filepath.Join(t.TempDir(), "history")
+	tx, err := atomicfile.Begin(fresh, nil, time.Second)
+	if err != nil {
+		t.Fatal(err)
+	}
+	h, err := Load(fresh)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := h.Stage(tx, "x", days("a", 0, 1)); err != nil {
+		t.Fatal(err)
+	}
+	tx.Abort()
+	if _, err := os.Stat(fresh); !errors.Is(err, os.ErrNotExist) {
+		t.Errorf("an aborted first write left %s (%v)", fresh, err)
+	}
+}

@@ -35,7 +35,7 @@ type Tx struct {
 	home    string
 	dirs    []string // absolute, home first
 	locks   []*Lock
-	created []string // folders Begin made, removed again by Abort when empty
+	created []string // folders the transaction made, outer first, removed again by Abort when empty
 	renames []rename
 	removes []string
 	notes   []string
@@ -123,10 +123,19 @@ func (t *Tx) Create(path string, write func(io.Writer) error) error {
 	if dir == "" {
 		return fmt.Errorf("%s: outside the folders of the write", path)
 	}
+	var made []string // the folders above path that are not there yet, deepest first
+	for d := filepath.Dir(path); d != dir; d = filepath.Dir(d) {
+		if _, err := os.Stat(d); err == nil {
+			break
+		}
+		made = append(made, d)
+	}
 	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
 		return err
 	}
+	slices.Reverse(made)
 	t.mu.Lock()
+	t.created = append(t.created, made...)
 	t.seq++
 	tmp := filepath.Join(dir, fmt.Sprintf("%s%s-%d-%s%s", tempPrefix, t.id, t.seq, filepath.Base(path), tempSuffix))
 	t.mu.Unlock()

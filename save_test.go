@@ -23,6 +23,7 @@ import (
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/internal/atomicfile"
+	"github.com/kinmap/kinmap/internal/faultwriter"
 	"github.com/kinmap/kinmap/mapper"
 )
 
@@ -79,24 +80,6 @@ func (f *saveFixture) files(t *testing.T) map[string]string {
 	return out
 }
 
-// failAfter is a writer that fails after n bytes, as a full disk does.
-type failAfter struct {
-	w io.Writer
-	n int
-}
-
-var errInjected = errors.New("no space left on device (injected)")
-
-func (f *failAfter) Write(p []byte) (int, error) {
-	if len(p) > f.n {
-		k, _ := f.w.Write(p[:f.n])
-		f.n = 0
-		return k, errInjected
-	}
-	f.n -= len(p)
-	return f.w.Write(p)
-}
-
 // A Save whose writing fails after N bytes at any one of its files, in
 // turn, leaves the output folder, the model copy and the history byte for
 // byte as the earlier run left them, and its error names the file the
@@ -120,7 +103,7 @@ func TestSaveAllOrNothing(t *testing.T) {
 			kinmap.SetWrap(second, func(path string, w io.Writer) io.Writer {
 				if int(count.Add(1))-1 == k {
 					at = path
-					return &failAfter{w, n}
+					return &faultwriter.Writer{W: w, N: n}
 				}
 				return w
 			})
@@ -129,7 +112,7 @@ func TestSaveAllOrNothing(t *testing.T) {
 				break
 			}
 			failed = true
-			if !errors.Is(err, errInjected) || !strings.Contains(err.Error(), at) || strings.Contains(err.Error(), ".kinmap-") {
+			if !errors.Is(err, faultwriter.ErrFull) || !strings.Contains(err.Error(), at) || strings.Contains(err.Error(), ".kinmap-") {
 				t.Errorf("failing %s after %d bytes: error %v; want the injected one, naming that file only", at, n, err)
 			}
 			if after := f.files(t); !sameMap(before, after) {

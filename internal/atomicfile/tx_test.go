@@ -15,6 +15,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"github.com/kinmap/kinmap/internal/faultwriter"
 )
 
 // snapshot returns every file below dir (but the lock file) with its
@@ -109,24 +111,6 @@ func TestCommitTogether(t *testing.T) {
 	}
 }
 
-// failAfter is a writer that fails after n bytes, as a full disk does.
-type failAfter struct {
-	w io.Writer
-	n int
-}
-
-var errFull = errors.New("no space left (injected)")
-
-func (f *failAfter) Write(p []byte) (int, error) {
-	if len(p) > f.n {
-		k, _ := f.w.Write(p[:f.n])
-		f.n = 0
-		return k, errFull
-	}
-	f.n -= len(p)
-	return f.w.Write(p)
-}
-
 // A write failing after N bytes, at each file in turn and at several N,
 // leaves both folders byte for byte as they were, and its error names the
 // file the user knows, not a temporary one.
@@ -140,12 +124,12 @@ func TestFailingWriterLeavesFolders(t *testing.T) {
 		for _, n := range []int{0, 1, 4096, 20000} {
 			wrap := func(path string, w io.Writer) io.Writer {
 				if filepath.Base(path) == file {
-					return &failAfter{w, n}
+					return &faultwriter.Writer{W: w, N: n}
 				}
 				return w
 			}
 			err := generation(a, b, 2, wrap)
-			if !errors.Is(err, errFull) || !strings.Contains(err.Error(), file) || strings.Contains(err.Error(), tempPrefix) {
+			if !errors.Is(err, faultwriter.ErrFull) || !strings.Contains(err.Error(), file) || strings.Contains(err.Error(), tempPrefix) {
 				t.Errorf("%s after %d bytes: error %v; want the injected one naming %s only", file, n, err, file)
 			}
 			after := [2]map[string]string{snapshot(t, a), snapshot(t, b)}

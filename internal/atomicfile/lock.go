@@ -18,7 +18,7 @@ type ErrBusy struct {
 }
 
 func (e *ErrBusy) Error() string {
-	return fmt.Sprintf("%s: another kinmap run has held it for more than %v", e.Dir, e.Wait)
+	return fmt.Sprintf("%s: another kinmap run has held it for more than %v (lock file %s)", e.Dir, e.Wait, LockFile)
 }
 
 // Lock is an exclusive lock on a folder, held until Unlock.
@@ -34,39 +34,19 @@ func LockDir(dir string, wait time.Duration) (*Lock, error) {
 	path := filepath.Join(dir, LockFile)
 	deadline := time.Now().Add(wait)
 	for pause := time.Millisecond; ; pause = min(2*pause, 100*time.Millisecond) {
-		f, err := os.OpenFile(path, os.O_RDWR|os.O_CREATE, 0o644)
-		if err != nil {
+		f, busy, err := acquire(path)
+		switch {
+		case err != nil:
 			// The lock file is kinmap's own; the folder is what the user named.
 			return nil, named(dir, err)
-		}
-		busy, err := tryLock(f)
-		if err != nil {
-			f.Close()
-			return nil, named(dir, err)
-		}
-		if !busy {
-			// The holder before removes the file as it unlocks: a lock on a
-			// file no longer at path locks nothing, so take the new one.
-			held, err1 := f.Stat()
-			named, err2 := os.Stat(path)
-			if err1 == nil && err2 == nil && os.SameFile(held, named) {
-				return &Lock{f: f, path: path}, nil
-			}
-			unlock(f)
-		}
-		f.Close()
-		if busy && time.Now().After(deadline) {
+		case !busy:
+			return &Lock{f: f, path: path}, nil
+		case time.Now().After(deadline):
 			return nil, &ErrBusy{Dir: dir, Wait: wait}
 		}
-		if busy {
-			time.Sleep(pause)
-		}
+		time.Sleep(pause)
 	}
 }
 
 // Unlock releases the lock and removes its file.
-func (l *Lock) Unlock() {
-	os.Remove(l.path)
-	unlock(l.f)
-	l.f.Close()
-}
+func (l *Lock) Unlock() { release(l.f, l.path) }

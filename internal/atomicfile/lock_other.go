@@ -4,14 +4,23 @@ package atomicfile
 
 import (
 	"errors"
+	"io/fs"
 	"os"
 )
 
-// tryLock fails where flock(2) is missing: without a lock that the system
-// releases when its holder dies, two runs could interleave or a killed run
-// could lock a folder for good.
-func tryLock(*os.File) (bool, error) {
-	return false, errors.New("folder locks need a Unix system")
+// acquire creates the lock file at path, which must not exist; busy
+// reports that it does. Without flock(2) a lock file left by a killed
+// process stays: the wait then ends in ErrBusy, whose message names it.
+func acquire(path string) (f *os.File, busy bool, err error) {
+	f, err = os.OpenFile(path, os.O_RDWR|os.O_CREATE|os.O_EXCL, 0o644)
+	if errors.Is(err, fs.ErrExist) {
+		return nil, true, nil
+	}
+	return f, false, err
 }
 
-func unlock(*os.File) error { return nil }
+// release closes and removes the lock file.
+func release(f *os.File, path string) {
+	f.Close()
+	os.Remove(path)
+}

@@ -87,6 +87,9 @@ type Result struct {
 
 	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
+	// quality is the map's fit to the windows when Model was not built on
+	// them (Assign); nil when Model.Quality measured them already.
+	quality *mapper.Quality
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.

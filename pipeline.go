@@ -68,6 +68,8 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 	}
 	res.Model = m
 	res.Assignments = m.Map.Assign(res.X, o.Map.Workers)
+	q := m.Map.Quality(res.Assignments)
+	res.quality = &q
 	sw.lap("assign")
 	if err := res.Conclude(o, sw.times); err != nil {
 		return nil, err
@@ -262,7 +264,10 @@ func finish(res *Result, sw *stopwatch) {
 	info.Finished = time.Now().UTC()
 	info.Timings = sw.times
 	info.Inputs = res.Ingest.Files
-	info.Quality = res.Model.Map.Quality(res.Assignments)
+	info.Quality = res.Model.Quality // built on the run's windows
+	if res.quality != nil {
+		info.Quality = *res.quality
+	}
 	info.Warnings = append(info.Warnings, info.Quality.Warnings...)
 	var dropped int64
 	for _, n := range res.Ingest.Dropped {
@@ -282,23 +287,13 @@ func finish(res *Result, sw *stopwatch) {
 		Sites:          res.Ingest.Sites,
 		Channels:       len(res.Ingest.Channels),
 		Windows:        len(res.Table.Windows),
-		SkippedWindows: skipped(res.Table),
+		SkippedWindows: res.Table.SkippedWindows(),
 		Features:       len(res.Model.Scaler.Names),
 		Units:          res.Model.Map.Units(),
 		Regimes:        len(res.Model.Regimes),
 		Switches:       len(res.Switches),
 		Unfamiliar:     unfamiliar,
 	}
-}
-
-func skipped(t *features.Table) int {
-	n := 0
-	for _, s := range t.Skipped {
-		for _, c := range s {
-			n += c
-		}
-	}
-	return n
 }
 
 func skipReasons(t *features.Table) string {

@@ -54,8 +54,13 @@ func writeDump(t *testing.T, path string, fleet *scenarios.Fleet, from, to time.
 	}
 }
 
+// fleetT generates the pumping fleet of an end-to-end run. Every such run
+// starts here, so here go test -short skips them (DEVELOPERS.md).
 func fleetT(t *testing.T, sites, weeks int) *scenarios.Fleet {
 	t.Helper()
+	if testing.Short() {
+		t.Skip("end-to-end run")
+	}
 	spec, err := scenarios.DefaultSpec("pumping")
 	if err != nil {
 		t.Fatal(err)
@@ -152,6 +157,27 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 			t.Errorf("change %+v after an update on the same behaviour", c)
 		}
 	}
+
+	// run.json's quality is that of the run's own windows, whether the run
+	// built the model on them or assigned them to an earlier one: its mean
+	// quantization error is the mean distance of each window to its BMU
+	// (T. Kohonen, "Self-Organizing Maps", 3rd ed., 2001).
+	third, err := kinmap.Assign(options(week2), first.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, r := range []struct {
+		name string
+		res  *kinmap.Result
+	}{{"train", first}, {"update", second}, {"assign", third}} {
+		var sum float64
+		for _, a := range r.res.Assignments {
+			sum += a.QE
+		}
+		if mean := sum / float64(len(r.res.Assignments)); math.Abs(r.res.Info.Quality.QE-mean) > 1e-12*mean {
+			t.Errorf("%s: run quality QE %g, mean QE of its windows %g", r.name, r.res.Info.Quality.QE, mean)
+		}
+	}
 }
 
 func dist(a, b []float64) float64 {
@@ -180,6 +206,33 @@ func TestSwitchAcrossDumps(t *testing.T) {
 	if planted.Site == "" {
 		t.Fatal("the scenario planted no switch away from its ends and from other switches")
 	}
+	// One model serves both cases, which differ only in where the dumps
+	// part: trained on the windows before the planted switch, so that the
+	// switch is news to it.
+	dir := t.TempDir()
+	training := filepath.Join(dir, "training.csv")
+	writeDump(t, training, fleet, fleet.WindowStart(0), fleet.WindowStart(planted.Window), 0, 0, 1)
+	trained, err := kinmap.Train(options(training))
+	if err != nil {
+		t.Fatal(err)
+	}
+	model := trained.Model
+	// The dumps hold the planted site and a few others: the checks look
+	// at the planted site, and decoding is per site.
+	few := *fleet
+	few.Sites = nil
+	for _, s := range fleet.Sites {
+		if s.ID == planted.Site || len(few.Sites) < 11 {
+			few.Sites = append(few.Sites, s)
+		}
+	}
+	whole := filepath.Join(dir, "whole.csv")
+	writeDump(t, whole, &few, fleet.WindowStart(0), fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+	// One decoding of the whole record, without history.
+	joint, err := kinmap.Assign(options(whole), model)
+	if err != nil {
+		t.Fatal(err)
+	}
 	for _, tc := range []struct {
 		name  string
 		ahead int // windows of the new regime at the end of the first dump
@@ -191,13 +244,13 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			dir := t.TempDir()
 			boundary := fleet.WindowStart(planted.Window + tc.ahead)
 			before, after := filepath.Join(dir, "before.csv"), filepath.Join(dir, "after.csv")
-			writeDump(t, before, fleet, fleet.WindowStart(0), boundary, 0, 0, 1)
-			writeDump(t, after, fleet, boundary, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+			writeDump(t, before, &few, fleet.WindowStart(0), boundary, 0, 0, 1)
+			writeDump(t, after, &few, boundary, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
 			history := filepath.Join(dir, "history")
 
 			o := options(before)
 			o.History = history
-			first, err := kinmap.Train(o)
+			first, err := kinmap.Assign(o, model)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -217,7 +270,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			o.History = history
 			var second *kinmap.Result
 			for run := range 2 { // the same dump twice: its period is replaced, not doubled
-				if second, err = kinmap.Assign(o, first.Model); err != nil {
+				if second, err = kinmap.Assign(o, model); err != nil {
 					t.Fatal(err)
 				}
 				if err := second.AppendHistory(history); err != nil {
@@ -236,11 +289,6 @@ func TestSwitchAcrossDumps(t *testing.T) {
 				t.Errorf("history holds %d windows, want the %d of both dumps once", len(h.Windows), n)
 			}
 
-			// One decoding of both dumps together, without history.
-			joint, err := kinmap.Assign(options(before, after), first.Model)
-			if err != nil {
-				t.Fatal(err)
-			}
 			// Windows as "time regime" and switches as "time from→to".
 			var want, got []string
 			for _, e := range joint.Entries {

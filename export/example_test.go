@@ -55,6 +55,7 @@ func ExampleWrite() {
 	}
 	// Output:
 	// features.parquet
+	// kinmap.gpkg
 	// model
 	// regimes.geojson
 	// report.html

@@ -31,6 +31,7 @@ const (
 	SitesFile           = "sites.geojson"
 	RegimesFile         = "regimes.geojson"
 	TracksFile          = "tracks.geojson"
+	GeoPackageFile      = "kinmap.gpkg"
 	TimelineParquetFile = "timeline.parquet"
 	TimelineCSVFile     = "timeline.csv"
 	SwitchesCSVFile     = "switches.csv"
@@ -44,7 +45,7 @@ const (
 // Run is everything the outputs of one run are made from.
 type Run struct {
 	Model       *mapper.Model
-	Table       *features.Table     // the windows, with their positions
+	Table       *features.Table     // the windows, with their positions, and mobile sites' paths
 	Assignments []mapper.Assignment // one per Table.Windows entry
 	Entries     []timeline.Entry    // one per Table.Windows entry, in the same order (timeline.Build)
 	Switches    []timeline.Switch
@@ -59,16 +60,20 @@ type Run struct {
 // Write writes the outputs of r into dir, creating it if needed.
 //
 // sites.geojson is an RFC 7946 FeatureCollection of one Point per site
-// (longitude, latitude in WGS 84, 6 decimals), at its registered position,
-// else its last located window's; a site with no position has a null
-// geometry (see Warnings). Its properties, flat for GIS tools: site; every
-// register attribute with its own type (renamed register_NAME when kinmap
-// uses NAME itself); regime (the last window's); dominant_regime (most
-// windows, the lower ID on a tie); share_rID, the share of windows in
-// regime ID, for every regime of the model; windows; switches (count);
-// last_switch (RFC 3339, or null); col and row (the last window's BMU
-// cell); qe (mean quantization error); unfamiliar (true when any window
-// was unfamiliar); unfamiliar_windows; mobile.
+// (longitude, latitude in WGS 84, 6 decimals): a fixed site at its
+// registered position, else its last located window's; a mobile site at
+// its last known position (the end of its path, features.Table.Paths, or
+// its last located window's centroid); a site with no position has a null
+// geometry (see Warnings). Its properties, flat for GIS tools and the same
+// whatever the number of regimes: site; every register attribute with its
+// own type (renamed register_NAME when kinmap uses NAME itself); regime
+// (the last window's); dominant_regime (most windows, the lower ID on a
+// tie); shares, an object giving the share of windows in each regime of
+// the model by regime ID; windows; switches (count); last_switch (RFC
+// 3339, or null); col and row (the last window's BMU cell); qe (mean
+// quantization error); unfamiliar (true when any window was unfamiliar);
+// unfamiliar_windows; mobile; home_lon and home_lat, the registered
+// position (null when none).
 //
 // regimes.geojson holds one MultiPoint per regime of the model, made of the
 // located sites whose last window is in it (null when none), with regime,
@@ -76,9 +81,10 @@ type Run struct {
 // (comma-separated) and units (map units).
 //
 // tracks.geojson, written only when some site is mobile (its windows have
-// more than one distinct position), holds a LineString of window positions
-// per mobile site and regime segment, with site, regime, start, end,
-// windows and colour.
+// more than one distinct position), holds a LineString per mobile site and
+// regime segment, drawn through the site's path at features.PathStep and
+// simplified (see trackFeatures), with site, regime, start, end, windows
+// and colour.
 //
 // timeline.parquet and timeline.csv hold one row per window (site,
 // window_start, window_end, col, row, regime, qe, unfamiliar), switches.csv
@@ -131,20 +137,28 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 		name  string
 		write func(io.Writer) error
 	}
+	sites, regimes, tracks := siteFeatures(r, ss), regimeFeatures(r, ss), trackFeatures(r, ss)
 	tl, sw := timelineRows(r, ss), switchRows(r)
 	files := []file{
-		{SitesFile, func(w io.Writer) error { return writeCollection(w, siteFeatures(r, ss)) }},
-		{RegimesFile, func(w io.Writer) error { return writeCollection(w, regimeFeatures(r, ss)) }},
+		{SitesFile, func(w io.Writer) error { return writeCollection(w, sites) }},
+		{RegimesFile, func(w io.Writer) error { return writeCollection(w, regimes) }},
 	}
-	if tracks := trackFeatures(r, ss); len(tracks) > 0 {
+	if len(tracks) > 0 {
 		files = append(files, file{TracksFile, func(w io.Writer) error { return writeCollection(w, tracks) }})
 	}
 	files = append(files,
 		file{TimelineParquetFile, func(w io.Writer) error { return writeParquet(w, tl) }},
-		file{TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineHeader, tl) }},
-		file{SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchHeader, sw) }},
+		file{TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineColumns, tl) }},
+		file{SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchColumns, sw) }},
 		file{SwitchesParquetFile, func(w io.Writer) error { return writeParquet(w, sw) }},
-		file{FeaturesFile, func(w io.Writer) error { return features.WriteParquet(w, r.Table) }},
+		file{GeoPackageFile, func(w io.Writer) error {
+			layers, err := gpkgLayers(sites, regimes, tracks, tl, sw)
+			if err != nil {
+				return err
+			}
+			return writeGeoPackage(w, layers)
+		}},
+		file{FeaturesFile, func(w io.Writer) error { return writeFeatures(w, r.Table) }},
 		file{ModelFile, r.Model.Write},
 	)
 	for _, p := range pics {
@@ -253,7 +267,7 @@ func CheckDir(dir string) ([]string, error) {
 
 // outputNames returns every name Write may give a file.
 func outputNames() []string {
-	return append([]string{SitesFile, RegimesFile, TracksFile, TimelineParquetFile, TimelineCSVFile, SwitchesCSVFile,
+	return append([]string{SitesFile, RegimesFile, TracksFile, GeoPackageFile, TimelineParquetFile, TimelineCSVFile, SwitchesCSVFile,
 		SwitchesParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile}, picture.Files()...)
 }
 

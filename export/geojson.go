@@ -7,14 +7,17 @@ import (
 	"image/color"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
 
 	"github.com/paulmach/orb"
 	"github.com/paulmach/orb/geojson"
+	"github.com/paulmach/orb/simplify"
 
 	"github.com/kinmap/kinmap/export/picture"
+	"github.com/kinmap/kinmap/features"
 )
 
 // props is a feature's properties in a fixed order, so that GIS tools show
@@ -99,18 +102,24 @@ func point(s *site) orb.Geometry {
 }
 
 // reserved are the property names of sites.geojson that kinmap sets itself.
-func reserved(regimeIDs []int) map[string]bool {
+func reserved() map[string]bool {
 	r := map[string]bool{}
-	for _, k := range []string{"site", "regime", "dominant_regime", "windows", "switches", "last_switch", "col", "row", "qe", "unfamiliar", "unfamiliar_windows", "mobile"} {
+	for _, k := range []string{"site", "regime", "dominant_regime", "shares", "windows", "switches", "last_switch", "col", "row", "qe", "unfamiliar", "unfamiliar_windows", "mobile", "home_lon", "home_lat"} {
 		r[k] = true
-	}
-	for _, id := range regimeIDs {
-		r[shareName(id)] = true
 	}
 	return r
 }
 
-func shareName(id int) string { return "share_r" + strconv.Itoa(id) }
+// shares is the share of a site's windows in each regime of the model,
+// keyed by regime ID in ascending order: one field whatever the number of
+// regimes, so that a GIS style keeps working when it changes.
+func shares(ids []int, s *site) props {
+	var p props
+	for _, id := range ids {
+		p.add(strconv.Itoa(id), round(float64(s.count[id])/float64(len(s.entries)), 4))
+	}
+	return p
+}
 
 // attrName is the property name of a register attribute: its own, or
 // prefixed by "register_" when kinmap uses that name itself.
@@ -123,7 +132,7 @@ func attrName(name string, taken map[string]bool) string {
 
 func siteFeatures(r *Run, ss []*site) []*feature {
 	ids := regimeIDs(r)
-	taken := reserved(ids)
+	taken := reserved()
 	var out []*feature
 	for _, s := range ss {
 		var p props
@@ -141,9 +150,7 @@ func siteFeatures(r *Run, ss []*site) []*feature {
 		}
 		p.add("regime", s.last.Regime)
 		p.add("dominant_regime", s.dominant)
-		for _, id := range ids {
-			p.add(shareName(id), round(float64(s.count[id])/float64(len(s.entries)), 4))
-		}
+		p.add("shares", shares(ids, s))
 		p.add("windows", len(s.entries))
 		p.add("switches", s.switches)
 		if s.lastSw.IsZero() {
@@ -157,6 +164,14 @@ func siteFeatures(r *Run, ss []*site) []*feature {
 		p.add("unfamiliar", s.unfamiliar > 0)
 		p.add("unfamiliar_windows", s.unfamiliar)
 		p.add("mobile", s.mobile)
+		if s.homed {
+			h := roundPosition(s.home[0], s.home[1])
+			p.add("home_lon", h[0])
+			p.add("home_lat", h[1])
+		} else {
+			p.add("home_lon", nil)
+			p.add("home_lat", nil)
+		}
 		out = append(out, &feature{ID: s.id, Type: "Feature", Geometry: point(s), Properties: p})
 	}
 	return out
@@ -192,45 +207,84 @@ func regimeFeatures(r *Run, ss []*site) []*feature {
 	return out
 }
 
-// trackFeatures draws each mobile site's located windows as one LineString
-// per regime segment. A segment starts at the last position of the one
-// before it, so the track is continuous; a segment with fewer than two
-// distinct positions is left out.
+// trackTolerance is the Douglas–Peucker tolerance, in degrees, to which
+// tracks are simplified: about 55 m of latitude, finer than a fleet map
+// shows, while a vehicle's hourly positions along a road fall to a few
+// points (D. H. Douglas and T. K. Peucker, "Algorithms for the reduction
+// of the number of points required to represent a digitized line or its
+// caricature", The Canadian Cartographer 10(2), 1973).
+const trackTolerance = 0.0005
+
+// trackFeatures draws each mobile site's path as one LineString per regime
+// segment (a run of windows in the same regime). The path is the site's
+// positions at features.PathStep (features.Table.Paths), or its window
+// centroids when the table has none; a position belongs to the segment of
+// the last window that starts at or before it (the first, for positions
+// before any window). Each line is simplified (trackTolerance) keeping
+// its ends, and starts at the last position of the line before it, so the
+// track is continuous; a segment with fewer than two distinct positions is
+// left out.
 func trackFeatures(r *Run, ss []*site) []*feature {
+	simplifier := simplify.DouglasPeucker(trackTolerance)
 	var out []*feature
 	for _, s := range ss {
 		if !s.mobile {
 			continue
 		}
+		// The segments: indexes into s.entries where a new regime starts.
+		starts := []int{0}
+		for j := 1; j < len(s.entries); j++ {
+			if r.Entries[s.entries[j]].Regime != r.Entries[s.entries[j-1]].Regime {
+				starts = append(starts, j)
+			}
+		}
+		positions := trackPositions(r, s)
 		var line orb.LineString
-		var startAt int // index into s.entries of the segment's first window
-		flush := func(end int) {
-			first, last := r.Entries[s.entries[startAt]], r.Entries[s.entries[end-1]]
+		at := 0 // next position
+		for k, j := range starts {
+			end := len(s.entries)
+			if k+1 < len(starts) {
+				end = starts[k+1]
+			}
+			for ; at < len(positions) && (end == len(s.entries) || positions[at].Time.Before(r.Entries[s.entries[end]].Start)); at++ {
+				line = append(line, orb.Point(roundPosition(positions[at].Lon, positions[at].Lat)))
+			}
+			first, last := r.Entries[s.entries[j]], r.Entries[s.entries[end-1]]
 			if distinct(line) {
 				var p props
 				p.add("site", s.id)
 				p.add("regime", first.Regime)
 				p.add("start", first.Start)
 				p.add("end", last.End)
-				p.add("windows", end-startAt)
+				p.add("windows", end-j)
 				p.add("colour", hex(picture.RegimeColour(first.Regime)))
-				out = append(out, &feature{Type: "Feature", Geometry: line, Properties: p})
+				out = append(out, &feature{Type: "Feature", Geometry: simplifier.Simplify(slices.Clone(line)), Properties: p})
 			}
 			// The next segment starts where this one ended.
 			if n := len(line); n > 0 {
 				line = orb.LineString{line[n-1]}
 			}
-			startAt = end
 		}
-		for j, i := range s.entries {
-			if j > 0 && r.Entries[i].Regime != r.Entries[s.entries[j-1]].Regime {
-				flush(j)
-			}
-			if w := r.Table.Windows[i]; w.Located && validPosition(w.Lon, w.Lat) {
-				line = append(line, orb.Point(roundPosition(w.Lon, w.Lat)))
-			}
+	}
+	return out
+}
+
+// trackPositions is the path of a site, or its located window centroids
+// at the start of each window when the table keeps no path for it.
+func trackPositions(r *Run, s *site) []features.Fix {
+	var out []features.Fix
+	for _, f := range r.Table.Paths[s.id] {
+		if validPosition(f.Lon, f.Lat) {
+			out = append(out, f)
 		}
-		flush(len(s.entries))
+	}
+	if len(out) > 0 {
+		return out
+	}
+	for _, i := range s.entries {
+		if w := r.Table.Windows[i]; w.Located && validPosition(w.Lon, w.Lat) {
+			out = append(out, features.Fix{Time: w.Start, Lat: w.Lat, Lon: w.Lon})
+		}
 	}
 	return out
 }

@@ -272,17 +272,23 @@ func TestSitesGeoJSON(t *testing.T) {
 		"site": "PS-01", "name": "Aare North", "capacity_kw": 450.0, "elevation_m": 540.5, "active": true,
 		"register_regime": "summer",                    // the register's own "regime" column, renamed
 		"regime":          2.0, "dominant_regime": 1.0, // 3 windows each: the lower ID
-		"share_r1": 0.5, "share_r2": 0.5, "share_r3": 0.0, "windows": 6.0,
+		"windows":  6.0,
 		"switches": 1.0, "last_switch": "2025-03-04T00:00:00Z",
 		"col": 2.0, "row": 0.0, "qe": 0.35, "unfamiliar": false, "unfamiliar_windows": 0.0, "mobile": false,
+		"home_lon": 7.4474, "home_lat": 46.948,
 	}
 	for k, v := range want {
 		if p[k] != v {
 			t.Errorf("PS-01: %s = %v (%T), want %v", k, p[k], p[k], v)
 		}
 	}
-	if len(p) != len(want) {
-		t.Errorf("PS-01 has %d properties, want %d: %v", len(p), len(want), p)
+	// One shares field, an object by regime ID, whatever the number of
+	// regimes: the schema stays the same from run to run.
+	if got := fmt.Sprint(p["shares"]); got != "map[1:0.5 2:0.5 3:0]" {
+		t.Errorf("PS-01: shares %s, want map[1:0.5 2:0.5 3:0]", got)
+	}
+	if len(p) != len(want)+1 {
+		t.Errorf("PS-01 has %d properties, want %d: %v", len(p), len(want)+1, p)
 	}
 	if _, err := time.Parse(time.RFC3339, p["last_switch"].(string)); err != nil {
 		t.Errorf("last_switch: %v (RFC 3339, 5.6)", err)
@@ -291,11 +297,11 @@ func TestSitesGeoJSON(t *testing.T) {
 	if q["unfamiliar"] != true || q["unfamiliar_windows"] != 1.0 || q["last_switch"] != nil || q["name"] != nil {
 		t.Errorf("X-9 properties %v: want unfamiliar, 1 unfamiliar window, no last switch, no register name", q)
 	}
-	if sites["T-7"]["properties"].(map[string]any)["mobile"] != true {
-		t.Error("T-7 is not marked mobile")
+	if q := sites["T-7"]["properties"].(map[string]any); q["mobile"] != true || q["home_lon"] != nil || q["home_lat"] != nil {
+		t.Errorf("T-7 properties %v: want mobile, with no home position (it is not registered)", q)
 	}
 	// Floats keep a decimal point, so a GIS reads the column as Real.
-	if doc := string(read(t, dir, SitesFile)); !strings.Contains(doc, `"share_r3":0.0`) || !strings.Contains(doc, `"share_r3":1.0`) {
+	if doc := string(read(t, dir, SitesFile)); !strings.Contains(doc, `"3":0.0`) || !strings.Contains(doc, `"3":1.0`) {
 		t.Errorf("whole shares are not written as reals:\n%s", doc)
 	}
 }
@@ -334,11 +340,12 @@ func TestRegimesAndTracksGeoJSON(t *testing.T) {
 
 	tracks := checkRFC7946(t, TracksFile, read(t, dir, TracksFile))
 	// T-7: regime 1 over days 0–1, then 3 over days 2–4, the second line
-	// starting where the first ended.
+	// starting where the first ended. (8.8, 47.38) lies on the straight
+	// line from (8.7, 47.4) to (8.9, 47.36), so simplification drops it.
 	if len(tracks) != 2 {
 		t.Fatalf("%d track features, want 2", len(tracks))
 	}
-	wantLines := [][][2]float64{{{8.5, 47.3}, {8.6, 47.35}}, {{8.6, 47.35}, {8.7, 47.4}, {8.8, 47.38}, {8.9, 47.36}}}
+	wantLines := [][][2]float64{{{8.5, 47.3}, {8.6, 47.35}}, {{8.6, 47.35}, {8.7, 47.4}, {8.9, 47.36}}}
 	for i, f := range tracks {
 		c := f["geometry"].(map[string]any)["coordinates"].([]any)
 		if fmt.Sprint(c) != fmt.Sprint(toAny(wantLines[i])) {
@@ -364,25 +371,25 @@ func TestOgrinfo(t *testing.T) {
 	ogrinfo := tool(t, "ogrinfo")
 	dir := written(t)
 	tests := []struct {
-		file     string
-		geometry string
-		count    int
-		fields   map[string]string
+		file string
+		want ogrLayer
 	}{
-		{SitesFile, "Point", 4, map[string]string{
+		{SitesFile, ogrLayer{"Point", 4, map[string]string{
+			"id":   "String", // GDAL's field for the Feature id (the site; RFC 7946, 3.2)
 			"site": "String", "name": "String", "capacity_kw": "Integer", "elevation_m": "Real",
 			"active": "Integer(Boolean)", "register_regime": "String",
-			"regime": "Integer", "dominant_regime": "Integer", "share_r1": "Real", "share_r3": "Real",
+			"regime": "Integer", "dominant_regime": "Integer", "shares": "String(JSON)",
 			"windows": "Integer", "switches": "Integer", "last_switch": "DateTime",
 			"col": "Integer", "row": "Integer", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer", "mobile": "Integer(Boolean)",
-		}},
-		{RegimesFile, "Multi Point", 3, map[string]string{
+			"home_lon": "Real", "home_lat": "Real",
+		}}},
+		{RegimesFile, ogrLayer{"Multi Point", 3, map[string]string{
 			"regime": "Integer", "description": "String", "colour": "String", "sites": "Integer", "site_ids": "String", "units": "Integer",
-		}},
-		{TracksFile, "Line String", 2, map[string]string{
-			"site": "String", "regime": "Integer", "start": "DateTime", "end": "DateTime", "windows": "Integer",
-		}},
+		}}},
+		{TracksFile, ogrLayer{"Line String", 2, map[string]string{
+			"site": "String", "regime": "Integer", "start": "DateTime", "end": "DateTime", "windows": "Integer", "colour": "String",
+		}}},
 	}
 	for _, tc := range tests {
 		t.Run(tc.file, func(t *testing.T) {
@@ -390,26 +397,42 @@ func TestOgrinfo(t *testing.T) {
 			if err != nil {
 				t.Fatalf("ogrinfo: %v\n%s", err, out)
 			}
-			s := string(out)
-			if !strings.Contains(s, "Geometry: "+tc.geometry+"\n") {
-				t.Errorf("geometry is not %s:\n%s", tc.geometry, s)
-			}
-			if !strings.Contains(s, fmt.Sprintf("Feature Count: %d\n", tc.count)) {
-				t.Errorf("feature count is not %d:\n%s", tc.count, s)
-			}
-			if !strings.Contains(s, `GEOGCRS["WGS 84"`) && !strings.Contains(s, `GEOGCS["WGS 84"`) {
-				t.Errorf("layer is not WGS 84:\n%s", s)
-			}
-			types := map[string]string{}
-			for _, m := range regexp.MustCompile(`(?m)^(\w+): (\S+) \(`).FindAllStringSubmatch(s, -1) {
-				types[m[1]] = m[2]
-			}
-			for f, want := range tc.fields {
-				if types[f] != want {
-					t.Errorf("field %s: %q, want %q", f, types[f], want)
-				}
-			}
+			tc.want.check(t, string(out))
 		})
+	}
+}
+
+// ogrLayer is what ogrinfo -so must say of a layer.
+type ogrLayer struct {
+	geometry string // "None" for a table without geometry
+	count    int
+	fields   map[string]string // every field of the layer, with its type
+}
+
+// check compares a layer's summary by ogrinfo -so with want: geometry
+// type, feature count, WGS 84 when it has geometry, and the fields.
+func (want ogrLayer) check(t *testing.T, s string) {
+	t.Helper()
+	if !strings.Contains(s, "Geometry: "+want.geometry+"\n") {
+		t.Errorf("geometry is not %s:\n%s", want.geometry, s)
+	}
+	if !strings.Contains(s, fmt.Sprintf("Feature Count: %d\n", want.count)) {
+		t.Errorf("feature count is not %d:\n%s", want.count, s)
+	}
+	if want.geometry != "None" && !strings.Contains(s, `GEOGCRS["WGS 84"`) && !strings.Contains(s, `GEOGCS["WGS 84"`) {
+		t.Errorf("layer is not WGS 84:\n%s", s)
+	}
+	types := map[string]string{}
+	for _, m := range regexp.MustCompile(`(?m)^(\w+): (\S+) \(`).FindAllStringSubmatch(s, -1) {
+		types[m[1]] = m[2]
+	}
+	for f, w := range want.fields {
+		if types[f] != w {
+			t.Errorf("field %s: %q, want %q", f, types[f], w)
+		}
+	}
+	if len(types) != len(want.fields) {
+		t.Errorf("fields %v, want %d", types, len(want.fields))
 	}
 }
 

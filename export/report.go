@@ -141,7 +141,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 		{"Switches", strconv.Itoa(len(r.Switches))},
 		{"Unfamiliar windows", fmt.Sprintf("%d (%s)", d.Unfamiliar, percent(d.Unfamiliar, len(r.Entries)))},
 	}
-	if skipped := skippedWindows(r); skipped > 0 {
+	if skipped := r.Table.SkippedWindows(); skipped > 0 {
 		d.Run = append(d.Run, fact{"Windows skipped", strconv.Itoa(skipped)})
 	}
 	d.Data = dataFacts(r)
@@ -170,16 +170,6 @@ func once(lists ...[]string) []string {
 		}
 	}
 	return out
-}
-
-func skippedWindows(r *Run) int {
-	n := 0
-	for _, s := range r.Table.Skipped {
-		for _, c := range s {
-			n += c
-		}
-	}
-	return n
 }
 
 func dataFacts(r *Run) []fact {

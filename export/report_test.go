@@ -2,18 +2,22 @@ package export
 
 import (
 	"bytes"
+	"context"
+	"encoding/base64"
+	"fmt"
 	"html"
 	"image"
 	"image/png"
 	"maps"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"regexp"
 	"slices"
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/chromedp/chromedp"
 
 	"github.com/kinmap/kinmap/mapper"
 )
@@ -87,43 +91,121 @@ func TestReportContents(t *testing.T) {
 	}
 }
 
-// The report renders in a real browser (Debian chromium, headless) to a
-// screenshot that is neither empty nor blank.
-func TestReportInChromium(t *testing.T) {
+// browserImage is what the browser shows of one picture of the report.
+type browserImage struct {
+	File   string `json:"file"`   // the PNG file named in its caption
+	Src    string `json:"src"`    // its src attribute
+	Width  int    `json:"width"`  // naturalWidth once decoded; 0 when it does not decode
+	Height int    `json:"height"` // naturalHeight
+	Error  string `json:"error"`  // why HTMLImageElement.decode() failed, or ""
+}
+
+// pictureScript waits for every picture of the page to decode and reports
+// each (HTML Living Standard: HTMLImageElement.decode rejects an image
+// that cannot be decoded, and naturalWidth is then 0).
+const pictureScript = `Promise.all(Array.from(document.images).map(img =>
+  img.decode().then(() => "", e => String(e)).then(error => ({
+    file: ((img.closest("figure") || img).querySelector(".file") || {textContent: ""}).textContent.replace(/[()]/g, ""),
+    src: img.getAttribute("src"),
+    width: img.naturalWidth, height: img.naturalHeight, error}))))`
+
+// chromiumContext starts Debian's chromium, headless, with a fresh
+// profile, driven through the DevTools protocol.
+func chromiumContext(t *testing.T) context.Context {
+	t.Helper()
 	chromium := tool(t, "chromium")
-	dir := written(t)
-	shot := filepath.Join(t.TempDir(), "report.png")
-	profile := t.TempDir()
-	abs, err := filepath.Abs(filepath.Join(dir, ReportFile))
+	alloc, cancelAlloc := chromedp.NewExecAllocator(context.Background(),
+		chromedp.ExecPath(chromium), chromedp.Headless, chromedp.NoSandbox, chromedp.DisableGPU, chromedp.NoFirstRun,
+		chromedp.Flag("disable-quic", true), chromedp.Flag("disable-background-networking", true),
+		chromedp.Flag("disable-component-update", true), chromedp.Flag("disable-sync", true),
+		chromedp.UserDataDir(t.TempDir()))
+	ctx, cancelCtx := chromedp.NewContext(alloc)
+	ctx, cancelTimeout := context.WithTimeout(ctx, 90*time.Second)
+	t.Cleanup(func() { cancelTimeout(); cancelCtx(); cancelAlloc() })
+	return ctx
+}
+
+// showReport opens a report in the browser and returns its pictures as
+// the browser decoded them, and a screenshot of the first 1280 × 2000
+// pixels.
+func showReport(ctx context.Context, path string) ([]browserImage, []byte, error) {
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := chromedp.Do(ctx, chromedp.EmulateViewport(1280, 2000), chromedp.Navigate("file://"+abs)); err != nil {
+		return nil, nil, err
+	}
+	imgs, err := chromedp.Run(ctx, chromedp.Evaluate[[]browserImage](pictureScript, chromedp.EvalAwaitPromise))
+	if err != nil {
+		return nil, nil, err
+	}
+	shot, err := chromedp.Run(ctx, chromedp.CaptureScreenshot())
+	return imgs, shot, err
+}
+
+// pictureProblems compares the pictures the browser shows with the PNG
+// files of dir: every PNG file is shown once, its data URI holds exactly
+// the file's bytes, and the browser decodes it to the width and height
+// that Go's PNG decoder reads from the file (PNG, RFC 2083, IHDR).
+func pictureProblems(t *testing.T, dir string, imgs []browserImage) []string {
+	t.Helper()
+	entries, err := os.ReadDir(dir)
 	if err != nil {
 		t.Fatal(err)
 	}
-	cmd := exec.Command(chromium, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
-		"--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync",
-		"--user-data-dir="+profile, "--screenshot="+shot, "--window-size=1280,2000", "file://"+abs)
-	var out bytes.Buffer
-	cmd.Stdout, cmd.Stderr = &out, &out
-	if err := cmd.Start(); err != nil {
-		t.Fatal(err)
-	}
-	done := make(chan error, 1)
-	go func() { done <- cmd.Wait() }()
-	select {
-	case err := <-done:
-		if err != nil {
-			t.Fatalf("chromium: %v\n%s", err, out.String())
+	files := map[string][]byte{}
+	for _, e := range entries {
+		if strings.HasSuffix(e.Name(), ".png") {
+			files[e.Name()] = read(t, dir, e.Name())
 		}
-	case <-time.After(90 * time.Second):
-		cmd.Process.Kill()
-		<-done
-		t.Fatalf("chromium did not finish within 90 s\n%s", out.String())
 	}
-	f, err := os.Open(shot)
+	var problems []string
+	if len(imgs) != len(files) || len(files) == 0 {
+		problems = append(problems, fmt.Sprintf("%d pictures in the page, %d PNG files", len(imgs), len(files)))
+	}
+	for _, img := range imgs {
+		want, ok := files[img.File]
+		if !ok {
+			problems = append(problems, fmt.Sprintf("picture %q names no PNG file of the folder", img.File))
+			continue
+		}
+		delete(files, img.File) // each once
+		b64, found := strings.CutPrefix(img.Src, "data:image/png;base64,")
+		got, err := base64.StdEncoding.DecodeString(b64)
+		if !found || err != nil || !bytes.Equal(got, want) {
+			problems = append(problems, fmt.Sprintf("%s: the inline picture is not the file's bytes (%v)", img.File, err))
+		}
+		cfg, err := png.DecodeConfig(bytes.NewReader(want))
+		if err != nil {
+			t.Fatalf("%s: %v", img.File, err)
+		}
+		if img.Error != "" || img.Width != cfg.Width || img.Height != cfg.Height {
+			problems = append(problems, fmt.Sprintf("%s: the browser shows %d × %d (%s), the file is %d × %d", img.File, img.Width, img.Height, img.Error, cfg.Width, cfg.Height))
+		}
+	}
+	return problems
+}
+
+// The report renders in a real browser (Debian chromium, headless, driven
+// through the DevTools protocol): every picture decodes at the size of its
+// PNG file, and the page is neither empty nor blank. The same check on a
+// copy whose pictures are broken fails for every picture, so that its
+// passing means something.
+func TestReportInChromium(t *testing.T) {
+	ctx := chromiumContext(t)
+	dir := written(t)
+	imgs, shot, err := showReport(ctx, filepath.Join(dir, ReportFile))
 	if err != nil {
-		t.Fatalf("no screenshot: %v\n%s", err, out.String())
+		t.Fatalf("chromium: %v", err)
 	}
-	defer f.Close()
-	img, err := png.Decode(f)
+	for _, p := range pictureProblems(t, dir, imgs) {
+		t.Error(p)
+	}
+	for _, img := range imgs {
+		t.Logf("%s: %d × %d in the browser", img.File, img.Width, img.Height)
+	}
+	img, err := png.Decode(bytes.NewReader(shot))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -132,6 +214,27 @@ func TestReportInChromium(t *testing.T) {
 	}
 	if share := inked(img); share < 0.02 {
 		t.Errorf("screenshot is nearly blank: %.3f of pixels differ from the background", share)
+	}
+
+	// Every picture replaced by bytes that are no PNG.
+	broken := regexp.MustCompile(`data:image/png;base64,[A-Za-z0-9+/=]+`).ReplaceAllString(string(read(t, dir, ReportFile)),
+		"data:image/png;base64,"+base64.StdEncoding.EncodeToString([]byte("\x89PNG not a picture")))
+	brokenPath := filepath.Join(t.TempDir(), ReportFile)
+	if err := os.WriteFile(brokenPath, []byte(broken), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	imgs, _, err = showReport(ctx, brokenPath)
+	if err != nil {
+		t.Fatalf("chromium: %v", err)
+	}
+	undecoded := 0
+	for _, p := range pictureProblems(t, dir, imgs) {
+		if strings.Contains(p, "the browser shows 0 × 0") {
+			undecoded++
+		}
+	}
+	if undecoded != len(imgs) || undecoded == 0 {
+		t.Errorf("with every picture broken, %d of %d pictures are found undecodable", undecoded, len(imgs))
 	}
 }
 

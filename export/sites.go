@@ -18,7 +18,9 @@ type site struct {
 	entries    []int        // indexes into Run.Entries, in time order
 	lon, lat   float64
 	located    bool
-	mobile     bool // more than one distinct window position
+	home       [2]float64 // registered position, lon and lat
+	homed      bool       // home is known
+	mobile     bool       // more than one distinct window position
 	last       timeline.Entry
 	dominant   int
 	count      map[int]int // windows by regime ID
@@ -83,9 +85,15 @@ func sites(r *Run) ([]*site, []string) {
 				s.dominant = id
 			}
 		}
+		if p := r.Table.Paths[s.id]; s.mobile && len(p) > 0 && validPosition(p[len(p)-1].Lon, p[len(p)-1].Lat) {
+			s.lon, s.lat = p[len(p)-1].Lon, p[len(p)-1].Lat
+		}
 		if s.info != nil && s.info.Located {
 			if validPosition(s.info.Lon, s.info.Lat) {
-				s.lon, s.lat, s.located = s.info.Lon, s.info.Lat, true
+				s.home, s.homed = [2]float64{s.info.Lon, s.info.Lat}, true
+				if !s.mobile {
+					s.lon, s.lat, s.located = s.info.Lon, s.info.Lat, true
+				}
 			} else {
 				warnings = append(warnings, fmt.Sprintf("site %q: registered position (lat %g, lon %g) is outside WGS 84 ranges; ignored", s.id, s.info.Lat, s.info.Lon))
 			}

@@ -2,6 +2,7 @@ package export
 
 import (
 	"encoding/csv"
+	"fmt"
 	"io"
 	"strconv"
 	"time"
@@ -34,17 +35,43 @@ type switchRow struct {
 	Confidence    float64   `parquet:"confidence"`
 }
 
+// The columns of the timeline and switch tables, for CSV headers and the
+// GeoPackage, in the order of the rows' fields.
 var (
-	timelineHeader = []string{"site", "window_start", "window_end", "col", "row", "regime", "qe", "unfamiliar"}
-	switchHeader   = []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence"}
+	timelineColumns = []gpkgColumn{{"site", "TEXT"}, {"window_start", "DATETIME"}, {"window_end", "DATETIME"},
+		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"}}
+	switchColumns = []gpkgColumn{{"site", "TEXT"}, {"time", "DATETIME"}, {"from_regime", "INTEGER"}, {"to_regime", "INTEGER"},
+		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"}}
 )
 
-func (r timelineRow) record() []string {
-	return []string{r.Site, rfc3339(r.WindowStart), rfc3339(r.WindowEnd), itoa(r.Col), itoa(r.Row), itoa(r.Regime), ftoa(r.QE), strconv.FormatBool(r.Unfamiliar)}
+func (r timelineRow) values() []any {
+	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar}
 }
 
-func (r switchRow) record() []string {
-	return []string{r.Site, rfc3339(r.Time), itoa(r.FromRegime), itoa(r.ToRegime), itoa(r.WindowsBefore), itoa(r.WindowsAfter), ftoa(r.Confidence)}
+func (r switchRow) values() []any {
+	return []any{r.Site, r.Time, r.FromRegime, r.ToRegime, r.WindowsBefore, r.WindowsAfter, r.Confidence}
+}
+
+// csvField writes a value of a row as CSV text: times RFC 3339 in UTC,
+// floats the shortest decimal that reads back the same.
+func csvField(v any) string {
+	switch v := v.(type) {
+	case time.Time:
+		return rfc3339(v)
+	case float64:
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	default:
+		return fmt.Sprint(v)
+	}
+}
+
+// attributesLayer makes a GeoPackage attributes table of rows.
+func attributesLayer[T interface{ values() []any }](name, description string, columns []gpkgColumn, rows []T) gpkgLayer {
+	l := gpkgLayer{name: name, description: description, columns: columns}
+	for _, r := range rows {
+		l.rows = append(l.rows, r.values())
+	}
+	return l
 }
 
 // timelineRows lists the windows by site, then time. Times are kept to the
@@ -81,16 +108,23 @@ func switchRows(r *Run) []switchRow {
 	return rows
 }
 
-// writeCSV writes a header and records with CRLF line ends (RFC 4180,
+// writeCSV writes a header and rows with CRLF line ends (RFC 4180,
 // section 2).
-func writeCSV[T interface{ record() []string }](w io.Writer, header []string, rows []T) error {
+func writeCSV[T interface{ values() []any }](w io.Writer, columns []gpkgColumn, rows []T) error {
 	c := csv.NewWriter(w)
 	c.UseCRLF = true
-	if err := c.Write(header); err != nil {
+	record := make([]string, len(columns))
+	for i, col := range columns {
+		record[i] = col.name
+	}
+	if err := c.Write(record); err != nil {
 		return err
 	}
 	for _, r := range rows {
-		if err := c.Write(r.record()); err != nil {
+		for i, v := range r.values() {
+			record[i] = csvField(v)
+		}
+		if err := c.Write(record); err != nil {
 			return err
 		}
 	}
@@ -107,8 +141,3 @@ func writeParquet[T any](w io.Writer, rows []T) error {
 }
 
 func micro(t time.Time) time.Time { return t.UTC().Truncate(time.Microsecond) }
-
-func itoa(v int32) string { return strconv.FormatInt(int64(v), 10) }
-
-// ftoa writes the shortest decimal that reads back as the same float64.
-func ftoa(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

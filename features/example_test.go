@@ -9,25 +9,6 @@ import (
 	"github.com/kinmap/kinmap/ingest"
 )
 
-func ExampleParseDuration() {
-	for _, s := range []string{"90m", "1d12h", "2w", "1.5d"} {
-		d, err := features.ParseDuration(s)
-		if err != nil {
-			fmt.Println(err)
-			continue
-		}
-		fmt.Println(s, "=", d)
-	}
-	_, err := features.ParseDuration("3y")
-	fmt.Println(err)
-	// Output:
-	// 90m = 1h30m0s
-	// 1d12h = 36h0m0s
-	// 2w = 336h0m0s
-	// 1.5d = 36h0m0s
-	// features: duration "3y": unknown unit "y" (units: ns, us, ms, s, m, h, d, w)
-}
-
 func ExampleExtract() {
 	// One pump, one reading every 10 minutes for two days: a flow that
 	// rises by 1/48 a reading (0.125 an hour) through the first day, then

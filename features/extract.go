@@ -4,13 +4,11 @@ import (
 	"cmp"
 	"errors"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/parallel"
 )
 
 // wallOrigin is the wall-clock instant window starts are counted from:
@@ -69,6 +67,7 @@ func (c clock) steadyOffset(start, end int64) (int64, bool) {
 type siteResult struct {
 	windows []Window
 	skips   Skips
+	path    []Fix
 }
 
 // Extract cuts every site of ds into windows and computes the features
@@ -105,27 +104,9 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 	}
 	slices.SortStableFunc(order, func(a, b *ingest.SiteData) int { return cmp.Compare(a.ID, b.ID) })
 
-	workers := cfg.Workers
-	if workers == 0 {
-		workers = runtime.GOMAXPROCS(0)
-	}
-	workers = max(1, min(workers, len(order)))
-	results := make([]siteResult, len(order))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			w := newWorker()
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= len(order) {
-					return
-				}
-				results[i] = w.site(order[i], p, cfg, clk)
-			}
-		})
-	}
-	wg.Wait()
+	results := parallel.Map(len(order), cfg.Workers, newWorker, func(w *worker, i int) siteResult {
+		return w.site(order[i], p, cfg, clk)
+	})
 
 	t := &Table{Names: p.names, Config: cfg, Skipped: map[string]Skips{}}
 	total := 0
@@ -137,6 +118,12 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 		t.Windows = append(t.Windows, r.windows...)
 		if len(r.skips) > 0 {
 			t.Skipped[order[i].ID] = r.skips
+		}
+		if len(r.path) > 0 {
+			if t.Paths == nil {
+				t.Paths = map[string][]Fix{}
+			}
+			t.Paths[order[i].ID] = r.path
 		}
 	}
 	return t, nil
@@ -263,6 +250,9 @@ func (w *worker) site(sd *ingest.SiteData, p *plan, cfg Config, clk clock) siteR
 	// The slab no longer grows: hand each window its row.
 	for i := range res.windows {
 		res.windows[i].Values = slab[i*nfeat : (i+1)*nfeat : (i+1)*nfeat]
+	}
+	if len(res.windows) > 0 {
+		res.path = path(track)
 	}
 	return res
 }

@@ -30,7 +30,9 @@
 // located at the spherical centroid of the positions reported in it: the
 // mean of their unit vectors, projected back onto the sphere, which is
 // correct across the antimeridian. Windows without positions, and windows of
-// fixed sites, take the registered position, if any.
+// fixed sites, take the registered position, if any. The table also keeps
+// each mobile site's path at a finer step, PathStep: the median position of
+// the fixes of each UTC hour (Table.Paths).
 //
 // # Features
 //
@@ -129,6 +131,22 @@ type Table struct {
 	Config  Config
 	Windows []Window         // sorted by site, then start
 	Skipped map[string]Skips // windows not used, by site; sites that skipped none are absent
+
+	// Paths holds the track of each site whose dump reported positions
+	// and that has windows, at PathStep (see Fix); nil when none did.
+	Paths map[string][]Fix
+}
+
+// SkippedWindows returns the number of windows skipped, over all sites and
+// reasons.
+func (t *Table) SkippedWindows() int {
+	n := 0
+	for _, s := range t.Skipped {
+		for _, c := range s {
+			n += c
+		}
+	}
+	return n
 }
 
 // Skips counts the windows of one site that were not used, by reason:

@@ -2,8 +2,6 @@ package features
 
 import (
 	"math"
-	"os"
-	"os/exec"
 	"slices"
 	"testing"
 	"time"
@@ -75,20 +73,4 @@ func mustZone(t testing.TB, name string) *time.Location {
 		t.Fatal(err)
 	}
 	return loc
-}
-
-// numpyPython returns the Debian system python when it has numpy; it skips
-// the test otherwise, or fails it when KINMAP_REQUIRE_TOOLS=1.
-func numpyPython(t *testing.T) string {
-	t.Helper()
-	const py = "/usr/bin/python3"
-	err := exec.Command(py, "-c", "import numpy").Run()
-	if err == nil {
-		return py
-	}
-	if os.Getenv("KINMAP_REQUIRE_TOOLS") == "1" {
-		t.Fatalf("%s with numpy is required (KINMAP_REQUIRE_TOOLS=1): %v", py, err)
-	}
-	t.Skipf("%s with numpy not available: %v", py, err)
-	return ""
 }

@@ -9,6 +9,8 @@ import (
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/internal/quantile"
 )
 
 // FitScaler fits a normalisation of every feature of t, ignoring NaN
@@ -52,8 +54,8 @@ func FitScaler(t *Table, method string, weights map[string]float64) (*Scaler, er
 		center, scale := meanStd(col)
 		if method == "robust" && len(col) > 1 {
 			slices.Sort(col)
-			center = quantile7(col, 0.5)
-			if iqr := quantile7(col, 0.75) - quantile7(col, 0.25); iqr > 0 {
+			center = quantile.Sorted(col, 0.5)
+			if iqr := quantile.Sorted(col, 0.75) - quantile.Sorted(col, 0.25); iqr > 0 {
 				scale = iqr
 			}
 		}

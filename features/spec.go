@@ -200,7 +200,7 @@ func (c Config) location() (*time.Location, error) {
 	}
 	loc, err := time.LoadLocation(c.TZ)
 	if err != nil {
-		return nil, fmt.Errorf("features: time zone %q: %v", c.TZ, err)
+		return nil, fmt.Errorf("features: time zone %q: %w", c.TZ, err)
 	}
 	return loc, nil
 }

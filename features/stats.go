@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/dsp/fourier"
 
+	"github.com/kinmap/kinmap/internal/quantile"
 	"github.com/kinmap/kinmap/internal/selection"
 )
 
@@ -124,11 +125,7 @@ func (w *worker) channelStats(s span, want statSet) {
 // median splits x, and each outer quantile is selected in its part.
 func quantiles(x []float64) (p05, p50, p95 float64) {
 	n := len(x)
-	pos := func(p float64) (int, float64) {
-		h := float64(n-1) * p
-		return int(h), h - float64(int(h))
-	}
-	mid, f := pos(0.5)
+	mid, f := quantile.Position(n, 0.5)
 	selection.Nth(x, mid)
 	next50 := x[mid]
 	if mid+1 < n {
@@ -136,7 +133,7 @@ func quantiles(x []float64) (p05, p50, p95 float64) {
 	}
 	p50 = x[mid] + f*(next50-x[mid])
 
-	i, f := pos(0.05)
+	i, f := quantile.Position(n, 0.05)
 	v, next := x[mid], next50
 	if i < mid {
 		selection.Nth(x[:mid], i)
@@ -144,7 +141,7 @@ func quantiles(x []float64) (p05, p50, p95 float64) {
 	}
 	p05 = v + f*(next-v)
 
-	i, f = pos(0.95)
+	i, f = quantile.Position(n, 0.95)
 	v, next = x[mid], next50
 	if i > mid {
 		selection.Nth(x[mid+1:], i-mid-1)
@@ -155,16 +152,6 @@ func quantiles(x []float64) (p05, p50, p95 float64) {
 	}
 	p95 = v + f*(next-v)
 	return p05, p50, p95
-}
-
-// quantile7 is definition 7 of Hyndman & Fan (1996) on sorted values.
-func quantile7(sorted []float64, p float64) float64 {
-	h := float64(len(sorted)-1) * p
-	i := int(h)
-	if i >= len(sorted)-1 {
-		return sorted[len(sorted)-1]
-	}
-	return sorted[i] + (h-float64(i))*(sorted[i+1]-sorted[i])
 }
 
 // harmonic fits v = a + b·cos ωτ + c·sin ωτ by least squares, where τ is the

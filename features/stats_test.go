@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/tooltest"
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
@@ -160,19 +161,6 @@ func lsqHarmonic(t *testing.T, times []int64, x []float64) (amp, phase float64) 
 	}
 	b, c := beta.At(1, 0), beta.At(2, 0)
 	return math.Hypot(b, c), math.Mod(math.Atan2(c, b)*24/(2*math.Pi)+24, 24)
-}
-
-// Known answer: R's quantile(1:10), type 7 by default, prints
-// 1.00 3.25 5.50 7.75 10.00 for 0, 25, 50, 75, 100 % (R documentation of
-// quantile; from memory). numpy.percentile's default "linear" method is
-// the same definition.
-func TestQuantileKnownAnswer(t *testing.T) {
-	x := []float64{1, 2, 3, 4, 5, 6, 7, 8, 9, 10}
-	for _, c := range []struct{ p, want float64 }{{0, 1}, {0.25, 3.25}, {0.5, 5.5}, {0.75, 7.75}, {1, 10}} {
-		if got := quantile7(x, c.p); math.Abs(got-c.want) > 1e-12 {
-			t.Errorf("quantile7(1:10, %v) = %v, want %v", c.p, got, c.want)
-		}
-	}
 }
 
 // Definitions checked by hand on a small example: flat counts readings equal
@@ -375,7 +363,7 @@ func TestAcf1OfAR1(t *testing.T) {
 // definition 7 of Hyndman & Fan), polyfit slope, corrcoef, the lag-1
 // autocorrelation from its textbook formula and a lstsq harmonic.
 func TestStatsAgreeWithNumpy(t *testing.T) {
-	py := numpyPython(t)
+	py := tooltest.Python(t, "numpy")
 	sd := gappy(2)
 	tab, err := Extract(dataset(sd), fullConfig())
 	if err != nil {

@@ -25,7 +25,7 @@ func openArrowFile(f *os.File) (src *arrowSource, err error) {
 	defer recoverCorrupt(&err)
 	r, err := ipc.NewFileReader(f)
 	if err != nil {
-		return nil, fmt.Errorf("not a readable Arrow IPC file (truncated or corrupt?): %v", err)
+		return nil, fmt.Errorf("not a readable Arrow IPC file (truncated or corrupt?): %w", err)
 	}
 	i := 0
 	return newArrowSource(r.Schema(), func() (arrow.RecordBatch, error) {
@@ -41,7 +41,7 @@ func openArrowStream(rd io.Reader) (src *arrowSource, err error) {
 	defer recoverCorrupt(&err)
 	r, err := ipc.NewReader(rd)
 	if err != nil {
-		return nil, fmt.Errorf("not a readable Arrow IPC stream (truncated or corrupt?): %v", err)
+		return nil, fmt.Errorf("not a readable Arrow IPC stream (truncated or corrupt?): %w", err)
 	}
 	return newArrowSource(r.Schema(), func() (arrow.RecordBatch, error) {
 		if r.Next() {
@@ -111,7 +111,7 @@ func (s *arrowSource) next(want []bool) (b *batch, err error) {
 		return nil, err
 	}
 	if err != nil {
-		return nil, fmt.Errorf("record batch %d: %v (truncated or corrupt file?)", s.batches+1, err)
+		return nil, fmt.Errorf("record batch %d: %w (truncated or corrupt file?)", s.batches+1, err)
 	}
 	s.batches++
 	if int(rec.NumCols()) != len(s.fields) {

@@ -23,6 +23,7 @@ type Options struct {
 	LonCol     string   `json:"lon_col"`            // optional position column of mobile sites
 	Channels   []string `json:"channels,omitempty"` // keep only these channels (all when empty)
 	TimeUnit   string   `json:"time_unit"`          // unit of integer epoch times: "s", "ms", "us" or "ns"
+	Workers    int      `json:"-"`                  // parallelism; 0 means all cores (at most 4 per file)
 
 	// Register, when set, is attached to the result: SiteData.Info is filled
 	// and sites missing from it are listed in Summary.Unregistered.

@@ -48,14 +48,14 @@ func openInput(path string) (*input, error) {
 	if in.format == FormatGzip {
 		if in.gz, err = gzip.NewReader(in.r); err != nil {
 			in.close()
-			return nil, fmt.Errorf("gzip: %v", err)
+			return nil, fmt.Errorf("gzip: %w", err)
 		}
 		in.r = bufio.NewReaderSize(in.gz, 1<<16)
 		head, err = in.r.Peek(headSize)
 		if len(head) == 0 {
 			in.close()
 			if err != nil && err != io.EOF {
-				return nil, fmt.Errorf("gzip: %v", err)
+				return nil, fmt.Errorf("gzip: %w", err)
 			}
 			return nil, errors.New("empty file (gzip)")
 		}
@@ -172,7 +172,7 @@ func csvError(err error) error {
 	if errors.As(err, &pe) {
 		return &Error{Line: pe.Line, Err: pe.Err}
 	}
-	return fmt.Errorf("%v (truncated or corrupt file?)", err)
+	return fmt.Errorf("%w (truncated or corrupt file?)", err)
 }
 
 func (s *csvSource) schema() []field { return s.fields }

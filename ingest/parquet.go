@@ -33,7 +33,7 @@ func openParquet(f *os.File) (src *parquetSource, err error) {
 	defer recoverCorrupt(&err)
 	pf, err := parquet.OpenFile(f, st.Size(), parquet.SkipPageIndex(true), parquet.SkipBloomFilters(true))
 	if err != nil {
-		return nil, fmt.Errorf("not a readable Parquet file (truncated or corrupt?): %v", err)
+		return nil, fmt.Errorf("not a readable Parquet file (truncated or corrupt?): %w", err)
 	}
 	elems := leafElements(pf.Metadata().Schema)
 	src = &parquetSource{file: pf, free: make(chan *batch, 4)}

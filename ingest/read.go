@@ -229,7 +229,7 @@ func (r *reader) readFile(path string) error {
 	if sz, ok := src.(interface{ numRows() int64 }); ok {
 		total = sz.numRows()
 	}
-	err = pipeline(src, want,
+	err = pipeline(src, want, r.opt.Workers,
 		func(b *batch) (*prepared, error) { return r.prepare(b, ro) },
 		func(p *prepared) error {
 			fs.Rows += int64(p.rows)
@@ -422,7 +422,7 @@ func (r *reader) finish() (*Dataset, error) {
 	sum := &r.sum
 	sum.Layout = r.layout
 	kept := make([]bool, len(r.channels))
-	series, dups := r.kept.series()
+	series, dups := r.kept.series(r.opt.Workers)
 	sum.Duplicates += dups
 	bySite := make([][]int32, len(r.sites))
 	for id, s := range r.seriesSite {

@@ -322,14 +322,14 @@ func geoJSONTable(r io.Reader, opt RegisterOptions) (*regTable, error) {
 	}
 	var fc geojson.FeatureCollectionOf[json.RawMessage]
 	if err := json.Unmarshal(data, &fc); err != nil {
-		return nil, fmt.Errorf("GeoJSON: %v", err)
+		return nil, fmt.Errorf("GeoJSON: %w", err)
 	}
 	t := &regTable{}
 	byName := make(map[string]*attrColumn)
 	for i, f := range fc.Features {
 		props, err := orderedProperties(f.Properties)
 		if err != nil {
-			return nil, fmt.Errorf("GeoJSON feature %d: properties: %v", i+1, err)
+			return nil, fmt.Errorf("GeoJSON feature %d: properties: %w", i+1, err)
 		}
 		id := f.ID
 		for _, p := range props {
@@ -485,7 +485,7 @@ func checkSites(sites []*Site, latName, lonName string) error {
 	if bad == nil {
 		return nil
 	}
-	return fmt.Errorf("site %q: %v", bad.ID, checkPosition(bad.Lat, bad.Lon, latName, lonName, swapped))
+	return fmt.Errorf("site %q: %w", bad.ID, checkPosition(bad.Lat, bad.Lon, latName, lonName, swapped))
 }
 
 // NewRegister builds a register from sites made in code: it sorts them by

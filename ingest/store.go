@@ -1,9 +1,9 @@
 package ingest
 
 import (
-	"runtime"
 	"slices"
-	"sync"
+
+	"github.com/kinmap/kinmap/internal/parallel"
 )
 
 // store keeps the readings of a Read by series, in read order. Each series
@@ -54,45 +54,21 @@ func (st *store) add(id int32, times []int64, vals []float64) {
 
 // series returns the readings of every series sorted by time, the last
 // read of each time kept (see order), and the number of readings that lost
-// to a later one. The series are sorted on several cores.
-func (st *store) series() (out []Series, dups int64) {
+// to a later one. The series are sorted on up to workers goroutines (0
+// means all cores, at most maxReaders).
+func (st *store) series(workers int) (out []Series, dups int64) {
 	out = make([]Series, len(st.times))
-	total := 0
-	for _, t := range st.times {
-		total += len(t)
-	}
-	workers := min(runtime.GOMAXPROCS(0), 4)
-	lost := make([]int64, workers)
-	var wg sync.WaitGroup
-	first, done := 0, 0
-	for w := range workers {
-		// Split at equal shares of the readings.
-		last := first
-		for last < len(st.times) && done < total*(w+1)/workers {
-			done += len(st.times[last])
-			last++
+	lost := parallel.Map(len(st.times), min(parallel.Workers(workers), maxReaders), nil, func(_ struct{}, id int) int {
+		t, v, d := order(st.times[id], st.vals[id])
+		if cap(t)-len(t) > len(t)/4 { // room reserved for readings that did not come
+			t, v = slices.Clone(t), slices.Clone(v)
 		}
-		if w == workers-1 {
-			last = len(st.times)
-		}
-		wg.Add(1)
-		go func(lo, hi int) {
-			defer wg.Done()
-			for id := lo; id < hi; id++ {
-				t, v, d := order(st.times[id], st.vals[id])
-				if cap(t)-len(t) > len(t)/4 { // room reserved for readings that did not come
-					t, v = slices.Clone(t), slices.Clone(v)
-				}
-				out[id] = Series{Times: slices.Clip(t), Values: slices.Clip(v)}
-				lost[w] += int64(d)
-			}
-		}(first, last)
-		first = last
-	}
-	wg.Wait()
+		out[id] = Series{Times: slices.Clip(t), Values: slices.Clip(v)}
+		return d
+	})
 	*st = store{}
 	for _, d := range lost {
-		dups += d
+		dups += int64(d)
 	}
 	return out, dups
 }

@@ -3,13 +3,12 @@ package mapper
 import (
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
-	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/internal/parallel"
 )
 
 // Accumulator holds the per-unit statistics of one batch epoch: how many
@@ -195,7 +194,6 @@ type runResult struct {
 
 // blockResult is the contribution of one block.
 type blockResult struct {
-	index            int
 	acc              *Accumulator
 	qe               float64
 	fallbacks, evals int
@@ -217,60 +215,40 @@ func (s *searcher) run(x *mat.Dense, opt runOptions) runResult {
 		panic(fmt.Sprintf("mapper: %d features for a map of dimension %d", d, s.dim))
 	}
 	raw := x.RawMatrix()
-	workers := resolveWorkers(opt.workers)
 	blocks := (n + blockRows - 1) / blockRows
-	workers = max(1, min(workers, blocks))
+	workers := max(1, min(parallel.Workers(opt.workers), blocks))
+	ahead := 2 * workers // blocks out at once, each holding an accumulator
 
-	// Accumulators circulate through pool so that at most 2·workers exist.
+	// Accumulators circulate through pool: a block takes one and gives it
+	// back once merged, so at most ahead exist.
 	var pool chan *Accumulator
 	if opt.accumulate {
-		pool = make(chan *Accumulator, 2*workers)
-		for range 2 * workers {
+		pool = make(chan *Accumulator, ahead)
+		for range ahead {
 			pool <- NewAccumulator(s.units, s.dim)
 		}
 	}
-	results := make(chan blockResult, 2*workers)
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			sc := &blockScratch{
-				cross: make([]float64, blockRows*s.units),
-				asg:   make([]Assignment, blockRows),
-			}
-			for {
-				var acc *Accumulator
-				if pool != nil {
-					acc = <-pool // before taking a block, so the lowest pending block always has one
-				}
-				b := int(next.Add(1)) - 1
-				if b >= blocks {
-					if acc != nil {
-						pool <- acc
-					}
-					return
-				}
-				results <- s.block(raw, b, acc, sc, opt)
-			}
-		})
-	}
-	go func() { wg.Wait(); close(results) }()
-
 	res := runResult{}
 	if opt.accumulate {
 		res.acc = NewAccumulator(s.units, s.dim)
 	}
-	pending := make(map[int]blockResult)
-	want := 0
-	for r := range results {
-		pending[r.index] = r
-		for {
-			p, ok := pending[want]
-			if !ok {
-				break
+	type job struct {
+		b   int
+		acc *Accumulator
+	}
+	parallel.Stream(workers, ahead,
+		func() *blockScratch {
+			return &blockScratch{cross: make([]float64, blockRows*s.units), asg: make([]Assignment, blockRows)}
+		},
+		func(b int) (job, bool) {
+			j := job{b: b}
+			if pool != nil && b < blocks {
+				j.acc = <-pool
 			}
-			delete(pending, want)
-			want++
+			return j, b < blocks
+		},
+		func(sc *blockScratch, j job) blockResult { return s.block(raw, j.b, j.acc, sc, opt) },
+		func(_ int, p blockResult) bool {
 			res.qe += p.qe
 			res.fallbacks += p.fallbacks
 			res.evals += p.evals
@@ -278,8 +256,8 @@ func (s *searcher) run(x *mat.Dense, opt runOptions) runResult {
 				res.acc.Merge(p.acc)
 				pool <- p.acc
 			}
-		}
-	}
+			return true
+		})
 	return res
 }
 
@@ -292,7 +270,7 @@ func (s *searcher) block(raw blas64.General, b int, acc *Accumulator, sc *blockS
 	if opt.out != nil {
 		out = opt.out[lo:hi]
 	}
-	res := blockResult{index: b, acc: acc}
+	res := blockResult{acc: acc}
 	if opt.prev != nil && s.nearLen > 0 {
 		sc.index = sc.index[:0]
 		for i := lo; i < hi; i++ {
@@ -335,24 +313,4 @@ func (s *searcher) block(raw blas64.General, b int, acc *Accumulator, sc *blockS
 		}
 	}
 	return res
-}
-
-// resolveWorkers turns the setting 0 into the number of usable cores.
-func resolveWorkers(w int) int {
-	if w <= 0 {
-		return runtime.GOMAXPROCS(0)
-	}
-	return w
-}
-
-// parallelRange splits [0, n) into contiguous parts, one per worker, and
-// runs fn on each.
-func parallelRange(n, workers int, fn func(lo, hi int)) {
-	workers = max(1, min(resolveWorkers(workers), n))
-	var wg sync.WaitGroup
-	for w := range workers {
-		lo, hi := w*n/workers, (w+1)*n/workers
-		wg.Go(func() { fn(lo, hi) })
-	}
-	wg.Wait()
 }

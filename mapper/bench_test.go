@@ -13,6 +13,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/parallel"
 	"github.com/kinmap/kinmap/scenarios"
 )
 
@@ -54,13 +55,11 @@ func BenchmarkBatchEpoch(b *testing.B) {
 		cpuGemm += cpuTime() - ct
 
 		t, ct = time.Now(), cpuTime()
-		parallelRange((benchN+blockRows-1)/blockRows, 0, func(lo, hi int) {
-			cb := make([]float64, blockRows*units)
-			for blk := lo; blk < hi; blk++ {
-				r0, r1 := blk*blockRows, min(benchN, (blk+1)*blockRows)
-				xb := blas64.General{Rows: r1 - r0, Cols: benchD, Stride: raw.Stride, Data: raw.Data[r0*raw.Stride:]}
-				blas64.Gemm(blas.NoTrans, blas.Trans, 1, xb, w, 0, blas64.General{Rows: r1 - r0, Cols: units, Stride: units, Data: cb})
-			}
+		scratch := func() []float64 { return make([]float64, blockRows*units) }
+		parallel.For((benchN+blockRows-1)/blockRows, 0, scratch, func(cb []float64, blk int) {
+			r0, r1 := blk*blockRows, min(benchN, (blk+1)*blockRows)
+			xb := blas64.General{Rows: r1 - r0, Cols: benchD, Stride: raw.Stride, Data: raw.Data[r0*raw.Stride:]}
+			blas64.Gemm(blas.NoTrans, blas.Trans, 1, xb, w, 0, blas64.General{Rows: r1 - r0, Cols: units, Stride: units, Data: cb})
 		})
 		blocked += time.Since(t)
 		cpuBlocked += cpuTime() - ct

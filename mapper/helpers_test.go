@@ -4,8 +4,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"os"
-	"os/exec"
 	"slices"
 	"testing"
 
@@ -147,23 +145,6 @@ func components(l Lattice, set []bool) int {
 		}
 	}
 	return count
-}
-
-// python returns the path of the system Python with numpy, skipping the
-// test when it is missing unless KINMAP_REQUIRE_TOOLS=1.
-func python(t *testing.T) string {
-	t.Helper()
-	const path = "/usr/bin/python3"
-	if _, err := os.Stat(path); err == nil {
-		if exec.Command(path, "-c", "import numpy").Run() == nil {
-			return path
-		}
-	}
-	if os.Getenv("KINMAP_REQUIRE_TOOLS") == "1" {
-		t.Fatalf("%s with numpy is required (KINMAP_REQUIRE_TOOLS=1)", path)
-	}
-	t.Skipf("%s with numpy not found", path)
-	return ""
 }
 
 // refDist2 is the squared planar distance between units a and b, computed

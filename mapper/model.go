@@ -18,6 +18,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/kinmap/kinmap/internal/atomicfile"
+	"github.com/kinmap/kinmap/internal/quantile"
 )
 
 // FormatVersion is the version of the model file this package writes, and
@@ -143,10 +144,7 @@ func qeQuantiles(asg []Assignment) []float64 {
 	slices.Sort(qe)
 	out := make([]float64, qeSteps+1)
 	for k := range out {
-		h := float64(len(qe)-1) * float64(k) / qeSteps
-		lo := int(math.Floor(h))
-		hi := min(lo+1, len(qe)-1)
-		out[k] = qe[lo] + (h-float64(lo))*(qe[hi]-qe[lo])
+		out[k] = quantile.Sorted(qe, float64(k)/qeSteps)
 	}
 	return out
 }
@@ -157,16 +155,12 @@ func qeQuantiles(asg []Assignment) []float64 {
 // training windows did. It returns NaN when the model stores no quantiles
 // or q is NaN.
 func (m *Model) QEThreshold(q float64) float64 {
-	t := m.QEQuantiles
-	if len(t) == 0 || math.IsNaN(q) {
+	if len(m.QEQuantiles) == 0 || math.IsNaN(q) {
 		return math.NaN()
 	}
-	h := math.Min(1, math.Max(0, q)) * float64(len(t)-1)
-	lo := int(math.Floor(h))
-	if lo >= len(t)-1 {
-		return t[len(t)-1]
-	}
-	return t[lo] + (h-float64(lo))*(t[lo+1]-t[lo])
+	// The stored quantiles are evenly spaced and ascending, so
+	// interpolating between them is definition 7 on them as a sample.
+	return quantile.Sorted(m.QEQuantiles, math.Min(1, math.Max(0, q)))
 }
 
 // Renumber gives regime i the number ids[i] (as from MatchRegimes) and

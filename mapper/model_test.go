@@ -17,6 +17,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/tooltest"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -59,8 +60,16 @@ func TestFit(t *testing.T) {
 	if mdl.Training.Epochs != 6 || mdl.Training.Rule != RuleBatch || mdl.Training.Sigma0 == 0 {
 		t.Errorf("training settings not complete: %+v", mdl.Training)
 	}
-	if q := mdl.Map.Quality(asg); !reflect.DeepEqual(q, mdl.Quality) {
-		t.Errorf("quality %+v, recomputed %+v", mdl.Quality, q)
+	// The stored quality against its definitions read by brute force: the
+	// mean Euclidean distance to the nearest codebook vector (T. Kohonen,
+	// "Self-Organizing Maps", 3rd ed., 2001), the share of windows whose
+	// two nearest units are not lattice neighbours (K. Kiviluoto,
+	// "Topology preservation in self-organizing maps", ICNN 1996), with
+	// the lattice's geometry from refDist2, and the share of units nearest
+	// to no window.
+	qe, broken, unused := bruteQuality(mdl.Map, x)
+	if n := float64(len(asg)); math.Abs(mdl.Quality.QE-qe) > 1e-9*qe || mdl.Quality.TE != float64(broken)/n || mdl.Quality.Unused != unused {
+		t.Errorf("quality %+v; brute force: QE %g, TE %g, unused %g", mdl.Quality, qe, float64(broken)/n, unused)
 	}
 	// Assigning the training windows to the model read back gives exactly
 	// the assignments of training.
@@ -266,7 +275,7 @@ func TestQEThreshold(t *testing.T) {
 // The stored quantiles agree with numpy.quantile, whose default method is
 // the same definition 7.
 func TestQEQuantilesAgreeWithNumpy(t *testing.T) {
-	py := python(t)
+	py := tooltest.Python(t, "numpy")
 	rng := testRand(32)
 	asg := make([]Assignment, 777)
 	vals := make([]string, len(asg))
@@ -335,4 +344,43 @@ func TestUpdateKeepsNumbers(t *testing.T) {
 			t.Errorf("unexpected change %+v", c)
 		}
 	}
+}
+
+// bruteQuality returns the mean distance of the rows of x to their nearest
+// unit of m, the number of rows whose nearest and second-nearest units are
+// not neighbours by refDist2, and the share of units nearest to no row, by
+// comparing every row with every unit.
+func bruteQuality(m Map, x *mat.Dense) (qe float64, broken int, unused float64) {
+	n, d := x.Dims()
+	won := make([]bool, m.Units())
+	for i := range n {
+		best, second := -1, -1
+		var db, ds float64
+		for u := range m.Units() {
+			var s float64
+			for j := range d {
+				diff := x.At(i, j) - m.Codebook[u*d+j]
+				s += diff * diff
+			}
+			switch {
+			case best < 0 || s < db:
+				second, ds = best, db
+				best, db = u, s
+			case second < 0 || s < ds:
+				second, ds = u, s
+			}
+		}
+		qe += math.Sqrt(db)
+		won[best] = true
+		if math.Abs(refDist2(m.Lattice, best, second)-1) > 1e-9 {
+			broken++
+		}
+	}
+	free := 0
+	for _, w := range won {
+		if !w {
+			free++
+		}
+	}
+	return qe / float64(n), broken, float64(free) / float64(len(won))
 }

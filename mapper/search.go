@@ -7,6 +7,7 @@ import (
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 
+	"github.com/kinmap/kinmap/internal/parallel"
 	"github.com/kinmap/kinmap/internal/selection"
 )
 
@@ -201,42 +202,45 @@ func (s *searcher) prepareShortcut(listLen, workers int) {
 		}
 		return int(p.u - q.u)
 	}
-	parallelRange(u, workers, func(lo, hi int) {
-		dist := make([]float64, u)
-		sorted := make([]float64, u)
-		list := make([]cand, 0, listLen)
-		for b := lo; b < hi; b++ {
-			g := gram[b*u : (b+1)*u]
-			for j := range dist {
-				dist[j] = math.Sqrt(math.Max(0, s.ww[b]+s.ww[j]-2*g[j]-tol))
-			}
-			dist[b] = 0
-			// The listLen nearest: those below the cut, then those at it
-			// by unit number; every unit left out is at least cut away.
-			cut := math.Inf(1)
-			if listLen < u {
-				copy(sorted, dist)
-				selection.Nth(sorted, listLen)
-				cut = sorted[listLen]
-			}
-			list = list[:0]
-			for j, d := range dist {
-				if d < cut {
-					list = append(list, cand{d, int32(j)})
-				}
-			}
-			for j, d := range dist {
-				if d == cut && len(list) < listLen {
-					list = append(list, cand{d, int32(j)})
-				}
-			}
-			slices.SortFunc(list, byDist)
-			for k, c := range list {
-				s.nearUnit[b*listLen+k] = c.u
-				s.nearDist[b*listLen+k] = c.d
-			}
-			s.beyond[b] = cut
+	type scratch struct {
+		dist, sorted []float64
+		list         []cand
+	}
+	newScratch := func() *scratch {
+		return &scratch{dist: make([]float64, u), sorted: make([]float64, u), list: make([]cand, 0, listLen)}
+	}
+	parallel.For(u, workers, newScratch, func(sc *scratch, b int) {
+		dist, sorted, list := sc.dist, sc.sorted, sc.list
+		g := gram[b*u : (b+1)*u]
+		for j := range dist {
+			dist[j] = math.Sqrt(math.Max(0, s.ww[b]+s.ww[j]-2*g[j]-tol))
 		}
+		dist[b] = 0
+		// The listLen nearest: those below the cut, then those at it
+		// by unit number; every unit left out is at least cut away.
+		cut := math.Inf(1)
+		if listLen < u {
+			copy(sorted, dist)
+			selection.Nth(sorted, listLen)
+			cut = sorted[listLen]
+		}
+		list = list[:0]
+		for j, d := range dist {
+			if d < cut {
+				list = append(list, cand{d, int32(j)})
+			}
+		}
+		for j, d := range dist {
+			if d == cut && len(list) < listLen {
+				list = append(list, cand{d, int32(j)})
+			}
+		}
+		slices.SortFunc(list, byDist)
+		for k, c := range list {
+			s.nearUnit[b*listLen+k] = c.u
+			s.nearDist[b*listLen+k] = c.d
+		}
+		s.beyond[b] = cut
 	})
 }
 

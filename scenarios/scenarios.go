@@ -84,11 +84,11 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math/rand/v2"
-	"runtime"
 	"slices"
 	"strings"
-	"sync"
 	"time"
+
+	"github.com/kinmap/kinmap/internal/parallel"
 )
 
 // Spec says which fleet to generate and how large.
@@ -233,9 +233,9 @@ func (f *Fleet) Switches() []Switch {
 }
 
 const (
-	step      = 10 * time.Minute
 	window    = 24 * time.Hour
-	perWindow = 24 * 60 / 10 // slots in a window: window / step
+	perWindow = 144                // slots in a window, of 10 minutes
+	step      = window / perWindow // so that the slots fill the window
 
 	maxSites    = 5000
 	maxWeeks    = 104
@@ -296,31 +296,19 @@ func generate(spec Spec, rates defectRates) (*Fleet, error) {
 		f.Channels[i] = c.Channel
 	}
 	defects := make([]Defects, len(sites))
-	jobs := make(chan int)
-	var wg sync.WaitGroup
-	for range runtime.GOMAXPROCS(0) {
-		wg.Go(func() {
-			var c clean
-			for i := range jobs {
-				site := sites[i]
-				site.Regimes = plan.regimes[i]
-				for j := range plan.switches[i] {
-					plan.switches[i][j].Site = site.ID
-					plan.switches[i][j].Time = f.WindowStart(plan.switches[i][j].Window)
-				}
-				site.Switches = plan.switches[i]
-				c.reset(g.slots(), len(sc.channels), sc.mobile)
-				sims[i].simulate(g, site.Regimes, env, newRand(spec.Seed, physicsStream, i), &c)
-				site.Readings, defects[i] = applyDefects(g, &c, site, sc, rates, plan.outage[i], spec.Seed, i)
-				f.Sites[i] = &site
-			}
-		})
-	}
-	for i := range sites {
-		jobs <- i
-	}
-	close(jobs)
-	wg.Wait()
+	parallel.For(len(sites), 0, func() *clean { return new(clean) }, func(c *clean, i int) {
+		site := sites[i]
+		site.Regimes = plan.regimes[i]
+		for j := range plan.switches[i] {
+			plan.switches[i][j].Site = site.ID
+			plan.switches[i][j].Time = f.WindowStart(plan.switches[i][j].Window)
+		}
+		site.Switches = plan.switches[i]
+		c.reset(g.slots(), len(sc.channels), sc.mobile)
+		sims[i].simulate(g, site.Regimes, env, newRand(spec.Seed, physicsStream, i), c)
+		site.Readings, defects[i] = applyDefects(g, c, site, sc, rates, plan.outage[i], spec.Seed, i)
+		f.Sites[i] = &site
+	})
 	for _, d := range defects {
 		f.Defects.add(d)
 	}

@@ -35,12 +35,6 @@ func generateT(t testing.TB, spec Spec) *Fleet {
 	return f
 }
 
-func TestGridConstants(t *testing.T) {
-	if perWindow != int(window/step) {
-		t.Fatalf("perWindow = %d, want %d", perWindow, window/step)
-	}
-}
-
 func TestDefaultSpec(t *testing.T) {
 	tests := []struct {
 		name  string

@@ -67,6 +67,9 @@ type siteResult struct {
 	Windows     []windowRec
 	SkipReasons []string
 	SkipCounts  []int
+	PathTimes   []int64 // features.Table.Paths as Unix nanoseconds and degrees
+	PathLat     []float64
+	PathLon     []float64
 	Err         string
 }
 
@@ -223,6 +226,10 @@ func (f *siteFn) ProcessElement(site string, chunks func(*siteChunk) bool, chann
 		res.Windows = make([]windowRec, len(t.Windows))
 		for i, w := range t.Windows {
 			res.Windows[i] = windowRec{Start: w.Start.UnixNano(), End: w.End.UnixNano(), Lat: w.Lat, Lon: w.Lon, Located: w.Located, Values: w.Values}
+		}
+		for _, f := range t.Paths[site] {
+			res.PathTimes = append(res.PathTimes, f.Time.UnixNano())
+			res.PathLat, res.PathLon = append(res.PathLat, f.Lat), append(res.PathLon, f.Lon)
 		}
 		for _, reason := range sortedKeys(t.Skipped[site]) {
 			res.SkipReasons = append(res.SkipReasons, reason)
@@ -422,6 +429,16 @@ func table(names []string, cfg features.Config, sites []siteResult) *features.Ta
 				sk[r] = s.SkipCounts[i]
 			}
 			t.Skipped[s.Site] = sk
+		}
+		if len(s.PathTimes) > 0 {
+			if t.Paths == nil {
+				t.Paths = map[string][]features.Fix{}
+			}
+			path := make([]features.Fix, len(s.PathTimes))
+			for i, ns := range s.PathTimes {
+				path[i] = features.Fix{Time: time.Unix(0, ns).UTC(), Lat: s.PathLat[i], Lon: s.PathLon[i]}
+			}
+			t.Paths[s.Site] = path
 		}
 	}
 	return t

@@ -101,6 +101,9 @@ func compareTables(t *testing.T, beam, local *kinmap.Result) {
 	if !reflect.DeepEqual(bt.Names, lt.Names) || !reflect.DeepEqual(bt.Config, lt.Config) || !reflect.DeepEqual(bt.Skipped, lt.Skipped) {
 		t.Errorf("feature table: names %v, config %+v, skipped %v; want %v, %+v, %v", bt.Names, bt.Config, bt.Skipped, lt.Names, lt.Config, lt.Skipped)
 	}
+	if !reflect.DeepEqual(bt.Paths, lt.Paths) {
+		t.Errorf("paths of %d sites, want %d, or they differ", len(bt.Paths), len(lt.Paths))
+	}
 	if len(bt.Windows) != len(lt.Windows) {
 		t.Fatalf("%d windows, want %d", len(bt.Windows), len(lt.Windows))
 	}

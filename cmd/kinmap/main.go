@@ -42,6 +42,8 @@ func commands() []command {
 			Example: "kinmap demo --out kinmap-demo"}, demoCmd},
 		{cli.Command{Name: "scenario", Summary: "write a synthetic fleet with known ground truth", Usage: "kinmap scenario NAME --out DIR [--sites N] [--weeks W] [--seed S]",
 			Example: "kinmap scenario pumping --out fleet --sites 100 --weeks 2"}, scenarioCmd},
+		{cli.Command{Name: "score", Summary: "score an output folder against a known truth", Usage: "kinmap score --out DIR --truth PATH [--tolerance 1d] [--json]",
+			Example: "kinmap score --out week23 --truth kinmap-demo/data --tolerance 1d"}, scoreCmd},
 		{cli.Command{Name: "help", Summary: "show the commands, or the options of one", Usage: "kinmap help [CMD]", Example: "kinmap help run"}, nil},
 	}
 }

@@ -172,7 +172,7 @@ func TestScenarioRunAssignUpdate(t *testing.T) {
 		if !strings.Contains(stdout, filepath.Join(out, export.ReportFile)) {
 			t.Errorf("%s does not say where the report is:\n%s", args[0], stdout)
 		}
-		for _, name := range []string{export.SitesFile, export.RegimesFile, export.TimelineParquetFile, export.TimelineCSVFile, export.SwitchesCSVFile, export.SwitchesParquetFile, export.FeaturesFile, export.ModelFile, export.RunFile, export.ReportFile} {
+		for _, name := range []string{export.SitesFile, export.RegimesFile, export.GeoPackageFile, export.TimelineParquetFile, export.TimelineCSVFile, export.SwitchesCSVFile, export.SwitchesParquetFile, export.FeaturesFile, export.ModelFile, export.RunFile, export.ReportFile} {
 			if _, err := os.Stat(filepath.Join(out, name)); err != nil {
 				t.Errorf("%s: %v", args[0], err)
 			}

@@ -24,36 +24,36 @@ type optionRow struct {
 // flag of the row: "`site`, `time`".
 var literalDefaults = regexp.MustCompile("^`[^`]*`(, `[^`]*`)*$")
 
-// optionsTable returns the rows of the first table after the heading
-// "## Options" of a README.
-func optionsTable(readme string) ([]optionRow, error) {
+// optionsTable returns the rows of the table of options, the first table
+// with the header option | default | meaning in the section of a README
+// under heading; other tables there are passed over.
+func optionsTable(readme, heading string) ([]optionRow, error) {
 	lines := strings.Split(readme, "\n")
-	start := slices.Index(lines, "## Options")
+	start := slices.Index(lines, heading)
 	if start < 0 {
-		return nil, fmt.Errorf("no heading \"## Options\"")
+		return nil, fmt.Errorf("no heading %q", heading)
 	}
 	var rows []optionRow
-	inTable := false
+	inTable, options := false, false
 	for i := start + 1; i < len(lines); i++ {
 		line := strings.TrimSpace(lines[i])
 		if strings.HasPrefix(line, "#") {
 			break
 		}
 		if !strings.HasPrefix(line, "|") {
-			if inTable {
+			if options {
 				break
 			}
+			inTable = false
 			continue
 		}
 		cells := tableCells(line)
 		if !inTable {
 			inTable = true
-			if len(cells) != 3 || cells[0] != "option" || cells[1] != "default" {
-				return nil, fmt.Errorf("line %d: header %q, want option | default | meaning", i+1, line)
-			}
+			options = len(cells) == 3 && cells[0] == "option" && cells[1] == "default" && cells[2] == "meaning"
 			continue
 		}
-		if strings.HasPrefix(cells[0], "---") {
+		if !options || strings.HasPrefix(cells[0], "---") {
 			continue
 		}
 		if len(cells) != 3 {
@@ -71,7 +71,7 @@ func optionsTable(readme string) ([]optionRow, error) {
 		rows = append(rows, row)
 	}
 	if len(rows) == 0 {
-		return nil, fmt.Errorf("no table under \"## Options\"")
+		return nil, fmt.Errorf("no table of options (option | default | meaning) under %q", heading)
 	}
 	return rows, nil
 }
@@ -154,21 +154,29 @@ func checkOptions(rows []optionRow, fs *flag.FlagSet) []string {
 	return problems
 }
 
-// The README's table of options lists every flag of run, and no other,
-// with the default the flag has.
+// The README's tables of options list every flag of run and of score,
+// and no other, with the default the flag has.
 func TestReadmeOptions(t *testing.T) {
 	text, err := os.ReadFile("../../README.md")
 	if err != nil {
 		t.Fatal(err)
 	}
-	rows, err := optionsTable(string(text))
-	if err != nil {
-		t.Fatalf("README.md: %v", err)
-	}
 	o := kinmap.DefaultOptions()
 	var out cli.Outputs
-	for _, p := range checkOptions(rows, runFlags(&o, &out).FlagSet) {
-		t.Errorf("README.md: %s", p)
+	for _, c := range []struct {
+		heading string
+		flags   *flag.FlagSet
+	}{
+		{"## Options", runFlags(&o, &out).FlagSet},
+		{"## Scoring against a known truth", scoreFlags(new(scoreOptions)).FlagSet},
+	} {
+		rows, err := optionsTable(string(text), c.heading)
+		if err != nil {
+			t.Fatalf("README.md: %v", err)
+		}
+		for _, p := range checkOptions(rows, c.flags) {
+			t.Errorf("README.md, %s: %s", c.heading, p)
+		}
 	}
 }
 
@@ -204,7 +212,7 @@ func TestCheckOptions(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			rows, err := optionsTable(head + tt.table + "\n## Next\n")
+			rows, err := optionsTable(head+tt.table+"\n## Next\n", "## Options")
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -12,7 +12,6 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
-	"github.com/kinmap/kinmap/features"
 )
 
 // Command describes a command for its usage text.
@@ -81,6 +80,12 @@ func (f *Flags) Int(p *int, name string, def int, help string) {
 func (f *Flags) Bool(p *bool, name string, def bool, help string) {
 	f.BoolVar(p, name, def, help)
 	f.note(name)
+}
+
+// Duration registers, in the current group, a length flag that accepts d
+// and w suffixes as well as Go durations; its default is *p.
+func (f *Flags) Duration(p *time.Duration, name, help string) {
+	f.Value(durationValue{p}, name, help)
 }
 
 // Value registers a flag in the current group.
@@ -199,11 +204,11 @@ func (d durationValue) String() string {
 	if d.p == nil || *d.p == 0 {
 		return ""
 	}
-	return formatDuration(*d.p)
+	return FormatDuration(*d.p)
 }
 
 func (d durationValue) Set(s string) error {
-	v, err := features.ParseDuration(s)
+	v, err := parseDuration(s)
 	if err != nil {
 		return err
 	}
@@ -212,18 +217,6 @@ func (d durationValue) Set(s string) error {
 }
 
 func (d durationValue) Get() any { return *d.p }
-
-// formatDuration writes whole weeks and days with their suffixes.
-func formatDuration(d time.Duration) string {
-	const day = 24 * time.Hour
-	switch {
-	case d%(7*day) == 0:
-		return strconv.Itoa(int(d/(7*day))) + "w"
-	case d%day == 0:
-		return strconv.Itoa(int(d/day)) + "d"
-	}
-	return d.String()
-}
 
 // gridValue is a COLSxROWS flag.
 type gridValue struct{ cols, rows *int }

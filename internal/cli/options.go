@@ -97,7 +97,7 @@ func (f *Flags) Map(o *kinmap.Options, training bool) {
 	seed := int(o.Map.Seed)
 	f.Int(&seed, "seed", seed, "random `SEED` (initialisation and the online rule)")
 	f.Int(&o.Map.Workers, "workers", 0, "`N` parallel workers; 0 uses all cores")
-	f.After(func() { o.Map.Seed = int64(seed); o.Features.Workers = o.Map.Workers })
+	f.After(func() { o.Map.Seed = int64(seed); o.Features.Workers, o.Ingest.Workers = o.Map.Workers, o.Map.Workers })
 }
 
 // Timeline registers the flags of the decoding of timelines.

@@ -1,4 +1,4 @@
-package features
+package cli
 
 import (
 	"strings"
@@ -29,9 +29,9 @@ func TestParseDuration(t *testing.T) {
 		{".5h", 30 * time.Minute},
 	}
 	for _, tt := range tests {
-		got, err := ParseDuration(tt.in)
+		got, err := parseDuration(tt.in)
 		if err != nil || got != tt.want {
-			t.Errorf("ParseDuration(%q) = %v, %v; want %v", tt.in, got, err, tt.want)
+			t.Errorf("parseDuration(%q) = %v, %v; want %v", tt.in, got, err, tt.want)
 		}
 	}
 }
@@ -44,8 +44,8 @@ func TestParseDurationAgreesWithTime(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got, err := ParseDuration(s); err != nil || got != want {
-			t.Errorf("ParseDuration(%q) = %v, %v; time.ParseDuration gives %v", s, got, err, want)
+		if got, err := parseDuration(s); err != nil || got != want {
+			t.Errorf("parseDuration(%q) = %v, %v; time.ParseDuration gives %v", s, got, err, want)
 		}
 	}
 }
@@ -66,9 +66,9 @@ func TestParseDurationErrors(t *testing.T) {
 		{"15000w15000w", "out of range"},
 	}
 	for _, tt := range tests {
-		_, err := ParseDuration(tt.in)
-		if err == nil || !strings.Contains(err.Error(), tt.msg) || !strings.HasPrefix(err.Error(), "features: duration ") {
-			t.Errorf("ParseDuration(%q) error = %v; want one containing %q", tt.in, err, tt.msg)
+		_, err := parseDuration(tt.in)
+		if err == nil || !strings.Contains(err.Error(), tt.msg) || !strings.HasPrefix(err.Error(), "duration ") {
+			t.Errorf("parseDuration(%q) error = %v; want one containing %q", tt.in, err, tt.msg)
 		}
 	}
 }

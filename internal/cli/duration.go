@@ -1,21 +1,22 @@
-package features
+package cli
 
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 	"time"
 )
 
 const durationUnits = "ns, us, ms, s, m, h, d, w"
 
-// ParseDuration parses a duration such as "90m", "1d12h" or "2w": a Go
+// parseDuration parses a duration such as "90m", "1d12h" or "2w": a Go
 // duration (see time.ParseDuration) whose components may also use the units
 // d (24 h) and w (7 d). Components combine in any order, with an optional
 // leading sign; "0" needs no unit.
-func ParseDuration(s string) (time.Duration, error) {
+func parseDuration(s string) (time.Duration, error) {
 	fail := func(format string, a ...any) (time.Duration, error) {
-		return 0, fmt.Errorf("features: duration %q: "+format, append([]any{s}, a...)...)
+		return 0, fmt.Errorf("duration %q: "+format, append([]any{s}, a...)...)
 	}
 	rest := s
 	neg := false
@@ -68,4 +69,17 @@ func ParseDuration(s string) (time.Duration, error) {
 		total = -total
 	}
 	return total, nil
+}
+
+// FormatDuration writes whole weeks and days with their suffixes, other
+// lengths as Go durations.
+func FormatDuration(d time.Duration) string {
+	const day = 24 * time.Hour
+	switch {
+	case d%(7*day) == 0:
+		return strconv.Itoa(int(d/(7*day))) + "w"
+	case d%day == 0:
+		return strconv.Itoa(int(d/day)) + "d"
+	}
+	return d.String()
 }

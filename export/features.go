@@ -1,4 +1,4 @@
-package features
+package export
 
 import (
 	"fmt"
@@ -9,16 +9,18 @@ import (
 	"strings"
 
 	"github.com/parquet-go/parquet-go"
+
+	"github.com/kinmap/kinmap/features"
 )
 
-// WriteParquet writes t as Parquet (features.parquet): one row per window
+// writeFeatures writes t as Parquet (features.parquet): one row per window
 // with the columns site (string), window_start and window_end (TIMESTAMP in
 // microseconds, adjusted to UTC), lat and lon (optional doubles, null when
 // the window is not located), then one optional double column per feature
 // in t.Names order, null where the value is NaN. The columns are in that
 // order; a feature name containing a comma cannot be a column name here and
 // is an error.
-func WriteParquet(w io.Writer, t *Table) error {
+func writeFeatures(w io.Writer, t *features.Table) error {
 	fields := []reflect.StructField{
 		{Name: "Site", Type: reflect.TypeFor[string](), Tag: `parquet:"site"`},
 		{Name: "WindowStart", Type: reflect.TypeFor[int64](), Tag: `parquet:"window_start,timestamp(microsecond)"`},
@@ -29,7 +31,7 @@ func WriteParquet(w io.Writer, t *Table) error {
 	const fixed = 5
 	for i, name := range t.Names {
 		if strings.ContainsAny(name, ",") || name == "" {
-			return fmt.Errorf("features: parquet: feature %q cannot be a column name", name)
+			return fmt.Errorf("export: features.parquet: feature %q cannot be a column name", name)
 		}
 		fields = append(fields, reflect.StructField{
 			Name: "F" + strconv.Itoa(i),
@@ -56,7 +58,7 @@ func WriteParquet(w io.Writer, t *Table) error {
 	}
 	for _, win := range t.Windows {
 		if len(win.Values) != len(t.Names) {
-			return fmt.Errorf("features: parquet: window of %q at %s has %d values for %d features",
+			return fmt.Errorf("export: features.parquet: window of %q at %s has %d values for %d features",
 				win.Site, win.Start.Format("2006-01-02T15:04:05Z07:00"), len(win.Values), len(t.Names))
 		}
 		lat, lon := math.NaN(), math.NaN()
@@ -74,15 +76,15 @@ func WriteParquet(w io.Writer, t *Table) error {
 		}
 		if rows = append(rows, row); len(rows) == batch {
 			if err := flush(); err != nil {
-				return fmt.Errorf("features: parquet: %w", err)
+				return fmt.Errorf("export: features.parquet: %w", err)
 			}
 		}
 	}
 	if err := flush(); err != nil {
-		return fmt.Errorf("features: parquet: %w", err)
+		return fmt.Errorf("export: features.parquet: %w", err)
 	}
 	if err := pw.Close(); err != nil {
-		return fmt.Errorf("features: parquet: %w", err)
+		return fmt.Errorf("export: features.parquet: %w", err)
 	}
 	return nil
 }

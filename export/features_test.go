@@ -1,4 +1,4 @@
-package features
+package export
 
 import (
 	"bytes"
@@ -14,6 +14,8 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 	"github.com/apache/arrow-go/v18/parquet/schema"
+
+	"github.com/kinmap/kinmap/features"
 )
 
 // features.parquet read back with arrow-go's own Parquet reader (pqarrow,
@@ -21,17 +23,17 @@ import (
 // Parquet format's logical types (TIMESTAMP(MICROS, isAdjustedToUTC=true),
 // STRING, optional DOUBLE), and the values, with NaN and unlocated
 // positions as nulls.
-func TestWriteParquetReadsBackWithArrow(t *testing.T) {
+func TestWriteFeaturesReadsBackWithArrow(t *testing.T) {
 	start := time.Date(2024, 2, 5, 0, 0, 0, 0, time.UTC)
-	tab := &Table{
+	tab := &features.Table{
 		Names: []string{"flow.mean", "flow~temp.corr"},
-		Windows: []Window{
+		Windows: []features.Window{
 			{Site: "P-1", Start: start, End: start.Add(24 * time.Hour), Lat: 52.5, Lon: -1.25, Located: true, Values: []float64{3.5, math.NaN()}},
 			{Site: "P-2", Start: start.Add(24 * time.Hour), End: start.Add(48 * time.Hour), Values: []float64{-0.125, 0.75}},
 		},
 	}
 	var buf bytes.Buffer
-	if err := WriteParquet(&buf, tab); err != nil {
+	if err := writeFeatures(&buf, tab); err != nil {
 		t.Fatal(err)
 	}
 
@@ -101,13 +103,13 @@ func TestWriteParquetReadsBackWithArrow(t *testing.T) {
 	}
 }
 
-func TestWriteParquetErrors(t *testing.T) {
-	bad := []*Table{
+func TestWriteFeaturesErrors(t *testing.T) {
+	bad := []*features.Table{
 		{Names: []string{"a,b.mean"}},
-		{Names: []string{"a.mean"}, Windows: []Window{{Site: "x", Values: []float64{1, 2}}}},
+		{Names: []string{"a.mean"}, Windows: []features.Window{{Site: "x", Values: []float64{1, 2}}}},
 	}
 	for _, tab := range bad {
-		if err := WriteParquet(&bytes.Buffer{}, tab); err == nil || !strings.HasPrefix(err.Error(), "features: parquet: ") {
+		if err := writeFeatures(&bytes.Buffer{}, tab); err == nil || !strings.HasPrefix(err.Error(), "export: features.parquet: ") {
 			t.Errorf("%v: error %v", tab.Names, err)
 		}
 	}

@@ -189,12 +189,15 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	return nil
 }
 
-// writeRunFile writes info, a JSON object, indented, with files added as
-// "files".
+// writeRunFile writes info, a JSON object or nil, indented, with files
+// added as "files".
 func writeRunFile(w io.Writer, info any, files []string) error {
 	b, err := json.Marshal(info)
 	if err != nil {
 		return err
+	}
+	if string(b) == "null" { // no summary: run.json lists the files only
+		b = []byte("{}")
 	}
 	if len(b) < 2 || b[0] != '{' {
 		return fmt.Errorf("the run summary is not a JSON object")

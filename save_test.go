@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"maps"
 	"math/rand/v2"
 	"os"
 	"os/exec"
@@ -115,7 +116,7 @@ func TestSaveAllOrNothing(t *testing.T) {
 			if !errors.Is(err, faultwriter.ErrFull) || !strings.Contains(err.Error(), at) || strings.Contains(err.Error(), ".kinmap-") {
 				t.Errorf("failing %s after %d bytes: error %v; want the injected one, naming that file only", at, n, err)
 			}
-			if after := f.files(t); !sameMap(before, after) {
+			if after := f.files(t); !maps.Equal(before, after) {
 				t.Fatalf("failing %s after %d bytes changed the files: %s", at, n, diffKeys(before, after))
 			}
 			if n == 0 {
@@ -150,18 +151,6 @@ func TestSaveAllOrNothing(t *testing.T) {
 		t.Errorf("history holds %d windows, want %d", len(h.Windows), n)
 	}
 	t.Logf("%d files failed in turn", len(paths))
-}
-
-func sameMap(a, b map[string]string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for k, v := range a {
-		if w, ok := b[k]; !ok || w != v {
-			return false
-		}
-	}
-	return true
 }
 
 func diffKeys(a, b map[string]string) string {

@@ -5,6 +5,7 @@ import (
 	"cmp"
 	"context"
 	"errors"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
@@ -354,7 +355,7 @@ func TestChangedSinceRead(t *testing.T) {
 		t.Errorf("error %v, want the history changed from generation 1 to 2", err)
 	}
 	tx.Abort()
-	if after := snapshot(t, dir); !sameFiles(before, after) {
+	if after := snapshot(t, dir); !maps.Equal(before, after) {
 		t.Error("a refused write changed the history")
 	}
 }
@@ -370,18 +371,6 @@ func snapshot(t *testing.T, dir string) map[string]string {
 		return err
 	})
 	return out
-}
-
-func sameFiles(a, b map[string]string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for k, v := range a {
-		if b[k] != v {
-			return false
-		}
-	}
-	return true
 }
 
 // A write whose every window moves to another period leaves no empty

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"maps"
 	"math/rand/v2"
 	"os"
 	"os/exec"
@@ -133,23 +134,11 @@ func TestFailingWriterLeavesFolders(t *testing.T) {
 				t.Errorf("%s after %d bytes: error %v; want the injected one naming %s only", file, n, err, file)
 			}
 			after := [2]map[string]string{snapshot(t, a), snapshot(t, b)}
-			if !mapsEqual(before[0], after[0]) || !mapsEqual(before[1], after[1]) {
+			if !maps.Equal(before[0], after[0]) || !maps.Equal(before[1], after[1]) {
 				t.Errorf("%s after %d bytes: the folders changed", file, n)
 			}
 		}
 	}
-}
-
-func mapsEqual(a, b map[string]string) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for k, v := range a {
-		if w, ok := b[k]; !ok || w != v {
-			return false
-		}
-	}
-	return true
 }
 
 // A crash between the journal copies and the home journal is undone; one
@@ -316,7 +305,7 @@ func TestConcurrentRuns(t *testing.T) {
 		switch {
 		case wait < time.Second && !errors.As(err, &busy):
 			t.Errorf("wait %v: %v, want the folder busy", wait, err)
-		case wait < time.Second && !mapsEqual(snapshot(t, a), before):
+		case wait < time.Second && !maps.Equal(snapshot(t, a), before):
 			t.Errorf("a refused run changed the folder")
 		case wait > time.Second && err != nil:
 			t.Errorf("wait %v: %v", wait, err)

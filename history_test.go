@@ -9,9 +9,13 @@ import (
 	"slices"
 	"strings"
 	"testing"
+	"time"
+
+	"github.com/parquet-go/parquet-go"
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/mapper"
 )
 
@@ -175,5 +179,83 @@ func TestWeeklyWriteWarnings(t *testing.T) {
 	list, _, _ = bytes.Cut(list, []byte("</div>"))
 	if n := bytes.Count(list, []byte(position)); n != 1 {
 		t.Errorf("the report's warnings mention %q %d times, want 1:\n%s", position, n, list)
+	}
+}
+
+// oldRow is a window of a history period as kinmap wrote it before the
+// history package: period=YYYY-MM-DD/timeline.parquet, the cell in place
+// of the unit, the lineage in the key-value metadata.
+type oldRow struct {
+	Site        string    `parquet:"site,dict"`
+	WindowStart time.Time `parquet:"window_start,timestamp(microsecond:utc)"`
+	WindowEnd   time.Time `parquet:"window_end,timestamp(microsecond:utc)"`
+	Col         int32     `parquet:"col"`
+	Row         int32     `parquet:"row"`
+	Regime      int32     `parquet:"regime"`
+	QE          float64   `parquet:"qe"`
+	Unfamiliar  bool      `parquet:"unfamiliar"`
+	Scaled      []float64 `parquet:"scaled,list"`
+	Revised     bool      `parquet:"revised"`
+}
+
+// A history folder written the old way keeps working after the upgrade:
+// a run continues from it exactly as from the same first week written by
+// this version, and its first write keeps the old windows.
+func TestHistoryWrittenTheOldWay(t *testing.T) {
+	fleet := fleetT(t, 20, 2)
+	dir := t.TempDir()
+	week1, week2 := filepath.Join(dir, "week1.csv"), filepath.Join(dir, "week2.csv")
+	mid := fleet.WindowStart(fleet.Windows() / 2)
+	writeDump(t, week1, fleet, fleet.WindowStart(0), mid, 0, 0, 1)
+	writeDump(t, week2, fleet, mid, fleet.WindowStart(fleet.Windows()), 0, 0, 1)
+	first, err := kinmap.Train(options(week1))
+	if err != nil {
+		t.Fatal(err)
+	}
+	now, old := filepath.Join(dir, "now"), filepath.Join(dir, "old")
+	if err := first.AppendHistory(now); err != nil {
+		t.Fatal(err)
+	}
+	rows := make([]oldRow, len(first.Entries))
+	for i, e := range first.Entries {
+		rows[i] = oldRow{Site: e.Site, WindowStart: e.Start, WindowEnd: e.End, Col: int32(e.Col), Row: int32(e.Row),
+			Regime: int32(e.Regime), QE: e.QE, Unfamiliar: e.Unfamiliar, Scaled: first.X.RawRowView(i)}
+	}
+	period := filepath.Join(old, "period="+fleet.WindowStart(0).UTC().Format(time.DateOnly))
+	if err := os.MkdirAll(period, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := parquet.WriteFile(filepath.Join(period, "timeline.parquet"), rows, parquet.KeyValueMetadata(history.LineageKey, first.Model.Lineage)); err != nil {
+		t.Fatal(err)
+	}
+	assign := func(h string) *kinmap.Result {
+		o := options(week2)
+		o.History = h
+		r, err := kinmap.Assign(o, first.Model)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return r
+	}
+	a, b := assign(now), assign(old)
+	if !reflect.DeepEqual(a.Entries, b.Entries) || !reflect.DeepEqual(a.Switches, b.Switches) {
+		t.Errorf("continuing from the old folder: %d switches, from this version's: %d; want the same timelines", len(b.Switches), len(a.Switches))
+	}
+	alone, err := kinmap.Assign(options(week2), first.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if reflect.DeepEqual(alone.Switches, a.Switches) && reflect.DeepEqual(alone.Entries, a.Entries) {
+		t.Error("the history changed no window of the second week; the check would not tell")
+	}
+	if err := b.AppendHistory(old); err != nil {
+		t.Fatal(err)
+	}
+	h, err := history.Read(old)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := len(first.Entries) + len(b.Entries); len(h.Windows) != n {
+		t.Errorf("the old folder holds %d windows after a write, want %d", len(h.Windows), n)
 	}
 }

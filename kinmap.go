@@ -9,7 +9,6 @@
 package kinmap
 
 import (
-	"cmp"
 	"errors"
 	"fmt"
 	"io"
@@ -20,8 +19,8 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
-	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/timeline"
@@ -88,7 +87,8 @@ type Result struct {
 	Changes     []mapper.RegimeChange // regime renumbering by Update
 	Info        RunInfo
 
-	revised []export.Period // history periods whose last windows the decoding revised
+	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
+	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality *mapper.Quality
@@ -173,37 +173,6 @@ func (o *Options) Validate() error {
 		return &UsageError{err}
 	}
 	return nil
-}
-
-// Write writes every output file of the run into dir. Files are staged and
-// renamed into place only when all were written, so a failed write leaves the
-// outputs of an earlier run as they were. The warnings of the export, such
-// as sites without a position, join r.Info.Warnings first, so that run.json
-// records them.
-func (r *Result) Write(dir string) error {
-	run := &export.Run{
-		Model:       r.Model,
-		Table:       r.Table,
-		Assignments: r.Assignments,
-		Entries:     r.Entries,
-		Switches:    r.Switches,
-		Register:    r.Register,
-		Summary:     &r.Ingest,
-		Changes:     r.Changes,
-		Title:       "kinmap " + cmp.Or(r.Info.Command, "run"),
-	}
-	ws, err := export.Warnings(run)
-	if err != nil {
-		return err
-	}
-	for _, w := range ws {
-		if !slices.Contains(r.Info.Warnings, w) {
-			r.Info.Warnings = append(r.Info.Warnings, w)
-		}
-	}
-	// The report shows each warning once, those it finds itself included.
-	run.Warnings, run.Info = r.Info.Warnings, r.Info
-	return export.Write(dir, run)
 }
 
 // stopwatch records the duration of named steps.

@@ -9,6 +9,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/timeline"
@@ -249,24 +250,28 @@ func decode(o *Options, res *Result) error {
 		m.Lineage = lineageOf(&m)
 		res.Model = &m
 	}
-	c := &continuation{}
+	c := (&history.History{}).Continue(res.Model, res.Model.Lineage, res.Table)
 	if o.History != "" {
-		var err error
-		if c, err = readContinuation(o.History, res.Model, res.Table); err != nil {
+		h, err := history.Read(o.History)
+		if err != nil {
 			return err
 		}
-		res.Info.Warnings = append(res.Info.Warnings, c.warnings...)
-		o.logf("history: %d sites continue from earlier dumps, %d of their windows decoded again", len(c.priors), len(c.tail))
+		c = h.Continue(res.Model, res.Model.Lineage, res.Table)
+		res.history = h
+		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)
+		res.Info.Warnings = append(res.Info.Warnings, c.Warnings...)
+		o.logf("history: %d sites continue from earlier dumps, %d of their windows decoded again", len(c.Priors), c.Tail())
 	}
-	t, x, asg := c.prepend(res.Model, res.Table, res.X, res.Assignments)
-	entries, switches, err := timeline.BuildFrom(res.Model, t, x, asg, o.Timeline, c.priors)
+	t, x, asg := c.Prepend(res.Model, res.Table, res.X, res.Assignments)
+	entries, switches, err := timeline.BuildFrom(res.Model, t, x, asg, o.Timeline, c.Priors)
 	if err != nil {
 		return err
 	}
-	res.Entries, res.Switches, res.revised = c.settle(entries, switches)
+	var revised int
+	res.Entries, res.Switches, revised = c.Settle(entries, switches)
 	o.logf("timelines: %d switches", len(res.Switches))
-	if len(res.revised) > 0 {
-		o.logf("history: the ends of %d earlier periods decoded anew", len(res.revised))
+	if revised > 0 {
+		o.logf("history: %d windows of earlier dumps decoded anew", revised)
 	}
 	return nil
 }

@@ -13,7 +13,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
-	"github.com/kinmap/kinmap/export"
+	khistory "github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/timeline"
@@ -281,12 +281,12 @@ func TestSwitchAcrossDumps(t *testing.T) {
 					t.Errorf("run %d: switches of %s near %s: %+v, want one at that window", run, planted.Site, planted.Time.Format(time.DateOnly), found)
 				}
 			}
-			periods, err := export.ReadHistory(history)
+			h, err := khistory.Read(history)
 			if err != nil {
 				t.Fatal(err)
 			}
-			if len(periods) != 2 {
-				t.Errorf("history holds %d periods, want 2", len(periods))
+			if n := len(first.Entries) + len(second.Entries); len(h.Windows) != n {
+				t.Errorf("history holds %d windows, want the %d of both dumps once", len(h.Windows), n)
 			}
 
 			// Windows as "time regime" and switches as "time from→to".
@@ -296,11 +296,9 @@ func TestSwitchAcrossDumps(t *testing.T) {
 					want = append(want, fmt.Sprintf("%s %d", e.Start.UTC().Format(time.RFC3339), e.Regime))
 				}
 			}
-			for _, p := range periods {
-				for _, w := range p.Windows {
-					if w.Site == planted.Site {
-						got = append(got, fmt.Sprintf("%s %d", w.Start.UTC().Format(time.RFC3339), w.Regime))
-					}
+			for _, w := range h.Windows {
+				if w.Site == planted.Site {
+					got = append(got, fmt.Sprintf("%s %d", w.Start.UTC().Format(time.RFC3339), w.Regime))
 				}
 			}
 			slices.Sort(got)

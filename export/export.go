@@ -5,6 +5,7 @@
 package export
 
 import (
+	"bytes"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -13,10 +14,13 @@ import (
 	"os"
 	"path/filepath"
 	"slices"
+	"strings"
+	"time"
 
 	"github.com/kinmap/kinmap/export/picture"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -90,14 +94,38 @@ type Run struct {
 // UTC. Then come features.parquet, the model file, run.json (r.Info as
 // JSON), the pictures of package picture and report.html.
 //
-// Every file is first written in full as a hidden temporary file in dir;
-// only when all were written are they renamed into place, so that a
-// failure leaves neither a half-written file nor a mix of this run's and an
-// earlier run's outputs (short of a failing rename). Then the optional
-// outputs this run did not make, tracks.geojson and the pictures (see
-// picture.Files), are removed if an earlier run left them.
+// run.json also gets a "files" list: the files of dir this run wrote.
+//
+// Write commits the files together (see Stage); it waits at most a minute
+// for another run writing into dir.
 func Write(dir string, r *Run) error {
+	tx, err := atomicfile.Begin(dir, nil, time.Minute)
+	if err != nil {
+		return fmt.Errorf("export: %w", err)
+	}
+	defer tx.Abort()
+	if err := Stage(tx, dir, r); err != nil {
+		return err
+	}
+	if err := tx.Commit(); err != nil {
+		return fmt.Errorf("export: %w", err)
+	}
+	return nil
+}
+
+// Stage writes the outputs of r into dir as part of tx, whose folders
+// must include dir: they appear when tx commits, together with its other
+// files, or not at all. The outputs an earlier run listed in its run.json
+// and this run does not make, such as tracks.geojson or a picture, are
+// removed with the commit, so that the folder never mixes two runs. Files
+// that no kinmap run wrote are never replaced nor removed: an output whose
+// name is taken by one is refused (see CheckDir).
+func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	if err := check(r); err != nil {
+		return err
+	}
+	owned, err := CheckDir(dir)
+	if err != nil {
 		return err
 	}
 	ss, warnings := sites(r)
@@ -105,70 +133,168 @@ func Write(dir string, r *Run) error {
 	if err != nil {
 		return fmt.Errorf("export: pictures: %w", err)
 	}
-	st, err := newStage(dir)
+	type file struct {
+		name  string
+		write func(io.Writer) error
+	}
+	sites, regimes, tracks := siteFeatures(r, ss), regimeFeatures(r, ss), trackFeatures(r, ss)
+	tl, sw := timelineRows(r, ss), switchRows(r)
+	files := []file{
+		{SitesFile, func(w io.Writer) error { return writeCollection(w, sites) }},
+		{RegimesFile, func(w io.Writer) error { return writeCollection(w, regimes) }},
+	}
+	if len(tracks) > 0 {
+		files = append(files, file{TracksFile, func(w io.Writer) error { return writeCollection(w, tracks) }})
+	}
+	files = append(files,
+		file{TimelineParquetFile, func(w io.Writer) error { return writeParquet(w, tl) }},
+		file{TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineColumns, tl) }},
+		file{SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchColumns, sw) }},
+		file{SwitchesParquetFile, func(w io.Writer) error { return writeParquet(w, sw) }},
+		file{GeoPackageFile, func(w io.Writer) error {
+			layers, err := gpkgLayers(sites, regimes, tracks, tl, sw)
+			if err != nil {
+				return err
+			}
+			return writeGeoPackage(w, layers)
+		}},
+		file{FeaturesFile, func(w io.Writer) error { return writeFeatures(w, r.Table) }},
+		file{ModelFile, r.Model.Write},
+	)
+	for _, p := range pics {
+		files = append(files, file{p.File, func(w io.Writer) error { _, err := w.Write(p.PNG); return err }})
+	}
+	var listed []string // by the report, which adds itself
+	for _, f := range files {
+		listed = append(listed, f.name)
+	}
+	listed = append(listed, RunFile)
+	all := append(slices.Clone(listed), ReportFile)
+	files = append(files,
+		file{RunFile, func(w io.Writer) error { return writeRunFile(w, r.Info, all) }},
+		file{ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, warnings, pics, listed) }},
+	)
+	for _, f := range files {
+		if err := tx.Create(filepath.Join(dir, f.name), f.write); err != nil {
+			return fmt.Errorf("export: %w", err)
+		}
+	}
+	for _, name := range owned {
+		if !slices.Contains(all, name) {
+			if err := tx.Remove(filepath.Join(dir, name)); err != nil {
+				return fmt.Errorf("export: %w", err)
+			}
+		}
+	}
+	return nil
+}
+
+// writeRunFile writes info, a JSON object or nil, indented, with files
+// added as "files".
+func writeRunFile(w io.Writer, info any, files []string) error {
+	b, err := json.Marshal(info)
 	if err != nil {
 		return err
 	}
-	sites, regimes, tracks := siteFeatures(r, ss), regimeFeatures(r, ss), trackFeatures(r, ss)
-	st.add(SitesFile, func(w io.Writer) error { return writeCollection(w, sites) })
-	st.add(RegimesFile, func(w io.Writer) error { return writeCollection(w, regimes) })
-	if len(tracks) > 0 {
-		st.add(TracksFile, func(w io.Writer) error { return writeCollection(w, tracks) })
+	if string(b) == "null" { // no summary: run.json lists the files only
+		b = []byte("{}")
 	}
-	tl, sw := timelineRows(r, ss), switchRows(r)
-	st.add(TimelineParquetFile, func(w io.Writer) error { return writeParquet(w, tl) })
-	st.add(TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineColumns, tl) })
-	st.add(SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchColumns, sw) })
-	st.add(SwitchesParquetFile, func(w io.Writer) error { return writeParquet(w, sw) })
-	st.add(GeoPackageFile, func(w io.Writer) error {
-		layers, err := gpkgLayers(sites, regimes, tracks, tl, sw)
-		if err != nil {
-			return err
-		}
-		return writeGeoPackage(w, layers)
-	})
-	st.add(FeaturesFile, func(w io.Writer) error { return writeFeatures(w, r.Table) })
-	st.add(ModelFile, r.Model.Write)
-	st.add(RunFile, func(w io.Writer) error {
-		b, err := json.MarshalIndent(r.Info, "", "  ")
-		if err != nil {
-			return err
-		}
-		_, err = w.Write(append(b, '\n'))
-		return err
-	})
-	for _, p := range pics {
-		st.add(p.File, func(w io.Writer) error { _, err := w.Write(p.PNG); return err })
+	if len(b) < 2 || b[0] != '{' {
+		return fmt.Errorf("the run summary is not a JSON object")
 	}
-	written := slices.Clone(st.names) // listed by the report, with itself
-	st.add(ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, warnings, pics, written) })
-	if err := st.commit(); err != nil {
+	list, err := json.Marshal(files)
+	if err != nil {
 		return err
 	}
-	return removeStale(dir, written)
+	sep := ","
+	if string(b) == "{}" {
+		sep = ""
+	}
+	b = append(append(append(b[:len(b)-1:len(b)-1], sep+`"files":`...), list...), '}')
+	var out bytes.Buffer
+	if err := json.Indent(&out, b, "", "  "); err != nil {
+		return err
+	}
+	out.WriteByte('\n')
+	_, err = w.Write(out.Bytes())
+	return err
 }
 
-// removeStale removes from dir the outputs Write can make that this run,
-// which wrote the files named in written, did not: tracks.geojson and the
-// pictures of an earlier run would no longer match the other files.
-func removeStale(dir string, written []string) error {
-	var errs []error
-	removed := false
-	for _, name := range append([]string{TracksFile}, picture.Files()...) {
-		if slices.Contains(written, name) {
+// CheckDir reports which output files of the folder dir an earlier kinmap
+// run wrote, as its run.json lists them, and refuses a folder where a name
+// that a run may write is taken by a file none wrote: kinmap never
+// replaces nor removes a file it did not make. A run.json written before
+// the list existed owns every output name. A folder that does not exist
+// is fine; a path that is not a folder is refused.
+func CheckDir(dir string) ([]string, error) {
+	info, err := os.Stat(dir)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		return nil, nil
+	case err != nil:
+		return nil, fmt.Errorf("export: %w", err)
+	case !info.IsDir():
+		return nil, &NotFolderError{Path: dir}
+	}
+	names := outputNames()
+	var owned []string
+	if b, err := os.ReadFile(filepath.Join(dir, RunFile)); err == nil {
+		var prev struct {
+			Tool  string    `json:"tool"`
+			Files *[]string `json:"files"`
+		}
+		switch {
+		case json.Unmarshal(b, &prev) != nil:
+		case prev.Files != nil:
+			owned = append(*prev.Files, RunFile)
+		case prev.Tool == "kinmap":
+			owned = names
+		}
+	}
+	var there, foreign []string
+	for _, name := range names {
+		if _, err := os.Lstat(filepath.Join(dir, name)); err != nil {
 			continue
 		}
-		switch err := os.Remove(filepath.Join(dir, name)); {
-		case err == nil:
-			removed = true
-		case !errors.Is(err, fs.ErrNotExist):
-			errs = append(errs, fmt.Errorf("export: stale output: %w", err))
+		if slices.Contains(owned, name) {
+			there = append(there, name)
+		} else {
+			foreign = append(foreign, name)
 		}
 	}
-	if removed {
-		syncDir(dir)
+	if len(foreign) > 0 {
+		return nil, &ForeignFilesError{Dir: dir, Files: foreign}
 	}
-	return errors.Join(errs...)
+	return there, nil
+}
+
+// outputNames returns every name Write may give a file.
+func outputNames() []string {
+	return append([]string{SitesFile, RegimesFile, TracksFile, GeoPackageFile, TimelineParquetFile, TimelineCSVFile, SwitchesCSVFile,
+		SwitchesParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile}, picture.Files()...)
+}
+
+// IsOutput reports whether Write may write a file called name.
+func IsOutput(name string) bool { return slices.Contains(outputNames(), name) }
+
+// NotFolderError is an output folder path that names something else, such
+// as a file.
+type NotFolderError struct{ Path string }
+
+func (e *NotFolderError) Error() string {
+	return fmt.Sprintf("export: %s is not a folder", e.Path)
+}
+
+// ForeignFilesError is an output folder holding files under the names of
+// kinmap's outputs that no kinmap run wrote (no run.json there lists
+// them), which kinmap refuses to replace.
+type ForeignFilesError struct {
+	Dir   string
+	Files []string
+}
+
+func (e *ForeignFilesError) Error() string {
+	return fmt.Sprintf("export: %s holds %s, which no kinmap run wrote there; kinmap will not replace them", e.Dir, strings.Join(e.Files, ", "))
 }
 
 // Warnings returns what Write will warn about in the report, for example a

@@ -1,9 +1,8 @@
 package export
 
 import (
+	"encoding/json"
 	"errors"
-	"fmt"
-	"io"
 	"io/fs"
 	"maps"
 	"os"
@@ -47,8 +46,17 @@ func TestWriteFiles(t *testing.T) {
 			t.Errorf("%s is not readable by others: %v", name, info.Mode())
 		}
 	}
-	if got := files[RunFile]; got != "{\n  \"command\": \"kinmap train\",\n  \"windows\": 18\n}\n" {
-		t.Errorf("run.json:\n%s", got)
+	var info struct {
+		Command string
+		Windows int
+		Files   []string
+	}
+	if err := json.Unmarshal([]byte(files[RunFile]), &info); err != nil || info.Command != "kinmap train" || info.Windows != 18 {
+		t.Errorf("run.json (%v):\n%s", err, files[RunFile])
+	}
+	// run.json lists exactly the files of the folder, itself included.
+	if got, want := slices.Sorted(slices.Values(info.Files)), slices.Sorted(maps.Keys(files)); !slices.Equal(got, want) {
+		t.Errorf("run.json lists %v; the folder holds %v", got, want)
 	}
 }
 
@@ -72,65 +80,6 @@ func TestFailedWriteKeepsEarlierRun(t *testing.T) {
 	after := snapshot(t, dir)
 	if !maps.Equal(before, after) {
 		t.Errorf("files changed by a failed run: before %v, after %v", slices.Sorted(maps.Keys(before)), slices.Sorted(maps.Keys(after)))
-	}
-}
-
-// An injected writer error in the middle of a stage: the files staged
-// before it are not renamed into place and no temporary file remains.
-func TestStageWriterError(t *testing.T) {
-	dir := t.TempDir()
-	if err := os.WriteFile(filepath.Join(dir, "a.txt"), []byte("old a"), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	st, err := newStage(dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	boom := errors.New("disk full")
-	calls := 0
-	for _, name := range []string{"a.txt", "b.txt", "c.txt", "d.txt"} {
-		st.add(name, func(w io.Writer) error {
-			calls++
-			if name == "c.txt" {
-				io.WriteString(w, "half")
-				return boom
-			}
-			_, err := io.WriteString(w, "new "+name)
-			return err
-		})
-	}
-	err = st.commit()
-	if !errors.Is(err, boom) || !strings.Contains(err.Error(), "c.txt") {
-		t.Errorf("error %v, want the writer's error for c.txt", err)
-	}
-	if calls != 3 {
-		t.Errorf("%d writers called, want 3: none after the failure", calls)
-	}
-	if got := snapshot(t, dir); !maps.Equal(got, map[string]string{"a.txt": "old a"}) {
-		t.Errorf("folder holds %v, want only the old a.txt", got)
-	}
-}
-
-func TestStageNames(t *testing.T) {
-	for _, name := range []string{"../x", "sub/x", "", ".", "..", "dup"} {
-		t.Run(fmt.Sprintf("%q", name), func(t *testing.T) {
-			dir := t.TempDir()
-			st, err := newStage(dir)
-			if err != nil {
-				t.Fatal(err)
-			}
-			ok := func(w io.Writer) error { return nil }
-			if name == "dup" {
-				st.add(name, ok)
-			}
-			st.add(name, ok)
-			if err := st.commit(); err == nil {
-				t.Errorf("name %q accepted", name)
-			}
-			if got := snapshot(t, dir); len(got) != 0 {
-				t.Errorf("folder holds %v", slices.Sorted(maps.Keys(got)))
-			}
-		})
 	}
 }
 
@@ -246,5 +195,44 @@ func TestPositionWarnings(t *testing.T) {
 	w := positionWarnings([]string{"A", "B", "C", "D", "E"})
 	if len(w) != 1 || !strings.HasPrefix(w[0], `5 sites have no position ("A", "B", "C" and 2 more)`) || !strings.Contains(w[0], "--sites") {
 		t.Errorf("five sites: %q", w)
+	}
+}
+
+// A user's own files under kinmap's output names, in a folder without a
+// run.json listing them, are neither replaced nor removed: the write is
+// refused and the folder stays as it was. A folder of a kinmap run from
+// before run.json listed its files is taken as kinmap's.
+func TestForeignFilesKept(t *testing.T) {
+	for _, name := range []string{SitesFile, TracksFile, "sites.png"} {
+		dir := t.TempDir()
+		if err := os.WriteFile(filepath.Join(dir, name), []byte("the user's own"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		before := snapshot(t, dir)
+		err := Write(dir, fixtureRun())
+		var ff *ForeignFilesError
+		if !errors.As(err, &ff) || !slices.Equal(ff.Files, []string{name}) {
+			t.Errorf("%s: error %v, want one naming %s", name, err, name)
+		}
+		if after := snapshot(t, dir); !maps.Equal(before, after) {
+			t.Errorf("%s: the folder changed: %v", name, slices.Sorted(maps.Keys(after)))
+		}
+	}
+
+	// An earlier run's folder whose run.json has no list of files.
+	dir := t.TempDir()
+	if err := Write(dir, fixtureRun()); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, RunFile), []byte(`{"tool": "kinmap", "version": "0.1.0"}`), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	r := fixtureRun()
+	r.Switches = nil
+	if err := Write(dir, r); err != nil {
+		t.Errorf("a folder of an earlier kinmap: %v", err)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "timelines.png")); !errors.Is(err, fs.ErrNotExist) {
+		t.Errorf("the earlier run's timelines.png, which this run does not make, is still there (%v)", err)
 	}
 }

@@ -11,7 +11,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -19,6 +18,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/internal/quantile"
 )
 
@@ -286,39 +286,11 @@ func ReadModel(r io.Reader) (*Model, error) {
 	return m, nil
 }
 
-// WriteFile writes the model to path, through a temporary file renamed into
-// place, so that a reader never sees half a model.
-func (m *Model) WriteFile(path string) (err error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
+// WriteFile writes the model to path, aside and then renamed into place,
+// so that a reader never sees half a model; an error names path.
+func (m *Model) WriteFile(path string) error {
+	err := atomicfile.WriteFile(path, func(w io.Writer) error { return errors.Unwrap(m.Write(w)) })
 	if err != nil {
-		return fmt.Errorf("mapper: %w", err)
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	bw := bufio.NewWriter(f)
-	if err := m.Write(bw); err != nil {
-		return fmt.Errorf("mapper: %s: %w", path, errors.Unwrap(err))
-	}
-	if err := bw.Flush(); err != nil {
-		return fmt.Errorf("mapper: %s: %w", path, err)
-	}
-	// CreateTemp makes the file private; a model is shared like the other
-	// outputs. Synced before the rename, so that a crash leaves the old
-	// model or the new one, never an empty file.
-	if err := f.Chmod(0o644); err != nil {
-		return fmt.Errorf("mapper: %s: %w", path, err)
-	}
-	if err := f.Sync(); err != nil {
-		return fmt.Errorf("mapper: %s: %w", path, err)
-	}
-	if err := f.Close(); err != nil {
-		return fmt.Errorf("mapper: %s: %w", path, err)
-	}
-	if err := os.Rename(f.Name(), path); err != nil {
 		return fmt.Errorf("mapper: %w", err)
 	}
 	return nil

@@ -1,7 +1,6 @@
 package scenarios
 
 import (
-	"bufio"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -15,6 +14,8 @@ import (
 	"strings"
 	"sync"
 	"time"
+
+	"github.com/kinmap/kinmap/internal/atomicfile"
 )
 
 // Files written by Fleet.Write, in the order it returns them.
@@ -78,36 +79,29 @@ func (f *Fleet) Write(dir string, only ...string) ([]string, error) {
 			return nil, fmt.Errorf("scenarios: no file %q; a fleet writes %s", name, strings.Join(FileNames(), ", "))
 		}
 	}
-	temps := make([]string, len(files))
+	tx, err := atomicfile.Begin(dir, nil, time.Minute)
+	if err != nil {
+		return nil, fmt.Errorf("scenarios: %w", err)
+	}
+	defer tx.Abort()
 	errs := make([]error, len(files))
+	paths := make([]string, len(files))
 	var wg sync.WaitGroup
 	slots := make(chan struct{}, runtime.GOMAXPROCS(0))
 	for i, file := range files {
+		paths[i] = filepath.Join(dir, file.name)
 		wg.Go(func() {
 			slots <- struct{}{}
 			defer func() { <-slots }()
-			temps[i], errs[i] = writeTemp(dir, file.name, file.write)
+			errs[i] = tx.Create(paths[i], file.write)
 		})
 	}
 	wg.Wait()
-	removeAll := func(from int) {
-		for _, t := range temps[from:] {
-			if t != "" {
-				os.Remove(t)
-			}
-		}
-	}
 	if err := errors.Join(errs...); err != nil {
-		removeAll(0)
-		return nil, err
+		return nil, fmt.Errorf("scenarios: %w", err)
 	}
-	paths := make([]string, len(files))
-	for i, file := range files {
-		paths[i] = filepath.Join(dir, file.name)
-		if err := os.Rename(temps[i], paths[i]); err != nil {
-			removeAll(i)
-			return nil, fmt.Errorf("scenarios: %w", err)
-		}
+	if err := tx.Commit(); err != nil {
+		return nil, fmt.Errorf("scenarios: %w", err)
 	}
 	return paths, nil
 }
@@ -136,38 +130,6 @@ func (f *Fleet) writer(name string) fileWriter {
 		FileTruthSwitch: f.writeTruthSwitches,
 	}[name]
 	return fileWriter{name, w}
-}
-
-// writeTemp writes a file under a temporary name next to its final name and
-// returns the temporary path.
-func writeTemp(dir, name string, write func(io.Writer) error) (string, error) {
-	file, err := os.CreateTemp(dir, "."+name+".*.tmp")
-	if err != nil {
-		return "", fmt.Errorf("scenarios: %s: %w", name, err)
-	}
-	fail := func(err error) (string, error) {
-		file.Close()
-		os.Remove(file.Name())
-		return "", fmt.Errorf("scenarios: %s: %w", name, err)
-	}
-	buf := bufio.NewWriterSize(file, 1<<20)
-	if err := write(buf); err != nil {
-		return fail(err)
-	}
-	if err := buf.Flush(); err != nil {
-		return fail(err)
-	}
-	if err := file.Chmod(0o644); err != nil {
-		return fail(err)
-	}
-	if err := file.Sync(); err != nil {
-		return fail(err)
-	}
-	if err := file.Close(); err != nil {
-		os.Remove(file.Name())
-		return "", fmt.Errorf("scenarios: %s: %w", name, err)
-	}
-	return file.Name(), nil
 }
 
 // longRow is one value of the long layout.

@@ -5,11 +5,15 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/atomicfile"
 )
 
 // Exit statuses of the commands.
@@ -138,24 +142,103 @@ func (f *Flags) Finish(o *kinmap.Options, out *Outputs, needModel bool) error {
 	if needModel && out.Model == "" {
 		return UsageError("no model: name the model file of an earlier run with --model FILE")
 	}
+	return checkOutputs(o, out, needModel)
+}
+
+// checkOutputs refuses, before any data is read, the outputs that cannot
+// be written or would destroy something: --out naming a file, or a folder
+// holding files under kinmap's output names that no kinmap run wrote;
+// --history naming a file; and any output that is an input (a dump, the
+// register, or the model that assign and update read).
+func checkOutputs(o *kinmap.Options, out *Outputs, modelIsInput bool) error {
+	inputs := []string{o.Sites}
+	for _, d := range o.Data {
+		if m, err := filepath.Glob(d); err == nil && len(m) > 0 {
+			inputs = append(inputs, m...)
+		} else {
+			inputs = append(inputs, d)
+		}
+	}
+	var model string
+	if modelIsInput {
+		inputs = append(inputs, out.Model)
+	} else {
+		model = out.Model
+	}
+	for _, in := range inputs {
+		if in == "" {
+			continue
+		}
+		info, err := os.Stat(in)
+		if err != nil {
+			continue // reading it will say what is wrong
+		}
+		switch {
+		case model != "" && samePath(model, info):
+			return UsageError("--model %s is an input of the run; name another file", model)
+		case within(in, out.Out) && export.IsOutput(filepath.Base(in)):
+			return UsageError("--out %s would replace the input %s; name another folder", out.Out, in)
+		case o.History != "" && within(in, o.History):
+			return UsageError("--history %s holds the input %s; name another folder", o.History, in)
+		}
+	}
+	if _, err := export.CheckDir(out.Out); err != nil {
+		var nf *export.NotFolderError
+		var ff *export.ForeignFilesError
+		switch {
+		case errors.As(err, &nf):
+			return UsageError("--out %s is a file; name a folder", out.Out)
+		case errors.As(err, &ff):
+			return UsageError("--out %s holds %s, which no kinmap run wrote there; kinmap will not replace them: move them or name another folder", out.Out, strings.Join(ff.Files, ", "))
+		}
+		return err
+	}
+	if info, err := os.Stat(o.History); o.History != "" && err == nil && !info.IsDir() {
+		return UsageError("--history %s is a file; name a folder", o.History)
+	}
 	return nil
+}
+
+// samePath reports whether path is the file info describes.
+func samePath(path string, info os.FileInfo) bool {
+	p, err := os.Stat(path)
+	return err == nil && os.SameFile(p, info)
+}
+
+// within reports whether the file path lies directly or deeper in dir.
+func within(path, dir string) bool {
+	if dir == "" {
+		return false
+	}
+	d, err := os.Stat(dir)
+	if err != nil {
+		return false
+	}
+	for p := filepath.Dir(path); ; p = filepath.Dir(p) {
+		if info, err := os.Stat(p); err == nil && os.SameFile(info, d) {
+			return true
+		}
+		if next := filepath.Dir(p); next == p {
+			return false
+		}
+	}
 }
 
 // Write writes the outputs of a run: the output folder, the copy of the
 // model that --model names, and the run's period of the history folder.
+//
+// They are written together or not at all (kinmap.Result.Save).
 func Write(res *kinmap.Result, o *kinmap.Options, out *Outputs) error {
-	if err := res.Write(out.Out); err != nil {
-		return err
+	err := res.Save(kinmap.Targets{Out: out.Out, Model: out.Model, History: o.History})
+	var busy *atomicfile.ErrBusy
+	var changed *history.ChangedError
+	switch {
+	case errors.As(err, &busy):
+		return fmt.Errorf("%s is being written by another kinmap run, which held it for more than %v; nothing was written", busy.Dir, busy.Wait)
+	case errors.As(err, &changed):
+		return fmt.Errorf("--history %s: another kinmap run wrote it while this one ran; nothing was written: run again", o.History)
 	}
-	if out.Model != "" {
-		if err := res.Model.WriteFile(out.Model); err != nil {
-			return err
-		}
-	}
-	if o.History != "" {
-		return res.AppendHistory(o.History)
-	}
-	return nil
+	return err
 }
 
 // Report says what a run found and where its outputs are, and lists its

@@ -1,0 +1,194 @@
+package history
+
+import (
+	"cmp"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/parquet-go/parquet-go"
+
+	"github.com/kinmap/kinmap/internal/atomicfile"
+)
+
+// key identifies a window in the history.
+type key struct {
+	site  string
+	start int64 // µs since the epoch
+}
+
+func keyOf(w *Window) key { return key{w.Site, micro(w.Start).UnixMicro()} }
+
+func micro(t time.Time) time.Time { return t.UTC().Truncate(time.Microsecond) }
+
+// Stage adds to tx, whose folders must include h.Dir, the writing of run,
+// the windows of one run, whose regimes the map of lineage numbered, into
+// the history: each replaces the window of the same site and start
+// wherever the history holds one, and every other window stays. The
+// windows of h whose regimes the run revised (Continuation.Settle) are
+// written with it. The run's windows go to the period folder of the UTC
+// date of the earliest. If another run wrote the history after h was
+// read, Stage refuses (ChangedError) before adding anything.
+func (h *History) Stage(tx *atomicfile.Tx, lineage string, run []Window) error {
+	if err := h.unchanged(); err != nil {
+		return err
+	}
+	gen := h.gen + 1
+	held := make(map[key]bool, len(run))
+	for i := range run {
+		held[keyOf(&run[i])] = true
+	}
+	byFile := make([][]Window, len(h.files))
+	touched := map[int]bool{}
+	for i := range h.Windows {
+		w, f := &h.Windows[i], h.fileOf[i]
+		if held[keyOf(w)] {
+			touched[f] = true
+			continue
+		}
+		byFile[f] = append(byFile[f], *w)
+	}
+	var files []string
+	for f, name := range h.files {
+		if !touched[f] && !h.dirty[f] {
+			files = append(files, name)
+			continue
+		}
+		if err := tx.Remove(filepath.Join(h.Dir, name)); err != nil {
+			return fmt.Errorf("history: %w", err)
+		}
+		if len(byFile[f]) == 0 {
+			continue
+		}
+		next := filepath.Join(filepath.Dir(name), fmt.Sprintf("part-%d-%d.parquet", gen, len(files)))
+		if err := h.create(tx, next, byFile[f][0].Lineage, byFile[f]); err != nil {
+			return err
+		}
+		files = append(files, next)
+	}
+	if len(run) > 0 {
+		ws := make([]Window, len(run))
+		first := run[0].Start
+		for i, w := range run {
+			w.Lineage, w.cell = lineage, nil
+			ws[i] = w
+			if w.Start.Before(first) {
+				first = w.Start
+			}
+		}
+		name := filepath.Join(periodPrefix+first.UTC().Format(time.DateOnly), fmt.Sprintf("part-%d-%d.parquet", gen, len(files)))
+		if err := h.create(tx, name, lineage, ws); err != nil {
+			return err
+		}
+		files = append(files, name)
+	}
+	for _, name := range h.junk {
+		if err := tx.Remove(filepath.Join(h.Dir, name)); err != nil {
+			return fmt.Errorf("history: %w", err)
+		}
+	}
+	slices.Sort(files)
+	b, err := json.MarshalIndent(manifest{Format: 1, Generation: gen, Files: files}, "", "  ")
+	if err != nil {
+		return err
+	}
+	if err := tx.Create(filepath.Join(h.Dir, manifestFile), func(w io.Writer) error {
+		_, err := w.Write(append(b, '\n'))
+		return err
+	}); err != nil {
+		return fmt.Errorf("history: %w", err)
+	}
+	return nil
+}
+
+// unchanged reports whether the folder is still at the generation h read.
+func (h *History) unchanged() error {
+	b, err := os.ReadFile(filepath.Join(h.Dir, manifestFile))
+	at := int64(0)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		if !h.legacy {
+			at = -1 // the manifest went away
+		}
+	case err != nil:
+		return fmt.Errorf("history: %w", err)
+	default:
+		var m manifest
+		if err := json.Unmarshal(b, &m); err != nil {
+			return fmt.Errorf("history: %s: %w", filepath.Join(h.Dir, manifestFile), err)
+		}
+		at = m.Generation
+		if h.legacy {
+			at = max(at, 1)
+		}
+	}
+	if at != h.gen {
+		return &ChangedError{Dir: h.Dir, Read: h.gen, At: at}
+	}
+	return nil
+}
+
+// create adds the file name of the history, holding ws, to tx, in the
+// layout its windows were read in.
+func (h *History) create(tx *atomicfile.Tx, name, lineage string, ws []Window) error {
+	slices.SortFunc(ws, func(a, b Window) int { return cmp.Or(strings.Compare(a.Site, b.Site), a.Start.Compare(b.Start)) })
+	write := func(w io.Writer) error {
+		opts := []parquet.WriterOption{parquet.Compression(&parquet.Zstd), parquet.KeyValueMetadata(LineageKey, lineage)}
+		if ws[0].cell != nil {
+			rows := make([]legacyRow, len(ws))
+			for i, w := range ws {
+				rows[i] = legacyRow{Site: w.Site, WindowStart: micro(w.Start), WindowEnd: micro(w.End), Col: int32(w.cell[0]), Row: int32(w.cell[1]),
+					Regime: int32(w.Regime), QE: w.QE, Unfamiliar: w.Unfamiliar, Scaled: w.Scaled, Revised: w.Revised}
+			}
+			return writeRows(w, rows, opts)
+		}
+		rows := make([]row, len(ws))
+		for i, w := range ws {
+			rows[i] = row{Site: w.Site, WindowStart: micro(w.Start), WindowEnd: micro(w.End), Unit: int32(w.Unit),
+				Regime: int32(w.Regime), QE: w.QE, Unfamiliar: w.Unfamiliar, Scaled: w.Scaled, Revised: w.Revised}
+		}
+		return writeRows(w, rows, opts)
+	}
+	if err := tx.Create(filepath.Join(h.Dir, name), write); err != nil {
+		return fmt.Errorf("history: %w", err)
+	}
+	return nil
+}
+
+func writeRows[T any](w io.Writer, rows []T, opts []parquet.WriterOption) error {
+	pw := parquet.NewGenericWriter[T](w, opts...)
+	if _, err := pw.Write(rows); err != nil {
+		return err
+	}
+	return pw.Close()
+}
+
+// Write writes run into the history folder dir as Stage does, in a
+// transaction of its own: the folder's lock is taken (waiting at most a
+// minute for another run) and held from reading the history to the
+// commit.
+func Write(dir, lineage string, run []Window) error {
+	tx, err := atomicfile.Begin(dir, nil, lockWait)
+	if err != nil {
+		return fmt.Errorf("history: %w", err)
+	}
+	defer tx.Abort()
+	h, err := Load(dir)
+	if err != nil {
+		return err
+	}
+	if err := h.Stage(tx, lineage, run); err != nil {
+		return err
+	}
+	if err := tx.Commit(); err != nil {
+		return fmt.Errorf("history: %w", err)
+	}
+	return nil
+}

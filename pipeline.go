@@ -213,13 +213,30 @@ func (r *Result) Scale(o Options) (*features.Scaler, error) {
 	if err != nil {
 		return nil, OptionError(err)
 	}
-	for _, name := range sc.Dropped {
-		r.Info.Warnings = append(r.Info.Warnings, fmt.Sprintf("feature %s has no variance in the training windows and is left out", name))
+	if len(sc.Dropped) > 0 {
+		r.Info.Warnings = append(r.Info.Warnings, droppedWarning(sc.Dropped))
 	}
 	if r.X, err = sc.Transform(r.Table); err != nil {
 		return nil, err
 	}
 	return sc, nil
+}
+
+// maxNamedDropped is how many features without variance one warning names;
+// a wide dump can drop thousands, and the model keeps the full list.
+const maxNamedDropped = 10
+
+// droppedWarning says which features were left out for having no variance,
+// in one warning however many there are.
+func droppedWarning(names []string) string {
+	if len(names) == 1 {
+		return fmt.Sprintf("feature %s has no variance in the training windows and is left out", names[0])
+	}
+	list := strings.Join(names[:min(len(names), maxNamedDropped)], ", ")
+	if more := len(names) - maxNamedDropped; more > 0 {
+		list += fmt.Sprintf(" and %d more", more)
+	}
+	return fmt.Sprintf("%d features have no variance in the training windows and are left out: %s", len(names), list)
 }
 
 // Conclude finishes a run whose windows are on the map (Table, X, Model

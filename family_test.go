@@ -20,7 +20,7 @@ import (
 )
 
 // familyTolerance is how far a found switch may be from a true one: one
-// daily window either way, as the issue that asked for the family scores.
+// daily window either way, the default tolerance of kinmap score.
 const familyTolerance = 24 * time.Hour
 
 // familyRun is one draw of one fleet run through the default pipeline, as

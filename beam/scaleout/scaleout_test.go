@@ -30,7 +30,7 @@ func bothPaths(t *testing.T, o kinmap.Options, shards int) (local, beam *kinmap.
 	return local, beam
 }
 
-// The check of the issue: on the same data, seed and settings, the Beam run
+// The promise of the Beam path: on the same data, seed and settings, the Beam run
 // gives the codebook of the local batch map to 1e-9 and the same regimes
 // and timelines; everything before training is the same bit for bit.
 func TestTrainMatchesLocal(t *testing.T) {

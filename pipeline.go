@@ -3,8 +3,6 @@ package kinmap
 import (
 	"errors"
 	"fmt"
-	"maps"
-	"slices"
 	"strings"
 	"time"
 
@@ -197,7 +195,7 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 		return err
 	}
 	if len(t.Windows) == 0 {
-		return &NoWindowError{Reasons: skipReasons(t), Unit: res.Ingest.EpochUnit}
+		return &NoWindowError{Reasons: t.SkipReasons(), Unit: res.Ingest.EpochUnit}
 	}
 	res.Table = t
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))
@@ -351,23 +349,6 @@ func finish(res *Result, sw *stopwatch) {
 		Switches:       len(res.Switches),
 		Unfamiliar:     unfamiliar,
 	}
-}
-
-func skipReasons(t *features.Table) string {
-	by := map[string]int{}
-	for _, s := range t.Skipped {
-		for r, c := range s {
-			by[r] += c
-		}
-	}
-	if len(by) == 0 {
-		return "no windows at all"
-	}
-	var parts []string
-	for _, r := range slices.Sorted(maps.Keys(by)) {
-		parts = append(parts, fmt.Sprintf("%d for %s", by[r], r))
-	}
-	return strings.Join(parts, ", ")
 }
 
 // regimeChoice words the choice of the number of regimes, with the option

@@ -86,6 +86,10 @@ package features
 
 import (
 	"errors"
+	"fmt"
+	"maps"
+	"slices"
+	"strings"
 	"time"
 )
 
@@ -147,6 +151,25 @@ func (t *Table) SkippedWindows() int {
 		}
 	}
 	return n
+}
+
+// SkipReasons words the windows skipped by reason, such as "3 for
+// coverage, 1 for empty", or "no windows at all" when none were skipped.
+func (t *Table) SkipReasons() string {
+	by := map[string]int{}
+	for _, s := range t.Skipped {
+		for r, c := range s {
+			by[r] += c
+		}
+	}
+	if len(by) == 0 {
+		return "no windows at all"
+	}
+	var parts []string
+	for _, r := range slices.Sorted(maps.Keys(by)) {
+		parts = append(parts, fmt.Sprintf("%d for %s", by[r], r))
+	}
+	return strings.Join(parts, ", ")
 }
 
 // Skips counts the windows of one site that were not used, by reason:

@@ -266,7 +266,7 @@ func (r *run) windows(ctx context.Context, files []string) error {
 	r.logf("%s", res.Ingest.String())
 	res.Table = table(empty.Names, o.Features, all)
 	if len(res.Table.Windows) == 0 {
-		return errors.New("scaleout: no usable window: every window of every site was skipped; try a lower --min-coverage or a longer --window")
+		return &kinmap.NoWindowError{Reasons: res.Table.SkipReasons()}
 	}
 	r.logf("features: %d windows, %d features", len(res.Table.Windows), len(res.Table.Names))
 	return nil

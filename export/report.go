@@ -212,12 +212,12 @@ func dataFacts(r *Run) []fact {
 
 func mapFacts(m *mapper.Model) []fact {
 	l := m.Map.Lattice
-	cells, surface := "squares, 4 neighbours", "torus, wraps both ways"
+	cells, surface := l.Cells()+", 4 neighbours", l.Surface()+", wraps both ways"
 	if l.Hex {
-		cells = "hexagons, 6 neighbours"
+		cells = l.Cells() + ", 6 neighbours"
 	}
 	if l.Flat {
-		surface = "flat sheet with edges"
+		surface = l.Surface() + ", ends at its edges"
 	}
 	facts := []fact{
 		{"Grid", fmt.Sprintf("%d × %d units", l.Cols, l.Rows)},

@@ -32,7 +32,7 @@ func (l Lattice) Validate() error {
 	case l.Hex && !l.Flat && l.Rows%2 != 0:
 		return fmt.Errorf("mapper: lattice %dx%d: a hexagonal torus needs an even number of rows, not %d", l.Cols, l.Rows, l.Rows)
 	case !l.Flat && (l.Cols < 3 || l.Rows < 3) && l.Cols*l.Rows > 1:
-		return fmt.Errorf("mapper: lattice %dx%d: a torus needs at least 3 units along each side; use a flat sheet for a chain", l.Cols, l.Rows)
+		return fmt.Errorf("mapper: lattice %dx%d: a torus needs at least 3 units along each side; use a plane for a chain", l.Cols, l.Rows)
 	}
 	return nil
 }
@@ -43,8 +43,8 @@ func (l Lattice) Units() int { return l.Cols * l.Rows }
 // Cell returns the column and row of unit u.
 func (l Lattice) Cell(u int) (col, row int) { return u % l.Cols, u / l.Cols }
 
-// Unit returns the unit at col and row, wrapping on a torus. On a flat sheet
-// it returns -1 outside the sheet.
+// Unit returns the unit at col and row, wrapping on a torus. On a plane
+// it returns -1 outside the plane.
 func (l Lattice) Unit(col, row int) int {
 	if l.Flat {
 		if col < 0 || col >= l.Cols || row < 0 || row >= l.Rows {
@@ -73,7 +73,7 @@ func (l Lattice) Position(u int) (x, y float64) {
 }
 
 // Period returns the planar size of the torus along x and y, the translations
-// under which it repeats. It is meaningless for a flat sheet.
+// under which it repeats. It is meaningless for a plane.
 func (l Lattice) Period() (px, py float64) {
 	if l.Hex {
 		return float64(l.Cols), float64(l.Rows) * rowPitch
@@ -112,8 +112,8 @@ func (l Lattice) offsetDist2(p, dc, dr int) float64 {
 func (l Lattice) Dist(a, b int) float64 { return math.Sqrt(l.Dist2(a, b)) }
 
 // Neighbours returns the distinct units adjacent to u: up to 4 on a
-// rectangular lattice, up to 6 on a hexagonal one, fewer at the edge of a
-// flat sheet.
+// square lattice, up to 6 on a hexagonal one, fewer at the edge of a
+// plane.
 func (l Lattice) Neighbours(u int) []int {
 	c, r := l.Cell(u)
 	var steps [][2]int

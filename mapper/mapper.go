@@ -31,8 +31,8 @@ import (
 // u % Cols and row u / Cols.
 type Lattice struct {
 	Cols, Rows int
-	Hex        bool // hexagonal (6 neighbours); otherwise rectangular (4)
-	Flat       bool // a flat sheet with edges; otherwise a torus wrapping both ways
+	Hex        bool // hexagonal cells (6 neighbours); otherwise square (4)
+	Flat       bool // a plane with edges; otherwise a torus wrapping both ways
 }
 
 // Config holds the training settings. It is recorded in the model. Zero
@@ -40,8 +40,8 @@ type Lattice struct {
 type Config struct {
 	Cols     int                         `json:"cols"` // grid size; 0 means the default from the data size
 	Rows     int                         `json:"rows"`
-	Hex      bool                        `json:"hex"`       // hexagonal lattice
-	Flat     bool                        `json:"flat"`      // flat sheet instead of a torus
+	Hex      bool                        `json:"-"`         // hexagonal cells; recorded as "cells" (MarshalJSON)
+	Flat     bool                        `json:"-"`         // a plane instead of a torus; recorded as "surface"
 	Rule     string                      `json:"rule"`      // "batch" (default) or "online"
 	Epochs   int                         `json:"epochs"`    // passes over the data
 	Sigma0   float64                     `json:"sigma0"`    // initial neighbourhood width in lattice units; 0 means a default from the grid size

@@ -26,8 +26,9 @@ import (
 // the newest it reads. Version 2 added the lineage, which a version 1 file
 // lacks; it reads as before. Version 3 records how the number of regimes
 // was reached (Choice) instead of the Davies–Bouldin scores, which older
-// files keep.
-const FormatVersion = 3
+// files keep. Version 4 records the lattice's shape by name (cells and
+// surface) instead of the booleans Hex and Flat; older files read as before.
+const FormatVersion = 4
 
 // Score is the Davies–Bouldin index of one number of regimes K, as model
 // files before format version 3 recorded it: lower was better.

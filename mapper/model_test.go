@@ -148,6 +148,51 @@ func TestModelReadsVersion1(t *testing.T) {
 	}
 }
 
+// TestModelReadsVersion3 reads files as versions 1 to 3 wrote the map's
+// shape: the booleans Hex and Flat in the lattice and "hex" and "flat" in
+// the training settings, where version 4 names cells and surface.
+func TestModelReadsVersion3(t *testing.T) {
+	mdl, _, _ := fitted(t)
+	for _, shape := range []struct{ hex, flat bool }{{false, false}, {true, false}, {false, true}, {true, true}} {
+		want := *mdl
+		want.Map.Lattice.Hex, want.Map.Lattice.Flat = shape.hex, shape.flat
+		want.Training.Hex, want.Training.Flat = shape.hex, shape.flat
+		payload, err := json.Marshal(&want)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var doc map[string]any
+		if err := json.Unmarshal(payload, &doc); err != nil {
+			t.Fatal(err)
+		}
+		doc["Version"] = 3
+		lattice := doc["Map"].(map[string]any)["Lattice"].(map[string]any)
+		delete(lattice, "Cells")
+		delete(lattice, "Surface")
+		lattice["Hex"], lattice["Flat"] = shape.hex, shape.flat
+		training := doc["Training"].(map[string]any)
+		delete(training, "cells")
+		delete(training, "surface")
+		training["hex"], training["flat"] = shape.hex, shape.flat
+		if payload, err = json.Marshal(doc); err != nil {
+			t.Fatal(err)
+		}
+		if bytes.Contains(bytes.ToLower(payload), []byte(`"cells"`)) || bytes.Contains(bytes.ToLower(payload), []byte(`"surface"`)) {
+			t.Fatal("a version 3 payload names no cells or surface")
+		}
+		sum := sha256.Sum256(payload)
+		file := fmt.Appendf(nil, "%s 3\n%d %x\n%s", magic, len(payload), sum, payload)
+		back, err := ReadModel(bytes.NewReader(file))
+		if err != nil {
+			t.Fatalf("%+v: %v", shape, err)
+		}
+		if back.Version != 3 || back.Map.Lattice != want.Map.Lattice || back.Training.Hex != shape.hex || back.Training.Flat != shape.flat {
+			t.Errorf("version 3 file of %+v read as version %d, lattice %+v, training hex %v flat %v",
+				shape, back.Version, back.Map.Lattice, back.Training.Hex, back.Training.Flat)
+		}
+	}
+}
+
 func TestModelRefusesDamage(t *testing.T) {
 	mdl, _, _ := fitted(t)
 	var buf bytes.Buffer

@@ -81,6 +81,12 @@ func TestUsageErrors(t *testing.T) {
 		{"NaN coverage", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-coverage", "nan"}, "want a finite number"},
 		// Ran out of memory in the batch rule before the limit.
 		{"huge grid", []string{"run", "--data", dump, "--out", t.TempDir(), "--grid", "1000x1000"}, "limit of 4096"},
+		// Flags renamed to kinmap's own words are refused with the new name.
+		{"old lattice flag", []string{"run", "--data", dump, "--out", t.TempDir(), "--lattice", "rect"}, "--lattice is now --cells (hex or square)"},
+		{"old lattice flag with =", []string{"run", "--lattice=hex", "--data", dump, "--out", t.TempDir()}, "--lattice is now --cells"},
+		{"old sheet flag", []string{"run", "--data", dump, "--out", t.TempDir(), "-sheet"}, "--sheet is now --surface plane"},
+		{"unknown surface", []string{"run", "--data", dump, "--out", t.TempDir(), "--surface", "sheet"}, `"sheet"`},
+		{"unknown cells", []string{"run", "--data", dump, "--out", t.TempDir(), "--cells", "rect"}, `"rect"`},
 		{"pattern matching nothing", []string{"run", "--data", filepath.Join(t.TempDir(), "missing-*.parquet"), "--out", t.TempDir()}, "matches no file"},
 	}
 	for _, tt := range tests {
@@ -155,7 +161,7 @@ func TestHelp(t *testing.T) {
 		t.Errorf("scenario -h should state each default once:\n%s", out)
 	}
 	_, out, _ := invoke("run", "-h")
-	for _, want := range []string{"--site-col COLUMN", "(default site)", "--window LENGTH", "(default 1d)", "--min-coverage SHARE", "(default 0.6)", "--lattice SHAPE", "(default hex)", "--unfamiliar-q QUANTILE", "(default 0.99)"} {
+	for _, want := range []string{"--site-col COLUMN", "(default site)", "--window LENGTH", "(default 1d)", "--min-coverage SHARE", "(default 0.6)", "--cells SHAPE", "(default hex)", "--surface SURFACE", "(default torus)", "--unfamiliar-q QUANTILE", "(default 0.99)"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("run -h lacks %q", want)
 		}

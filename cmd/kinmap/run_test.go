@@ -112,6 +112,8 @@ func TestRunJSON(t *testing.T) {
 		{"map", "cols", 6.0},
 		{"map", "rows", 4.0},
 		{"map", "rule", "batch"},
+		{"map", "cells", "hex"},
+		{"map", "surface", "torus"},
 		{"features", "window_ns", float64(24 * time.Hour)},
 		{"features", "features", "basic"},
 		{"ingest", "site_col", "site"},
@@ -120,6 +122,11 @@ func TestRunJSON(t *testing.T) {
 		if got := group[o.key]; got != o.want {
 			t.Errorf("run.json options.%s.%s = %v, want %v", o.group, o.key, got, o.want)
 		}
+	}
+	// The map's shape is recorded by name only, not as the booleans of
+	// earlier releases.
+	if m, _ := info.Options["map"].(map[string]any); m["hex"] != nil || m["flat"] != nil {
+		t.Errorf("run.json options.map records hex %v and flat %v", m["hex"], m["flat"])
 	}
 	// Counts against what the scenario wrote: 7 daily windows per site.
 	windows := float64(len(fleet.Sites) * 7 * fleet.Spec.Weeks)

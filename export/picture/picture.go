@@ -2,10 +2,10 @@
 // U-matrix, the hit counts and the component planes of the trained map, a
 // site map and the regime timelines of the sites that switched.
 //
-// Hexagonal lattices are drawn as hexagons and rectangular ones as squares.
+// Hexagonal cells are drawn as hexagons and square ones as squares.
 // A torus is drawn with a margin of faded copies of its opposite edges
 // beyond a dashed seam, and faint column and row numbers on the copies, so
-// that the tiles that continue across an edge are recognisable; a flat sheet
+// that the tiles that continue across an edge are recognisable; a plane
 // is drawn alone. Regimes take the colour-blind-safe palette of Okabe & Ito
 // (see RegimeColour); continuous values take a sequential ramp whose CIELAB
 // lightness falls steadily from low to high values.
@@ -175,21 +175,13 @@ func pageSheet(l mapper.Lattice) sheet {
 
 // shapeName describes a lattice in words.
 func shapeName(l mapper.Lattice) string {
-	kind := "rectangular"
-	if l.Hex {
-		kind = "hexagonal"
-	}
-	form := "torus"
-	if l.Flat {
-		form = "flat sheet"
-	}
-	return fmt.Sprintf("%d × %d %s %s", l.Cols, l.Rows, kind, form)
+	return fmt.Sprintf("%d × %d %s cells on a %s", l.Cols, l.Rows, l.Cells(), l.Surface())
 }
 
-// wrapNote says how to read the sheet's edges.
+// wrapNote says how to read the edges of the drawn lattice.
 func wrapNote(l mapper.Lattice) string {
 	if l.Flat {
-		return "Flat sheet: the map ends at its edges."
+		return "Plane: the map ends at its edges."
 	}
 	return "Torus: beyond the dashed seam, faded tiles repeat the opposite edges (faint numbers)."
 }

@@ -28,12 +28,41 @@ type Command struct {
 type Flags struct {
 	*flag.FlagSet
 	Command Command
-	groups  []group  // option groups in the order shown
-	hooks   []func() // run after a successful parse
+	groups  []group           // option groups in the order shown
+	hooks   []func()          // run after a successful parse
+	renamed map[string]string // flag names of earlier releases: what to give now
 }
 
 // After registers a function that turns parsed flag values into options.
 func (f *Flags) After(hook func()) { f.hooks = append(f.hooks, hook) }
+
+// Renamed registers old, a flag name of an earlier release, as refused with
+// a usage error that says what to give now, for example "cells (hex or
+// square)".
+func (f *Flags) Renamed(old, now string) {
+	if f.renamed == nil {
+		f.renamed = map[string]string{}
+	}
+	f.renamed[old] = now
+}
+
+// checkRenamed refuses the first flag of args that Renamed registered.
+func (f *Flags) checkRenamed(args []string) error {
+	for _, a := range args {
+		if a == "--" {
+			break
+		}
+		name, ok := strings.CutPrefix(a, "-")
+		if !ok {
+			continue
+		}
+		name, _, _ = strings.Cut(strings.TrimPrefix(name, "-"), "=")
+		if now, ok := f.renamed[name]; ok {
+			return UsageError("--%s is now --%s", name, now)
+		}
+	}
+	return nil
+}
 
 type group struct {
 	title string
@@ -96,10 +125,14 @@ func (f *Flags) Value(v flag.Value, name, help string) {
 }
 
 // Parse parses args, first splitting "--data a b c" into one --data per
-// file, so that a shell-expanded glob works. Asked for help, it prints the
+// file, so that a shell-expanded glob works. A flag name of an earlier
+// release (Renamed) is refused before anything is parsed. Asked for help, it prints the
 // usage text to help and returns flag.ErrHelp; other errors are usage
 // errors.
 func (f *Flags) Parse(args []string, help io.Writer) error {
+	if err := f.checkRenamed(args); err != nil {
+		return err
+	}
 	if err := f.FlagSet.Parse(SpreadMulti(args, "data")); err != nil {
 		if err == flag.ErrHelp {
 			f.PrintUsage(help)

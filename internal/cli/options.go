@@ -14,6 +14,7 @@ import (
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/internal/atomicfile"
+	"github.com/kinmap/kinmap/mapper"
 )
 
 // Exit statuses of the commands.
@@ -90,10 +91,13 @@ func (f *Flags) Map(o *kinmap.Options, training bool) {
 	f.Section("Map")
 	if training {
 		f.Value(gridValue{&o.Map.Cols, &o.Map.Rows}, "grid", "lattice `SIZE`, COLSxROWS such as 30x20 (default: about 5·√N units for N windows)")
-		shape := "hex"
-		f.Value(choiceValue{&shape, []string{"hex", "rect"}}, "lattice", "unit `SHAPE`: hex (6 neighbours) or rect (4)")
-		f.After(func() { o.Map.Hex = shape == "hex" })
-		f.Bool(&o.Map.Flat, "sheet", false, "a flat sheet with edges instead of a torus")
+		l := o.Map.Lattice()
+		cells, surface := l.Cells(), l.Surface()
+		f.Value(choiceValue{&cells, []string{mapper.CellsHex, mapper.CellsSquare}}, "cells", "cell `SHAPE`: hex (6 neighbours) or square (4)")
+		f.Value(choiceValue{&surface, []string{mapper.SurfaceTorus, mapper.SurfacePlane}}, "surface", "map `SURFACE`: torus (wraps both ways) or plane (ends at its edges)")
+		f.After(func() { o.Map.Hex, o.Map.Flat = cells == mapper.CellsHex, surface == mapper.SurfacePlane })
+		f.Renamed("lattice", "cells (hex or square)")
+		f.Renamed("sheet", "surface plane")
 		f.Value(choiceValue{&o.Map.Rule, []string{"batch", "online"}}, "rule", "training `RULE`: batch or online")
 		f.Value(choiceValue{&o.Map.Init, []string{"pca", "random"}}, "init", "initialisation `METHOD`: pca (first two principal components) or random (data samples)")
 		f.Num(&o.Map.Eta0, "eta0", o.Map.Eta0, "online rule: initial learning `RATE` in (0, 1]")

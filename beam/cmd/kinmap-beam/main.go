@@ -37,8 +37,12 @@ func main() {
 	flag.VisitAll(func(f *flag.Flag) { beamFlags[f.Name] = true })
 	c := newCLI(flag.CommandLine)
 	flag.Usage = func() { usage(c, flag.CommandLine.Output(), beamFlags) }
-	c.parse(os.Args[1:], os.Stdout) // flag.CommandLine exits on an error
-	beam.Init()                     // on a worker this runs the SDK harness and does not return
+	// flag.CommandLine exits on its own errors; a flag of an earlier release
+	// is refused before it parses.
+	if err := c.parse(os.Args[1:], os.Stdout); err != nil {
+		os.Exit(cli.Status(os.Stderr, "kinmap-beam", err))
+	}
+	beam.Init() // on a worker this runs the SDK harness and does not return
 	os.Exit(c.run(context.Background(), os.Stdout, os.Stderr))
 }
 

@@ -27,7 +27,7 @@ func parse(t *testing.T, args ...string) (*cmdline, error) {
 
 func TestFlags(t *testing.T) {
 	c, err := parse(t, "--data", "a.parquet", "--data", "gs://b/*.parquet", "--channels", "flow, pressure",
-		"--window", "1w", "--stride", "1d12h", "--grid", "30x20", "--lattice", "rect", "--sheet", "--seed", "42",
+		"--window", "1w", "--stride", "1d12h", "--grid", "30x20", "--cells", "square", "--surface", "plane", "--seed", "42",
 		"--weights", "flow.mean=2,vibration.p95=0.5", "--scale", "robust", "--site-col", "station",
 		"--out", "o", "--work", "gs://b/tmp", "--shards", "8", "c.parquet")
 	if err != nil {
@@ -56,10 +56,13 @@ func TestFlags(t *testing.T) {
 		}
 	}
 
-	for _, bad := range [][]string{{"--grid", "30"}, {"--lattice", "tri"}, {"--window", "3x"}, {"--weights", "flow.mean"}} {
+	for _, bad := range [][]string{{"--grid", "30"}, {"--cells", "tri"}, {"--surface", "sheet"}, {"--lattice", "hex"}, {"--sheet"}, {"--window", "3x"}, {"--weights", "flow.mean"}} {
 		if _, err := parse(t, bad...); err == nil {
 			t.Errorf("%v: no error", bad)
 		}
+	}
+	if _, err := parse(t, "--sheet"); err == nil || !strings.Contains(err.Error(), "--sheet is now --surface plane") {
+		t.Errorf("--sheet: error %v, want one naming --surface plane", err)
 	}
 }
 

@@ -55,7 +55,7 @@ func batchMapStep(m *Map, rows [][]float64, sigma float64) [][]float64 {
 }
 
 // One Accumulate and Smooth at σ > 0 is one step of the batch map, on
-// lattices that wrap and on flat sheets, with the lattice distance
+// lattices that wrap and on planes, with the lattice distance
 // computed apart from the package (refDist2).
 func TestSmoothIsBatchMapStep(t *testing.T) {
 	x, _ := clusterData(600, 3, 4, 5, 0.8, 31)

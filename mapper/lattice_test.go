@@ -10,7 +10,7 @@ import (
 
 // Neighbour counts follow from the geometry of the tilings (common
 // practice, no source): 4 on a square lattice and 6 on a hexagonal one
-// everywhere on a torus; on a flat sheet the square lattice has
+// everywhere on a torus; on a plane the square lattice has
 // C(R−1) + R(C−1) edges and the hexagonal one, rows offset by half a unit,
 // R(C−1) + (R−1)(2C−1).
 func TestNeighbourCounts(t *testing.T) {
@@ -49,10 +49,10 @@ func TestNeighbourCounts(t *testing.T) {
 	}
 	corner := Lattice{Cols: 5, Rows: 4, Flat: true}
 	if n := len(corner.Neighbours(0)); n != 2 {
-		t.Errorf("corner of a flat sheet has %d neighbours, want 2", n)
+		t.Errorf("corner of a plane has %d neighbours, want 2", n)
 	}
 	if n := len(corner.Neighbours(2)); n != 3 {
-		t.Errorf("edge unit of a flat sheet has %d neighbours, want 3", n)
+		t.Errorf("edge unit of a plane has %d neighbours, want 3", n)
 	}
 }
 
@@ -130,7 +130,7 @@ func TestWrapDistances(t *testing.T) {
 		t.Errorf("wrapping (-1,-1) gives unit %d", u)
 	}
 	if u := flat.Unit(-1, 0); u != -1 {
-		t.Errorf("outside a flat sheet gives unit %d, want -1", u)
+		t.Errorf("outside a plane gives unit %d, want -1", u)
 	}
 }
 

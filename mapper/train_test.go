@@ -44,7 +44,7 @@ func TestChainOrders(t *testing.T) {
 }
 
 // Data on the surface of a torus fit a toroidal lattice without the seams a
-// flat sheet must cut into them, so the topographic error is lower on the
+// plane must cut into them, so the topographic error is lower on the
 // torus (a fact of the trade, common practice, no source).
 func TestTorusDataPreferTorus(t *testing.T) {
 	x := torusData(3000, 12)
@@ -57,7 +57,7 @@ func TestTorusDataPreferTorus(t *testing.T) {
 		te[flat] = m.Quality(m.Assign(x, 0)).TE
 	}
 	if !(te[false] < te[true]) {
-		t.Errorf("topographic error %.3f on the torus, %.3f on the flat sheet", te[false], te[true])
+		t.Errorf("topographic error %.3f on the torus, %.3f on the plane", te[false], te[true])
 	}
 }
 

@@ -41,7 +41,7 @@ func TestTrainMatchesLocal(t *testing.T) {
 		edit   func(*kinmap.Options)
 	}{
 		{"pca init, hexagonal torus, chosen regimes", 3, func(*kinmap.Options) {}},
-		{"random init, rectangular sheet, 4 regimes, robust scaling", 1, func(o *kinmap.Options) {
+		{"random init, square cells on a plane, 4 regimes, robust scaling", 1, func(o *kinmap.Options) {
 			o.Map.Init, o.Map.Hex, o.Map.Flat, o.Map.Regimes = mapper.InitRandom, false, true, 4
 			o.Map.Cols, o.Map.Rows = 9, 7
 			o.Scaling = "robust"

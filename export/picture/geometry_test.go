@@ -185,7 +185,7 @@ func TestTorusMarginRepeatsOppositeEdge(t *testing.T) {
 	}
 }
 
-func TestFlatSheetHasNoCopies(t *testing.T) {
+func TestPlaneHasNoCopies(t *testing.T) {
 	l := mapper.Lattice{Cols: 9, Rows: 7, Hex: true, Flat: true}
 	_, img, sh, _ := regimeMapOf(t, l)
 	for r := range l.Rows {
@@ -202,7 +202,7 @@ func TestFlatSheetHasNoCopies(t *testing.T) {
 	}
 }
 
-func TestSquaresOnRectangularLattice(t *testing.T) {
+func TestSquaresOnSquareCells(t *testing.T) {
 	// Near the corner of a square tile the tile's own colour shows; on a
 	// hexagonal lattice that point would lie in a neighbour.
 	l := mapper.Lattice{Cols: 10, Rows: 8}

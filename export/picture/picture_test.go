@@ -65,9 +65,9 @@ func TestAllPictures(t *testing.T) {
 		k    int
 	}{
 		{"hex-torus", mapper.Lattice{Cols: 20, Rows: 16, Hex: true}, 5},
-		{"rect-flat", mapper.Lattice{Cols: 12, Rows: 9, Flat: true}, 9},
-		{"hex-flat", mapper.Lattice{Cols: 30, Rows: 24, Hex: true, Flat: true}, 12},
-		{"rect-torus", mapper.Lattice{Cols: 8, Rows: 6}, 3},
+		{"square-plane", mapper.Lattice{Cols: 12, Rows: 9, Flat: true}, 9},
+		{"hex-plane", mapper.Lattice{Cols: 30, Rows: 24, Hex: true, Flat: true}, 12},
+		{"square-torus", mapper.Lattice{Cols: 8, Rows: 6}, 3},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			ps, err := All(demoInput(tc.l, tc.k, 300))

@@ -16,7 +16,7 @@ const copyFade = 0.55
 
 // sheet places a lattice on a canvas. A torus is drawn with a margin of
 // wrapped copies of the opposite edges around the map, faded, and the seam
-// between map and copies dashed; a flat sheet is drawn alone with its edge.
+// between map and copies dashed; a plane is drawn alone with its edge.
 type sheet struct {
 	lat    mapper.Lattice
 	s      float64         // pixels per lattice unit (distance of neighbours)
@@ -151,9 +151,9 @@ func (sh sheet) directions() []pt {
 
 // edge is the side shared by a drawn tile and the tile next to it.
 type edge struct {
-	u, v int  // units on either side; v is -1 beyond a flat sheet's edge
+	u, v int  // units on either side; v is -1 beyond a plane's edge
 	a, b pt   // end points in pixels
-	seam bool // between the map and a wrapped copy, or the flat sheet's edge
+	seam bool // between the map and a wrapped copy, or the plane's edge
 }
 
 // edges returns every side of the drawn tiles once.

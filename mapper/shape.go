@@ -73,12 +73,16 @@ func (r recordedShape) settings() (hex, flat bool, err error) {
 	return parseShape(r.Cells, r.Surface)
 }
 
-// decodeStrict decodes b into v, refusing fields v does not have, as
-// ReadModel does for the rest of a model file.
-func decodeStrict(b []byte, v any) error {
+// decodeShaped decodes b into v, a struct embedding recordedShape, refusing
+// fields v does not have as ReadModel does for the rest of a model file,
+// and returns the Hex and Flat settings of the shape recorded.
+func decodeShaped(b []byte, v interface{ settings() (bool, bool, error) }) (hex, flat bool, err error) {
 	dec := json.NewDecoder(bytes.NewReader(b))
 	dec.DisallowUnknownFields()
-	return dec.Decode(v)
+	if err := dec.Decode(v); err != nil {
+		return false, false, err
+	}
+	return v.settings()
 }
 
 // MarshalJSON records the lattice with its shape by name: Cols, Rows,
@@ -97,10 +101,7 @@ func (l *Lattice) UnmarshalJSON(b []byte) error {
 		Cols, Rows int
 		recordedShape
 	}
-	if err := decodeStrict(b, &v); err != nil {
-		return err
-	}
-	hex, flat, err := v.settings()
+	hex, flat, err := decodeShaped(b, &v)
 	if err != nil {
 		return err
 	}
@@ -128,10 +129,7 @@ func (c *Config) UnmarshalJSON(b []byte) error {
 		plain
 		recordedShape
 	}
-	if err := decodeStrict(b, &v); err != nil {
-		return err
-	}
-	hex, flat, err := v.settings()
+	hex, flat, err := decodeShaped(b, &v)
 	if err != nil {
 		return err
 	}

@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"os"
-	"path/filepath"
 	"slices"
 	"strconv"
 	"strings"
@@ -56,27 +55,12 @@ func runFleet(t *testing.T, name string, seed int64) *familyRun {
 		t.Fatal(err)
 	}
 	spec.Seed = seed
-	fleet, err := scenarios.Generate(spec)
-	if err != nil {
-		t.Fatal(err)
+	fleet, res := trainScenario(t, spec)
+	var seconds float64 // the pipeline's own steps, as Train timed them
+	for _, v := range res.Info.Timings {
+		seconds += v
 	}
-	dir, err := os.MkdirTemp("", "kinmap-family-")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer os.RemoveAll(dir)
-	if _, err := fleet.Write(dir, scenarios.FileLongParquet, scenarios.FileSites); err != nil {
-		t.Fatal(err)
-	}
-	o := kinmap.DefaultOptions()
-	o.Data = []string{filepath.Join(dir, scenarios.FileLongParquet)}
-	o.Sites = filepath.Join(dir, scenarios.FileSites)
-	start := time.Now()
-	res, err := kinmap.Train(o)
-	if err != nil {
-		t.Fatalf("%s seed %d: %v", name, seed, err)
-	}
-	r := &familyRun{name: name, seed: seed, fleet: fleet, res: res, seconds: time.Since(start).Seconds()}
+	r := &familyRun{name: name, seed: seed, fleet: fleet, res: res, seconds: seconds}
 	if familyCache.runs == nil {
 		familyCache.runs = map[string]*familyRun{}
 	}

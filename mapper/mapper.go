@@ -84,6 +84,11 @@ type Regime struct {
 	Centroid    []float64 // mean codebook vector of the units weighted by their hits, scaled space
 	Traits      []Trait   // most distinctive features, strongest first
 	Description string    // for example "vibration.p95 +2.1σ, flow.mean −1.4σ"
+
+	// Name and Status are the user's: a name such as "baseline" and one of
+	// "normal", "watch" or "fault". Empty until the user labels the regime.
+	Name   string `json:",omitempty"`
+	Status string `json:",omitempty"`
 }
 
 // Trait is one feature's standardised difference of a regime from the fleet

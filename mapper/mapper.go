@@ -119,4 +119,9 @@ type Model struct {
 	// scratch and kept by updates, which keep the numbers. Files written
 	// before it existed have none.
 	Lineage string `json:",omitempty"`
+
+	// Conditions is what labelled events (maintenance and inspection
+	// records) said about the windows each unit won; nil when no run of
+	// the model was given events. Files without it read as before.
+	Conditions *Conditions `json:",omitempty"`
 }

@@ -387,6 +387,9 @@ func (m *Model) check() error {
 	if err := m.checkValues(); err != nil {
 		return err
 	}
+	if err := m.Conditions.check(u); err != nil {
+		return err
+	}
 	ids := make(map[int]bool)
 	listed := 0
 	for _, r := range m.Regimes {

@@ -1,0 +1,138 @@
+package events
+
+import (
+	"encoding/json"
+	"math"
+	"os/exec"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat"
+
+	"github.com/kinmap/kinmap/internal/tooltest"
+	"github.com/kinmap/kinmap/mapper"
+)
+
+// wineScript loads the wine recognition data bundled with scikit-learn
+// (UCI Machine Learning Repository, Wine; M. Forina et al., PARVUS, 1988,
+// as described by S. Aeberhard, D. Coomans and O. de Vel, 1992), cuts
+// ten stratified folds and scores a plain k-nearest-neighbour classifier
+// (k = 5, features standardised on the training folds) on each.
+const wineScript = `
+import json
+from sklearn.datasets import load_wine
+from sklearn.model_selection import StratifiedKFold
+from sklearn.neighbors import KNeighborsClassifier
+from sklearn.pipeline import make_pipeline
+from sklearn.preprocessing import StandardScaler
+X, y = load_wine(return_X_y=True)
+folds, acc = [], []
+for train, test in StratifiedKFold(n_splits=10, shuffle=True, random_state=0).split(X, y):
+    knn = make_pipeline(StandardScaler(), KNeighborsClassifier(n_neighbors=5)).fit(X[train], y[train])
+    acc.append(float(knn.score(X[test], y[test])))
+    folds.append(test.tolist())
+print(json.dumps({"x": X.tolist(), "y": y.tolist(), "folds": folds, "knn": acc}))
+`
+
+// TestWineAgainstKNN compares the classification by map region with
+// scikit-learn's k-nearest-neighbour classifier on the raw features under
+// the same ten folds: a map trained on the training folds, its units
+// labelled by the training windows they win, classifies each test window
+// (Unknown counts as wrong). The map must come within 5 points of k-NN's
+// cross-validated accuracy.
+func TestWineAgainstKNN(t *testing.T) {
+	py := tooltest.Python(t, "sklearn")
+	out, err := exec.Command(py, "-c", wineScript).Output()
+	if err != nil {
+		t.Fatalf("%s: %v", py, err)
+	}
+	var data struct {
+		X     [][]float64
+		Y     []int
+		Folds [][]int
+		KNN   []float64
+	}
+	if err := json.Unmarshal(out, &data); err != nil {
+		t.Fatal(err)
+	}
+	if len(data.X) != 178 || len(data.Folds) != 10 {
+		t.Fatalf("%d samples in %d folds; the wine data has 178", len(data.X), len(data.Folds))
+	}
+	names := []string{"class_0", "class_1", "class_2"}
+	var right, total int
+	for f, test := range data.Folds {
+		isTest := make(map[int]bool)
+		for _, i := range test {
+			isTest[i] = true
+		}
+		var train []int
+		for i := range data.X {
+			if !isTest[i] {
+				train = append(train, i)
+			}
+		}
+		xtr, xte := standardised(data.X, train, test)
+		cfg := mapper.Config{Hex: true, Seed: 1}
+		m, asg, err := mapper.Fit(xtr, make([]string, len(data.X[0])), mapper.Timelines{}, cfg)
+		if err != nil {
+			t.Fatal(err)
+		}
+		bmu, labels := make([]int, len(train)), make([]string, len(train))
+		for k, i := range train {
+			bmu[k], labels[k] = asg[k].BMU, names[data.Y[i]]
+		}
+		know := Count(m.Map.Units(), bmu, labels)
+		testAsg := m.Map.Assign(xte, 1)
+		units := make([]int, len(test))
+		for k, a := range testAsg {
+			units[k] = a.BMU
+		}
+		for k, c := range Classify(m.Map.Lattice, know, units, nil, DefaultConfig()) {
+			if c.Label == names[data.Y[test[k]]] {
+				right++
+			}
+		}
+		total += len(test)
+		if f == 0 {
+			t.Logf("fold 1: map of %d×%d units on %d training windows", m.Map.Lattice.Cols, m.Map.Lattice.Rows, len(train))
+		}
+	}
+	mapAcc := float64(right) / float64(total)
+	// k-NN's folds differ in size by one at most; weight them by size to
+	// compare with the map's pooled accuracy.
+	var knnRight float64
+	for f, a := range data.KNN {
+		knnRight += a * float64(len(data.Folds[f]))
+	}
+	knnAcc := knnRight / float64(total)
+	t.Logf("wine, 10-fold stratified CV (random_state 0): map region %.3f, scikit-learn k-NN (k=5) %.3f", mapAcc, knnAcc)
+	if mapAcc < knnAcc-0.05 {
+		t.Errorf("classification by map region %.3f is more than 5 points below k-NN's %.3f", mapAcc, knnAcc)
+	}
+}
+
+// standardised returns the rows train and test of x scaled by the mean and
+// standard deviation (population, as scikit-learn's StandardScaler) of the
+// training rows.
+func standardised(x [][]float64, train, test []int) (*mat.Dense, *mat.Dense) {
+	d := len(x[0])
+	mean, sd := make([]float64, d), make([]float64, d)
+	col := make([]float64, len(train))
+	for j := range d {
+		for k, i := range train {
+			col[k] = x[i][j]
+		}
+		m, v := stat.PopMeanVariance(col, nil)
+		mean[j], sd[j] = m, math.Sqrt(v)
+	}
+	rows := func(idx []int) *mat.Dense {
+		out := mat.NewDense(len(idx), d, nil)
+		for k, i := range idx {
+			for j := range d {
+				out.Set(k, j, (x[i][j]-mean[j])/sd[j])
+			}
+		}
+		return out
+	}
+	return rows(train), rows(test)
+}

@@ -16,7 +16,9 @@ func TestMark(t *testing.T) {
 			ws = append(ws, Window{Site: site, Start: day(d), End: day(d + 1)})
 		}
 	}
-	at := func(site string, d int) int { return slices.IndexFunc(ws, func(w Window) bool { return w.Site == site && w.Start.Equal(day(d)) }) }
+	at := func(site string, d int) int {
+		return slices.IndexFunc(ws, func(w Window) bool { return w.Site == site && w.Start.Equal(day(d)) })
+	}
 	sp := Span{Before: 3 * 24 * time.Hour}
 	tests := []struct {
 		name    string

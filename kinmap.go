@@ -42,6 +42,7 @@ type Options struct {
 	Timeline timeline.Config
 	History  string    // folder of earlier timelines; "" for none
 	Log      io.Writer // progress messages; nil for none
+	Events   EventOptions
 }
 
 // DefaultOptions returns the defaults of the command.
@@ -54,6 +55,7 @@ func DefaultOptions() Options {
 		Scaling:  "zscore",
 		Map:      mapper.Config{Hex: true, Rule: "batch", Init: "pca", Eta0: 0.5},
 		Timeline: timeline.DefaultConfig(),
+		Events:   DefaultEventOptions(),
 	}
 }
 
@@ -85,6 +87,7 @@ type Result struct {
 	Entries     []timeline.Entry
 	Switches    []timeline.Switch
 	Changes     []mapper.RegimeChange // regime renumbering by Update
+	Conditions  *Conditions           // what labelled events say of the windows; nil without events or label knowledge
 	Info        RunInfo
 
 	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
@@ -92,6 +95,8 @@ type Result struct {
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality *mapper.Quality
+	// showNotes lets the outputs show the free-text notes of events.
+	showNotes bool
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.
@@ -148,6 +153,7 @@ type OptionsRecord struct {
 	Map      mapper.Config          `json:"map"`
 	Timeline timeline.Config        `json:"timeline"`
 	History  string                 `json:"history,omitempty"`
+	Events   *EventOptions          `json:"events,omitempty"`
 }
 
 // Validate reports the first usage error in the options.

@@ -104,6 +104,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	}
 	// The update keeps the regime numbers, hence the lineage.
 	model.Lineage = lineageOf(prev)
+	model.Conditions = prev.Conditions // the lattice's units are the same
 	res.Model, res.Assignments, res.Changes = model, asg, changes
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -248,6 +249,9 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	if sw.times == nil {
 		sw.times = map[string]float64{}
 	}
+	if err := r.classify(&o); err != nil {
+		return err
+	}
 	if err := decode(&o, r); err != nil {
 		return err
 	}
@@ -304,6 +308,7 @@ func Begin(command string, o Options) *Result {
 		Options: OptionsRecord{
 			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
 			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History,
+			Events: eventsRecord(o.Events),
 		},
 	}}
 }

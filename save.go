@@ -128,6 +128,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Summary:     &r.Ingest,
 		Changes:     r.Changes,
 		Title:       "kinmap " + cmp.Or(r.Info.Command, "run"),
+		Conditions:  r.exportConditions(r.showNotes),
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {

@@ -55,6 +55,7 @@ type Run struct {
 	Changes     []mapper.RegimeChange // regime renumbering by an update, listed in the report
 	Warnings    []string              // from earlier stages, shown in the report, each warning once
 	Title       string                // heading of the report; "" means "kinmap run"
+	Conditions  *Conditions           // label knowledge from events; nil when there is none
 }
 
 // Write writes the outputs of r into dir, creating it if needed.

@@ -163,6 +163,9 @@ func siteFeatures(r *Run, ss []*site) []*feature {
 		p.add("qe", significant(s.meanQE, 6))
 		p.add("unfamiliar", s.unfamiliar > 0)
 		p.add("unfamiliar_windows", s.unfamiliar)
+		cond, conf := r.condition(s.entries[len(s.entries)-1])
+		p.add("likely_condition", cond)
+		p.add("condition_confidence", significant(conf, 6))
 		p.add("mobile", s.mobile)
 		if s.homed {
 			h := roundPosition(s.home[0], s.home[1])

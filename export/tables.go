@@ -22,6 +22,10 @@ type timelineRow struct {
 	Regime      int32     `parquet:"regime"`
 	QE          float64   `parquet:"qe"`
 	Unfamiliar  bool      `parquet:"unfamiliar"`
+	// Condition and ConditionConfidence are the window's likely condition
+	// from the labelled windows near it on the map (package events).
+	Condition           string  `parquet:"likely_condition,dict"`
+	ConditionConfidence float64 `parquet:"condition_confidence"`
 }
 
 // switchRow is one row of switches.parquet and switches.csv.
@@ -39,13 +43,14 @@ type switchRow struct {
 // GeoPackage, in the order of the rows' fields.
 var (
 	timelineColumns = []gpkgColumn{{"site", "TEXT"}, {"window_start", "DATETIME"}, {"window_end", "DATETIME"},
-		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"}}
+		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"},
+		{"likely_condition", "TEXT"}, {"condition_confidence", "REAL"}}
 	switchColumns = []gpkgColumn{{"site", "TEXT"}, {"time", "DATETIME"}, {"from_regime", "INTEGER"}, {"to_regime", "INTEGER"},
 		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"}}
 )
 
 func (r timelineRow) values() []any {
-	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar}
+	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar, r.Condition, r.ConditionConfidence}
 }
 
 func (r switchRow) values() []any {
@@ -80,7 +85,9 @@ func timelineRows(r *Run, ss []*site) []timelineRow {
 	rows := make([]timelineRow, 0, len(r.Entries))
 	for _, s := range ss {
 		for _, i := range s.entries {
-			rows = append(rows, rowOf(r.Entries[i]))
+			row := rowOf(r.Entries[i])
+			row.Condition, row.ConditionConfidence = r.condition(i)
+			rows = append(rows, row)
 		}
 	}
 	return rows

@@ -46,6 +46,7 @@ func runFlags(o *kinmap.Options, out *cli.Outputs) *cli.Flags {
 	f.Features(o)
 	f.Map(o, true)
 	f.Timeline(o)
+	f.Events(o)
 	f.Output(o, out, "also write the model to `FILE` (it is always written to DIR/model)")
 	return f
 }
@@ -68,6 +69,7 @@ func applyModel(name string, args []string, e *env, apply func(kinmap.Options, *
 		f.Map(&o, false)
 	}
 	f.Timeline(&o)
+	f.Events(&o)
 	f.Output(&o, &out, "model `FILE` of an earlier run")
 	if err := parse(f, args, e, &o, &out, true); err != nil {
 		return err

@@ -1,0 +1,156 @@
+package kinmap
+
+import (
+	"fmt"
+	"path/filepath"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/kinmap/kinmap/events"
+	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/mapper"
+)
+
+// EventOptions says where a run's maintenance and inspection records come
+// from and how they mark windows (package events).
+type EventOptions struct {
+	File      string              `json:"file"` // events file; "" for none
+	Columns   ingest.EventOptions `json:"columns"`
+	Span      time.Duration       `json:"span"` // span a point event marks before it; 0 means events.DefaultBefore
+	ShowNotes bool                `json:"show_notes"`
+	Classify  events.Config       `json:"classify"`
+}
+
+// DefaultEventOptions returns the defaults of the command.
+func DefaultEventOptions() EventOptions {
+	return EventOptions{Columns: ingest.DefaultEventOptions(), Span: events.DefaultBefore, Classify: events.DefaultConfig()}
+}
+
+// Conditions is what a run learnt and concluded from labelled events.
+type Conditions struct {
+	Events    []ingest.EventRow
+	Marks     events.Marks       // the run's windows marked by Events
+	Knowledge *mapper.Conditions // the label counts the windows were classified with: the model's and the run's
+	Windows   []events.Condition // likely condition of each window of Result.Table
+}
+
+// classify marks the run's windows with its events, classifies every
+// window with the model's knowledge and the run's, and, for run and
+// update, keeps the knowledge in the model. A run without events and a
+// model without knowledge leave r.Conditions nil.
+func (r *Result) classify(o *Options) error {
+	eo := o.Events
+	if eo.Span <= 0 {
+		eo.Span = events.DefaultBefore
+	}
+	if eo.Classify.K == 0 {
+		eo.Classify = events.DefaultConfig()
+	}
+	ws := r.eventWindows()
+	units := make([]int, len(ws))
+	for i, w := range ws {
+		units[i] = w.Unit
+	}
+	r.showNotes = eo.ShowNotes
+	c := &Conditions{}
+	var own []string
+	var mine *mapper.Conditions
+	if eo.File != "" {
+		evs, err := ingest.ReadEvents(eo.File, eo.Columns)
+		if err != nil {
+			return err
+		}
+		c.Events = evs
+		c.Marks = events.Mark(ws, evs, events.Span{Before: eo.Span})
+		own = c.Marks.Labels
+		if mine = events.Count(r.Model.Map.Units(), units, own); mine != nil {
+			mine.Span, mine.Events = events.Span{Before: eo.Span}.String(), c.Marks.Used
+		} else {
+			// Windows none marked still count as unmarked evidence.
+			mine = &mapper.Conditions{Counts: make([][]int, r.Model.Map.Units())}
+			for u := range mine.Counts {
+				mine.Counts[u] = []int{0}
+			}
+			for _, u := range units {
+				mine.Counts[u][0]++
+			}
+		}
+		if len(c.Marks.Unknown) > 0 {
+			r.Info.Warnings = append(r.Info.Warnings, fmt.Sprintf("events: %s: %d sites have no window in the dump and their events are left out: %s",
+				filepath.Base(eo.File), len(c.Marks.Unknown), list(c.Marks.Unknown, 10)))
+		}
+		o.logf("events: %d records, %d marked windows of this dump", len(evs), c.Marks.Used)
+	}
+	c.Knowledge = events.Merge(r.Model.Conditions, mine)
+	if c.Knowledge == nil || len(c.Knowledge.Labels) == 0 {
+		return nil
+	}
+	if r.Info.Command != "assign" {
+		m := *r.Model
+		m.Conditions = c.Knowledge
+		r.Model = &m
+	}
+	c.Windows = events.Classify(r.Model.Map.Lattice, c.Knowledge, units, own, eo.Classify)
+	r.Conditions = c
+	return nil
+}
+
+// eventWindows returns the run's windows as package events sees them.
+func (r *Result) eventWindows() []events.Window {
+	ws := make([]events.Window, len(r.Table.Windows))
+	for i, w := range r.Table.Windows {
+		ws[i] = events.Window{Site: w.Site, Start: w.Start, End: w.End, Unit: r.Assignments[i].BMU}
+	}
+	return ws
+}
+
+// list joins up to n items, saying how many more there are.
+func list(items []string, n int) string {
+	s := strings.Join(items[:min(n, len(items))], ", ")
+	if len(items) > n {
+		s += fmt.Sprintf(" and %d more", len(items)-n)
+	}
+	return s
+}
+
+// exportConditions returns the conditions of r for the outputs, notes
+// only when showNotes.
+func (r *Result) exportConditions(showNotes bool) *export.Conditions {
+	c := r.Conditions
+	if c == nil {
+		return nil
+	}
+	out := &export.Conditions{
+		Marked: c.Marks.Labels, Labels: c.Knowledge.Labels, UnitCounts: c.Knowledge.Counts,
+		Unknown: c.Marks.Unknown, Span: c.Knowledge.Span,
+		Likely: make([]string, len(c.Windows)), Confidence: make([]float64, len(c.Windows)),
+	}
+	for i, w := range c.Windows {
+		out.Likely[i], out.Confidence[i] = w.Label, w.Confidence
+	}
+	for _, e := range c.Events {
+		if !slices.Contains(c.Marks.Unknown, e.Site) {
+			out.Events = append(out.Events, exportEvent(e, showNotes))
+		}
+	}
+	return out
+}
+
+func exportEvent(e ingest.EventRow, showNotes bool) export.Event {
+	ev := export.Event{Site: e.Site, Start: e.Start, End: e.End, Label: e.Label}
+	if showNotes {
+		ev.Note = e.Note
+	}
+	return ev
+}
+
+// eventsRecord is what run.json records of eo: nothing without an events
+// file.
+func eventsRecord(eo EventOptions) *EventOptions {
+	if eo.File == "" {
+		return nil
+	}
+	return &eo
+}

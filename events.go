@@ -1,6 +1,7 @@
 package kinmap
 
 import (
+	"cmp"
 	"fmt"
 	"path/filepath"
 	"slices"
@@ -9,6 +10,7 @@ import (
 
 	"github.com/kinmap/kinmap/events"
 	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
 )
@@ -34,6 +36,7 @@ type Conditions struct {
 	Marks     events.Marks       // the run's windows marked by Events
 	Knowledge *mapper.Conditions // the label counts the windows were classified with: the model's and the run's
 	Windows   []events.Condition // likely condition of each window of Result.Table
+	Span      time.Duration      // span a point event marks before it; also how far after a precedent its outcome is looked for
 }
 
 // classify marks the run's windows with its events, classifies every
@@ -54,7 +57,7 @@ func (r *Result) classify(o *Options) error {
 		units[i] = w.Unit
 	}
 	r.showNotes = eo.ShowNotes
-	c := &Conditions{}
+	c := &Conditions{Span: eo.Span}
 	var own []string
 	var mine *mapper.Conditions
 	if eo.File != "" {
@@ -134,6 +137,55 @@ func (r *Result) exportConditions(showNotes bool) *export.Conditions {
 		if !slices.Contains(c.Marks.Unknown, e.Site) {
 			out.Events = append(out.Events, exportEvent(e, showNotes))
 		}
+	}
+	out.Precedents = r.precedents(showNotes)
+	return out
+}
+
+// maxPrecedentSites is how many sites get precedents: those whose last
+// window is most confidently classified as a label.
+const maxPrecedentSites = 10
+
+// precedents returns, for the sites whose last window is classified as a
+// label, the three most similar earlier windows of the history read for
+// the run and of the run itself, with the run's events recorded after
+// them.
+func (r *Result) precedents(showNotes bool) []export.SitePrecedents {
+	c := r.Conditions
+	past, err := history.Windows(r.Entries, r.X)
+	if err != nil || len(c.Events) == 0 {
+		return nil
+	}
+	if r.history != nil {
+		past = append(slices.Clone(r.history.Windows), past...)
+	}
+	last := make(map[string]int)
+	for i, w := range r.Table.Windows {
+		if j, ok := last[w.Site]; !ok || w.Start.After(r.Table.Windows[j].Start) {
+			last[w.Site] = i
+		}
+	}
+	var query []int
+	for _, i := range last {
+		if slices.Contains(c.Knowledge.Labels, c.Windows[i].Label) {
+			query = append(query, i)
+		}
+	}
+	slices.SortFunc(query, func(a, b int) int {
+		return cmp.Or(cmp.Compare(c.Windows[b].Confidence, c.Windows[a].Confidence), cmp.Compare(r.Table.Windows[a].Site, r.Table.Windows[b].Site))
+	})
+	var out []export.SitePrecedents
+	for _, i := range query[:min(len(query), maxPrecedentSites)] {
+		w := r.Table.Windows[i]
+		sp := export.SitePrecedents{Site: w.Site, Window: w.Start}
+		for _, p := range events.Precedents(r.X.RawRowView(i), w.Start, past, c.Events, c.Span, 3) {
+			ep := export.Precedent{Site: p.Site, Start: p.Start, Distance: p.Distance}
+			for _, e := range p.After {
+				ep.After = append(ep.After, exportEvent(e, showNotes))
+			}
+			sp.Precedents = append(sp.Precedents, ep)
+		}
+		out = append(out, sp)
 	}
 	return out
 }

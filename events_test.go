@@ -1,7 +1,11 @@
 package kinmap_test
 
 import (
+	"bytes"
+	"fmt"
+	"os"
 	"path/filepath"
+	"slices"
 	"testing"
 	"time"
 
@@ -174,6 +178,61 @@ func TestAssignWithLastWeeksKnowledge(t *testing.T) {
 			seed, m.Conditions.Events, scenarios.LabelFailure, p, r, tp, fp, fn)
 		if p < 0.7 || r < 0.7 {
 			t.Errorf("seed %d: precision %.3f, recall %.3f; want both at least 0.7", seed, p, r)
+		}
+	}
+}
+
+// TestEventNotesStayOut checks that the free-text notes of an events file
+// appear in no output unless asked for, while the labels do, and that the
+// timeline and sites.geojson carry the classification.
+func TestEventNotesStayOut(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end run")
+	}
+	o, dir := failureFleet(t, 3, 40, 4, false)
+	const note = "seized; vibration alarm" // a note scenarios.Failures writes with every failure
+	for _, show := range []bool{false, true} {
+		o.Events.ShowNotes = show
+		res, err := kinmap.Train(o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		out := filepath.Join(dir, fmt.Sprintf("out-%v", show))
+		if err := res.Write(out); err != nil {
+			t.Fatal(err)
+		}
+		files, err := os.ReadDir(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var noted []string
+		for _, f := range files {
+			b, err := os.ReadFile(filepath.Join(out, f.Name()))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if bytes.Contains(b, []byte(note)) {
+				noted = append(noted, f.Name())
+			}
+		}
+		if want := []string{"report.html"}; show && !slices.Equal(noted, want) || !show && len(noted) > 0 {
+			t.Errorf("--show-notes %v: the note is in %v", show, noted)
+		}
+		report, err := os.ReadFile(filepath.Join(out, "report.html"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, want := range []string{"Known events on the map", scenarios.LabelFailure, "Events on the site timelines"} {
+			if !bytes.Contains(report, []byte(want)) {
+				t.Errorf("the report lacks %q", want)
+			}
+		}
+		tl, err := os.ReadFile(filepath.Join(out, "timeline.csv"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Contains(tl, []byte(",likely_condition,condition_confidence\r\n")) || !bytes.Contains(tl, []byte(","+scenarios.LabelFailure+",")) {
+			t.Errorf("timeline.csv lacks the classification columns or a window classified %q:\n%.400s", scenarios.LabelFailure, tl)
 		}
 	}
 }

@@ -336,6 +336,9 @@ func regimeIDs(r *Run) []int {
 
 func pictureInput(r *Run, ss []*site) picture.Input {
 	in := picture.Input{Model: r.Model, Assignments: r.Assignments, Entries: r.Entries, Switches: r.Switches}
+	if c := r.Conditions; c != nil {
+		in.Conditions = &mapper.Conditions{Labels: c.Labels, Counts: c.UnitCounts}
+	}
 	for _, s := range ss {
 		in.Sites = append(in.Sites, picture.SitePoint{ID: s.id, Lon: s.lon, Lat: s.lat, Located: s.located, Regime: s.last.Regime})
 	}

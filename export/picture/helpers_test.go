@@ -82,6 +82,20 @@ func demoInput(l mapper.Lattice, k, sites int) Input {
 		}
 		in.Assignments = append(in.Assignments, mapper.Assignment{BMU: u, Second: s})
 	}
+	// Two labels of events, each marking the windows of the units near
+	// one regime seed.
+	in.Conditions = &mapper.Conditions{Labels: []string{"bearing failure", "overhaul"}, Counts: make([][]int, l.Units())}
+	for u := range in.Conditions.Counts {
+		in.Conditions.Counts[u] = []int{0, 0, 1}
+	}
+	for _, a := range in.Assignments {
+		switch {
+		case a.Second == seeds[0]:
+			in.Conditions.Counts[a.BMU][0]++
+		case k > 1 && a.Second == seeds[1] && rng.IntN(2) == 0:
+			in.Conditions.Counts[a.BMU][1]++
+		}
+	}
 
 	start := time.Date(2024, 3, 4, 0, 0, 0, 0, time.UTC)
 	const days = 70

@@ -1,6 +1,7 @@
 // Package picture draws a run's pictures as PNG: the regime map, the
 // U-matrix, the hit counts and the component planes of the trained map, a
-// site map and the regime timelines of the sites that switched.
+// site map, the regime timelines of the sites that switched and, when a run
+// has events, the labels of the events on the map.
 //
 // Hexagonal cells are drawn as hexagons and square ones as squares.
 // A torus is drawn with a margin of faded copies of its opposite edges
@@ -26,6 +27,7 @@ type Input struct {
 	Entries     []timeline.Entry
 	Switches    []timeline.Switch
 	Sites       []SitePoint
+	Conditions  *mapper.Conditions // label counts per unit from events; nil for none
 }
 
 // SitePoint is one site on the site map.
@@ -104,6 +106,7 @@ func pages() []page {
 		{"umatrix.png", uMatrix},
 		{"hits.png", hitMap},
 		{"components.png", componentPlanes},
+		{"conditions.png", conditionMap},
 	}
 }
 

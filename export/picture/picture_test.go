@@ -53,7 +53,7 @@ func inked(img image.Image) (share float64, colours int) {
 }
 
 func TestAllPictures(t *testing.T) {
-	order := []string{"regimes.png", "sites.png", "timelines.png", "umatrix.png", "hits.png", "components.png"}
+	order := []string{"regimes.png", "sites.png", "timelines.png", "umatrix.png", "hits.png", "components.png", "conditions.png"}
 	// Files names every picture All can draw, so that an earlier run's
 	// pictures can be cleared away.
 	if got := Files(); !slices.Equal(got, order) {
@@ -110,6 +110,7 @@ func TestAllPictures(t *testing.T) {
 func TestAllLeavesOutEmptyPictures(t *testing.T) {
 	in := demoInput(mapper.Lattice{Cols: 6, Rows: 4, Hex: true}, 2, 10)
 	in.Switches = nil
+	in.Conditions = nil
 	for i := range in.Sites {
 		in.Sites[i].Located = false
 	}

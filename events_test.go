@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"reflect"
 	"slices"
 	"testing"
 	"time"
@@ -179,7 +180,39 @@ func TestAssignWithLastWeeksKnowledge(t *testing.T) {
 		if p < 0.7 || r < 0.7 {
 			t.Errorf("seed %d: precision %.3f, recall %.3f; want both at least 0.7", seed, p, r)
 		}
+		if seed != 1 {
+			continue
+		}
+		// Update keeps the model's knowledge without events, and adds the
+		// counts of the dump's marked windows with them.
+		up, err := kinmap.Update(o, m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(up.Model.Conditions, m.Conditions) {
+			t.Error("update without events changed the model's label knowledge")
+		}
+		o.Events.File = evs
+		up, err = kinmap.Update(o, m)
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := up.Model.Conditions
+		if c == nil || c.Events != m.Conditions.Events+up.Conditions.Marks.Used || total(c.Counts) != total(m.Conditions.Counts)+len(up.Table.Windows) {
+			t.Errorf("update with events: the model's knowledge is not the earlier one plus the dump's windows")
+		}
 	}
+}
+
+// total sums counts.
+func total(counts [][]int) int {
+	n := 0
+	for _, row := range counts {
+		for _, v := range row {
+			n += v
+		}
+	}
+	return n
 }
 
 // TestEventNotesStayOut checks that the free-text notes of an events file

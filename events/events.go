@@ -43,7 +43,11 @@ type Span struct {
 
 // String says the rule in words, as run.json and the model record it.
 func (s Span) String() string {
-	return fmt.Sprintf("point events mark the windows overlapping the %s before them; intervals the windows overlapping them", s.Before)
+	before := s.Before.String()
+	if day := 24 * time.Hour; s.Before%day == 0 {
+		before = fmt.Sprintf("%d days", s.Before/day)
+	}
+	return fmt.Sprintf("Point events mark the windows overlapping the %s before them; intervals the windows overlapping them", before)
 }
 
 // Marks is the outcome of Mark.

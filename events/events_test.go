@@ -8,8 +8,10 @@ import (
 	"github.com/kinmap/kinmap/ingest"
 )
 
+// day is midnight UTC of day d of March 2026.
+func day(d int) time.Time { return time.Date(2026, 3, d, 0, 0, 0, 0, time.UTC) }
+
 func TestMark(t *testing.T) {
-	day := func(d int) time.Time { return time.Date(2026, 3, d, 0, 0, 0, 0, time.UTC) }
 	var ws []Window
 	for _, site := range []string{"a", "b"} {
 		for d := 1; d <= 20; d++ {

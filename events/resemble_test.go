@@ -11,7 +11,6 @@ import (
 )
 
 func TestResemble(t *testing.T) {
-	day := func(d int) time.Time { return time.Date(2026, 3, d, 0, 0, 0, 0, time.UTC) }
 	var ws []Window
 	var cs []Condition
 	add := func(site string, d int, label string, conf float64) {
@@ -37,7 +36,6 @@ func TestResemble(t *testing.T) {
 }
 
 func TestPrecedents(t *testing.T) {
-	day := func(d int) time.Time { return time.Date(2026, 3, d, 0, 0, 0, 0, time.UTC) }
 	past := []history.Window{
 		{Site: "x", Start: day(1), End: day(2), Scaled: []float64{1, 0}},
 		{Site: "x", Start: day(2), End: day(3), Scaled: []float64{1, 0.1}}, // same episode as day 1

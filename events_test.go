@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"slices"
+	"strings"
 	"testing"
 	"time"
 
@@ -58,6 +59,8 @@ func failureFleet(t *testing.T, seed int64, sites, weeks int, split bool) (kinma
 		}
 	}
 	evs := filepath.Join(dir, "events.csv")
+	// A record of a site the dump lacks: listed, not fatal.
+	recs = append(recs, scenarios.Record{Site: "BR-GONE", Start: spec.Start, End: spec.Start, Point: true, Label: scenarios.LabelFailure})
 	if err := scenarios.WriteRecords(evs, recs); err != nil {
 		t.Fatal(err)
 	}
@@ -120,6 +123,9 @@ func TestPlantedFailures(t *testing.T) {
 		}
 		if inspections > 0 {
 			t.Errorf("seed %d: %d windows classified as inspections, which leave no trace in the data", seed, inspections)
+		}
+		if !slices.Equal(res.Conditions.Marks.Unknown, []string{"BR-GONE"}) || !slices.ContainsFunc(res.Info.Warnings, func(w string) bool { return strings.Contains(w, "BR-GONE") }) {
+			t.Errorf("seed %d: the site without windows is not listed: %q, warnings %q", seed, res.Conditions.Marks.Unknown, res.Info.Warnings)
 		}
 		if res.Model.Conditions == nil || res.Model.Conditions.Events != res.Conditions.Marks.Used {
 			t.Errorf("seed %d: the model does not keep the label counts of the run", seed)

@@ -68,23 +68,13 @@ func (r *Result) classify(o *Options) error {
 		c.Events = evs
 		c.Marks = events.Mark(ws, evs, events.Span{Before: eo.Span})
 		own = c.Marks.Labels
-		if mine = events.Count(r.Model.Map.Units(), units, own); mine != nil {
-			mine.Span, mine.Events = events.Span{Before: eo.Span}.String(), c.Marks.Used
-		} else {
-			// Windows none marked still count as unmarked evidence.
-			mine = &mapper.Conditions{Counts: make([][]int, r.Model.Map.Units())}
-			for u := range mine.Counts {
-				mine.Counts[u] = []int{0}
-			}
-			for _, u := range units {
-				mine.Counts[u][0]++
-			}
-		}
+		mine = events.Count(r.Model.Map.Units(), units, own)
+		mine.Span, mine.Events = events.Span{Before: eo.Span}.String(), c.Marks.Used
 		if len(c.Marks.Unknown) > 0 {
 			r.Info.Warnings = append(r.Info.Warnings, fmt.Sprintf("events: %s: %d sites have no window in the dump and their events are left out: %s",
 				filepath.Base(eo.File), len(c.Marks.Unknown), list(c.Marks.Unknown, 10)))
 		}
-		o.logf("events: %d records, %d marked windows of this dump", len(evs), c.Marks.Used)
+		o.logf("events: %d records, %d of them mark windows of this dump", len(evs), c.Marks.Used)
 	}
 	c.Knowledge = events.Merge(r.Model.Conditions, mine)
 	if c.Knowledge == nil || len(c.Knowledge.Labels) == 0 {

@@ -7,18 +7,15 @@ import (
 )
 
 // Count returns the label counts of the windows each of units units won:
-// window i, on unit units[i] of the slice, carries labels[i] ("" for none).
-// It returns nil when no window carries a label, since then there is no
-// knowledge to keep.
+// window i, on unit bmu[i], carries labels[i] ("" for none). Without any
+// label every window counts as unmarked, evidence that Merge adds to a
+// model's labels.
 func Count(units int, bmu []int, labels []string) *mapper.Conditions {
 	var names []string
 	for _, l := range labels {
 		if l != "" && !slices.Contains(names, l) {
 			names = append(names, l)
 		}
-	}
-	if len(names) == 0 {
-		return nil
 	}
 	slices.Sort(names)
 	c := &mapper.Conditions{Labels: names, Counts: make([][]int, units)}

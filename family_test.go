@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/score"
@@ -86,10 +87,10 @@ func truthOf(f *scenarios.Fleet) ([]score.Window, []score.Event) {
 
 // scoreTimelines scores decoded entries and switches against the truth of
 // a fleet.
-func scoreTimelines(f *scenarios.Fleet, entries []timeline.Entry, switches []timeline.Switch) score.Report {
+func scoreTimelines(f *scenarios.Fleet, ws []features.Window, switches []timeline.Switch) score.Report {
 	truth, trueEvents := truthOf(f)
-	found := make([]score.Window, len(entries))
-	for i, e := range entries {
+	found := make([]score.Window, len(ws))
+	for i, e := range ws {
 		found[i] = score.Window{Site: e.Site, Start: e.Start, Regime: strconv.Itoa(e.Regime)}
 	}
 	events := make([]score.Event, len(switches))
@@ -146,11 +147,12 @@ func trueRegimeModel(t *testing.T, r *familyRun) *mapper.Model {
 func oracle(t *testing.T, r *familyRun) score.Report {
 	t.Helper()
 	m := trueRegimeModel(t, r)
-	entries, switches, err := timeline.Build(m, r.res.Table, r.res.X, r.res.Assignments, timeline.DefaultConfig())
+	ws := slices.Clone(r.res.Table.Windows) // decoded anew, leaving the run's regimes
+	switches, err := timeline.Build(m, ws, timeline.DefaultConfig())
 	if err != nil {
 		t.Fatal(err)
 	}
-	return scoreTimelines(r.fleet, entries, switches)
+	return scoreTimelines(r.fleet, ws, switches)
 }
 
 // familyFleets returns the fleets of names that the environment variable
@@ -222,7 +224,7 @@ func TestFamilyDefaults(t *testing.T) {
 	for _, name := range familyFleets(append(scenarios.Family(), "pumping", "reefers")) {
 		for _, seed := range []int64{1, scenarios.SecondSeed} {
 			r := runFleet(t, name, seed)
-			rep := scoreTimelines(r.fleet, r.res.Entries, r.res.Switches)
+			rep := scoreTimelines(r.fleet, r.res.Table.Windows, r.res.Switches)
 			sw := rep.Found.Switches
 			chosen := len(r.res.Model.Regimes)
 			fmt.Fprintf(&table, "%-12s %4d %6d %8d %7.3f %6.3f %6.3f %6.3f %7.1f\n",

@@ -73,19 +73,18 @@ func IsUsage(err error) bool {
 	return errors.As(err, &u) || errors.Is(err, ingest.ErrUsage)
 }
 
-// Result is the outcome of a run: what was read, the feature table, the
-// model, where each window landed and the decoded timelines.
+// Result is the outcome of a run: what was read, the feature table, whose
+// windows record where each landed on the map and its decoded regime, the
+// model and the switches.
 type Result struct {
-	Ingest      ingest.Summary
-	Register    *ingest.Register
-	Table       *features.Table
-	X           *mat.Dense // scaled features, one row per window of Table
-	Model       *mapper.Model
-	Assignments []mapper.Assignment
-	Entries     []timeline.Entry
-	Switches    []timeline.Switch
-	Changes     []mapper.RegimeChange // regime renumbering by Update
-	Info        RunInfo
+	Ingest   ingest.Summary
+	Register *ingest.Register
+	Table    *features.Table // one record per window, filled by every stage
+	X        *mat.Dense      // scaled features, one row per window of Table (each window's Scaled is a view of its row)
+	Model    *mapper.Model
+	Switches []timeline.Switch
+	Changes  []mapper.RegimeChange // regime renumbering by Update
+	Info     RunInfo
 
 	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests

@@ -45,7 +45,10 @@ func Train(o Options) (*Result, error) {
 	model.FeatureNames = res.Table.Names
 	model.FeatureConfig = res.Table.Config
 	model.Scaler = sc
-	res.Model, res.Assignments = model, asg
+	res.Model = model
+	if err := mapper.Place(res.Table.Windows, asg); err != nil {
+		return nil, err
+	}
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
 		return nil, err
@@ -65,8 +68,11 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 		return nil, err
 	}
 	res.Model = m
-	res.Assignments = m.Map.Assign(res.X, o.Map.Workers)
-	q := m.Map.Quality(res.Assignments)
+	asg := m.Map.Assign(res.X, o.Map.Workers)
+	if err := mapper.Place(res.Table.Windows, asg); err != nil {
+		return nil, err
+	}
+	q := m.Map.Quality(asg)
 	res.quality = &q
 	sw.lap("assign")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -104,7 +110,10 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	}
 	// The update keeps the regime numbers, hence the lineage.
 	model.Lineage = lineageOf(prev)
-	res.Model, res.Assignments, res.Changes = model, asg, changes
+	res.Model, res.Changes = model, changes
+	if err := mapper.Place(res.Table.Windows, asg); err != nil {
+		return nil, err
+	}
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
 		return nil, err
@@ -237,8 +246,8 @@ func droppedWarning(names []string) string {
 	return fmt.Sprintf("%d features have no variance in the training windows and are left out: %s", len(names), list)
 }
 
-// Conclude finishes a run whose windows are on the map (Table, X, Model
-// and Assignments set): it decodes every site's timeline, continuing from
+// Conclude finishes a run whose windows are on the map (Table, X and
+// Model set, each window placed by mapper.Place): it decodes every site's timeline, continuing from
 // the periods of the history folder of o that the model's lineage numbered,
 // and completes the run summary with the durations of the earlier steps, by
 // name, in timings. A model without a lineage (a new map) is replaced by a
@@ -265,25 +274,25 @@ func decode(o *Options, res *Result) error {
 		m.Lineage = lineageOf(&m)
 		res.Model = &m
 	}
-	c := (&history.History{}).Continue(res.Model, res.Model.Lineage, res.Table)
+	c := (&history.History{}).Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 	if o.History != "" {
 		h, err := history.Read(o.History)
 		if err != nil {
 			return err
 		}
-		c = h.Continue(res.Model, res.Model.Lineage, res.Table)
+		c = h.Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 		res.history = h
 		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)
 		res.Info.Warnings = append(res.Info.Warnings, c.Warnings...)
 		o.logf("history: %d sites continue from earlier dumps, %d of their windows decoded again", len(c.Priors), c.Tail())
 	}
-	t, x, asg := c.Prepend(res.Model, res.Table, res.X, res.Assignments)
-	entries, switches, err := timeline.BuildFrom(res.Model, t, x, asg, o.Timeline, c.Priors)
+	ws := c.Prepend(res.Model, res.Table.Windows)
+	switches, err := timeline.BuildFrom(res.Model, ws, o.Timeline, c.Priors)
 	if err != nil {
 		return err
 	}
 	var revised int
-	res.Entries, res.Switches, revised = c.Settle(entries, switches)
+	res.Table.Windows, res.Switches, revised = c.Settle(ws, switches)
 	o.logf("timelines: %d switches", len(res.Switches))
 	if revised > 0 {
 		o.logf("history: %d windows of earlier dumps decoded anew", revised)
@@ -329,8 +338,8 @@ func finish(res *Result, sw *stopwatch) {
 		dropped += n
 	}
 	unfamiliar := 0
-	for _, e := range res.Entries {
-		if e.Unfamiliar {
+	for _, w := range res.Table.Windows {
+		if w.Unfamiliar {
 			unfamiliar++
 		}
 	}

@@ -147,7 +147,7 @@ func TestSaveAllOrNothing(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n := len(f.first.Entries) + len(second.Entries); len(h.Windows) != n {
+	if n := len(f.first.Table.Windows) + len(second.Table.Windows); len(h.Windows) != n {
 		t.Errorf("history holds %d windows, want %d", len(h.Windows), n)
 	}
 	t.Logf("%d files failed in turn", len(paths))
@@ -201,7 +201,7 @@ func TestSaveConcurrentRuns(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n := len(f.first.Entries) + len(rs[won].Entries); len(h.Windows) != n {
+	if n := len(f.first.Table.Windows) + len(rs[won].Table.Windows); len(h.Windows) != n {
 		t.Errorf("history holds %d windows, want %d", len(h.Windows), n)
 	}
 }
@@ -347,7 +347,7 @@ func checkWhole(t *testing.T, f *saveFixture, round int) {
 		}
 		seen[k] = true
 	}
-	if len(h.Windows) < len(f.first.Entries) {
-		t.Errorf("round %d: history holds %d windows, fewer than the first week's %d", round, len(h.Windows), len(f.first.Entries))
+	if len(h.Windows) < len(f.first.Table.Windows) {
+		t.Errorf("round %d: history holds %d windows, fewer than the first week's %d", round, len(h.Windows), len(f.first.Table.Windows))
 	}
 }

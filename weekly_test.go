@@ -102,11 +102,11 @@ func TestAssignTrainingDump(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(assigned.Entries) != len(trained.Entries) {
-		t.Fatalf("%d windows assigned, %d trained", len(assigned.Entries), len(trained.Entries))
+	if len(assigned.Table.Windows) != len(trained.Table.Windows) {
+		t.Fatalf("%d windows assigned, %d trained", len(assigned.Table.Windows), len(trained.Table.Windows))
 	}
-	for i, e := range assigned.Entries {
-		if tr := trained.Entries[i]; e.Site != tr.Site || !e.Start.Equal(tr.Start) || e.BMU != tr.BMU || e.Regime != tr.Regime {
+	for i, e := range assigned.Table.Windows {
+		if tr := trained.Table.Windows[i]; e.Site != tr.Site || !e.Start.Equal(tr.Start) || e.Unit != tr.Unit || e.Regime != tr.Regime {
 			t.Fatalf("window %d: assigned %+v, trained %+v", i, e, tr)
 		}
 	}
@@ -171,10 +171,10 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 		res  *kinmap.Result
 	}{{"train", first}, {"update", second}, {"assign", third}} {
 		var sum float64
-		for _, a := range r.res.Assignments {
-			sum += a.QE
+		for _, w := range r.res.Table.Windows {
+			sum += w.QE
 		}
-		if mean := sum / float64(len(r.res.Assignments)); math.Abs(r.res.Info.Quality.QE-mean) > 1e-12*mean {
+		if mean := sum / float64(len(r.res.Table.Windows)); math.Abs(r.res.Info.Quality.QE-mean) > 1e-12*mean {
 			t.Errorf("%s: run quality QE %g, mean QE of its windows %g", r.name, r.res.Info.Quality.QE, mean)
 		}
 	}
@@ -285,13 +285,13 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if n := len(first.Entries) + len(second.Entries); len(h.Windows) != n {
+			if n := len(first.Table.Windows) + len(second.Table.Windows); len(h.Windows) != n {
 				t.Errorf("history holds %d windows, want the %d of both dumps once", len(h.Windows), n)
 			}
 
 			// Windows as "time regime" and switches as "time from→to".
 			var want, got []string
-			for _, e := range joint.Entries {
+			for _, e := range joint.Table.Windows {
 				if e.Site == planted.Site {
 					want = append(want, fmt.Sprintf("%s %d", e.Start.UTC().Format(time.RFC3339), e.Regime))
 				}

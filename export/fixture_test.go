@@ -119,13 +119,9 @@ func fixtureRun() *Run {
 				info := reg.Sites[map[string]int{"PS-01": 0, "PS-02": 1}[s.id]]
 				w.Lon, w.Lat, w.Located = info.Lon, info.Lat, true
 			}
-			bmu := m.Regimes[g-1].Units[0]
-			col, row := m.Map.Lattice.Cell(bmu)
-			qe := 0.1 * float64(d+1)
-			unfamiliar := s.id == "X-9" && d == len(s.regimes)-1
+			w.Unit, w.Regime, w.QE = m.Regimes[g-1].Units[0], g, 0.1*float64(d+1)
+			w.Unfamiliar = s.id == "X-9" && d == len(s.regimes)-1
 			r.Table.Windows = append(r.Table.Windows, w)
-			r.Assignments = append(r.Assignments, mapper.Assignment{BMU: bmu, QE: qe})
-			r.Entries = append(r.Entries, timeline.Entry{Site: s.id, Start: w.Start, End: w.End, BMU: bmu, Col: col, Row: row, Regime: g, QE: qe, Unfamiliar: unfamiliar})
 		}
 	}
 	return r

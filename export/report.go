@@ -83,7 +83,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 	if err != nil {
 		return err
 	}
-	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Entries), SwitchesTotal: len(r.Switches)}
+	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Table.Windows), SwitchesTotal: len(r.Switches)}
 	d.Warnings = once(r.Warnings, r.Model.Quality.Warnings, warnings)
 	d.Files = append(slices.Clone(files), ReportFile)
 	for _, p := range pics {
@@ -97,7 +97,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 	perRegime := map[int]int{} // windows
 	sitesIn := map[int]int{}   // sites by last regime
 	var unfamiliar []siteCount
-	for _, e := range r.Entries {
+	for _, e := range r.Table.Windows {
 		perRegime[e.Regime]++
 		if e.Unfamiliar {
 			d.Unfamiliar++
@@ -118,7 +118,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 	for _, g := range r.Model.Regimes {
 		d.Regimes = append(d.Regimes, reportRegime{
 			ID: g.ID, Description: g.Description, Units: len(g.Units),
-			Sites: sitesIn[g.ID], Windows: perRegime[g.ID], Share: percent(perRegime[g.ID], len(r.Entries)),
+			Sites: sitesIn[g.ID], Windows: perRegime[g.ID], Share: percent(perRegime[g.ID], len(r.Table.Windows)),
 		})
 	}
 	for _, c := range r.Changes {
@@ -136,10 +136,10 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 
 	d.Run = []fact{
 		{"Sites", strconv.Itoa(len(ss))},
-		{"Windows", strconv.Itoa(len(r.Entries))},
+		{"Windows", strconv.Itoa(len(r.Table.Windows))},
 		{"Regimes", strconv.Itoa(len(r.Model.Regimes))},
 		{"Switches", strconv.Itoa(len(r.Switches))},
-		{"Unfamiliar windows", fmt.Sprintf("%d (%s)", d.Unfamiliar, percent(d.Unfamiliar, len(r.Entries)))},
+		{"Unfamiliar windows", fmt.Sprintf("%d (%s)", d.Unfamiliar, percent(d.Unfamiliar, len(r.Table.Windows)))},
 	}
 	if skipped := r.Table.SkippedWindows(); skipped > 0 {
 		d.Run = append(d.Run, fact{"Windows skipped", strconv.Itoa(skipped)})

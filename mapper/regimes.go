@@ -92,7 +92,7 @@ func FindRegimes(m *Map, k int, win *Windows) ([]int, *Choice, error) {
 		if err := win.check(m); err != nil {
 			return nil, nil, err
 		}
-		hits = m.Hits(win.Assignments)
+		hits = m.hits(win.Assignments)
 	}
 	w := unitWeights(u, hits)
 	s := &splitter{m: m, w: w, tree: wardTree(m, w), win: win}
@@ -327,7 +327,7 @@ func Describe(m *Map, groups []int, x *mat.Dense, asg []Assignment, names []stri
 		}
 		regs[g].Units = append(regs[g].Units, i)
 	}
-	cent, _ := groupMeans(m, groups, k, unitWeights(u, m.Hits(asg)))
+	cent, _ := groupMeans(m, groups, k, unitWeights(u, m.hits(asg)))
 	sums := make([][]float64, k)
 	wins := make([]int, k)
 	for i, a := range asg {

@@ -187,7 +187,7 @@ func TestSmallSigmaFragments(t *testing.T) {
 				t.Fatal(err)
 			}
 			won := make([]bool, m.Units())
-			for u, h := range m.Hits(m.Assign(x, 0)) {
+			for u, h := range m.hits(m.Assign(x, 0)) {
 				won[u] = h > 0
 			}
 			total += components(m.Lattice, won)

@@ -178,10 +178,14 @@ func (r *run) train(ctx context.Context) error {
 		r.logf("epoch %d: quantization error %.4f", e, qe/float64(res.X.RawMatrix().Rows))
 	}
 	r.lap("train")
-	if res.Assignments, err = r.assign(ctx, m, shard); err != nil {
+	asg, err := r.assign(ctx, m, shard)
+	if err != nil {
 		return err
 	}
-	if res.Model, err = mapper.NewModel(m, res.X, sc.Names, kinmap.RegimeTimelines(res.Table), cfg, res.Assignments); err != nil {
+	if err := mapper.Place(res.Table.Windows, asg); err != nil {
+		return err
+	}
+	if res.Model, err = mapper.NewModel(m, res.X, sc.Names, kinmap.RegimeTimelines(res.Table), cfg, asg); err != nil {
 		return err
 	}
 	res.Model.FeatureNames = res.Table.Names

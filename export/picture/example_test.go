@@ -5,6 +5,7 @@ import (
 	"log"
 
 	"github.com/kinmap/kinmap/export/picture"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
 )
 
@@ -40,9 +41,9 @@ func ExampleAll() {
 		m.UnitRegime[u] = 1 + col/3
 	}
 	in := picture.Input{
-		Model:       m,
-		Assignments: []mapper.Assignment{{BMU: 0}, {BMU: 0}, {BMU: 5}},
-		Sites:       []picture.SitePoint{{ID: "a", Lon: 9.1, Lat: 48.2, Located: true, Regime: 1}, {ID: "b", Lon: 9.4, Lat: 48.0, Located: true, Regime: 2}},
+		Model:   m,
+		Windows: []features.Window{{Site: "a", Unit: 0}, {Site: "a", Unit: 0}, {Site: "b", Unit: 5}},
+		Sites:   []picture.SitePoint{{ID: "a", Lon: 9.1, Lat: 48.2, Located: true, Regime: 1}, {ID: "b", Lon: 9.4, Lat: 48.0, Located: true, Regime: 2}},
 	}
 	ps, err := picture.All(in)
 	if err != nil {

@@ -21,7 +21,7 @@ var dotInk = color.RGBA{0x2F, 0x3B, 0x4A, 0xFF}
 func regimeMap(ft *fonts, in Input) (*canvas, Picture) {
 	m := in.Model
 	l := m.Map.Lattice
-	hits := m.Map.Hits(in.Assignments)
+	hits := m.Map.Hits(in.Windows)
 	units := make(map[int]int)
 	windows := make(map[int]int)
 	for u, id := range m.UnitRegime {
@@ -51,8 +51,8 @@ func regimeMap(ft *fonts, in Input) (*canvas, Picture) {
 			d = "no description"
 		}
 		e.lines = wrap(ft.body, d, legendW-64, 2)
-		if len(in.Assignments) > 0 {
-			e.count += fmt.Sprintf(", %.0f %% of windows", 100*float64(windows[id])/float64(len(in.Assignments)))
+		if len(in.Windows) > 0 {
+			e.count += fmt.Sprintf(", %.0f %% of windows", 100*float64(windows[id])/float64(len(in.Windows)))
 		}
 		legend = append(legend, e)
 		legendH += float64(len(e.lines)+1)*lineGap + entryGap
@@ -217,7 +217,7 @@ func unitInterval(v, lo, hi float64) float64 {
 func hitMap(ft *fonts, in Input) (*canvas, Picture) {
 	m := in.Model
 	l := m.Map.Lattice
-	hits := m.Map.Hits(in.Assignments)
+	hits := m.Map.Hits(in.Windows)
 	most := slices.Max(hits)
 	unused := 0
 	for _, h := range hits {
@@ -226,7 +226,7 @@ func hitMap(ft *fonts, in Input) (*canvas, Picture) {
 		}
 	}
 	c, sh, lp := latticePage(ft, l, "Hit counts",
-		fmt.Sprintf("%s, %s on %s", shapeName(l), plural(len(in.Assignments), "window"), plural(l.Units(), "unit")), 280, 420)
+		fmt.Sprintf("%s, %s on %s", shapeName(l), plural(len(in.Windows), "window"), plural(l.Units(), "unit")), 280, 420)
 	tiles := sh.tiles()
 	rMax := 0.44 * sh.s
 	for _, t := range tiles {

@@ -14,18 +14,19 @@ package picture
 import (
 	"errors"
 	"fmt"
+	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/timeline"
 )
 
 // Input bundles what the pictures show.
 type Input struct {
-	Model       *mapper.Model
-	Assignments []mapper.Assignment // one per window shown, for hit counts
-	Entries     []timeline.Entry
-	Switches    []timeline.Switch
-	Sites       []SitePoint
+	Model    *mapper.Model
+	Windows  []features.Window // decoded (see timeline.Build), for hit counts and strips
+	Switches []timeline.Switch
+	Sites    []SitePoint
 }
 
 // SitePoint is one site on the site map.
@@ -126,9 +127,9 @@ func check(in Input) error {
 	case len(m.UnitRegime) != n:
 		return fmt.Errorf("picture: %d unit regimes for %d units", len(m.UnitRegime), n)
 	}
-	for i, a := range in.Assignments {
-		if a.BMU < 0 || a.BMU >= n {
-			return fmt.Errorf("picture: assignment %d: unit %d outside the map of %d units", i, a.BMU, n)
+	for _, w := range in.Windows {
+		if w.Unit < 0 || w.Unit >= n {
+			return fmt.Errorf("picture: site %q, window %s: unit %d outside the map of %d units", w.Site, w.Start.Format(time.RFC3339), w.Unit, n)
 		}
 	}
 	return nil

@@ -14,6 +14,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/score"
 	"github.com/kinmap/kinmap/timeline"
@@ -105,7 +106,7 @@ func scoreTimelines(f *scenarios.Fleet, ws []features.Window, switches []timelin
 // that true regime (NaN components left out), numbered from 1 in the
 // fleet's order. The map, its quantization errors and hence the automatic
 // switch cost stay those of the default run.
-func trueRegimeModel(t *testing.T, r *familyRun) *mapper.Model {
+func trueRegimeModel(t *testing.T, r *familyRun) *model.Model {
 	t.Helper()
 	f, res := r.fleet, r.res
 	regimeOf := map[string][]int{}

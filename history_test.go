@@ -16,7 +16,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/history"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // Regime numbers of another map mean other regimes: a run continues only
@@ -112,7 +112,7 @@ func TestHistoryOfAnotherMap(t *testing.T) {
 	if bytes.Contains(buf.Bytes(), []byte("Lineage")) {
 		t.Error("a model without a lineage writes one")
 	}
-	read, err := mapper.ReadModel(&buf)
+	read, err := model.Read(&buf)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -23,6 +23,7 @@ import (
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -81,7 +82,7 @@ type Result struct {
 	Register *ingest.Register
 	Table    *features.Table // one record per window, filled by every stage
 	X        *mat.Dense      // scaled features, one row per window of Table (each window's Scaled is a view of its row)
-	Model    *mapper.Model
+	Model    *model.Model
 	Switches []timeline.Switch
 	Changes  []mapper.RegimeChange // regime renumbering by Update
 	Info     RunInfo

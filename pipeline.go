@@ -10,6 +10,7 @@ import (
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -38,15 +39,7 @@ func Train(o Options) (*Result, error) {
 	mc := o.Map
 	mc.Progress = progress(&o)
 	o.logf("training on %d windows × %d features", res.X.RawMatrix().Rows, len(sc.Names))
-	model, asg, err := mapper.Fit(res.X, sc.Names, RegimeTimelines(res.Table), mc)
-	if err != nil {
-		return nil, err
-	}
-	model.FeatureNames = res.Table.Names
-	model.FeatureConfig = res.Table.Config
-	model.Scaler = sc
-	res.Model = model
-	if err := mapper.Place(res.Table.Windows, asg); err != nil {
+	if res.Model, err = model.Train(res.Table, res.X, sc, mc); err != nil {
 		return nil, err
 	}
 	sw.lap("train")
@@ -59,7 +52,7 @@ func Train(o Options) (*Result, error) {
 // Assign maps the dumps of o onto an existing model without training: the
 // same windows and features, the same normalisation, the same lattice and
 // the same regime numbers.
-func Assign(o Options, m *mapper.Model) (*Result, error) {
+func Assign(o Options, m *model.Model) (*Result, error) {
 	if err := o.Validate(); err != nil {
 		return nil, err
 	}
@@ -88,7 +81,7 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 // regime, split and merge. The number of regimes stays that of the model
 // unless o.Map.Regimes sets another. The feature schema and the normalisation stay
 // those of the model.
-func Update(o Options, prev *mapper.Model) (*Result, error) {
+func Update(o Options, prev *model.Model) (*Result, error) {
 	if err := o.Validate(); err != nil {
 		return nil, err
 	}
@@ -104,14 +97,8 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 		mc.Regimes = len(prev.Regimes)
 	}
 	mc.Progress = progress(&o)
-	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, RegimeTimelines(res.Table), mc)
-	if err != nil {
-		return nil, err
-	}
-	// The update keeps the regime numbers, hence the lineage.
-	model.Lineage = lineageOf(prev)
-	res.Model, res.Changes = model, changes
-	if err := mapper.Place(res.Table.Windows, asg); err != nil {
+	var err error
+	if res.Model, res.Changes, err = model.Update(prev, res.Table, res.X, mc); err != nil {
 		return nil, err
 	}
 	sw.lap("train")
@@ -131,7 +118,7 @@ func progress(o *Options) func(int, float64) {
 
 // project reads the dumps and turns them into the model's scaled feature
 // space.
-func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
+func project(o *Options, res *Result, m *model.Model, sw *stopwatch) error {
 	// Only the model's channels are read unless the options choose: a
 	// model trained on some channels of a dump applies to the whole dump.
 	if len(o.Ingest.Channels) == 0 {
@@ -271,7 +258,7 @@ func decode(o *Options, res *Result) error {
 	if res.Model.Lineage == "" {
 		// A new map, or one that predates lineages, starts its own.
 		m := *res.Model
-		m.Lineage = lineageOf(&m)
+		m.Lineage = m.LineageOrDerived()
 		res.Model = &m
 	}
 	c := (&history.History{}).Continue(res.Model, res.Model.Lineage, res.Table.Windows)
@@ -368,10 +355,4 @@ func regimeChoice(c *mapper.Choice) *RegimeChoice {
 		note += fmt.Sprintf(": re-run with --regimes %d to see the other", c.RunnerUp)
 	}
 	return &RegimeChoice{Choice: *c, Note: note}
-}
-
-// RegimeTimelines returns the sites' windows of t in time order and the
-// windows of a week, with which mapper.FindRegimes chooses the regimes.
-func RegimeTimelines(t *features.Table) mapper.Timelines {
-	return mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun()}
 }

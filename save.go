@@ -109,7 +109,7 @@ func (r *Result) stageHistory(tx *atomicfile.Tx, dir string) error {
 		}
 		r.Info.Warnings = appendNew(r.Info.Warnings, h.Notes...)
 	}
-	return h.Stage(tx, lineageOf(r.Model), history.Windows(r.Table.Windows))
+	return h.Stage(tx, r.Model.LineageOrDerived(), history.Windows(r.Table.Windows))
 }
 
 // stageOutputs adds the output folder dir to tx.

@@ -15,6 +15,7 @@ import (
 	"github.com/kinmap/kinmap"
 	khistory "github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -94,7 +95,7 @@ func TestAssignTrainingDump(t *testing.T) {
 	if err := trained.Model.WriteFile(path); err != nil {
 		t.Fatal(err)
 	}
-	model, err := mapper.ReadModelFile(path)
+	model, err := model.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -130,7 +131,7 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	ids := func(m *mapper.Model) []int {
+	ids := func(m *model.Model) []int {
 		var out []int
 		for _, r := range m.Regimes {
 			out = append(out, r.ID)

@@ -11,11 +11,12 @@ import (
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 func ExampleWrite() {
 	// A map of two units, one regime each, and one site seen for three days.
-	m := &mapper.Model{
+	m := &model.Model{
 		FeatureNames: []string{"flow.mean"},
 		Map:          mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
 		Regimes: []mapper.Regime{

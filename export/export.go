@@ -22,6 +22,7 @@ import (
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -44,7 +45,7 @@ const (
 
 // Run is everything the outputs of one run are made from.
 type Run struct {
-	Model    *mapper.Model
+	Model    *model.Model
 	Table    *features.Table // the windows, placed and decoded (timeline.Build), and mobile sites' paths
 	Switches []timeline.Switch
 	Register *ingest.Register      // nil when there is none

@@ -7,6 +7,7 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -38,9 +39,9 @@ var fixtureSwitches = []timeline.Switch{
 	{Site: "T-7", Time: day0.AddDate(0, 0, 2), From: 1, To: 3, Before: 2, After: 3, Confidence: 0.75},
 }
 
-func fixtureModel() *mapper.Model {
+func fixtureModel() *model.Model {
 	const cols, rows = 4, 4
-	m := &mapper.Model{
+	m := &model.Model{
 		Version:      1,
 		FeatureNames: []string{"flow.mean", "vibration.p95"},
 		Scaler: &features.Scaler{Method: "zscore", Names: []string{"flow.mean", "vibration.p95"},

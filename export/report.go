@@ -16,6 +16,7 @@ import (
 
 	"github.com/kinmap/kinmap/export/picture"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 //go:embed report.html
@@ -210,7 +211,7 @@ func dataFacts(r *Run) []fact {
 	return out
 }
 
-func mapFacts(m *mapper.Model) []fact {
+func mapFacts(m *model.Model) []fact {
 	l := m.Map.Lattice
 	cells, surface := l.Cells()+", 4 neighbours", l.Surface()+", wraps both ways"
 	if l.Hex {

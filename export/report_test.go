@@ -20,6 +20,7 @@ import (
 	"github.com/chromedp/chromedp"
 
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // The report loads nothing: no scripts, style sheets or fonts from
@@ -294,7 +295,7 @@ func TestReportListsRegimeChanges(t *testing.T) {
 // every number tried, so that a user can see how close the others came.
 func TestReportShowsRegimeScores(t *testing.T) {
 	r := fixtureRun()
-	r.Model.Scores = []mapper.Score{{K: 2, DaviesBouldin: 1.154}, {K: 3, DaviesBouldin: 0.7203}}
+	r.Model.Scores = []model.Score{{K: 2, DaviesBouldin: 1.154}, {K: 3, DaviesBouldin: 0.7203}}
 	dir := t.TempDir()
 	if err := Write(dir, r); err != nil {
 		t.Fatal(err)

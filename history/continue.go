@@ -9,7 +9,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -35,7 +35,7 @@ type Continuation struct {
 // again does not feed on its own earlier result, and only windows of
 // lineage: the regime numbers of another map mean other regimes, and the
 // sites last seen under one are warned about.
-func (h *History) Continue(m *mapper.Model, lineage string, ws []features.Window) *Continuation {
+func (h *History) Continue(m *model.Model, lineage string, ws []features.Window) *Continuation {
 	c := &Continuation{h: h, Priors: map[string]timeline.Prior{}, before: map[string]int{}}
 	first := map[string]time.Time{}
 	for _, w := range ws {
@@ -95,7 +95,7 @@ func (h *History) Continue(m *mapper.Model, lineage string, ws []features.Window
 
 // unitOf returns the unit of w on m's lattice, from its cell for a window
 // written before units were recorded; -1 when unknown.
-func unitOf(m *mapper.Model, w *Window) int {
+func unitOf(m *model.Model, w *Window) int {
 	if w.Unit >= 0 {
 		return w.Unit
 	}
@@ -111,7 +111,7 @@ func (c *Continuation) Tail() int { return len(c.tail) }
 // Prepend returns the windows to decode: the tail windows, with their
 // units, quantization errors and scaled vectors as the history recorded
 // them, then copies of the run's windows ws.
-func (c *Continuation) Prepend(m *mapper.Model, ws []features.Window) []features.Window {
+func (c *Continuation) Prepend(m *model.Model, ws []features.Window) []features.Window {
 	out := make([]features.Window, 0, len(c.tail)+len(ws))
 	for _, r := range c.tail {
 		w := &c.h.Windows[r]

@@ -11,6 +11,8 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
+
+	"github.com/kinmap/kinmap/internal/quantile"
 )
 
 // maxAutoRegimes is the most regimes FindRegimes chooses by itself.
@@ -128,8 +130,12 @@ func (win *Windows) check(m *Map) error {
 
 // medianQE is the median quantization error of asg.
 func medianQE(asg []Assignment) float64 {
-	q := qeQuantiles(asg)
-	return q[len(q)/2]
+	qe := make([]float64, len(asg))
+	for i, a := range asg {
+		qe[i] = a.QE
+	}
+	slices.Sort(qe)
+	return quantile.Sorted(qe, 0.5)
 }
 
 // merge is one step of the agglomeration: clusters a and b, numbered as

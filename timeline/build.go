@@ -10,6 +10,7 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/internal/viterbi"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // Build decodes each site's windows of ws, in time order, into regime
@@ -33,7 +34,7 @@ import (
 // regime back over the old one. It is 0 when removing the switch costs
 // nothing, ½ when it costs one more switch penalty, and tends to 1 as the
 // evidence grows.
-func Build(m *mapper.Model, ws []features.Window, cfg Config) ([]Switch, error) {
+func Build(m *model.Model, ws []features.Window, cfg Config) ([]Switch, error) {
 	return BuildFrom(m, ws, cfg, nil)
 }
 
@@ -44,7 +45,7 @@ func Build(m *mapper.Model, ws []features.Window, cfg Config) ([]Switch, error) 
 // window is a switch at that window, with Before the prior's windows; its
 // confidence compares with keeping the prior regime over the new segment.
 // A prior whose regime the model does not have is ignored.
-func BuildFrom(m *mapper.Model, ws []features.Window, cfg Config, priors map[string]Prior) ([]Switch, error) {
+func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[string]Prior) ([]Switch, error) {
 	if m == nil {
 		return nil, fmt.Errorf("timeline: Build needs a model")
 	}
@@ -125,7 +126,7 @@ func BuildFrom(m *mapper.Model, ws []features.Window, cfg Config, priors map[str
 
 // startOf returns the decoding start of a site from its prior, and the
 // initial costs that go with it; none when it has no usable prior.
-func startOf(m *mapper.Model, priors map[string]Prior, site string, switchCost float64) (viterbi.Start, []float64) {
+func startOf(m *model.Model, priors map[string]Prior, site string, switchCost float64) (viterbi.Start, []float64) {
 	p, ok := priors[site]
 	if !ok || p.Windows < 1 {
 		return viterbi.NoStart, nil
@@ -158,7 +159,7 @@ func (cfg Config) Validate() error {
 }
 
 // resolve fills the defaults of cfg and checks it.
-func resolve(cfg Config, m *mapper.Model) (Config, error) {
+func resolve(cfg Config, m *model.Model) (Config, error) {
 	def := DefaultConfig()
 	if cfg.MinDwell == 0 {
 		cfg.MinDwell = def.MinDwell

@@ -9,6 +9,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 var day0 = time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
@@ -17,12 +18,12 @@ var day0 = time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
 // 3 × 1 map, and training quantization errors spread evenly over [0, 1]:
 // the median is 0.5, so the automatic switch cost is 1, and the 99th
 // percentile is 0.99.
-func testModel() *mapper.Model {
+func testModel() *model.Model {
 	q := make([]float64, 1001)
 	for i := range q {
 		q[i] = float64(i) / 1000
 	}
-	return &mapper.Model{
+	return &model.Model{
 		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 3, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0, 0, 10, 0, 0, 10}},
 		Regimes: []mapper.Regime{
 			{ID: 1, Units: []int{0}, Centroid: []float64{0, 0}},
@@ -279,7 +280,7 @@ func TestBuildErrors(t *testing.T) {
 	infinite[1].Scaled = []float64{math.Inf(1), 0}
 	tests := []struct {
 		name string
-		m    *mapper.Model
+		m    *model.Model
 		ws   []features.Window
 		cfg  Config
 		want string

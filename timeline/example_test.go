@@ -8,6 +8,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -15,7 +16,7 @@ func ExampleBuild() {
 	// Two regimes on a map of two units, one scaled feature. The training
 	// windows' quantization errors run from 0 to 0.5 (median 0.25), so the
 	// automatic switch cost is 0.5.
-	m := &mapper.Model{
+	m := &model.Model{
 		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
 		Regimes: []mapper.Regime{
 			{ID: 1, Units: []int{0}, Centroid: []float64{-1}},

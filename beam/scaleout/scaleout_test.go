@@ -10,6 +10,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -119,7 +120,7 @@ func compareTables(t *testing.T, beam, local *kinmap.Result) {
 	}
 }
 
-func compareModels(t *testing.T, bm, lm *mapper.Model) {
+func compareModels(t *testing.T, bm, lm *model.Model) {
 	t.Helper()
 	if !reflect.DeepEqual(bm.UnitRegime, lm.UnitRegime) {
 		t.Errorf("unit regimes:\n got %v\nwant %v", bm.UnitRegime, lm.UnitRegime)

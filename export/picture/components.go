@@ -6,7 +6,7 @@ import (
 	"math"
 	"slices"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // Layout of the component planes, in pixels.
@@ -73,7 +73,7 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 // informativeDims returns the codebook dimensions to draw, in order: all of
 // them up to limit, else the limit of them whose values have the largest
 // variance across the units.
-func informativeDims(m *mapper.Model, limit int) []int {
+func informativeDims(m *model.Model, limit int) []int {
 	dims := make([]int, m.Map.Dim)
 	for k := range dims {
 		dims[k] = k
@@ -118,7 +118,7 @@ func rampStrip(c *canvas, x, y, w, h, lo, hi float64) {
 
 // dimNames returns the name of each codebook dimension: the scaler's kept
 // features, or the model's feature names when they match the dimension.
-func dimNames(m *mapper.Model) []string {
+func dimNames(m *model.Model) []string {
 	if m.Scaler != nil && len(m.Scaler.Names) == m.Map.Dim {
 		return m.Scaler.Names
 	}
@@ -133,7 +133,7 @@ func dimNames(m *mapper.Model) []string {
 }
 
 // scaleNote says in which units the codebook values are.
-func scaleNote(m *mapper.Model) string {
+func scaleNote(m *model.Model) string {
 	s := "Values in standardised units"
 	if m.Scaler == nil {
 		return s + "."

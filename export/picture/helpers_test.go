@@ -8,6 +8,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -31,7 +32,7 @@ func demoInput(l mapper.Lattice, k, sites int) Input {
 			centre[i][j] = 2.5 * rng.NormFloat64()
 		}
 	}
-	m := &mapper.Model{
+	m := &model.Model{
 		FeatureNames: demoFeatures,
 		Scaler:       &features.Scaler{Method: "zscore", Names: demoFeatures},
 		Map:          mapper.Map{Lattice: l, Dim: dim, Codebook: make([]float64, n*dim)},

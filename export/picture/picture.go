@@ -18,12 +18,13 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
 // Input bundles what the pictures show.
 type Input struct {
-	Model    *mapper.Model
+	Model    *model.Model
 	Windows  []features.Window // decoded (see timeline.Build), for hit counts and strips
 	Switches []timeline.Switch
 	Sites    []SitePoint
@@ -189,7 +190,7 @@ func wrapNote(l mapper.Lattice) string {
 
 // regimeIDs returns the regime IDs to show, those of the model in order, and
 // 0 in front when a unit has no regime.
-func regimeIDs(m *mapper.Model) []int {
+func regimeIDs(m *model.Model) []int {
 	var ids []int
 	known := make(map[int]bool)
 	for _, r := range m.Regimes {

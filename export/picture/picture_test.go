@@ -17,6 +17,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -231,7 +232,7 @@ func TestComponentPlanesLimit(t *testing.T) {
 	const dim = 5000
 	rng := rand.New(rand.NewPCG(3, 5))
 	names := make([]string, dim)
-	m := &mapper.Model{Map: mapper.Map{Lattice: l, Dim: dim, Codebook: make([]float64, l.Units()*dim)}}
+	m := &model.Model{Map: mapper.Map{Lattice: l, Dim: dim, Codebook: make([]float64, l.Units()*dim)}}
 	for k := range names {
 		names[k] = fmt.Sprintf("c%04d.mean", k)
 	}

@@ -13,6 +13,7 @@ import (
 	"github.com/kinmap/kinmap/beam/internal/beamtest"
 	"github.com/kinmap/kinmap/internal/cli"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 func TestMain(m *testing.M) { os.Exit(beamtest.Main(m)) }
@@ -89,7 +90,7 @@ func TestRun(t *testing.T) {
 			t.Error(err)
 		}
 	}
-	m, err := mapper.ReadModelFile(model)
+	m, err := model.ReadFile(model)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -95,11 +95,11 @@ func TestAssignTrainingDump(t *testing.T) {
 	if err := trained.Model.WriteFile(path); err != nil {
 		t.Fatal(err)
 	}
-	model, err := model.ReadFile(path)
+	back, err := model.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	assigned, err := kinmap.Assign(options(dump), model)
+	assigned, err := kinmap.Assign(options(dump), back)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -217,7 +217,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	model := trained.Model
+	mdl := trained.Model
 	// The dumps hold the planted site and a few others: the checks look
 	// at the planted site, and decoding is per site.
 	few := *fleet
@@ -230,7 +230,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 	whole := filepath.Join(dir, "whole.csv")
 	writeDump(t, whole, &few, fleet.WindowStart(0), fleet.WindowStart(fleet.Windows()), 0, 0, 1)
 	// One decoding of the whole record, without history.
-	joint, err := kinmap.Assign(options(whole), model)
+	joint, err := kinmap.Assign(options(whole), mdl)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -251,7 +251,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 
 			o := options(before)
 			o.History = history
-			first, err := kinmap.Assign(o, model)
+			first, err := kinmap.Assign(o, mdl)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -271,7 +271,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			o.History = history
 			var second *kinmap.Result
 			for run := range 2 { // the same dump twice: its period is replaced, not doubled
-				if second, err = kinmap.Assign(o, model); err != nil {
+				if second, err = kinmap.Assign(o, mdl); err != nil {
 					t.Fatal(err)
 				}
 				if err := second.AppendHistory(history); err != nil {

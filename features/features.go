@@ -161,23 +161,27 @@ type Table struct {
 // reasons.
 func (t *Table) SkippedWindows() int {
 	n := 0
-	for _, s := range t.Skipped {
-		for _, c := range s {
-			n += c
-		}
+	for _, c := range t.skipsByReason() {
+		n += c
 	}
 	return n
 }
 
-// SkipReasons words the windows skipped by reason, such as "3 for
-// coverage, 1 for empty", or "no windows at all" when none were skipped.
-func (t *Table) SkipReasons() string {
+// skipsByReason totals the windows skipped over all sites, by reason.
+func (t *Table) skipsByReason() map[string]int {
 	by := map[string]int{}
 	for _, s := range t.Skipped {
 		for r, c := range s {
 			by[r] += c
 		}
 	}
+	return by
+}
+
+// SkipReasons words the windows skipped by reason, such as "3 for
+// coverage, 1 for empty", or "no windows at all" when none were skipped.
+func (t *Table) SkipReasons() string {
+	by := t.skipsByReason()
 	if len(by) == 0 {
 		return "no windows at all"
 	}

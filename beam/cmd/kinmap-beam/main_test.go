@@ -72,9 +72,9 @@ func TestFlags(t *testing.T) {
 func TestRun(t *testing.T) {
 	dump, register := beamtest.Fleet(t, "pumping", 8, 1)
 	out := filepath.Join(t.TempDir(), "map")
-	model := filepath.Join(t.TempDir(), "copy.model")
+	modelPath := filepath.Join(t.TempDir(), "copy.model")
 	c, err := parse(t, "--data", dump, "--sites", register,
-		"--epochs", "4", "--out", out, "--model", model, "--quiet")
+		"--epochs", "4", "--out", out, "--model", modelPath, "--quiet")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -90,7 +90,7 @@ func TestRun(t *testing.T) {
 			t.Error(err)
 		}
 	}
-	m, err := model.ReadFile(model)
+	m, err := model.ReadFile(modelPath)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -12,7 +12,6 @@ import (
 
 	"github.com/kinmap/kinmap/beam/internal/beamtest"
 	"github.com/kinmap/kinmap/internal/cli"
-	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
 

@@ -2,7 +2,7 @@ package export
 
 import (
 	"cmp"
-	_ "embed"
+	"embed"
 	"encoding/base64"
 	"encoding/json"
 	"fmt"
@@ -18,13 +18,17 @@ import (
 	"github.com/kinmap/kinmap/mapper"
 )
 
-//go:embed report.html
-var reportHTML string
+// reportFiles holds the page, the templates of its sections (one
+// report_NAME.html file each, defining NAME) and the explorer's script.
+//
+//go:embed report*.html explorer.js
+var reportFiles embed.FS
 
 // reportTemplate is parsed for each report; it is cheap and keeps the
-// package free of init-time work.
+// package free of init-time work. Every report*.html file joins it, so that
+// a section's file only has to be added.
 func reportTemplate() (*template.Template, error) {
-	return template.New("report").Funcs(template.FuncMap{"swatch": swatch}).Parse(reportHTML)
+	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch}).ParseFS(reportFiles, "report*.html")
 }
 
 // maxSwitchRows caps the switch table; switches.csv has them all.
@@ -76,14 +80,27 @@ type reportData struct {
 	MoreUnfamiliar  int
 	Files           []string
 	Details         string
+	Explorer        template.JS // the explorer's data, a JSON object
+	Script          template.JS // the explorer's script
 }
 
-func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []picture.Picture, files []string) error {
+func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []string, pics []picture.Picture, files []string) error {
 	t, err := reportTemplate()
 	if err != nil {
 		return err
 	}
-	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Entries), SwitchesTotal: len(r.Switches)}
+	script, err := reportFiles.ReadFile("explorer.js")
+	if err != nil {
+		return err
+	}
+	data, err := explorerJSON(r, ss, tracks)
+	if err != nil {
+		return err
+	}
+	// Both are built here: the JSON escapes <, > and & (encoding/json), so
+	// neither can close its script element.
+	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Entries), SwitchesTotal: len(r.Switches),
+		Explorer: template.JS(data), Script: template.JS(script)}
 	d.Warnings = once(r.Warnings, r.Model.Quality.Warnings, warnings)
 	d.Files = append(slices.Clone(files), ReportFile)
 	for _, p := range pics {
@@ -153,7 +170,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 		}
 		d.Details = string(b)
 	}
-	return t.Execute(w, d)
+	return t.ExecuteTemplate(w, ReportFile, d)
 }
 
 // once returns the strings of the lists in order, each once: the

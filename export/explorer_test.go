@@ -111,6 +111,13 @@ func TestExplorerInChromium(t *testing.T) {
 	if _, err := openExplorer(ctx, filepath.Join(dir, ReportFile)); err != nil {
 		t.Fatalf("chromium: %v", err)
 	}
+	// The explorer shows after the sections for reading, though its
+	// script comes first in the page's source.
+	order, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](`["summary", "regimes", "pictures", "switches", "unfamiliar", "explorer", "cautions", "files"]
+		.map(id => [id, document.getElementById(id).getBoundingClientRect().top]).sort((a, b) => a[1] - b[1]).map(p => p[0])`))
+	if want := []string{"summary", "regimes", "pictures", "switches", "unfamiliar", "explorer", "cautions", "files"}; err != nil || !slices.Equal(order, want) {
+		t.Errorf("sections from the top: %v (%v), want %v", order, err, want)
+	}
 	if got, err := listedSites(ctx); err != nil || !slices.Equal(sorted(got), sorted(all)) {
 		t.Errorf("before any choice the table lists %v (%v), want every site %v", got, err, all)
 	}

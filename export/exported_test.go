@@ -1,0 +1,12 @@
+package export
+
+// Helpers of the browser tests, for the external test package, whose
+// end-to-end run imports the root package (which imports export).
+var (
+	ChromiumContext = chromiumContext
+	OpenExplorer    = openExplorer
+	ShowReport      = showReport
+	PictureProblems = pictureProblems
+	ListedSites     = listedSites
+	GeojsonSites    = geojsonSites
+)

@@ -24,7 +24,7 @@ func TestExplorerLargeFleet(t *testing.T) {
 	if testing.Short() {
 		t.Skip("end-to-end run of 1,000 sites")
 	}
-	ctx := export.ChromiumContext(t)
+	export.Tool(t, "chromium") // before the long run
 	start := time.Now()
 	spec, err := scenarios.DefaultSpec("pumping")
 	if err != nil {
@@ -52,6 +52,7 @@ func TestExplorerLargeFleet(t *testing.T) {
 	}
 	t.Logf("fleet generated, trained and written in %v", time.Since(start).Round(time.Second))
 
+	ctx := export.ChromiumContext(t)
 	info, err := os.Stat(filepath.Join(dir, export.ReportFile))
 	if err != nil {
 		t.Fatal(err)

@@ -55,6 +55,6 @@ func ExampleAll() {
 	// regimes.png     Regime map
 	// sites.png       Site map
 	// umatrix.png     U-matrix
-	// hits.png        Hit counts
+	// hits.png        Windows per unit
 	// components.png  Component planes
 }

@@ -56,5 +56,5 @@ func ExampleAll() {
 	// sites.png       Site map
 	// umatrix.png     U-matrix
 	// hits.png        Windows per unit
-	// components.png  Component planes
+	// components.png  Feature planes
 }

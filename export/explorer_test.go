@@ -118,6 +118,25 @@ func TestExplorerInChromium(t *testing.T) {
 	if want := []string{"summary", "regimes", "pictures", "switches", "unfamiliar", "explorer", "cautions", "files"}; err != nil || !slices.Equal(order, want) {
 		t.Errorf("sections from the top: %v (%v), want %v", order, err, want)
 	}
+	// Every track of tracks.geojson is drawn on the site map, by site.
+	var tracks struct {
+		Features []struct {
+			Properties struct {
+				Site string `json:"site"`
+			} `json:"properties"`
+		} `json:"features"`
+	}
+	if err := json.Unmarshal(read(t, dir, TracksFile), &tracks); err != nil {
+		t.Fatal(err)
+	}
+	var wantTracks []string
+	for _, f := range tracks.Features {
+		wantTracks = append(wantTracks, f.Properties.Site)
+	}
+	drawn, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](`Array.from(document.querySelectorAll("#ex-sitemap polyline.track")).map(p => p.dataset.site)`))
+	if err != nil || len(wantTracks) == 0 || !slices.Equal(sorted(drawn), sorted(wantTracks)) {
+		t.Errorf("the site map draws tracks of %v (%v); tracks.geojson holds %v", drawn, err, wantTracks)
+	}
 	if got, err := listedSites(ctx); err != nil || !slices.Equal(sorted(got), sorted(all)) {
 		t.Errorf("before any choice the table lists %v (%v), want every site %v", got, err, all)
 	}

@@ -77,7 +77,6 @@ type exSite struct {
 	Odd        []int64   `json:"odd"` // starts of unfamiliar windows
 	Changes    []int64   `json:"ch"`  // time, from, to, confidence in % of each switch
 	Track      [][]any   `json:"tr"`  // per track segment: regime, then lon, lat pairs
-	Daily      string    `json:"d"`   // base64 of the quantised summaries (exDaily), "" when left out
 }
 
 // exDaily describes the quantised daily summaries: for each site, channel
@@ -93,8 +92,11 @@ type exDaily struct {
 	Sites    int       `json:"sites"` // sites whose summaries the page carries
 }
 
-// explorerJSON builds the explorer's data of a run and encodes it.
-func explorerJSON(r *Run, ss []*site, tracks []*feature) ([]byte, error) {
+// explorerJSON builds the explorer's data of a run and encodes it, and
+// the sites' daily summaries apart, a JSON object of base64 strings by
+// site ID (see exDaily), which the page places after everything else so
+// that the explorer need not wait for the browser to read it.
+func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, err error) {
 	m := r.Model
 	l := m.Map.Lattice
 	d := explorerData{Cells: l.Cells(), Torus: !l.Flat, Cols: l.Cols, Rows: l.Rows, Features: featureNames(m)}
@@ -134,14 +136,8 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) ([]byte, error) {
 			x.At = p[:]
 		}
 		if r.Register != nil {
-			values := map[string]any{}
-			if s.info != nil {
-				for _, a := range s.info.Attrs {
-					values[a.Name] = a.Value
-				}
-			}
-			for _, name := range r.Register.AttrNames {
-				x.Attrs = append(x.Attrs, jsonValue(values[name]))
+			for _, v := range s.attrValues(r.Register.AttrNames) {
+				x.Attrs = append(x.Attrs, jsonValue(v))
 			}
 		}
 		for k, i := range s.entries {
@@ -177,8 +173,16 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) ([]byte, error) {
 			x.Track = append(x.Track, seg)
 		}
 	}
-	d.Daily, d.Omitted = dailyData(r, d.Sites, maxDailyValues)
-	return json.Marshal(d)
+	var days map[string]string
+	d.Daily, days, d.Omitted = dailyData(r, d.Sites, maxDailyValues)
+	if data, err = json.Marshal(d); err != nil {
+		return nil, nil, err
+	}
+	if days == nil {
+		days = map[string]string{}
+	}
+	daily, err = json.Marshal(days)
+	return data, daily, err
 }
 
 // get returns the value of a property, nil when absent.
@@ -243,11 +247,11 @@ func jsonValue(v any) any {
 	return v
 }
 
-// dailyData quantises the daily summaries of r into the sites' Daily
-// fields, at most limit values, and says what it left out.
-func dailyData(r *Run, sites []exSite, limit int) (*exDaily, []string) {
+// dailyData quantises the daily summaries of r, at most limit values,
+// into base64 strings by site ID, and says what it left out.
+func dailyData(r *Run, sites []exSite, limit int) (*exDaily, map[string]string, []string) {
 	if len(r.Daily) == 0 {
-		return nil, []string{"Daily summaries of the readings are not part of this run, so site pages show no readings."}
+		return nil, nil, []string{"Daily summaries of the readings are not part of this run, so site pages show no readings."}
 	}
 	chIndex := map[string]int{}
 	var d exDaily
@@ -308,10 +312,9 @@ func dailyData(r *Run, sites []exSite, limit int) (*exDaily, []string) {
 			binary.LittleEndian.PutUint16(b[2*((c*d.Days+day)*3+k):], uint16(q))
 		}
 	}
-	for i := range sites {
-		if b, ok := kept[sites[i].ID]; ok {
-			sites[i].Daily = base64.StdEncoding.EncodeToString(b)
-		}
+	days := make(map[string]string, len(kept))
+	for id, b := range kept {
+		days[id] = base64.StdEncoding.EncodeToString(b)
 	}
 	d.Sites = keep
 	var omitted []string
@@ -319,7 +322,7 @@ func dailyData(r *Run, sites []exSite, limit int) (*exDaily, []string) {
 		omitted = append(omitted, fmt.Sprintf("Daily readings are shown for %d of %d sites (sites with switches first, then those with unfamiliar windows): the page keeps at most %d daily values.",
 			keep, len(sites), limit))
 	}
-	return &d, omitted
+	return &d, days, omitted
 }
 
 func minTime(a, b time.Time) time.Time {

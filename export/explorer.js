@@ -262,8 +262,15 @@
   function dailyPanels(s, changes) {
     var d = D.daily;
     if (!d) return "";
-    if (!s.d) return '<p class="muted">The daily readings of this site were left out to keep the page small (see the note above).</p>';
-    var bin = atob(s.d), view = new DataView(new ArrayBuffer(bin.length));
+    var el = $("kinmap-daily");
+    if (!el) { // the browser has not read that far yet
+      document.addEventListener("DOMContentLoaded", function () { drawSitePage(byID[state.site]); });
+      return '<p class="muted">Reading the daily readings…</p>';
+    }
+    if (!dailyPanels.sites) dailyPanels.sites = JSON.parse(el.textContent);
+    var b64 = dailyPanels.sites[s.id];
+    if (!b64) return '<p class="muted">The daily readings of this site were left out to keep the page small (see the note above).</p>';
+    var bin = atob(b64), view = new DataView(new ArrayBuffer(bin.length));
     for (var i = 0; i < bin.length; i++) view.setUint8(i, bin.charCodeAt(i));
     var W = 300, H = 110, top = 8, bottom = 20, dayX = function (k) { return (k + 0.5) / d.days * W; };
     var offset = (d.day0 - D.start) / 60; // minutes of the first day after the strip's start

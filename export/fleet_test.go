@@ -52,7 +52,7 @@ func TestExplorerLargeFleet(t *testing.T) {
 	}
 	t.Logf("fleet generated, trained and written in %v", time.Since(start).Round(time.Second))
 
-	ctx := export.ChromiumContext(t)
+	ctx := export.ChromiumContext(t, 5*time.Minute)
 	info, err := os.Stat(filepath.Join(dir, export.ReportFile))
 	if err != nil {
 		t.Fatal(err)
@@ -80,6 +80,20 @@ func TestExplorerLargeFleet(t *testing.T) {
 	t.Logf("ready after %.0f ms (loads: %.0f)", median(loads), loads)
 	if median(loads) >= 2000 {
 		t.Errorf("the explorer is ready after %.0f ms, want under 2,000", median(loads))
+	}
+
+	if shots := os.Getenv("KINMAP_SCREENSHOT_DIR"); shots != "" && len(res.Switches) > 0 {
+		// The explorer with the page of the first site that switched.
+		if _, err := export.OpenExplorer(ctx, filepath.Join(dir, export.ReportFile)+"#site="+res.Switches[0].Site); err != nil {
+			t.Fatal(err)
+		}
+		shot, err := chromedp.Run(ctx, chromedp.Screenshot(chromedp.CSS("#explorer")))
+		if err == nil {
+			err = os.WriteFile(filepath.Join(shots, "explorer-fleet.png"), shot, 0o644)
+		}
+		if err != nil {
+			t.Error(err)
+		}
 	}
 
 	byRegime, _, all := export.GeojsonSites(t, dir)

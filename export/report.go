@@ -81,6 +81,7 @@ type reportData struct {
 	Files           []string
 	Details         string
 	Explorer        template.JS // the explorer's data, a JSON object
+	Daily           template.JS // the sites' daily summaries, a JSON object
 	Script          template.JS // the explorer's script
 }
 
@@ -93,14 +94,14 @@ func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []
 	if err != nil {
 		return err
 	}
-	data, err := explorerJSON(r, ss, tracks)
+	data, daily, err := explorerJSON(r, ss, tracks)
 	if err != nil {
 		return err
 	}
 	// Both are built here: the JSON escapes <, > and & (encoding/json), so
 	// neither can close its script element.
 	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Entries), SwitchesTotal: len(r.Switches),
-		Explorer: template.JS(data), Script: template.JS(script)}
+		Explorer: template.JS(data), Daily: template.JS(daily), Script: template.JS(script)}
 	d.Warnings = once(r.Warnings, r.Model.Quality.Warnings, warnings)
 	d.Files = append(slices.Clone(files), ReportFile)
 	for _, p := range pics {

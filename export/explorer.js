@@ -346,6 +346,13 @@
       if (tr) selectSite(tr.getAttribute("data-site"));
     });
     $("ex-search").addEventListener("input", function (e) { state.query = e.target.value.trim(); drawTable(); });
+    window.addEventListener("hashchange", openFromHash);
+  }
+  // openFromHash opens the site that the address names (#site=ID).
+  function openFromHash() {
+    var m = /^#site=(.*)$/.exec(location.hash), id = m && decodeURIComponent(m[1]);
+    if (id && byID[id] && id !== state.site) selectSite(id);
+    return !!(id && byID[id]);
   }
 
   drawRegimeChips();
@@ -355,8 +362,7 @@
   wire();
   var omitted = D.omitted || [];
   $("ex-omitted").innerHTML = omitted.map(esc).join(" ");
-  var m = /^#site=(.*)$/.exec(location.hash);
-  if (m && byID[decodeURIComponent(m[1])]) selectSite(decodeURIComponent(m[1])); else update();
+  if (!openFromHash()) update();
   window.kinmapReadyAt = performance.now();
   document.body.setAttribute("data-ready", "1");
 })();

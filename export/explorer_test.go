@@ -218,6 +218,13 @@ func TestExplorerInChromium(t *testing.T) {
 	if want := (page{Heading: "Site PS-01", Segments: 2, Switches: 1, Panels: 1, Hash: "#site=PS-01"}); p != want {
 		t.Errorf("the page of PS-01 is %+v, want %+v", p, want)
 	}
+	// An address naming a site opens its page.
+	heading, err := chromedp.Run(ctx, chromedp.Evaluate[string](`new Promise(done => {
+		addEventListener("hashchange", () => done(document.querySelector("#ex-site h3").textContent), {once: true});
+		location.hash = "#site=T-7"; })`, chromedp.EvalAwaitPromise))
+	if err != nil || heading != "Site T-7" {
+		t.Errorf("after #site=T-7 the site page is %q (%v)", heading, err)
+	}
 	if dir := os.Getenv("KINMAP_SCREENSHOT_DIR"); dir != "" {
 		shot, err := chromedp.Run(ctx, chromedp.Screenshot(chromedp.CSS("#explorer")))
 		if err == nil {

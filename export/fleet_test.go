@@ -87,6 +87,10 @@ func TestExplorerLargeFleet(t *testing.T) {
 		if _, err := export.OpenExplorer(ctx, filepath.Join(dir, export.ReportFile)+"#site="+res.Switches[0].Site); err != nil {
 			t.Fatal(err)
 		}
+		// The same document with another fragment does not load again.
+		if err := chromedp.Do(ctx, chromedp.WaitReady(chromedp.CSS("#ex-site h3"))); err != nil {
+			t.Fatal(err)
+		}
 		shot, err := chromedp.Run(ctx, chromedp.Screenshot(chromedp.CSS("#explorer")))
 		if err == nil {
 			err = os.WriteFile(filepath.Join(shots, "explorer-fleet.png"), shot, 0o644)

@@ -275,10 +275,17 @@
     var W = 300, H = 110, top = 8, bottom = 20, dayX = function (k) { return (k + 0.5) / d.days * W; };
     var offset = (d.day0 - D.start) / 60; // minutes of the first day after the strip's start
     return '<div class="multiples">' + d.channels.map(function (name, c) {
-      var lo = d.lo[c], hi = d.hi[c], val = function (k, q) {
+      var val = function (k, q) {
         var v = view.getUint16(2 * ((c * d.days + k) * 3 + q), true);
-        return v === 65535 ? null : lo + v / 65534 * (hi - lo);
+        return v === 65535 ? null : d.lo[c] + v / 65534 * (d.hi[c] - d.lo[c]);
       };
+      // Each panel spans the site's own range, so that a change shows
+      // however small beside the fleet's spread.
+      var lo = Infinity, hi = -Infinity;
+      for (var j = 0; j < d.days; j++) {
+        if (val(j, 1) != null) { lo = Math.min(lo, val(j, 0)); hi = Math.max(hi, val(j, 2)); }
+      }
+      if (!(hi > lo)) { lo = lo === Infinity ? 0 : lo - 1; hi = lo + 2; }
       var y = function (v) { return (top + (1 - (hi > lo ? (v - lo) / (hi - lo) : 0.5)) * (H - top - bottom)).toFixed(1); };
       var band = [], runs = [], line = [], runLines = [];
       for (var k = 0; k < d.days; k++) {
@@ -304,7 +311,7 @@
         '<text class="axis" x="-4" y="' + (top + 4) + '">' + esc(fmt(hi)) + '</text><text class="axis" x="-4" y="' + (H - bottom) + '">' + esc(fmt(lo)) + "</text>" +
         '<text class="days" x="0" y="' + (H - 4) + '">' + new Date(d.day0 * 1000).toISOString().slice(5, 10) + '</text><text class="days end" x="' + W + '" y="' + (H - 4) + '">' +
         new Date((d.day0 + (d.days - 1) * 86400) * 1000).toISOString().slice(5, 10) + "</text></svg></figure>";
-    }).join("") + '</div><p class="muted">Each day of each channel: the median (line) and the band from the 5th to the 95th percentile of the day’s readings (UTC days); dashed lines mark switches.</p>';
+    }).join("") + '</div><p class="muted">Each day of each channel: the median (line) and the band from the 5th to the 95th percentile of the day’s readings (UTC days); dashed lines mark switches. Each panel spans this site’s own range.</p>';
   }
 
   // ---- events -------------------------------------------------------

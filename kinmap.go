@@ -19,6 +19,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
@@ -92,6 +93,9 @@ type Result struct {
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality *mapper.Quality
+	// daily summarises the readings by site, channel and day for the
+	// report's explorer.
+	daily []export.DailySummary
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.

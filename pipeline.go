@@ -6,6 +6,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
@@ -194,6 +195,7 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 		return &NoWindowError{Reasons: t.SkipReasons(), Unit: res.Ingest.EpochUnit}
 	}
 	res.Table = t
+	res.daily = export.DailySummaries(ds, fc.Workers)
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))
 	return nil
 }

@@ -121,6 +121,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Register: r.Register,
 		Summary:  &r.Ingest,
 		Changes:  r.Changes,
+		Daily:    r.daily,
 		Title:    "kinmap " + cmp.Or(r.Info.Command, "run"),
 	}
 	ws, err := export.Warnings(run)

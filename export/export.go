@@ -53,6 +53,7 @@ type Run struct {
 	Info     any                   // machine-readable run summary, written as run.json
 	Changes  []mapper.RegimeChange // regime renumbering by an update, listed in the report
 	Warnings []string              // from earlier stages, shown in the report, each warning once
+	Daily    []DailySummary        // the readings by site, channel and UTC day (DailySummaries), drawn by the report; nil for none
 	Title    string                // heading of the report; "" means "kinmap run"
 }
 
@@ -171,7 +172,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	all := append(slices.Clone(listed), ReportFile)
 	files = append(files,
 		file{RunFile, func(w io.Writer) error { return writeRunFile(w, r.Info, all) }},
-		file{ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, warnings, pics, listed) }},
+		file{ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, tracks, warnings, pics, listed) }},
 	)
 	for _, f := range files {
 		if err := tx.Create(filepath.Join(dir, f.name), f.write); err != nil {

@@ -138,14 +138,8 @@ func siteFeatures(r *Run, ss []*site) []*feature {
 		var p props
 		p.add("site", s.id)
 		if r.Register != nil {
-			values := map[string]any{}
-			if s.info != nil {
-				for _, a := range s.info.Attrs {
-					values[a.Name] = a.Value
-				}
-			}
-			for _, name := range r.Register.AttrNames {
-				p.add(attrName(name, taken), values[name])
+			for i, v := range s.attrValues(r.Register.AttrNames) {
+				p.add(attrName(r.Register.AttrNames[i], taken), v)
 			}
 		}
 		p.add("regime", s.last.Regime)

@@ -30,6 +30,22 @@ type site struct {
 	unfamiliar int // unfamiliar windows
 }
 
+// attrValues returns the site's register attributes in the order of
+// names, nil where it has none.
+func (s *site) attrValues(names []string) []any {
+	values := map[string]any{}
+	if s.info != nil {
+		for _, a := range s.info.Attrs {
+			values[a.Name] = a.Value
+		}
+	}
+	out := make([]any, len(names))
+	for i, name := range names {
+		out[i] = values[name]
+	}
+	return out
+}
+
 // sites gathers the sites of r, sorted by ID, and the warnings about them.
 func sites(r *Run) ([]*site, []string) {
 	// The register's own index is built by its reader; the exported list

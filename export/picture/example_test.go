@@ -57,6 +57,6 @@ func ExampleAll() {
 	// regimes.png     Regime map
 	// sites.png       Site map
 	// umatrix.png     U-matrix
-	// hits.png        Hit counts
-	// components.png  Component planes
+	// hits.png        Windows per unit
+	// components.png  Feature planes
 }

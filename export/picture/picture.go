@@ -1,6 +1,6 @@
 // Package picture draws a run's pictures as PNG: the regime map, the
-// U-matrix, the hit counts and the component planes of the trained map, a
-// site map and the regime timelines of the sites that switched.
+// U-matrix, the windows per unit and the feature planes of the trained
+// map, a site map and the regime timelines of the sites that switched.
 //
 // Hexagonal cells are drawn as hexagons and square ones as squares.
 // A torus is drawn with a margin of faded copies of its opposite edges
@@ -25,7 +25,7 @@ import (
 // Input bundles what the pictures show.
 type Input struct {
 	Model    *model.Model
-	Windows  []features.Window // decoded (see timeline.Build), for hit counts and strips
+	Windows  []features.Window // decoded (see timeline.Build), for windows per unit and strips
 	Switches []timeline.Switch
 	Sites    []SitePoint
 }
@@ -49,8 +49,8 @@ type Picture struct {
 }
 
 // All draws every picture, in reading order: the regime map, the site map,
-// the regime timelines, the U-matrix, the hit counts and the component
-// planes. The site map is left out when no site is located, the timelines
+// the regime timelines, the U-matrix, the windows per unit and the
+// feature planes. The site map is left out when no site is located, the timelines
 // when no site switched.
 func All(in Input) ([]Picture, error) {
 	if err := check(in); err != nil {

@@ -12,7 +12,7 @@ import (
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // EventOptions says where a run's maintenance and inspection records come
@@ -33,15 +33,15 @@ func DefaultEventOptions() EventOptions {
 // Conditions is what a run learnt and concluded from labelled events.
 type Conditions struct {
 	Events    []ingest.EventRow
-	Marks     events.Marks       // the run's windows marked by Events
-	Knowledge *mapper.Conditions // the label counts the windows were classified with: the model's and the run's
-	Windows   []events.Condition // likely condition of each window of Result.Table
-	Span      time.Duration      // span a point event marks before it; also how far after a precedent its outcome is looked for
+	Marks     events.Marks      // the run's windows marked by Events, in the order of Result.Table.Windows
+	Knowledge *model.Conditions // the label counts the windows were classified with: the model's and the run's
+	Span      time.Duration     // span a point event marks before it; also how far after a precedent its outcome is looked for
 }
 
 // classify marks the run's windows with its events, classifies every
-// window with the model's knowledge and the run's, and, for run and
-// update, keeps the knowledge in the model. A run without events and a
+// window with the model's knowledge and the run's (the window's Condition
+// and ConditionConfidence), and, for run and update, keeps the knowledge
+// in the model. A run without events and a
 // model without knowledge leave r.Conditions nil.
 func (r *Result) classify(o *Options) error {
 	eo := o.Events
@@ -59,7 +59,7 @@ func (r *Result) classify(o *Options) error {
 	r.showNotes = eo.ShowNotes
 	c := &Conditions{Span: eo.Span}
 	var own []string
-	var mine *mapper.Conditions
+	var mine *model.Conditions
 	if eo.File != "" {
 		evs, err := ingest.ReadEvents(eo.File, eo.Columns)
 		if err != nil {
@@ -85,7 +85,10 @@ func (r *Result) classify(o *Options) error {
 		m.Conditions = c.Knowledge
 		r.Model = &m
 	}
-	c.Windows = events.Classify(r.Model.Map.Lattice, c.Knowledge, units, own, eo.Classify)
+	for i, cond := range events.Classify(r.Model.Map.Lattice, c.Knowledge, units, own, eo.Classify) {
+		w := &r.Table.Windows[i]
+		w.Condition, w.ConditionConfidence = cond.Label, cond.Confidence
+	}
 	r.Conditions = c
 	return nil
 }
@@ -94,7 +97,7 @@ func (r *Result) classify(o *Options) error {
 func (r *Result) eventWindows() []events.Window {
 	ws := make([]events.Window, len(r.Table.Windows))
 	for i, w := range r.Table.Windows {
-		ws[i] = events.Window{Site: w.Site, Start: w.Start, End: w.End, Unit: r.Assignments[i].BMU}
+		ws[i] = events.Window{Site: w.Site, Start: w.Start, End: w.End, Unit: w.Unit}
 	}
 	return ws
 }
@@ -116,12 +119,8 @@ func (r *Result) exportConditions(showNotes bool) *export.Conditions {
 		return nil
 	}
 	out := &export.Conditions{
-		Marked: c.Marks.Labels, Labels: c.Knowledge.Labels, UnitCounts: c.Knowledge.Counts,
+		Labels: c.Knowledge.Labels, UnitCounts: c.Knowledge.Counts,
 		Unknown: c.Marks.Unknown, Span: c.Knowledge.Span,
-		Likely: make([]string, len(c.Windows)), Confidence: make([]float64, len(c.Windows)),
-	}
-	for i, w := range c.Windows {
-		out.Likely[i], out.Confidence[i] = w.Label, w.Confidence
 	}
 	for _, e := range c.Events {
 		if !slices.Contains(c.Marks.Unknown, e.Site) {
@@ -142,10 +141,10 @@ const maxPrecedentSites = 10
 // them.
 func (r *Result) precedents(showNotes bool) []export.SitePrecedents {
 	c := r.Conditions
-	past, err := history.Windows(r.Entries, r.X)
-	if err != nil || len(c.Events) == 0 {
+	if len(c.Events) == 0 {
 		return nil
 	}
+	past := history.Windows(r.Table.Windows)
 	if r.history != nil {
 		past = append(slices.Clone(r.history.Windows), past...)
 	}
@@ -157,18 +156,19 @@ func (r *Result) precedents(showNotes bool) []export.SitePrecedents {
 	}
 	var query []int
 	for _, i := range last {
-		if slices.Contains(c.Knowledge.Labels, c.Windows[i].Label) {
+		if slices.Contains(c.Knowledge.Labels, r.Table.Windows[i].Condition) {
 			query = append(query, i)
 		}
 	}
 	slices.SortFunc(query, func(a, b int) int {
-		return cmp.Or(cmp.Compare(c.Windows[b].Confidence, c.Windows[a].Confidence), cmp.Compare(r.Table.Windows[a].Site, r.Table.Windows[b].Site))
+		wa, wb := &r.Table.Windows[a], &r.Table.Windows[b]
+		return cmp.Or(cmp.Compare(wb.ConditionConfidence, wa.ConditionConfidence), cmp.Compare(wa.Site, wb.Site))
 	})
 	var out []export.SitePrecedents
 	for _, i := range query[:min(len(query), maxPrecedentSites)] {
 		w := r.Table.Windows[i]
 		sp := export.SitePrecedents{Site: w.Site, Window: w.Start}
-		for _, p := range events.Precedents(r.X.RawRowView(i), w.Start, past, c.Events, c.Span, 3) {
+		for _, p := range events.Precedents(w.Scaled, w.Start, past, c.Events, c.Span, 3) {
 			ep := export.Precedent{Site: p.Site, Start: p.Start, Distance: p.Distance}
 			for _, e := range p.After {
 				ep.After = append(ep.After, exportEvent(e, showNotes))

@@ -14,7 +14,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/events"
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 )
 
@@ -74,8 +74,8 @@ func failureFleet(t *testing.T, seed int64, sites, weeks int, split bool) (kinma
 // windows the events marked with it.
 func precisionRecall(res *kinmap.Result, label string) (p, r float64, tp, fp, fn int) {
 	c := res.Conditions
-	for i, w := range c.Windows {
-		truth, said := c.Marks.Labels[i] == label, w.Label == label
+	for i, w := range res.Table.Windows {
+		truth, said := c.Marks.Labels[i] == label, w.Condition == label
 		switch {
 		case truth && said:
 			tp++
@@ -111,13 +111,13 @@ func TestPlantedFailures(t *testing.T) {
 		p, r, tp, fp, fn := precisionRecall(res, scenarios.LabelFailure)
 		rp, rr, _, _, _ := precisionRecall(res, scenarios.LabelRepair)
 		inspections := 0
-		for _, w := range res.Conditions.Windows {
-			if w.Label == scenarios.LabelInspection {
+		for _, w := range res.Table.Windows {
+			if w.Condition == scenarios.LabelInspection {
 				inspections++
 			}
 		}
 		t.Logf("seed %d: %d windows, %d events used; %q precision %.3f recall %.3f (tp %d, fp %d, fn %d); %q precision %.3f recall %.3f; %d windows classified %q",
-			seed, len(res.Conditions.Windows), res.Conditions.Marks.Used, scenarios.LabelFailure, p, r, tp, fp, fn, scenarios.LabelRepair, rp, rr, inspections, scenarios.LabelInspection)
+			seed, len(res.Table.Windows), res.Conditions.Marks.Used, scenarios.LabelFailure, p, r, tp, fp, fn, scenarios.LabelRepair, rp, rr, inspections, scenarios.LabelInspection)
 		if p < 0.8 || r < 0.8 {
 			t.Errorf("seed %d: windows before a failure found at precision %.3f, recall %.3f; want both at least 0.8", seed, p, r)
 		}
@@ -155,7 +155,7 @@ func TestAssignWithLastWeeksKnowledge(t *testing.T) {
 		if err := res.Model.WriteFile(path); err != nil {
 			t.Fatal(err)
 		}
-		m, err := mapper.ReadModelFile(path)
+		m, err := model.ReadFile(path)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -2,10 +2,10 @@ package events
 
 import (
 	"cmp"
-	"math"
 	"slices"
 
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // What a window is classified as when no label wins.
@@ -64,7 +64,7 @@ type Condition struct {
 // counted under in c ("" for unmarked), and that one count is taken out
 // of the vote of the window itself. own is nil when the windows are not
 // part of c (a dump classified with an earlier model's knowledge).
-func Classify(l mapper.Lattice, c *mapper.Conditions, units []int, own []string, cfg Config) []Condition {
+func Classify(l mapper.Lattice, c *model.Conditions, units []int, own []string, cfg Config) []Condition {
 	out := make([]Condition, len(units))
 	if c == nil {
 		for i := range out {
@@ -86,13 +86,13 @@ func Classify(l mapper.Lattice, c *mapper.Conditions, units []int, own []string,
 		}
 		total, radius := 0, 0.0
 		for k := 0; k < len(ring); {
-			d := l.Dist2(u, ring[k])
-			for ; k < len(ring) && l.Dist2(u, ring[k]) <= d*(1+1e-9)+1e-12; k++ {
+			d := l.Dist(u, ring[k])
+			for ; k < len(ring) && l.Dist(u, ring[k]) <= d*(1+1e-9)+1e-12; k++ {
 				for j, n := range c.Counts[ring[k]] {
 					votes[j] += n
 				}
 			}
-			total, radius = sum(votes), math.Sqrt(d)
+			total, radius = sum(votes), d
 			if total >= cfg.K {
 				break
 			}
@@ -103,7 +103,7 @@ func Classify(l mapper.Lattice, c *mapper.Conditions, units []int, own []string,
 }
 
 // decide words the vote.
-func decide(c *mapper.Conditions, votes []int, total int, radius float64, cfg Config) Condition {
+func decide(c *model.Conditions, votes []int, total int, radius float64, cfg Config) Condition {
 	if total <= 0 {
 		return Condition{Label: Unknown, Radius: radius}
 	}
@@ -135,7 +135,7 @@ func byDistance(l mapper.Lattice, u int) []int {
 		units[i] = i
 	}
 	slices.SortFunc(units, func(a, b int) int {
-		return cmp.Or(cmp.Compare(l.Dist2(u, a), l.Dist2(u, b)), cmp.Compare(a, b))
+		return cmp.Or(cmp.Compare(l.Dist(u, a), l.Dist(u, b)), cmp.Compare(a, b))
 	})
 	return units
 }

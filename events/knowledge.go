@@ -3,14 +3,14 @@ package events
 import (
 	"slices"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // Count returns the label counts of the windows each of units units won:
 // window i, on unit bmu[i], carries labels[i] ("" for none). Without any
 // label every window counts as unmarked, evidence that Merge adds to a
 // model's labels.
-func Count(units int, bmu []int, labels []string) *mapper.Conditions {
+func Count(units int, bmu []int, labels []string) *model.Conditions {
 	var names []string
 	for _, l := range labels {
 		if l != "" && !slices.Contains(names, l) {
@@ -18,7 +18,7 @@ func Count(units int, bmu []int, labels []string) *mapper.Conditions {
 		}
 	}
 	slices.Sort(names)
-	c := &mapper.Conditions{Labels: names, Counts: make([][]int, units)}
+	c := &model.Conditions{Labels: names, Counts: make([][]int, units)}
 	for u := range c.Counts {
 		c.Counts[u] = make([]int, len(names)+1)
 	}
@@ -31,7 +31,7 @@ func Count(units int, bmu []int, labels []string) *mapper.Conditions {
 // column returns the column of label in the counts of c: its index in
 // c.Labels, or len(c.Labels), the unmarked windows' column, for "" and
 // for a label c lacks.
-func column(c *mapper.Conditions, label string) int {
+func column(c *model.Conditions, label string) int {
 	if i, ok := slices.BinarySearch(c.Labels, label); ok && label != "" {
 		return i
 	}
@@ -41,7 +41,7 @@ func column(c *mapper.Conditions, label string) int {
 // Merge returns the knowledge of a and b together on a map of the same
 // units: the union of their labels and the sum of their counts. Either may
 // be nil. Span and Events are b's when b is set, with Events summed.
-func Merge(a, b *mapper.Conditions) *mapper.Conditions {
+func Merge(a, b *model.Conditions) *model.Conditions {
 	switch {
 	case a == nil && b == nil:
 		return nil
@@ -53,10 +53,10 @@ func Merge(a, b *mapper.Conditions) *mapper.Conditions {
 	names := slices.Concat(a.Labels, b.Labels)
 	slices.Sort(names)
 	names = slices.Compact(names)
-	out := &mapper.Conditions{Labels: names, Counts: make([][]int, len(a.Counts)), Span: b.Span, Events: a.Events + b.Events}
+	out := &model.Conditions{Labels: names, Counts: make([][]int, len(a.Counts)), Span: b.Span, Events: a.Events + b.Events}
 	for u := range out.Counts {
 		row := make([]int, len(names)+1)
-		for _, src := range []*mapper.Conditions{a, b} {
+		for _, src := range []*model.Conditions{a, b} {
 			for j, n := range src.Counts[u] {
 				if j < len(src.Labels) {
 					row[column(out, src.Labels[j])] += n
@@ -73,7 +73,7 @@ func Merge(a, b *mapper.Conditions) *mapper.Conditions {
 // ByRegime returns the label counts of each regime (the sum over its
 // units) by regime ID: the regime × label table of the report, columns as
 // in c.Counts.
-func ByRegime(c *mapper.Conditions, unitRegime []int) map[int][]int {
+func ByRegime(c *model.Conditions, unitRegime []int) map[int][]int {
 	out := make(map[int][]int)
 	for u, id := range unitRegime {
 		row := out[id]

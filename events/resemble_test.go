@@ -7,7 +7,7 @@ import (
 
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 func TestResemble(t *testing.T) {
@@ -72,9 +72,9 @@ func TestPrecedents(t *testing.T) {
 }
 
 func TestMerge(t *testing.T) {
-	a := &mapper.Conditions{Labels: []string{"b", "d"}, Counts: [][]int{{1, 2, 3}, {0, 0, 1}}, Events: 2}
-	b := &mapper.Conditions{Labels: []string{"a", "b"}, Counts: [][]int{{5, 1, 0}, {0, 0, 4}}, Events: 3, Span: "rule"}
-	want := &mapper.Conditions{Labels: []string{"a", "b", "d"}, Counts: [][]int{{5, 2, 2, 3}, {0, 0, 0, 5}}, Events: 5, Span: "rule"}
+	a := &model.Conditions{Labels: []string{"b", "d"}, Counts: [][]int{{1, 2, 3}, {0, 0, 1}}, Events: 2}
+	b := &model.Conditions{Labels: []string{"a", "b"}, Counts: [][]int{{5, 1, 0}, {0, 0, 4}}, Events: 3, Span: "rule"}
+	want := &model.Conditions{Labels: []string{"a", "b", "d"}, Counts: [][]int{{5, 2, 2, 3}, {0, 0, 0, 5}}, Events: 5, Span: "rule"}
 	if got := Merge(a, b); !reflect.DeepEqual(got, want) {
 		t.Errorf("got %+v, want %+v", got, want)
 	}

@@ -100,21 +100,22 @@ func wineMapAccuracy(t *testing.T, x [][]float64, y []int, folds [][]int) float6
 		}
 		xtr, xte := standardised(x, train, test)
 		cfg := mapper.Config{Hex: true}
-		m, asg, err := mapper.Fit(xtr, make([]string, len(x[0])), mapper.Timelines{}, cfg)
+		m, cfg, err := mapper.Train(xtr, cfg)
 		if err != nil {
 			t.Fatal(err)
 		}
+		asg := m.Assign(xtr, cfg.Workers)
 		bmu, labels := make([]int, len(train)), make([]string, len(train))
 		for k, i := range train {
 			bmu[k], labels[k] = asg[k].BMU, names[y[i]]
 		}
-		know := Count(m.Map.Units(), bmu, labels)
-		testAsg := m.Map.Assign(xte, 1)
+		know := Count(m.Units(), bmu, labels)
+		testAsg := m.Assign(xte, 1)
 		units := make([]int, len(test))
 		for k, a := range testAsg {
 			units[k] = a.BMU
 		}
-		for k, c := range Classify(m.Map.Lattice, know, units, nil, DefaultConfig()) {
+		for k, c := range Classify(m.Lattice, know, units, nil, DefaultConfig()) {
 			if c.Label == names[y[test[k]]] {
 				right++
 			}

@@ -2,7 +2,6 @@ package export
 
 import (
 	"cmp"
-	_ "embed"
 	"fmt"
 	"html/template"
 	"slices"
@@ -11,9 +10,6 @@ import (
 
 	"github.com/kinmap/kinmap/export/picture"
 )
-
-//go:embed report_events.html
-var reportEventsHTML string
 
 // Caps of the events section; the timelines and sites.geojson have all.
 const (
@@ -91,17 +87,18 @@ func eventsReport(r *Run, ss []*site) *eventsSection {
 		d.Regimes = append(d.Regimes, eventsRegimeRow{ID: id, Counts: byRegime[id]})
 	}
 	for _, s := range ss {
-		last := s.entries[len(s.entries)-1]
-		label, conf := r.condition(last)
+		ws := r.Table.Windows
+		last := &ws[s.windows[len(s.windows)-1]]
+		label, conf := last.Condition, last.ConditionConfidence
 		if !slices.Contains(c.Labels, label) {
 			continue
 		}
 		since := last
-		for k := len(s.entries) - 1; k >= 0 && r.Conditions.Likely[s.entries[k]] == label; k-- {
-			since = s.entries[k]
+		for k := len(s.windows) - 1; k >= 0 && ws[s.windows[k]].Condition == label; k-- {
+			since = &ws[s.windows[k]]
 		}
 		d.Sites = append(d.Sites, conditionSite{Site: s.id, Condition: label,
-			Confidence: strconv.FormatFloat(conf, 'f', 2, 64), Since: readable(r.Entries[since].Start), conf: conf})
+			Confidence: strconv.FormatFloat(conf, 'f', 2, 64), Since: readable(since.Start), conf: conf})
 	}
 	slices.SortStableFunc(d.Sites, func(a, b conditionSite) int {
 		return cmp.Or(cmp.Compare(b.conf, a.conf), cmp.Compare(a.Site, b.Site))
@@ -126,7 +123,7 @@ func eventStrips(r *Run, ss []*site) (strips []eventStrip, shown int, notes bool
 		notes = notes || e.Note != ""
 	}
 	var lo, hi time.Time
-	for _, e := range r.Entries {
+	for _, e := range r.Table.Windows {
 		if lo.IsZero() || e.Start.Before(lo) {
 			lo = e.Start
 		}
@@ -150,9 +147,9 @@ func eventStrips(r *Run, ss []*site) (strips []eventStrip, shown int, notes bool
 			break
 		}
 		st := eventStrip{Site: s.id}
-		for _, i := range s.entries {
-			e := r.Entries[i]
-			label, conf := r.condition(i)
+		for _, i := range s.windows {
+			e := &r.Table.Windows[i]
+			label, conf := e.Condition, e.ConditionConfidence
 			st.Cells = append(st.Cells, stripCell{X: x(e.Start), W: x(e.End) - x(e.Start),
 				Colour: template.CSS(hex(picture.RegimeColour(e.Regime))),
 				Title:  fmt.Sprintf("%s: regime %d, likely %s (%.2f)", readable(e.Start), e.Regime, label, conf)})

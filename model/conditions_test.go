@@ -1,4 +1,4 @@
-package mapper
+package model
 
 import (
 	"bytes"
@@ -40,7 +40,7 @@ func TestModelConditions(t *testing.T) {
 			if tc.c == nil && bytes.Contains(buf.Bytes(), []byte(`"Conditions"`)) {
 				t.Error("a model without knowledge writes a Conditions field; older readers would refuse it")
 			}
-			back, err := ReadModel(&buf)
+			back, err := Read(&buf)
 			switch {
 			case tc.wrong == "" && err != nil:
 				t.Fatal(err)

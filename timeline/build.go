@@ -85,35 +85,53 @@ func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.As
 	}
 	slices.Sort(sites)
 
-	var switches []Switch
-	for _, site := range sites {
+	loc, err := time.LoadLocation(t.Config.TZ)
+	if err != nil {
+		return nil, nil, fmt.Errorf("timeline: time zone %q: %w", t.Config.TZ, err)
+	}
+	seqs := make([]siteSeq, len(sites))
+	for s, site := range sites {
 		idx := bySite[site]
 		slices.SortStableFunc(idx, func(a, b int) int { return t.Windows[a].Start.Compare(t.Windows[b].Start) })
-		costs := make([][]float64, len(idx))
+		q := siteSeq{idx: idx, costs: make([][]float64, len(idx)), weeks: make([]int64, len(idx)), phases: make([]int64, len(idx))}
 		for j, i := range idx {
-			costs[j] = make([]float64, len(m.Regimes))
+			q.costs[j] = make([]float64, len(m.Regimes))
 			for k, r := range m.Regimes {
-				costs[j][k] = distance(x.RawRowView(i), r.Centroid)
-				if math.IsInf(costs[j][k], 0) {
+				q.costs[j][k] = distance(x.RawRowView(i), r.Centroid)
+				if math.IsInf(q.costs[j][k], 0) {
 					return nil, nil, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, t.Windows[i].Start.Format(time.RFC3339))
 				}
 			}
+			q.weeks[j], q.phases[j] = weekPhase(t.Windows[i].Start, loc)
 		}
-		from, initial := startOf(m, priors, site, cfg.SwitchCost)
-		path, total := viterbi.Decode(costs, cfg.SwitchCost, initial, cfg.MinDwell, from)
-		for j, i := range idx {
-			entries[i].Regime = m.Regimes[path[j]].ID
+		q.from, q.initial = startOf(m, priors, site, cfg.SwitchCost)
+		q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
+		seqs[s] = q
+	}
+	if cal := learnCalendar(seqs, len(m.Regimes)); cal != nil {
+		for s := range seqs {
+			q := &seqs[s]
+			q.costs = cal.apply(q.costs, q.phases)
+			q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
 		}
-		for _, sw := range segmentSwitches(costs, cfg.SwitchCost, initial, from, path, total) {
-			before := from.State
+	}
+
+	var switches []Switch
+	for s, site := range sites {
+		q := seqs[s]
+		for j, i := range q.idx {
+			entries[i].Regime = m.Regimes[q.path[j]].ID
+		}
+		for _, sw := range segmentSwitches(q.costs, cfg.SwitchCost, q.initial, q.from, q.path, q.total) {
+			before := q.from.State
 			if sw.at > 0 {
-				before = path[sw.at-1]
+				before = q.path[sw.at-1]
 			}
 			switches = append(switches, Switch{
 				Site:       site,
-				Time:       t.Windows[idx[sw.at]].Start,
+				Time:       t.Windows[q.idx[sw.at]].Start,
 				From:       m.Regimes[before].ID,
-				To:         m.Regimes[path[sw.at]].ID,
+				To:         m.Regimes[q.path[sw.at]].ID,
 				Before:     sw.before,
 				After:      sw.after,
 				Confidence: sw.confidence,

@@ -3,7 +3,6 @@ package timeline
 import (
 	"time"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/kinmap/kinmap/internal/viterbi"
@@ -63,22 +62,21 @@ type siteSeq struct {
 // index) at that phase; a phase it lacks has every regime its own partner.
 type calendar map[int64][]int
 
-// learnCalendar counts, over the site-weeks of the decoded paths, which
-// regime each regime's weeks show at each phase, and returns the partners
-// that differ from the regime itself; nil when there is no weekly cycle.
-// Regimes are indices below k.
-func learnCalendar(seqs []siteSeq, k int) calendar {
+// slot is one window time: a week and a phase of it.
+type slot struct{ week, phase int64 }
+
+// weekCounts counts, for every slot, the windows of the sites' weeks by
+// the week's home regime (the regime of a strict majority of the week's
+// phases, by nearest centroid) and the window's own nearest regime:
+// counts[slot][home*k+regime]. It also returns the number of phases seen.
+func weekCounts(seqs []siteSeq, k int) (map[slot][]int, int) {
 	all := map[int64]bool{}
 	for _, q := range seqs {
 		for _, p := range q.phases {
 			all[p] = true
 		}
 	}
-	if len(all) < 2 {
-		return nil // one window a week: no cycle within the week to see
-	}
-	type slot struct{ week, phase int64 }
-	counts := map[slot][]int{} // k×k counts of windows, [home*k+regime]
+	counts := map[slot][]int{}
 	home := make([]int, k)
 	for _, q := range seqs {
 		path := make([]int, len(q.costs))
@@ -112,6 +110,18 @@ func learnCalendar(seqs []siteSeq, k int) calendar {
 			lo = hi
 		}
 	}
+	return counts, len(all)
+}
+
+// learnCalendar returns the partners of the regimes (indices below k) at
+// each phase of the week that differ from the regime itself, learnt from
+// the site-weeks of seqs by their nearest regimes; nil when there is no
+// weekly cycle.
+func learnCalendar(seqs []siteSeq, k int) calendar {
+	counts, phases := weekCounts(seqs, k)
+	if phases < 2 {
+		return nil // one window a week: no cycle within the week to see
+	}
 	// Each week votes, at each phase and for each home regime, for the
 	// regime most of that week's windows show there.
 	votes := map[int64][]int{} // phase → k×k votes, [home*k+regime]
@@ -127,33 +137,34 @@ func learnCalendar(seqs []siteSeq, k int) calendar {
 			}
 		}
 	}
-	// The share of a's week-votes that go to each regime, over all phases:
-	// what a phase shows when the time of the week does not matter.
-	share := make([]float64, k*k)
+	// All of a's week-votes for each regime, over all phases.
+	total := make([]int, k*k)
 	for _, v := range votes {
 		for i, n := range v {
-			share[i] += float64(n)
-		}
-	}
-	for a := range k {
-		if sum := floats.Sum(share[a*k : a*k+k]); sum > 0 {
-			floats.Scale(1/sum, share[a*k:a*k+k])
+			total[i] += n
 		}
 	}
 	var cal calendar
 	for p, v := range votes {
 		for a := range k {
-			b := mostOf(v[a*k : a*k+k])
-			if v[a*k+b] <= v[a*k+a] {
-				continue // not in most weeks
+			row := v[a*k : a*k+k]
+			b := mostOf(row)
+			if row[b] <= row[a] || row[b] < 2 {
+				continue // not in most weeks, or not repeated
 			}
-			weeks := 0
-			for _, n := range v[a*k : a*k+k] {
+			// The rate at which a's weeks show b at the other phases, by
+			// Laplace's rule of succession ((x+1)/(n+2), P.-S. Laplace,
+			// "Essai philosophique sur les probabilités", 1814), so that a
+			// regime never seen elsewhere is not a certainty.
+			weeks, others := 0, 0
+			for r, n := range row {
 				weeks += n
+				others += total[a*k+r] - n
 			}
-			chance := distuv.Binomial{N: float64(weeks), P: share[a*k+b]}
-			if chance.Survival(float64(v[a*k+b]-1)) >= calendarLevel {
-				continue // as likely on any day of the week
+			rate := float64(total[a*k+b]-row[b]+1) / float64(others+2)
+			chance := distuv.Binomial{N: float64(weeks), P: rate}
+			if chance.Survival(float64(row[b]-1)) >= calendarLevel {
+				continue // as likely at any other time of the week
 			}
 			if cal[p] == nil {
 				if cal == nil {

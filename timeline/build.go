@@ -21,6 +21,15 @@ import (
 // Viterbi), under the cfg.MinDwell rule. Components that are NaN in a
 // window are left out of its distances, the same for every regime.
 //
+// Sites that run to a weekly calendar are decoded with it: when most weeks
+// of a regime's sites show, at some time of the week (local to
+// t.Config.TZ), the windows of another regime, and significantly more often
+// than at the other times of the week, a window at that time is measured in
+// that regime against the other regime's centroid (see calendar.go). An
+// office's weekend then stays in the office's regime instead of making two
+// switches. The calendar is learnt from the windows of t alone, so a dump
+// shorter than two weeks has none.
+//
 // Gaps between windows (windows skipped for low coverage, or a unit that was
 // off) do not reset the decoding: the switch cost is the evidence a change
 // needs, and a gap brings none. A change across a gap is a switch at the

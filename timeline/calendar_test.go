@@ -1,6 +1,8 @@
 package timeline
 
 import (
+	"math"
+	"math/rand/v2"
 	"slices"
 	"testing"
 	"time"
@@ -132,5 +134,76 @@ func TestBuildUnknownZone(t *testing.T) {
 	tab.Config = features.Config{TZ: "Nowhere/Atlantis"}
 	if _, _, err := Build(testModel(), tab, x, asg, Config{}); err == nil {
 		t.Error("Build accepted an unknown time zone")
+	}
+}
+
+// Build with a calendar minimises the objective of its documentation, with
+// the cost of regime a at a time of the week taken from a's partner there:
+// checked against an exhaustive search over every regime sequence of a
+// probe site that obeys the minimum dwell. The offices make regime 1's
+// partner at the weekend regime 2.
+func TestBuildCalendarBruteForce(t *testing.T) {
+	for seed := range uint64(5) {
+		office := slices.Concat(officeWeek(1, 2), officeWeek(1, 2), officeWeek(1, 2), officeWeek(1, 2))
+		ws := sitesOf(map[string][]int{"o1": office, "o2": office, "o3": office, "o4": office})
+		rng := rand.New(rand.NewPCG(seed, 2))
+		// An office-like probe from Monday, one weekend (days 5 and 6), that
+		// may move to regime 3 at the end; the noise leaves every choice open.
+		const T = 10
+		probe := make([][2]float64, T)
+		for d, r := range []int{1, 1, 1, 1, 1, 2, 2, 1, 3, 3} {
+			probe[d] = [2]float64{centre[r][0] + 3*rng.NormFloat64(), centre[r][1] + 3*rng.NormFloat64()}
+			ws = append(ws, window{site: "p", day: 2 + d, x: probe[d][0], y: probe[d][1], qe: 0.1})
+		}
+		tab, x, asg := inputs(ws)
+		entries, _, err := Build(testModel(), tab, x, asg, Config{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := regimesOf(entries, "p")
+
+		const switchCost, dwell = 1, 2 // testModel's automatic cost; the default dwell
+		objective := func(path []int) float64 {
+			var c float64
+			for d, r := range path {
+				weekend := d%7 == 5 || d%7 == 6
+				if r == 1 && weekend {
+					r = 2
+				}
+				c += math.Hypot(probe[d][0]-centre[r][0], probe[d][1]-centre[r][1])
+				if d > 0 && path[d] != path[d-1] {
+					c += switchCost
+				}
+			}
+			return c
+		}
+		obeys := func(path []int) bool {
+			run := 1
+			for d := 1; d <= len(path); d++ {
+				if d < len(path) && path[d] == path[d-1] {
+					run++
+					continue
+				}
+				if run < dwell && run < len(path) {
+					return false
+				}
+				run = 1
+			}
+			return true
+		}
+		var best []int
+		bestCost := math.Inf(1)
+		path := make([]int, T)
+		for code := range int(math.Pow(3, T)) {
+			for d, c := 0, code; d < T; d, c = d+1, c/3 {
+				path[d] = 1 + c%3
+			}
+			if c := objective(path); obeys(path) && c < bestCost {
+				best, bestCost = slices.Clone(path), c
+			}
+		}
+		if !slices.Equal(got, best) {
+			t.Errorf("seed %d: probe decoded to %v (objective %.4f), exhaustive search finds %v (%.4f)", seed, got, objective(got), best, bestCost)
+		}
 	}
 }

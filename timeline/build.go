@@ -21,6 +21,14 @@ import (
 // Viterbi), under the cfg.MinDwell rule. Components that are NaN in a
 // window are left out of its distances, the same for every regime.
 //
+// A regime is judged relative to the fleet: when most sites whose windows
+// are mostly in regime a show, at one window time, another regime's windows
+// (a storm, a heat wave, a holiday), significantly more often than a's
+// sites do at other times, a window at that time is measured in regime a
+// against the other regime's centroid (see shared.go). A change that most
+// of a regime's sites make at once is then read as a shared condition, not
+// as switches; one site's change is still a switch.
+//
 // Sites that run to a weekly calendar are decoded with it: when most weeks
 // of a regime's sites show, at some time of the week (local to
 // t.Config.TZ), the windows of another regime, and significantly more often
@@ -114,15 +122,24 @@ func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.As
 			q.weeks[j], q.phases[j] = weekPhase(t.Windows[i].Start, loc)
 		}
 		q.from, q.initial = startOf(m, priors, site, cfg.SwitchCost)
-		q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
 		seqs[s] = q
 	}
-	if cal := learnCalendar(seqs, len(m.Regimes)); cal != nil {
-		for s := range seqs {
-			q := &seqs[s]
-			q.costs = cal.apply(q.costs, q.phases)
-			q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
+	// Shared conditions first, so that the calendar is learnt from windows
+	// already relative to the fleet.
+	shared := learnShared(seqs, len(m.Regimes))
+	for s := range seqs {
+		q := &seqs[s]
+		for j, row := range q.costs {
+			q.costs[j] = substitute(row, shared[slot{q.weeks[j], q.phases[j]}])
 		}
+	}
+	cal := learnCalendar(seqs, len(m.Regimes))
+	for s := range seqs {
+		q := &seqs[s]
+		for j, row := range q.costs {
+			q.costs[j] = substitute(row, cal[q.phases[j]])
+		}
+		q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
 	}
 
 	var switches []Switch

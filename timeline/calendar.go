@@ -58,10 +58,6 @@ type siteSeq struct {
 	total         float64
 }
 
-// calendar maps a phase of the week to the partner of each regime (by
-// index) at that phase; a phase it lacks has every regime its own partner.
-type calendar map[int64][]int
-
 // slot is one window time: a week and a phase of it.
 type slot struct{ week, phase int64 }
 
@@ -113,11 +109,11 @@ func weekCounts(seqs []siteSeq, k int) (map[slot][]int, int) {
 	return counts, len(all)
 }
 
-// learnCalendar returns the partners of the regimes (indices below k) at
-// each phase of the week that differ from the regime itself, learnt from
-// the site-weeks of seqs by their nearest regimes; nil when there is no
-// weekly cycle.
-func learnCalendar(seqs []siteSeq, k int) calendar {
+// learnCalendar returns, for each phase of the week (see weekPhase) where
+// some regime has a partner other than itself, the partner of every regime
+// (indices below k) there, learnt from the site-weeks of seqs by their
+// nearest regimes; nil when there is no weekly cycle.
+func learnCalendar(seqs []siteSeq, k int) map[int64][]int {
 	counts, phases := weekCounts(seqs, k)
 	if phases < 2 {
 		return nil // one window a week: no cycle within the week to see
@@ -137,48 +133,58 @@ func learnCalendar(seqs []siteSeq, k int) calendar {
 			}
 		}
 	}
-	// All of a's week-votes for each regime, over all phases.
-	total := make([]int, k*k)
-	for _, v := range votes {
-		for i, n := range v {
+	return partners(votes, k)
+}
+
+// partners returns, for every key of counts (k×k counts of one time,
+// [home*k+regime]) where some home regime a's windows or weeks show
+// another regime b, the partner of each regime there: b when b is shown
+// more often than a itself, at least twice, and significantly more often
+// than a shows b at the other times, by a one-sided exact binomial test at
+// calendarLevel. Keys without a partner other than the regime itself are
+// left out.
+func partners[K comparable](counts map[K][]int, k int) map[K][]int {
+	total := make([]int, k*k) // over all keys
+	for _, c := range counts {
+		for i, n := range c {
 			total[i] += n
 		}
 	}
-	var cal calendar
-	for p, v := range votes {
+	var out map[K][]int
+	for key, c := range counts {
 		for a := range k {
-			row := v[a*k : a*k+k]
+			row := c[a*k : a*k+k]
 			b := mostOf(row)
 			if row[b] <= row[a] || row[b] < 2 {
-				continue // not in most weeks, or not repeated
+				continue // not most of them, or not repeated
 			}
-			// The rate at which a's weeks show b at the other phases, by
+			// The rate at which a shows b at the other times, by
 			// Laplace's rule of succession ((x+1)/(n+2), P.-S. Laplace,
 			// "Essai philosophique sur les probabilités", 1814), so that a
 			// regime never seen elsewhere is not a certainty.
-			weeks, others := 0, 0
-			for r, n := range row {
-				weeks += n
-				others += total[a*k+r] - n
+			n, others := 0, 0
+			for r, v := range row {
+				n += v
+				others += total[a*k+r] - v
 			}
 			rate := float64(total[a*k+b]-row[b]+1) / float64(others+2)
-			chance := distuv.Binomial{N: float64(weeks), P: rate}
+			chance := distuv.Binomial{N: float64(n), P: rate}
 			if chance.Survival(float64(row[b]-1)) >= calendarLevel {
-				continue // as likely at any other time of the week
+				continue // as likely at any other time
 			}
-			if cal[p] == nil {
-				if cal == nil {
-					cal = calendar{}
+			if out[key] == nil {
+				if out == nil {
+					out = map[K][]int{}
 				}
-				cal[p] = make([]int, k)
-				for i := range cal[p] {
-					cal[p][i] = i
+				out[key] = make([]int, k)
+				for i := range out[key] {
+					out[key][i] = i
 				}
 			}
-			cal[p][a] = b
+			out[key][a] = b
 		}
 	}
-	return cal
+	return out
 }
 
 // mostOf is the index of the greatest of c, the first on a tie.
@@ -192,20 +198,15 @@ func mostOf(c []int) int {
 	return b
 }
 
-// apply returns the costs of a site's windows with the cost of regime a
-// at a phase where a's partner is b replaced by the cost of b.
-func (cal calendar) apply(costs [][]float64, phases []int64) [][]float64 {
-	out := make([][]float64, len(costs))
-	for j, row := range costs {
-		partner, ok := cal[phases[j]]
-		if !ok {
-			out[j] = row
-			continue
-		}
-		out[j] = make([]float64, len(row))
-		for a, b := range partner {
-			out[j][a] = row[b]
-		}
+// substitute returns row with the cost of each regime a replaced by the
+// cost of its partner (row itself when partner is nil).
+func substitute(row []float64, partner []int) []float64 {
+	if partner == nil {
+		return row
+	}
+	out := make([]float64, len(row))
+	for a, b := range partner {
+		out[a] = row[b]
 	}
 	return out
 }

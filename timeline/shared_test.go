@@ -1,0 +1,60 @@
+package timeline
+
+import (
+	"slices"
+	"testing"
+	"time"
+)
+
+func TestBuildSharedConditions(t *testing.T) {
+	// Eight sites in regime 1 for 21 days; on days 9 to 11 a storm carries
+	// six of them to regime 2's centroid. Site s7 changes to regime 3 on
+	// day 15, alone.
+	seqs := map[string][]int{}
+	for i := range 8 {
+		r := slices.Repeat([]int{1}, 21)
+		if i < 6 {
+			copy(r[9:12], []int{2, 2, 2})
+		}
+		if i == 7 {
+			copy(r[15:], slices.Repeat([]int{3}, 6))
+		}
+		seqs[string(rune('0'+i))] = r
+	}
+	tab, x, asg := inputs(sitesOf(seqs))
+	entries, switches, err := Build(testModel(), tab, x, asg, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []Switch{{Site: "7", Time: day0.AddDate(0, 0, 2+15), From: 1, To: 3, Before: 15, After: 6}}
+	if len(switches) != 1 || switches[0].Site != want[0].Site || !switches[0].Time.Equal(want[0].Time) || switches[0].From != 1 || switches[0].To != 3 {
+		t.Errorf("switches %v, want only %v", switches, want)
+	}
+	for _, s := range []string{"0", "5", "6"} {
+		if got := regimesOf(entries, s); slices.ContainsFunc(got, func(r int) bool { return r != 1 }) {
+			t.Errorf("site %s: regimes %v, want 1 throughout", s, got)
+		}
+	}
+
+	// A storm that reaches only a minority of the regime's sites leaves
+	// them switching there and back.
+	for i := range 8 {
+		r := slices.Repeat([]int{1}, 21)
+		if i < 3 {
+			copy(r[9:12], []int{2, 2, 2})
+		}
+		seqs[string(rune('0'+i))] = r
+	}
+	tab, x, asg = inputs(sitesOf(seqs))
+	_, switches, err = Build(testModel(), tab, x, asg, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var at []time.Time
+	for _, sw := range switches {
+		at = append(at, sw.Time)
+	}
+	if len(switches) != 6 {
+		t.Errorf("switches at %v, want 6: three sites to regime 2 and back", at)
+	}
+}

@@ -26,9 +26,14 @@ func TestBuildSharedConditions(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []Switch{{Site: "7", Time: day0.AddDate(0, 0, 2+15), From: 1, To: 3, Before: 15, After: 6}}
-	if len(switches) != 1 || switches[0].Site != want[0].Site || !switches[0].Time.Equal(want[0].Time) || switches[0].From != 1 || switches[0].To != 3 {
-		t.Errorf("switches %v, want only %v", switches, want)
+	want := Switch{Site: "7", Time: day0.AddDate(0, 0, 2+15), From: 1, To: 3, Before: 15, After: 6}
+	if len(switches) != 1 {
+		t.Fatalf("switches %v, want only %v", switches, want)
+	}
+	if got := switches[0]; got.Confidence <= 0 {
+		t.Errorf("switch confidence %g, want above 0", got.Confidence)
+	} else if got.Confidence = 0; got != want {
+		t.Errorf("switch %+v, want %+v", got, want)
 	}
 	for _, s := range []string{"0", "5", "6"} {
 		if got := regimesOf(entries, s); slices.ContainsFunc(got, func(r int) bool { return r != 1 }) {

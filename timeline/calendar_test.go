@@ -24,12 +24,12 @@ func TestWeekPhase(t *testing.T) {
 		loc   *time.Location
 		phase int64
 	}{
-		{time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC), time.UTC, 5 * day},                               // a Saturday
-		{time.Date(2026, 12, 5, 13, 30, 0, 0, time.UTC), time.UTC, 5*day + 13*3600 + 30*60},            // a Saturday
-		{time.Date(2026, 3, 28, 23, 0, 0, 0, time.UTC), vienna, 6 * day},                               // Sunday 00:00 +0100
-		{time.Date(2026, 3, 29, 22, 0, 0, 0, time.UTC), vienna, 0},                                     // Monday 00:00 +0200
-		{time.Date(2026, 3, 29, 22, 0, 0, 0, time.UTC), time.UTC, 6*day + 22*3600},                     // Sunday 22:00 UTC
-		{time.Date(2026, 3, 29, 22, 0, 0, 0, time.UTC).Add(-24 * time.Hour), vienna, 6*day - 3600 + 0}, // Saturday 23:00 +0100
+		{time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC), time.UTC, 5 * day},                              // a Saturday
+		{time.Date(2026, 12, 5, 13, 30, 0, 0, time.UTC), time.UTC, 5*day + 13*3600 + 30*60},           // a Saturday
+		{time.Date(2026, 3, 28, 23, 0, 0, 0, time.UTC), vienna, 6 * day},                              // Sunday 00:00 +0100
+		{time.Date(2026, 3, 29, 22, 0, 0, 0, time.UTC), vienna, 0},                                    // Monday 00:00 +0200
+		{time.Date(2026, 3, 29, 22, 0, 0, 0, time.UTC), time.UTC, 6*day + 22*3600},                    // Sunday 22:00 UTC
+		{time.Date(2026, 3, 29, 22, 0, 0, 0, time.UTC).Add(-24 * time.Hour), vienna, 5*day + 23*3600}, // Saturday 23:00 +0100
 	}
 	for _, tc := range tests {
 		if _, got := weekPhase(tc.at, tc.loc); got != tc.phase {

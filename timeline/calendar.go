@@ -12,22 +12,23 @@ import (
 // weekend, a workplace charger unused on Sundays) shows, at some times of
 // the week, windows that resemble another regime: the office's weekend
 // looks like a residential weekday. Decoded against the regimes alone,
-// every weekend becomes two switches. The calendar learns, from a first
-// decoding of all sites, which regime each regime's windows resemble at
-// each time of the week, and the second decoding compares a window in
-// regime a with the regime a's own sites show at that time of the week:
-// the weekly cycle becomes part of the regime. This is the seasonal naive
-// idea (R. J. Hyndman and G. Athanasopoulos, "Forecasting: Principles and
-// Practice", 3rd ed., 2021, section 5.2): a value is compared with the
-// same season of the cycle, not with the last value.
+// every weekend becomes two switches. The calendar learns, from the nearest
+// regime of every window, which regime each regime's windows resemble at
+// each time of the week, and the decoding compares a window in regime a
+// with the regime a's own sites show at that time of the week: the weekly
+// cycle becomes part of the regime. This is the seasonal naive idea (R. J.
+// Hyndman and G. Athanasopoulos, "Forecasting: Principles and Practice",
+// 3rd ed., 2021, section 5.2): a value is compared with the same season of
+// the cycle, not with the last value.
 //
-// The rule is a majority, with no threshold to set: a site-week whose
-// windows are mostly in regime a is a week of a; the partner of a at a
-// time of the week is the regime most of a's weeks show at that time,
-// a itself unless another regime shows strictly more often. A switch
-// between two regimes shows in at most one week of a site, a calendar in
-// every week, so a switch does not make a partner unless most weeks of
-// the regime hold it at the same time of the week, which is a cycle.
+// A site-week whose windows are mostly nearest to regime a is a week of a;
+// each week votes, at each time of the week, for the regime most of its
+// windows there are nearest to. The partner of a at that time is the
+// regime most of a's weeks vote for, when it beats a itself, is seen in at
+// least two weeks, and is significantly more frequent there than at the
+// other times (see partners). A switch between two regimes shows in at
+// most one week of a site, a calendar in every week, so a switch does not
+// make a partner.
 
 // calendarLevel is the significance level of the one-sided exact binomial
 // test that a time of the week shows a partner more often than the other

@@ -71,8 +71,8 @@ func TestBuildWeeklyCalendar(t *testing.T) {
 	home := slices.Repeat([]int{2}, 28)
 	t.Run("a weekly cycle is part of the regime", func(t *testing.T) {
 		seqs := map[string][]int{"o1": office, "o2": office, "o3": office, "h1": home, "h2": home}
-		tab, x, asg := inputs(sitesOf(seqs))
-		entries, switches, err := Build(testModel(), tab, x, asg, Config{})
+		decoded := inputs(sitesOf(seqs))
+		switches, err := Build(testModel(), decoded, Config{})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -80,19 +80,19 @@ func TestBuildWeeklyCalendar(t *testing.T) {
 			t.Errorf("%d switches, want none: %v", len(switches), switches)
 		}
 		for s, want := range map[string]int{"o1": 1, "o2": 1, "o3": 1, "h1": 2, "h2": 2} {
-			if got := regimesOf(entries, s); slices.ContainsFunc(got, func(r int) bool { return r != want }) {
+			if got := regimesOf(decoded, s); slices.ContainsFunc(got, func(r int) bool { return r != want }) {
 				t.Errorf("site %s: regimes %v, want %d throughout", s, got, want)
 			}
 		}
 	})
 	t.Run("one week is no cycle", func(t *testing.T) {
 		seqs := map[string][]int{"o1": officeWeek(1, 2), "o2": officeWeek(1, 2), "h1": home[:7]}
-		tab, x, asg := inputs(sitesOf(seqs))
-		entries, switches, err := Build(testModel(), tab, x, asg, Config{})
+		decoded := inputs(sitesOf(seqs))
+		switches, err := Build(testModel(), decoded, Config{})
 		if err != nil {
 			t.Fatal(err)
 		}
-		if got, want := regimesOf(entries, "o1"), officeWeek(1, 2); !slices.Equal(got, want) {
+		if got, want := regimesOf(decoded, "o1"), officeWeek(1, 2); !slices.Equal(got, want) {
 			t.Errorf("site o1: regimes %v, want %v", got, want)
 		}
 		if len(switches) != 2 {
@@ -109,8 +109,8 @@ func TestBuildWeeklyCalendar(t *testing.T) {
 		for _, name := range []string{"k0", "k1", "k2", "k3"} {
 			seqs[name] = slices.Repeat([]int{1}, 28)
 		}
-		tab, x, asg := inputs(sitesOf(seqs))
-		_, switches, err := Build(testModel(), tab, x, asg, Config{})
+		decoded := inputs(sitesOf(seqs))
+		switches, err := Build(testModel(), decoded, Config{})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -130,9 +130,9 @@ func TestBuildWeeklyCalendar(t *testing.T) {
 
 // A time zone the database lacks is an error naming it.
 func TestBuildUnknownZone(t *testing.T) {
-	tab, x, asg := inputs(series("a", 1, 1, 2, 2))
-	tab.Config = features.Config{TZ: "Nowhere/Atlantis"}
-	if _, _, err := Build(testModel(), tab, x, asg, Config{}); err == nil {
+	m := testModel()
+	m.FeatureConfig = features.Config{TZ: "Nowhere/Atlantis"}
+	if _, err := Build(m, inputs(series("a", 1, 1, 2, 2)), Config{}); err == nil {
 		t.Error("Build accepted an unknown time zone")
 	}
 }
@@ -155,12 +155,12 @@ func TestBuildCalendarBruteForce(t *testing.T) {
 			probe[d] = [2]float64{centre[r][0] + 3*rng.NormFloat64(), centre[r][1] + 3*rng.NormFloat64()}
 			ws = append(ws, window{site: "p", day: 2 + d, x: probe[d][0], y: probe[d][1], qe: 0.1})
 		}
-		tab, x, asg := inputs(ws)
-		entries, _, err := Build(testModel(), tab, x, asg, Config{})
+		decoded := inputs(ws)
+		_, err := Build(testModel(), decoded, Config{})
 		if err != nil {
 			t.Fatal(err)
 		}
-		got := regimesOf(entries, "p")
+		got := regimesOf(decoded, "p")
 
 		const switchCost, dwell = 1, 2 // testModel's automatic cost; the default dwell
 		objective := func(path []int) float64 {

@@ -21,8 +21,8 @@ func TestBuildSharedConditions(t *testing.T) {
 		}
 		seqs[string(rune('0'+i))] = r
 	}
-	tab, x, asg := inputs(sitesOf(seqs))
-	entries, switches, err := Build(testModel(), tab, x, asg, Config{})
+	decoded := inputs(sitesOf(seqs))
+	switches, err := Build(testModel(), decoded, Config{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -36,7 +36,7 @@ func TestBuildSharedConditions(t *testing.T) {
 		t.Errorf("switch %+v, want %+v", got, want)
 	}
 	for _, s := range []string{"0", "5", "6"} {
-		if got := regimesOf(entries, s); slices.ContainsFunc(got, func(r int) bool { return r != 1 }) {
+		if got := regimesOf(decoded, s); slices.ContainsFunc(got, func(r int) bool { return r != 1 }) {
 			t.Errorf("site %s: regimes %v, want 1 throughout", s, got)
 		}
 	}
@@ -50,8 +50,8 @@ func TestBuildSharedConditions(t *testing.T) {
 		}
 		seqs[string(rune('0'+i))] = r
 	}
-	tab, x, asg = inputs(sitesOf(seqs))
-	_, switches, err = Build(testModel(), tab, x, asg, Config{})
+	decoded = inputs(sitesOf(seqs))
+	switches, err = Build(testModel(), decoded, Config{})
 	if err != nil {
 		t.Fatal(err)
 	}

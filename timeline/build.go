@@ -22,6 +22,24 @@ import (
 // (see Viterbi), under the cfg.MinDwell rule. Components that are NaN in a
 // window are left out of its distances, the same for every regime.
 //
+// A regime is judged relative to the fleet: when most sites whose windows
+// are mostly in regime a show, at one window time, another regime's windows
+// (a storm, a heat wave, a holiday), significantly more often than a's
+// sites do at other times, a window at that time is measured in regime a
+// against the other regime's centroid (see shared.go). A change that most
+// of a regime's sites make at once is then read as a shared condition, not
+// as switches; one site's change is still a switch.
+//
+// Sites that run to a weekly calendar are decoded with it: when most weeks
+// of a regime's sites show, at some time of the week (local to the zone
+// m.FeatureConfig.TZ the windows were cut in), the windows of another
+// regime, and significantly more often than at the other times of the
+// week, a window at that time is measured in that regime against the other
+// regime's centroid (see calendar.go). An office's weekend then stays in
+// the office's regime instead of making two switches. The calendar is
+// learnt from the windows of ws alone, so a dump shorter than two weeks has
+// none.
+//
 // Gaps between windows (windows skipped for low coverage, or a unit that was
 // off) do not reset the decoding: the switch cost is the evidence a change
 // needs, and a gap brings none. A change across a gap is a switch at the
@@ -83,35 +101,62 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	}
 	slices.Sort(sites)
 
-	var switches []Switch
-	for _, site := range sites {
+	loc, err := time.LoadLocation(m.FeatureConfig.TZ)
+	if err != nil {
+		return nil, fmt.Errorf("timeline: time zone %q: %w", m.FeatureConfig.TZ, err)
+	}
+	seqs := make([]siteSeq, len(sites))
+	for s, site := range sites {
 		idx := bySite[site]
 		slices.SortStableFunc(idx, func(a, b int) int { return ws[a].Start.Compare(ws[b].Start) })
-		costs := make([][]float64, len(idx))
+		q := siteSeq{idx: idx, costs: make([][]float64, len(idx)), weeks: make([]int64, len(idx)), phases: make([]int64, len(idx))}
 		for j, i := range idx {
-			costs[j] = make([]float64, len(m.Regimes))
+			q.costs[j] = make([]float64, len(m.Regimes))
 			for k, r := range m.Regimes {
-				costs[j][k] = distance(ws[i].Scaled, r.Centroid)
-				if math.IsInf(costs[j][k], 0) {
+				q.costs[j][k] = distance(ws[i].Scaled, r.Centroid)
+				if math.IsInf(q.costs[j][k], 0) {
 					return nil, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, ws[i].Start.Format(time.RFC3339))
 				}
 			}
+			q.weeks[j], q.phases[j] = weekPhase(ws[i].Start, loc)
 		}
-		from, initial := startOf(m, priors, site, cfg.SwitchCost)
-		path, total := viterbi.Decode(costs, cfg.SwitchCost, initial, cfg.MinDwell, from)
-		for j, i := range idx {
-			ws[i].Regime = m.Regimes[path[j]].ID
+		q.from, q.initial = startOf(m, priors, site, cfg.SwitchCost)
+		seqs[s] = q
+	}
+	// Shared conditions first, so that the calendar is learnt from windows
+	// already relative to the fleet.
+	shared := learnShared(seqs, len(m.Regimes))
+	for s := range seqs {
+		q := &seqs[s]
+		for j, row := range q.costs {
+			q.costs[j] = substitute(row, shared[slot{q.weeks[j], q.phases[j]}])
 		}
-		for _, sw := range segmentSwitches(costs, cfg.SwitchCost, initial, from, path, total) {
-			before := from.State
+	}
+	cal := learnCalendar(seqs, len(m.Regimes))
+	for s := range seqs {
+		q := &seqs[s]
+		for j, row := range q.costs {
+			q.costs[j] = substitute(row, cal[q.phases[j]])
+		}
+		q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
+	}
+
+	var switches []Switch
+	for s, site := range sites {
+		q := seqs[s]
+		for j, i := range q.idx {
+			ws[i].Regime = m.Regimes[q.path[j]].ID
+		}
+		for _, sw := range segmentSwitches(q.costs, cfg.SwitchCost, q.initial, q.from, q.path, q.total) {
+			before := q.from.State
 			if sw.at > 0 {
-				before = path[sw.at-1]
+				before = q.path[sw.at-1]
 			}
 			switches = append(switches, Switch{
 				Site:       site,
-				Time:       ws[idx[sw.at]].Start,
+				Time:       ws[q.idx[sw.at]].Start,
 				From:       m.Regimes[before].ID,
-				To:         m.Regimes[path[sw.at]].ID,
+				To:         m.Regimes[q.path[sw.at]].ID,
 				Before:     sw.before,
 				After:      sw.after,
 				Confidence: sw.confidence,

@@ -6,6 +6,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
@@ -29,6 +30,7 @@ func Train(o Options) (*Result, error) {
 	if err := extract(&o, res, ds, o.Features); err != nil {
 		return nil, OptionError(err)
 	}
+	res.health = healthOf(ds, res, res.Table.Names)
 	sw.lap("features")
 
 	sc, err := res.Scale(o)
@@ -61,11 +63,11 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 		return nil, err
 	}
 	res, sw := Begin("assign", o), newStopwatch()
-	if err := project(&o, res, m, sw); err != nil {
+	if err := project(&o, res, m, sw, true); err != nil {
 		return nil, err
 	}
 	res.Model = m
-	res.Assignments = m.Map.Assign(res.X, o.Map.Workers)
+	res.Assignments = m.Map.AssignPartial(res.X, o.Map.Workers)
 	q := m.Map.Quality(res.Assignments)
 	res.quality = &q
 	sw.lap("assign")
@@ -87,7 +89,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 		return nil, err
 	}
 	res, sw := Begin("update", o), newStopwatch()
-	if err := project(&o, res, prev, sw); err != nil {
+	if err := project(&o, res, prev, sw, false); err != nil {
 		return nil, err
 	}
 	mc := o.Map
@@ -121,12 +123,15 @@ func progress(o *Options) func(int, float64) {
 }
 
 // project reads the dumps and turns them into the model's scaled feature
-// space.
-func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
+// space. With partial set (assign), channels of the model missing from the
+// dump, or from a site, leave their features NaN in res.X instead of
+// failing, for mapper.Map.AssignPartial.
+func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch, partial bool) error {
 	// Only the model's channels are read unless the options choose: a
 	// model trained on some channels of a dump applies to the whole dump.
 	if len(o.Ingest.Channels) == 0 {
 		o.Ingest.Channels = features.Channels(m.FeatureNames)
+		o.Ingest.Absent = partial
 	}
 	ds, err := readInput(o, res)
 	if err != nil {
@@ -138,11 +143,20 @@ func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
 	if err := extract(o, res, ds, fc); err != nil {
 		return err
 	}
+	var absent map[string][]string
+	if partial {
+		absent = absentChannels(ds, m.Scaler.Names)
+		conform(res.Table, m.FeatureNames)
+	}
+	res.health = healthOf(ds, res, m.Scaler.Names)
 	if err := m.CheckSchema(res.Table.Names); err != nil {
 		return err
 	}
 	if res.X, err = m.Scaler.Transform(res.Table); err != nil {
 		return err
+	}
+	if n := maskAbsent(res.Table, res.X, m.Scaler.Names, absent); len(res.Ingest.Absent) > 0 {
+		res.Info.Warnings = append(res.Info.Warnings, absentWarning(res.Ingest.Absent, n))
 	}
 	sw.lap("features")
 	return nil
@@ -252,6 +266,7 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 		return err
 	}
 	sw.lap("decode")
+	triage(&o, r)
 	finish(r, sw)
 	return nil
 }
@@ -271,6 +286,8 @@ func decode(o *Options, res *Result) error {
 		if err != nil {
 			return err
 		}
+		res.past = pastOf(h, res.Model.Lineage)
+		res.health = append(res.health, silentIn(h, res.Table, res.health)...)
 		c = h.Continue(res.Model, res.Model.Lineage, res.Table)
 		res.history = h
 		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)
@@ -324,6 +341,13 @@ func finish(res *Result, sw *stopwatch) {
 			info.Warnings = append(info.Warnings, info.Regimes.Note)
 		}
 	}
+	res.Health = res.health
+	info.Health = append([]export.Finding{}, res.health...) // a list in run.json even when empty
+	info.Attention = map[string]int{}
+	for _, a := range res.Attention {
+		info.Attention[a.Level.String()]++
+	}
+	info.Against = res.Against
 	var dropped int64
 	for _, n := range res.Ingest.Dropped {
 		dropped += n

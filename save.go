@@ -128,6 +128,9 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Summary:     &r.Ingest,
 		Changes:     r.Changes,
 		Title:       "kinmap " + cmp.Or(r.Info.Command, "run"),
+		Attention:   r.Attention,
+		Health:      r.Health,
+		Against:     r.Against,
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {

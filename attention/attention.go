@@ -18,7 +18,8 @@
 //	weak        its only switches have a lower confidence
 //
 // Within a level, new events come before revisions of events an earlier run
-// reported, then higher confidence, then site. A switch is a revision when
+// reported, then fleet-wide events by their number of sites, then higher
+// confidence, then site. A switch is a revision when
 // an earlier run reported a switch of the same site less than
 // Config.Nearby before or after it (Input.Earlier); the history keeps
 // those, so that re-decoding the end of last week does not make the same
@@ -287,7 +288,7 @@ func Rank(in Input, cfg Config) []Row {
 	}
 	slices.SortStableFunc(rows, func(a, b Row) int {
 		return cmp.Or(cmp.Compare(a.Level, b.Level), compareBool(a.Revision, b.Revision),
-			cmp.Compare(b.Confidence, a.Confidence), cmp.Compare(len(b.Sites), len(a.Sites)),
+			cmp.Compare(len(b.Sites), len(a.Sites)), cmp.Compare(b.Confidence, a.Confidence),
 			cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
 	})
 	for i := range rows {

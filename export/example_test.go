@@ -54,7 +54,10 @@ func ExampleWrite() {
 		}
 	}
 	// Output:
+	// attention.csv
+	// attention.parquet
 	// features.parquet
+	// health.csv
 	// kinmap.gpkg
 	// model
 	// regimes.geojson

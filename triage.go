@@ -72,7 +72,8 @@ func triage(o *Options, r *Result) {
 
 // against compares the run's windows with those of the previous period in
 // the history: the span of the same length just before the run's first
-// window.
+// window. It is nil when the history holds no window of the model's
+// lineage in that span.
 func against(p *past, entries []timeline.Entry) *export.Comparison {
 	first, last := entries[0].Start, entries[0].End
 	for _, e := range entries {
@@ -102,6 +103,9 @@ func against(p *past, entries []timeline.Entry) *export.Comparison {
 	for _, e := range entries {
 		c.Now[e.Regime]++
 		now[e.Site] = e.Regime
+	}
+	if c.Windows == 0 {
+		return nil // nothing to compare with
 	}
 	for id := range c.Then {
 		c.Then[id] /= float64(c.Windows)

@@ -21,6 +21,10 @@ var reportSections embed.FS
 // all.
 const maxAttentionRows = 100
 
+// maxHealthRows caps each kind of data health finding in the report,
+// warnings first; health.csv has them all.
+const maxHealthRows = 20
+
 // triageData is what the sections of the work list, the data health and
 // the comparison with the previous period show.
 type triageData struct {
@@ -44,6 +48,7 @@ type attentionItem struct {
 type healthGroup struct {
 	Title    string
 	Findings []healthItem
+	More     int // findings left out of the report
 }
 
 type healthItem struct {
@@ -104,6 +109,10 @@ func triageOf(r *Run) triageData {
 				Count: f.Count, Share: share, Warning: f.Warning})
 		}
 		if len(g.Findings) > 0 {
+			slices.SortStableFunc(g.Findings, func(a, b healthItem) int { return compareWarning(a.Warning, b.Warning) })
+			if len(g.Findings) > maxHealthRows {
+				g.More, g.Findings = len(g.Findings)-maxHealthRows, g.Findings[:maxHealthRows]
+			}
 			g.Title = healthTitles[kind]
 			d.Health = append(d.Health, g)
 		}
@@ -132,6 +141,17 @@ func sectionTemplates(t *template.Template) (*template.Template, error) {
 		return nil, fmt.Errorf("report sections: %w", err)
 	}
 	return t, nil
+}
+
+// compareWarning orders warnings first.
+func compareWarning(a, b bool) int {
+	switch {
+	case a == b:
+		return 0
+	case a:
+		return -1
+	}
+	return 1
 }
 
 // joinSites lists site ids for the report.

@@ -142,4 +142,3 @@ func checkShares(t *testing.T, what string, got, want map[int]float64) {
 		t.Errorf("shares %s: %v, want %v", what, got, want)
 	}
 }
-

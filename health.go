@@ -68,7 +68,7 @@ func healthOf(ds *ingest.Dataset, res *Result, names []string) []export.Finding 
 			parts = append(parts, fmt.Sprintf("%d for %s", skips[r], r))
 		}
 		out = append(out, export.Finding{Kind: export.HealthNoWindows, Site: site, Count: int64(n), Warning: true,
-			Detail: "every window skipped: " + strings.Join(parts, ", ") + "; lower --min-coverage or lengthen the window if its readings are sparse"})
+			Detail: "every window skipped: " + strings.Join(parts, ", ") + "; lower the minimum coverage or lengthen the window if its readings are sparse"})
 	}
 	for _, ch := range sum.Absent {
 		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(ds.Sites)), Warning: true,

@@ -27,25 +27,20 @@ const largeShare = 0.05
 // basic set's quantiles say little more than min and max.
 const minReadings = 20
 
-// healthOf finds what is wrong with the data of a run: sites of the
-// register that sent nothing, sites whose every window was skipped,
-// channels of names missing at sites, duplicates and sentinels per site,
-// dropped readings, the window against the sampling step and the epoch
-// unit. The history's silent sites are added when it is read (silentIn).
-func healthOf(ds *ingest.Dataset, res *Result, names []string) []export.Finding {
+// healthOf finds what is wrong with the data of a run from what the
+// stages counted (the ingest summary and the feature table), so that the
+// Beam path finds the same: sites of the register that sent nothing, sites
+// whose every window was skipped, channels of the features names missing
+// at sites, duplicates and sentinels per site, dropped readings, the
+// window against the sampling step and the epoch unit. The history's
+// silent sites are added when it is read (silentIn).
+func healthOf(res *Result, names []string) []export.Finding {
 	var out []export.Finding
 	sum := &res.Ingest
-	seen := make(map[string]bool, len(ds.Sites))
-	readings := make(map[string]int64, len(ds.Sites))
-	for _, sd := range ds.Sites {
-		seen[sd.ID] = true
-		for _, s := range sd.Series {
-			readings[sd.ID] += int64(s.Len())
-		}
-	}
+	readings := sum.SiteReadings
 	if reg := res.Register; reg != nil {
 		for _, s := range reg.Sites {
-			if !seen[s.ID] {
+			if _, ok := readings[s.ID]; !ok {
 				out = append(out, export.Finding{Kind: export.HealthSilent, Site: s.ID, Warning: true,
 					Detail: "in the site register, no reading in this dump"})
 			}
@@ -71,17 +66,17 @@ func healthOf(ds *ingest.Dataset, res *Result, names []string) []export.Finding 
 			Detail: "every window skipped: " + strings.Join(parts, ", ") + "; lower the minimum coverage or lengthen the window if its readings are sparse"})
 	}
 	for _, ch := range sum.Absent {
-		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(ds.Sites)), Warning: true,
+		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(t.Windows)), Warning: true,
 			Detail: "missing from the whole dump; its features are missing and each window was placed by the others"})
 	}
-	absent := absentChannels(ds, names)
-	for _, sd := range ds.Sites {
-		for _, ch := range absent[sd.ID] {
+	absent := absentChannels(t, names)
+	for _, site := range slices.Sorted(maps.Keys(absent)) {
+		for _, ch := range absent[site] {
 			if slices.Contains(sum.Absent, ch) {
 				continue
 			}
-			out = append(out, export.Finding{Kind: export.HealthMissingChannel, Site: sd.ID, Channel: ch, Count: int64(windows[sd.ID]),
-				Detail: "no reading of this channel at the site; its features are missing in the site's windows"})
+			out = append(out, export.Finding{Kind: export.HealthMissingChannel, Site: site, Channel: ch, Count: int64(windows[site]),
+				Detail: "no reading of this channel in the site's windows; its features are missing there"})
 		}
 	}
 	for _, site := range slices.Sorted(maps.Keys(sum.SiteDuplicates)) {

@@ -1,6 +1,7 @@
 package kinmap
 
 import (
+	"math"
 	"testing"
 	"time"
 
@@ -51,31 +52,25 @@ func TestStepFinding(t *testing.T) {
 // windows and its reasons, a channel a site never reported, and warns of a
 // site whose duplicates pass 5 % of its readings.
 func TestHealthOf(t *testing.T) {
-	series := func(n int) ingest.Series {
-		s := ingest.Series{}
-		for i := range n {
-			s.Times = append(s.Times, int64(i)*int64(10*time.Minute))
-			s.Values = append(s.Values, 1)
-		}
-		return s
+	nan := math.NaN()
+	w := func(site string, flow, vib float64) features.Window {
+		return features.Window{Site: site, Values: []float64{flow, vib}}
 	}
-	ds := &ingest.Dataset{Sites: []*ingest.SiteData{
-		{ID: "a", Series: map[string]ingest.Series{"flow": series(90), "vibration": series(90)}},
-		{ID: "b", Series: map[string]ingest.Series{"flow": series(100)}},
-		{ID: "c", Series: map[string]ingest.Series{"flow": series(95), "vibration": series(95)}},
-	}}
 	reg := &ingest.Register{Sites: []*ingest.Site{{ID: "a"}, {ID: "b"}, {ID: "c"}, {ID: "quiet"}}}
 	res := &Result{
 		Register: reg,
-		Ingest:   ingest.Summary{SiteDuplicates: map[string]int64{"a": 10, "b": 1}},
+		Ingest: ingest.Summary{SiteDuplicates: map[string]int64{"a": 10, "b": 1},
+			SiteReadings: map[string]int64{"a": 180, "b": 100, "c": 190}},
 		Table: &features.Table{
-			Config:  features.Config{Window: 24 * time.Hour},
-			Step:    10 * time.Minute,
-			Windows: []features.Window{{Site: "a"}, {Site: "a"}, {Site: "a"}, {Site: "a"}, {Site: "b"}, {Site: "b"}, {Site: "b"}, {Site: "b"}},
+			Names:  []string{"flow.mean", "vibration.mean"},
+			Config: features.Config{Window: 24 * time.Hour},
+			Step:   10 * time.Minute,
+			// b never reported vibration; a lacks it in one window only.
+			Windows: []features.Window{w("a", 1, 2), w("a", 1, nan), w("a", 1, 2), w("a", 1, 2), w("b", 1, nan), w("b", 1, nan), w("b", 1, nan), w("b", 1, nan)},
 			Skipped: map[string]features.Skips{"c": {"coverage": 2, "empty": 1}, "a": {"coverage": 1}},
 		},
 	}
-	got := healthOf(ds, res, []string{"flow.mean", "vibration.mean"})
+	got := healthOf(res, []string{"flow.mean", "vibration.mean"})
 	want := []export.Finding{
 		{Kind: export.HealthSilent, Site: "quiet", Warning: true},
 		{Kind: export.HealthNoWindows, Site: "c", Count: 3, Warning: true},

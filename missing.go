@@ -2,6 +2,7 @@ package kinmap
 
 import (
 	"fmt"
+	"maps"
 	"math"
 	"slices"
 	"strings"
@@ -9,19 +10,48 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/kinmap/kinmap/features"
-	"github.com/kinmap/kinmap/ingest"
 )
 
-// absentChannels returns, by site, the channels of the model's features
-// that the site's series lack in ds: those of the whole dump
-// (Summary.Absent) and those a site alone never reported.
-func absentChannels(ds *ingest.Dataset, names []string) map[string][]string {
-	want := features.Channels(names)
+// absentChannels returns, by site, the channels of the features names
+// that no window of the site in t has a value of: channels missing from
+// the whole dump (NaN columns, see conform) and channels a site never
+// reported. A window that lacks a channel the site reports fails the
+// coverage rule, so a channel without a value in any kept window of a site
+// is one the site did not send. The count stat, 0 without readings, does
+// not count.
+func absentChannels(t *features.Table, names []string) map[string][]string {
+	index := make(map[string]int, len(t.Names))
+	for j, n := range t.Names {
+		index[n] = j
+	}
+	cols := map[string][]int{} // by channel, the columns of its features
+	for _, n := range names {
+		j, ok := index[n]
+		if !ok || strings.HasSuffix(n, ".count") {
+			continue
+		}
+		for _, ch := range features.Channels([]string{n}) {
+			cols[ch] = append(cols[ch], j)
+		}
+	}
 	out := map[string][]string{}
-	for _, sd := range ds.Sites {
-		for _, ch := range want {
-			if sd.Series[ch].Len() == 0 {
-				out[sd.ID] = append(out[sd.ID], ch)
+	for _, seq := range t.Sequences() {
+		site := t.Windows[seq[0]].Site
+		for _, ch := range slices.Sorted(maps.Keys(cols)) {
+			seen := false
+			for _, i := range seq {
+				for _, j := range cols[ch] {
+					if !math.IsNaN(t.Windows[i].Values[j]) {
+						seen = true
+						break
+					}
+				}
+				if seen {
+					break
+				}
+			}
+			if !seen {
+				out[site] = append(out[site], ch)
 			}
 		}
 	}

@@ -30,7 +30,6 @@ func Train(o Options) (*Result, error) {
 	if err := extract(&o, res, ds, o.Features); err != nil {
 		return nil, OptionError(err)
 	}
-	res.health = healthOf(ds, res, res.Table.Names)
 	sw.lap("features")
 
 	sc, err := res.Scale(o)
@@ -145,10 +144,9 @@ func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch, partial bo
 	}
 	var absent map[string][]string
 	if partial {
-		absent = absentChannels(ds, m.Scaler.Names)
 		conform(res.Table, m.FeatureNames)
+		absent = absentChannels(res.Table, m.Scaler.Names)
 	}
-	res.health = healthOf(ds, res, m.Scaler.Names)
 	if err := m.CheckSchema(res.Table.Names); err != nil {
 		return err
 	}
@@ -262,6 +260,7 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	if sw.times == nil {
 		sw.times = map[string]float64{}
 	}
+	r.health = healthOf(r, r.Model.Scaler.Names)
 	if err := decode(&o, r); err != nil {
 		return err
 	}

@@ -185,8 +185,10 @@ type Summary struct {
 	NaiveTime      bool       // timestamps without UTC adjustment were read as UTC
 	Unregistered   []string   // sites in the dump but not in the register
 	Absent         []string   // channels of Options.Channels absent from the dump (Options.Absent)
-	// SiteDuplicates counts the duplicates of Duplicates by site.
+	// SiteDuplicates counts the duplicates of Duplicates by site, and
+	// SiteReadings the readings kept by site.
 	SiteDuplicates map[string]int64
+	SiteReadings   map[string]int64
 }
 
 // FileSummary describes one file read.

@@ -465,6 +465,10 @@ func (r *reader) finish() (*Dataset, error) {
 				continue
 			}
 			sum.Readings += int64(ser.Len())
+			if sum.SiteReadings == nil {
+				sum.SiteReadings = make(map[string]int64)
+			}
+			sum.SiteReadings[sa.id] += int64(ser.Len())
 			start, end = min(start, ser.Times[0]), max(end, ser.Times[ser.Len()-1])
 			ch := r.seriesChan[id]
 			kept[ch] = true

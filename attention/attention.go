@@ -48,7 +48,8 @@
 // MinFleetSites of them and their number is improbable for sites switching
 // independently: with n such switches (same from and to) over a run of D
 // days, the count on one day is taken as Poisson with mean n/D, and the
-// day is an event when P(X ≥ k) < Config.FleetAlpha. Weather, a season or a
+// day is an event when P(X ≥ k) < Config.FleetAlpha. Its level is that
+// of a switch into its regime, with the mean confidence of its switches. Weather, a season or a
 // change in the data pipeline moves many sites at once; one row names
 // them, and their switch leaves their own rows. This is a scan for an
 // excess of events in one cell of time, as in J. Naus, "Approximations for
@@ -198,6 +199,8 @@ func Rank(in Input, cfg Config) []Row {
 			len(e.Sites), label(e.From), label(e.To), e.Time.UTC().Format(time.DateOnly))
 		if lv := statusLevel(in.Status[e.To]); lv < e.Level {
 			e.Level = lv
+		} else if e.Confidence < cfg.MinConfidence {
+			e.Level = Weak
 		}
 		rows = append(rows, e)
 	}

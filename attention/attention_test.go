@@ -152,3 +152,30 @@ func TestBinomialTail(t *testing.T) {
 		}
 	}
 }
+
+// A fleet-wide event takes the level of a switch into its regime: fault
+// when the regime is marked fault, weak when its switches' mean confidence
+// is below the threshold.
+func TestRankFleetEventLevel(t *testing.T) {
+	var sites []string
+	after := map[string][2]int{}
+	for i := range 8 {
+		s := string(rune('a' + i))
+		sites = append(sites, s)
+		after[s] = [2]int{10, 2}
+	}
+	for _, c := range []struct {
+		status string
+		conf   float64
+		want   Level
+	}{{StatusFault, 0.3, Fault}, {StatusNormal, 0.3, Weak}, {StatusNormal, 0.6, Switch}, {"", 0.6, Switch}} {
+		var sw []timeline.Switch
+		for _, s := range sites {
+			sw = append(sw, timeline.Switch{Site: s, Time: at(10), From: 1, To: 2, Confidence: c.conf})
+		}
+		rows := Rank(Input{Entries: fleetOf(sites, after, nil), Switches: sw, Status: map[int]string{2: c.status}}, DefaultConfig())
+		if len(rows) != 1 || rows[0].Kind() != "fleet" || rows[0].Level != c.want {
+			t.Errorf("status %q, confidence %g: rows %+v, want one fleet row at level %s", c.status, c.conf, rows, c.want)
+		}
+	}
+}

@@ -162,7 +162,7 @@ func TestRankFleetEventLevel(t *testing.T) {
 	for i := range 8 {
 		s := string(rune('a' + i))
 		sites = append(sites, s)
-		after[s] = [2]int{10, 2}
+		after[s] = [2]int{24, 2} // 4 windows in regime 2: no long stay
 	}
 	for _, c := range []struct {
 		status string
@@ -171,7 +171,7 @@ func TestRankFleetEventLevel(t *testing.T) {
 	}{{StatusFault, 0.3, Fault}, {StatusNormal, 0.3, Weak}, {StatusNormal, 0.6, Switch}, {"", 0.6, Switch}} {
 		var sw []timeline.Switch
 		for _, s := range sites {
-			sw = append(sw, timeline.Switch{Site: s, Time: at(10), From: 1, To: 2, Confidence: c.conf})
+			sw = append(sw, timeline.Switch{Site: s, Time: at(24), From: 1, To: 2, Confidence: c.conf})
 		}
 		rows := Rank(Input{Entries: fleetOf(sites, after, nil), Switches: sw, Status: map[int]string{2: c.status}}, DefaultConfig())
 		if len(rows) != 1 || rows[0].Kind() != "fleet" || rows[0].Level != c.want {

@@ -10,12 +10,12 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/scenarios"
-	"github.com/kinmap/kinmap/timeline"
 )
 
 // shares counts the windows of entries by regime, as shares.
-func shares(entries []timeline.Entry) map[int]float64 {
+func shares(entries []features.Window) map[int]float64 {
 	out := map[int]float64{}
 	for _, e := range entries {
 		out[e.Regime] += 1 / float64(len(entries))
@@ -24,7 +24,7 @@ func shares(entries []timeline.Entry) map[int]float64 {
 }
 
 // lastRegime is each site's regime at its last window.
-func lastRegime(entries []timeline.Entry) map[string]int {
+func lastRegime(entries []features.Window) map[string]int {
 	out := map[string]int{}
 	for _, e := range entries {
 		out[e.Site] = e.Regime
@@ -106,9 +106,9 @@ func TestAgainstPreviousWeek(t *testing.T) {
 	if !c.To.Equal(fleet.WindowStart(7)) || !c.From.Equal(fleet.WindowStart(0)) {
 		t.Errorf("previous period %s to %s, want week 1", c.From, c.To)
 	}
-	checkShares(t, "then", c.Then, shares(first.Entries))
-	checkShares(t, "now", c.Now, shares(second.Entries))
-	then, now := lastRegime(first.Entries), lastRegime(second.Entries)
+	checkShares(t, "then", c.Then, shares(first.Table.Windows))
+	checkShares(t, "now", c.Now, shares(second.Table.Windows))
+	then, now := lastRegime(first.Table.Windows), lastRegime(second.Table.Windows)
 	var changed []export.RegimeMove
 	for _, s := range slices.Sorted(maps.Keys(then)) {
 		if r, ok := now[s]; ok && r != then[s] {

@@ -25,6 +25,7 @@ import (
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -75,19 +76,18 @@ func IsUsage(err error) bool {
 	return errors.As(err, &u) || errors.Is(err, ingest.ErrUsage)
 }
 
-// Result is the outcome of a run: what was read, the feature table, the
-// model, where each window landed and the decoded timelines.
+// Result is the outcome of a run: what was read, the feature table, whose
+// windows record where each landed on the map and its decoded regime, the
+// model and the switches.
 type Result struct {
-	Ingest      ingest.Summary
-	Register    *ingest.Register
-	Table       *features.Table
-	X           *mat.Dense // scaled features, one row per window of Table
-	Model       *mapper.Model
-	Assignments []mapper.Assignment
-	Entries     []timeline.Entry
-	Switches    []timeline.Switch
-	Changes     []mapper.RegimeChange // regime renumbering by Update
-	Info        RunInfo
+	Ingest   ingest.Summary
+	Register *ingest.Register
+	Table    *features.Table // one record per window, filled by every stage
+	X        *mat.Dense      // scaled features, one row per window of Table (each window's Scaled is a view of its row)
+	Model    *model.Model
+	Switches []timeline.Switch
+	Changes  []mapper.RegimeChange // regime renumbering by Update
+	Info     RunInfo
 
 	// The work list, the data health and, with a history, the comparison
 	// with the previous period.
@@ -102,6 +102,9 @@ type Result struct {
 	quality *mapper.Quality
 	past    *past            // the history before the run; nil without one
 	health  []export.Finding // the data health found before decoding
+	// daily summarises the readings by site, channel and day for the
+	// report's explorer.
+	daily []export.DailySummary
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.

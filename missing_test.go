@@ -59,8 +59,8 @@ func TestAssignMissingChannel(t *testing.T) {
 		if err != nil {
 			t.Fatalf("seed %d: assign without vibration: %v", seed, err)
 		}
-		if len(res.Entries) != len(trained.Entries) {
-			t.Fatalf("seed %d: %d windows without vibration, %d with", seed, len(res.Entries), len(trained.Entries))
+		if len(res.Table.Windows) != len(trained.Table.Windows) {
+			t.Fatalf("seed %d: %d windows without vibration, %d with", seed, len(res.Table.Windows), len(trained.Table.Windows))
 		}
 		// The mean fill: every missing feature at zero.
 		filled := mat.DenseCopyOf(res.X)
@@ -72,18 +72,18 @@ func TestAssignMissingChannel(t *testing.T) {
 		}, filled)
 		fill := m.Map.Assign(filled, 0)
 		var partialAgree, fillAgree int
-		for i, a := range trained.Assignments {
-			want := m.UnitRegime[a.BMU]
-			if m.UnitRegime[res.Assignments[i].BMU] == want {
+		for i, w := range trained.Table.Windows {
+			want := m.UnitRegime[w.Unit]
+			if m.UnitRegime[res.Table.Windows[i].Unit] == want {
 				partialAgree++
 			}
 			if m.UnitRegime[fill[i].BMU] == want {
 				fillAgree++
 			}
 		}
-		n := float64(len(trained.Assignments))
+		n := float64(len(trained.Table.Windows))
 		p, f := float64(partialAgree)/n, float64(fillAgree)/n
-		t.Logf("seed %d: %d windows; regime of the BMU agrees with all channels: partial distance %.3f, mean fill %.3f", seed, len(trained.Assignments), p, f)
+		t.Logf("seed %d: %d windows; regime of the BMU agrees with all channels: partial distance %.3f, mean fill %.3f", seed, len(trained.Table.Windows), p, f)
 		if p < f || p < 0.8 {
 			t.Errorf("seed %d: partial distance agrees %.3f, mean fill %.3f; want at least the fill and 0.8", seed, p, f)
 		}

@@ -57,7 +57,7 @@ func attentionConfig(o *Options, t *features.Table) attention.Config {
 // triage makes the run's work list, and its comparison with the previous
 // period when it read a history.
 func triage(o *Options, r *Result) {
-	in := attention.Input{Entries: r.Entries, Switches: r.Switches, Status: map[int]string{}, Names: map[int]string{}}
+	in := attention.Input{Windows: r.Table.Windows, Switches: r.Switches, Status: map[int]string{}, Names: map[int]string{}}
 	for _, g := range r.Model.Regimes {
 		in.Status[g.ID], in.Names[g.ID] = g.Status, g.Name
 	}
@@ -65,8 +65,8 @@ func triage(o *Options, r *Result) {
 		in.Earlier = r.past.earlier
 	}
 	r.Attention = attention.Rank(in, attentionConfig(o, r.Table))
-	if r.past != nil && len(r.Entries) > 0 {
-		r.Against = against(r.past, r.Entries)
+	if r.past != nil && len(r.Table.Windows) > 0 {
+		r.Against = against(r.past, r.Table.Windows)
 	}
 }
 
@@ -74,9 +74,9 @@ func triage(o *Options, r *Result) {
 // the history: the span of the same length just before the run's first
 // window. It is nil when the history holds no window of the model's
 // lineage in that span.
-func against(p *past, entries []timeline.Entry) *export.Comparison {
-	first, last := entries[0].Start, entries[0].End
-	for _, e := range entries {
+func against(p *past, ws []features.Window) *export.Comparison {
+	first, last := ws[0].Start, ws[0].End
+	for _, e := range ws {
 		if e.Start.Before(first) {
 			first = e.Start
 		}
@@ -100,7 +100,7 @@ func against(p *past, entries []timeline.Entry) *export.Comparison {
 			then[w.Site] = w.Regime
 		}
 	}
-	for _, e := range entries {
+	for _, e := range ws {
 		c.Now[e.Regime]++
 		now[e.Site] = e.Regime
 	}
@@ -111,7 +111,7 @@ func against(p *past, entries []timeline.Entry) *export.Comparison {
 		c.Then[id] /= float64(c.Windows)
 	}
 	for id := range c.Now {
-		c.Now[id] /= float64(len(entries))
+		c.Now[id] /= float64(len(ws))
 	}
 	for _, site := range slices.Sorted(maps.Keys(then)) {
 		if r, ok := now[site]; !ok {

@@ -45,7 +45,7 @@ func TestTriagePlantedFaults(t *testing.T) {
 		for _, s := range fleet.Sites {
 			truth[s.ID] = s.Regimes
 		}
-		for _, e := range res.Entries {
+		for _, e := range res.Table.Windows {
 			i := int(e.Start.Sub(fleet.WindowStart(0)) / fleet.Window)
 			if votes[e.Regime] == nil {
 				votes[e.Regime] = map[string]int{}

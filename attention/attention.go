@@ -68,6 +68,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -142,7 +143,7 @@ type Earlier struct {
 
 // Input is what the list is made from.
 type Input struct {
-	Entries  []timeline.Entry  // the run's windows, by site, then time
+	Windows  []features.Window // the run's decoded windows, by site, then time
 	Switches []timeline.Switch // the run's switches
 	Status   map[int]string    // regime ID → status; a missing ID is unlabelled
 	Names    map[int]string    // regime ID → the user's name; optional
@@ -222,7 +223,7 @@ func Rank(in Input, cfg Config) []Row {
 		}
 		return false
 	}
-	for _, seq := range sites(in.Entries) {
+	for _, seq := range sites(in.Windows) {
 		site := seq[0].Site
 		r := Row{Site: site, Sites: []string{site}, Level: Weak + 1}
 		var reasons []string
@@ -322,15 +323,15 @@ func compareBool(a, b bool) int {
 	return -1
 }
 
-// sites splits entries, sorted by site, into each site's windows.
-func sites(entries []timeline.Entry) [][]timeline.Entry {
-	var out [][]timeline.Entry
-	for i := 0; i < len(entries); {
+// sites splits ws, sorted by site, into each site's windows.
+func sites(ws []features.Window) [][]features.Window {
+	var out [][]features.Window
+	for i := 0; i < len(ws); {
 		j := i + 1
-		for j < len(entries) && entries[j].Site == entries[i].Site {
+		for j < len(ws) && ws[j].Site == ws[i].Site {
 			j++
 		}
-		out = append(out, entries[i:j])
+		out = append(out, ws[i:j])
 		i = j
 	}
 	return out
@@ -352,11 +353,11 @@ func eventKey(s timeline.Switch) string {
 // fleetEvents finds the fleet-wide events of in (see the package
 // documentation) and the switches they hold, keyed by eventKey|site.
 func fleetEvents(in Input, cfg Config) ([]Row, map[string]bool) {
-	if len(in.Entries) == 0 {
+	if len(in.Windows) == 0 {
 		return nil, nil
 	}
-	first, last := in.Entries[0].Start, in.Entries[0].End
-	for _, e := range in.Entries {
+	first, last := in.Windows[0].Start, in.Windows[0].End
+	for _, e := range in.Windows {
 		first, last = minTime(first, e.Start), maxTime(last, e.End)
 	}
 	days := math.Max(1, last.Sub(first).Hours()/24)

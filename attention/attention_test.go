@@ -6,6 +6,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -15,11 +16,11 @@ func at(d int) time.Time { return day0.AddDate(0, 0, d) }
 
 // fleetOf makes 28 daily windows for each site, every window in regime 1
 // unless regimes says otherwise from a day on.
-func fleetOf(sites []string, after map[string][2]int, unfamiliar map[string]int) []timeline.Entry {
-	var es []timeline.Entry
+func fleetOf(sites []string, after map[string][2]int, unfamiliar map[string]int) []features.Window {
+	var es []features.Window
 	for _, s := range sites {
 		for d := range 28 {
-			e := timeline.Entry{Site: s, Start: at(d), End: at(d + 1), Regime: 1}
+			e := features.Window{Site: s, Start: at(d), End: at(d + 1), Regime: 1}
 			if a, ok := after[s]; ok && d >= a[0] {
 				e.Regime = a[1]
 			}
@@ -35,7 +36,7 @@ func TestRankOrder(t *testing.T) {
 	status := map[int]string{1: StatusNormal, 2: StatusNormal, 3: StatusWatch, 4: StatusFault}
 	after := map[string][2]int{"a": {20, 2}, "b": {10, 4}, "c": {25, 3}, "d": {20, 2}, "f": {3, 3}}
 	in := Input{
-		Entries: fleetOf(sites, after, map[string]int{"e": 4, "g": 1}),
+		Windows: fleetOf(sites, after, map[string]int{"e": 4, "g": 1}),
 		Switches: []timeline.Switch{
 			{Site: "a", Time: at(20), From: 1, To: 2, Confidence: 0.9},
 			{Site: "b", Time: at(10), From: 1, To: 4, Confidence: 0.55},
@@ -86,7 +87,7 @@ func containsAll(s string, parts ...string) bool {
 // long stay; six windows are not.
 func TestRankLongStay(t *testing.T) {
 	status := map[int]string{1: StatusNormal, 4: StatusFault}
-	in := Input{Entries: fleetOf([]string{"long", "short"}, map[string][2]int{"long": {21, 4}, "short": {22, 4}}, nil), Status: status}
+	in := Input{Windows: fleetOf([]string{"long", "short"}, map[string][2]int{"long": {21, 4}, "short": {22, 4}}, nil), Status: status}
 	rows := Rank(in, DefaultConfig())
 	if len(rows) != 1 || rows[0].Site != "long" || rows[0].Level != Stay {
 		t.Fatalf("got %+v, want one stay row for site long", rows)
@@ -111,7 +112,7 @@ func TestRankFleetEvent(t *testing.T) {
 			sw = append(sw, timeline.Switch{Site: s, Time: at(5), From: 1, To: 2, Confidence: 0.8})
 		}
 	}
-	rows := Rank(Input{Entries: fleetOf(sites, after, nil), Switches: sw}, DefaultConfig())
+	rows := Rank(Input{Windows: fleetOf(sites, after, nil), Switches: sw}, DefaultConfig())
 	if len(rows) != 3 {
 		t.Fatalf("%d rows, want the event and 2 sites: %+v", len(rows), rows)
 	}
@@ -173,7 +174,7 @@ func TestRankFleetEventLevel(t *testing.T) {
 		for _, s := range sites {
 			sw = append(sw, timeline.Switch{Site: s, Time: at(24), From: 1, To: 2, Confidence: c.conf})
 		}
-		rows := Rank(Input{Entries: fleetOf(sites, after, nil), Switches: sw, Status: map[int]string{2: c.status}}, DefaultConfig())
+		rows := Rank(Input{Windows: fleetOf(sites, after, nil), Switches: sw, Status: map[int]string{2: c.status}}, DefaultConfig())
 		if len(rows) != 1 || rows[0].Kind() != "fleet" || rows[0].Level != c.want {
 			t.Errorf("status %q, confidence %g: rows %+v, want one fleet row at level %s", c.status, c.conf, rows, c.want)
 		}

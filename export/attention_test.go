@@ -3,6 +3,7 @@ package export
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"testing"
 	"time"
 
@@ -65,5 +66,44 @@ func TestAttentionTables(t *testing.T) {
 	}
 	if records[0][11] != "new" || records[2][11] != "" || records[0][1] != "fault" || records[0][7] != "2026-11-09T00:00:00Z" {
 		t.Errorf("CSV rows %q", records)
+	}
+}
+
+// The explorer's sites table carries the work list's rank: a site's own
+// row, or the fleet-wide event it is part of when that ranks higher; a
+// site on no row has none.
+func TestExplorerRank(t *testing.T) {
+	r := fixtureRun()
+	r.Attention = []attention.Row{
+		{Rank: 1, Level: attention.Watch, Sites: []string{"T-7", "PS-01"}, Reason: "2 sites switched"},
+		{Rank: 2, Level: attention.Switch, Site: "PS-01", Sites: []string{"PS-01"}, Reason: "switched"},
+		{Rank: 3, Level: attention.Unfamiliar, Site: "X-9", Sites: []string{"X-9"}, Reason: "1 of 3 windows unfamiliar"},
+	}
+	ss, _ := sites(r)
+	data, _, err := explorerJSON(r, ss, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var d struct {
+		Sites []struct {
+			ID   string `json:"id"`
+			Rank *int   `json:"rank"`
+		} `json:"sites"`
+	}
+	if err := json.Unmarshal(data, &d); err != nil {
+		t.Fatal(err)
+	}
+	want := map[string]int{"PS-01": 1, "T-7": 1, "X-9": 3}
+	if len(d.Sites) != 4 {
+		t.Fatalf("%d sites in the explorer, want 4", len(d.Sites))
+	}
+	for _, s := range d.Sites {
+		w, ok := want[s.ID]
+		switch {
+		case !ok && s.Rank != nil:
+			t.Errorf("site %s: rank %d, want none", s.ID, *s.Rank)
+		case ok && (s.Rank == nil || *s.Rank != w):
+			t.Errorf("site %s: rank %v, want %d", s.ID, s.Rank, w)
+		}
 	}
 }

@@ -2,20 +2,13 @@ package export
 
 import (
 	"cmp"
-	"embed"
-	"fmt"
-	"html/template"
 	"maps"
 	"slices"
 	"strconv"
 	"strings"
-)
 
-// reportSections are the report's sections kept in files of their own,
-// each a {{define}} that report.html calls with {{template}}.
-//
-//go:embed report_*.html
-var reportSections embed.FS
+	"github.com/kinmap/kinmap/attention"
+)
 
 // maxAttentionRows caps the work list in the report; attention.csv has it
 // all.
@@ -134,13 +127,18 @@ func triageOf(r *Run) triageData {
 	return d
 }
 
-// sectionTemplates adds the report's own section files to t.
-func sectionTemplates(t *template.Template) (*template.Template, error) {
-	t, err := t.ParseFS(reportSections, "report_*.html")
-	if err != nil {
-		return nil, fmt.Errorf("report sections: %w", err)
+// attentionRanks gives each site of rows the rank of the most urgent row
+// that names it: its own row, or a fleet-wide event it is part of.
+func attentionRanks(rows []attention.Row) map[string]int {
+	out := map[string]int{}
+	for _, r := range rows {
+		for _, s := range r.Sites {
+			if k, ok := out[s]; !ok || r.Rank < k {
+				out[s] = r.Rank
+			}
+		}
 	}
-	return t, nil
+	return out
 }
 
 // compareWarning orders warnings first.

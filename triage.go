@@ -75,15 +75,7 @@ func triage(o *Options, r *Result) {
 // window. It is nil when the history holds no window of the model's
 // lineage in that span.
 func against(p *past, ws []features.Window) *export.Comparison {
-	first, last := ws[0].Start, ws[0].End
-	for _, e := range ws {
-		if e.Start.Before(first) {
-			first = e.Start
-		}
-		if e.End.After(last) {
-			last = e.End
-		}
-	}
+	first, last := features.Span(ws)
 	from := first.Add(-last.Sub(first))
 	c := &export.Comparison{From: from, To: first, Then: map[int]float64{}, Now: map[int]float64{},
 		Period: from.UTC().Format(time.DateOnly) + " to " + first.UTC().Format(time.DateOnly)}

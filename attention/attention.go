@@ -356,10 +356,7 @@ func fleetEvents(in Input, cfg Config) ([]Row, map[string]bool) {
 	if len(in.Windows) == 0 {
 		return nil, nil
 	}
-	first, last := in.Windows[0].Start, in.Windows[0].End
-	for _, e := range in.Windows {
-		first, last = minTime(first, e.Start), maxTime(last, e.End)
-	}
+	first, last := features.Span(in.Windows)
 	days := math.Max(1, last.Sub(first).Hours()/24)
 	pairs := map[[2]int]int{}
 	groups := map[string][]timeline.Switch{}
@@ -393,18 +390,4 @@ func fleetEvents(in Input, cfg Config) ([]Row, map[string]bool) {
 		rows = append(rows, r)
 	}
 	return rows, held
-}
-
-func minTime(a, b time.Time) time.Time {
-	if b.Before(a) {
-		return b
-	}
-	return a
-}
-
-func maxTime(a, b time.Time) time.Time {
-	if b.After(a) {
-		return b
-	}
-	return a
 }

@@ -19,6 +19,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
@@ -91,11 +92,19 @@ type Result struct {
 	Conditions *Conditions           // what labelled events say of the windows; nil without events or label knowledge
 	Info       RunInfo
 
+	// The work list, the data health and, with a history, the comparison
+	// with the previous period.
+	Attention []attention.Row
+	Health    []export.Finding
+	Against   *export.Comparison
+
 	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality *mapper.Quality
+	past    *past            // the history before the run; nil without one
+	health  []export.Finding // the data health found before decoding
 	// daily summarises the readings by site, channel and day for the
 	// report's explorer.
 	daily []export.DailySummary
@@ -119,6 +128,13 @@ type RunInfo struct {
 	Regimes  *RegimeChoice        `json:"regime_choice,omitempty"`
 	Timings  map[string]float64   `json:"timings_seconds"`
 	Warnings []string             `json:"warnings"`
+
+	// Health lists the data health findings (health.csv); Attention counts
+	// the work list's rows by level; Against is the comparison with the
+	// previous period of the history.
+	Health    []export.Finding   `json:"health"`
+	Attention map[string]int     `json:"attention"`
+	Against   *export.Comparison `json:"against_previous,omitempty"`
 }
 
 // RegimeChoice is how the run reached its number of regimes (K, the

@@ -58,11 +58,11 @@ func Assign(o Options, m *model.Model) (*Result, error) {
 		return nil, err
 	}
 	res, sw := Begin("assign", o), newStopwatch()
-	if err := project(&o, res, m, sw); err != nil {
+	if err := project(&o, res, m, sw, true); err != nil {
 		return nil, err
 	}
 	res.Model = m
-	asg := m.Map.Assign(res.X, o.Map.Workers)
+	asg := m.Map.AssignPartial(res.X, o.Map.Workers)
 	if err := mapper.Place(res.Table.Windows, asg); err != nil {
 		return nil, err
 	}
@@ -87,7 +87,7 @@ func Update(o Options, prev *model.Model) (*Result, error) {
 		return nil, err
 	}
 	res, sw := Begin("update", o), newStopwatch()
-	if err := project(&o, res, prev, sw); err != nil {
+	if err := project(&o, res, prev, sw, false); err != nil {
 		return nil, err
 	}
 	mc := o.Map
@@ -118,12 +118,15 @@ func progress(o *Options) func(int, float64) {
 }
 
 // project reads the dumps and turns them into the model's scaled feature
-// space.
-func project(o *Options, res *Result, m *model.Model, sw *stopwatch) error {
+// space. With partial set (assign), channels of the model missing from the
+// dump, or from a site, leave their features NaN in res.X instead of
+// failing, for mapper.Map.AssignPartial.
+func project(o *Options, res *Result, m *model.Model, sw *stopwatch, partial bool) error {
 	// Only the model's channels are read unless the options choose: a
 	// model trained on some channels of a dump applies to the whole dump.
 	if len(o.Ingest.Channels) == 0 {
 		o.Ingest.Channels = features.Channels(m.FeatureNames)
+		o.Ingest.Absent = partial
 	}
 	ds, err := readInput(o, res)
 	if err != nil {
@@ -135,11 +138,19 @@ func project(o *Options, res *Result, m *model.Model, sw *stopwatch) error {
 	if err := extract(o, res, ds, fc); err != nil {
 		return err
 	}
+	var absent map[string][]string
+	if partial {
+		conform(res.Table, m.FeatureNames)
+		absent = absentChannels(res.Table, m.Scaler.Names)
+	}
 	if err := m.CheckSchema(res.Table.Names); err != nil {
 		return err
 	}
 	if res.X, err = m.Scaler.Transform(res.Table); err != nil {
 		return err
+	}
+	if n := maskAbsent(res.Table, res.X, m.Scaler.Names, absent); len(res.Ingest.Absent) > 0 {
+		res.Info.Warnings = append(res.Info.Warnings, absentWarning(res.Ingest.Absent, n))
 	}
 	sw.lap("features")
 	return nil
@@ -246,6 +257,7 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	if sw.times == nil {
 		sw.times = map[string]float64{}
 	}
+	r.health = healthOf(r, r.Model.Scaler.Names)
 	if err := r.classify(&o); err != nil {
 		return err
 	}
@@ -253,6 +265,7 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 		return err
 	}
 	sw.lap("decode")
+	triage(&o, r)
 	finish(r, sw)
 	return nil
 }
@@ -272,6 +285,8 @@ func decode(o *Options, res *Result) error {
 		if err != nil {
 			return err
 		}
+		res.past = pastOf(h, res.Model.Lineage)
+		res.health = append(res.health, silentIn(h, res.Table, res.health)...)
 		c = h.Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 		res.history = h
 		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)
@@ -326,6 +341,13 @@ func finish(res *Result, sw *stopwatch) {
 			info.Warnings = append(info.Warnings, info.Regimes.Note)
 		}
 	}
+	res.Health = res.health
+	info.Health = append([]export.Finding{}, res.health...) // a list in run.json even when empty
+	info.Attention = map[string]int{}
+	for _, a := range res.Attention {
+		info.Attention[a.Level.String()]++
+	}
+	info.Against = res.Against
 	var dropped int64
 	for _, n := range res.Ingest.Dropped {
 		dropped += n

@@ -124,6 +124,9 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Daily:      r.daily,
 		Title:      "kinmap " + cmp.Or(r.Info.Command, "run"),
 		Conditions: r.exportConditions(r.showNotes),
+		Attention:  r.Attention,
+		Health:     r.Health,
+		Against:    r.Against,
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {

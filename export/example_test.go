@@ -52,7 +52,10 @@ func ExampleWrite() {
 		}
 	}
 	// Output:
+	// attention.csv
+	// attention.parquet
 	// features.parquet
+	// health.csv
 	// kinmap.gpkg
 	// model
 	// regimes.geojson

@@ -73,10 +73,11 @@ type exSite struct {
 	Unit       int       `json:"unit"` // the last window's BMU
 	At         []float64 `json:"at"`   // lon, lat as in sites.geojson; nil when not located
 	Mobile     bool      `json:"m"`
-	Strip      []int64   `json:"st"`  // start, end, regime of each run of contiguous windows in one regime
-	Odd        []int64   `json:"odd"` // starts of unfamiliar windows
-	Changes    []int64   `json:"ch"`  // time, from, to, confidence in % of each switch
-	Track      [][]any   `json:"tr"`  // per track segment: regime, then lon, lat pairs
+	Strip      []int64   `json:"st"`             // start, end, regime of each run of contiguous windows in one regime
+	Odd        []int64   `json:"odd"`            // starts of unfamiliar windows
+	Changes    []int64   `json:"ch"`             // time, from, to, confidence in % of each switch
+	Track      [][]any   `json:"tr"`             // per track segment: regime, then lon, lat pairs
+	Rank       int       `json:"rank,omitempty"` // the work list's most urgent row naming the site (attentionRanks); 0 for none
 }
 
 // exDaily describes the quantised daily summaries: for each site, channel
@@ -126,9 +127,10 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, er
 	d.End = minutes(t1)
 
 	bySite := map[string]*exSite{}
+	ranks := attentionRanks(r.Attention)
 	for _, s := range ss {
 		x := exSite{ID: s.id, Regime: s.last.Regime, Windows: len(s.windows), Switches: s.switches,
-			Unfamiliar: s.unfamiliar, Unit: s.last.Unit, Mobile: s.mobile}
+			Unfamiliar: s.unfamiliar, Unit: s.last.Unit, Mobile: s.mobile, Rank: ranks[s.id]}
 		if !s.lastSw.IsZero() {
 			x.LastSwitch = readable(s.lastSw)
 		}

@@ -17,6 +17,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/export/picture"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
@@ -58,6 +59,12 @@ type Run struct {
 	// Conditions is the label knowledge from events; nil when there is
 	// none. Each window's likely condition is on the window.
 	Conditions *Conditions
+
+	// The work list, the data health and the comparison with the previous
+	// period of the history (nil without one).
+	Attention []attention.Row
+	Health    []Finding
+	Against   *Comparison
 }
 
 // Write writes the outputs of r into dir, creating it if needed.
@@ -94,8 +101,12 @@ type Run struct {
 // and switches.parquet one per switch (site, time, from_regime, to_regime,
 // windows_before, windows_after, confidence), by site and time; CSV times
 // are RFC 3339 in UTC, Parquet times TIMESTAMP in microseconds adjusted to
-// UTC. Then come features.parquet, the model file, run.json (r.Info as
-// JSON), the pictures of package picture and report.html.
+// UTC. Then come features.parquet, the model file, attention.csv and
+// attention.parquet (the work list, r.Attention: rank, level, kind, site,
+// sites, site_ids, reason, time, from_regime, to_regime, confidence, news;
+// the switch columns empty or null for a row no switch set), health.csv
+// (r.Health: kind, site, channel, count, share, warning, detail), run.json
+// (r.Info as JSON), the pictures of package picture and report.html.
 //
 // run.json also gets a "files" list: the files of dir this run wrote.
 //
@@ -163,6 +174,9 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 		}},
 		file{FeaturesFile, func(w io.Writer) error { return writeFeatures(w, r.Table) }},
 		file{ModelFile, r.Model.Write},
+		file{AttentionCSVFile, func(w io.Writer) error { return writeCSV(w, attentionColumns, attentionRows(r.Attention)) }},
+		file{AttentionParquetFile, func(w io.Writer) error { return writeParquet(w, attentionRows(r.Attention)) }},
+		file{HealthFile, func(w io.Writer) error { return writeCSV(w, healthColumns, healthRows(r.Health)) }},
 	)
 	for _, p := range pics {
 		files = append(files, file{p.File, func(w io.Writer) error { _, err := w.Write(p.PNG); return err }})
@@ -274,7 +288,7 @@ func CheckDir(dir string) ([]string, error) {
 // outputNames returns every name Write may give a file.
 func outputNames() []string {
 	return append([]string{SitesFile, RegimesFile, TracksFile, GeoPackageFile, TimelineParquetFile, TimelineCSVFile, SwitchesCSVFile,
-		SwitchesParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile}, picture.Files()...)
+		SwitchesParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile, AttentionCSVFile, AttentionParquetFile, HealthFile}, picture.Files()...)
 }
 
 // IsOutput reports whether Write may write a file called name.

@@ -29,7 +29,7 @@ var reportFiles embed.FS
 // package free of init-time work. Every report*.html file joins it, so that
 // a section's file only has to be added.
 func reportTemplate() (*template.Template, error) {
-	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch, "readable": readable}).ParseFS(reportFiles, "report*.html")
+	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch, "readable": readable, "sites": joinSites}).ParseFS(reportFiles, "report*.html")
 }
 
 // maxSwitchRows caps the switch table; switches.csv has them all.
@@ -85,6 +85,7 @@ type reportData struct {
 	Explorer        template.JS    // the explorer's data, a JSON object
 	Daily           template.JS    // the sites' daily summaries, a JSON object
 	Script          template.JS    // the explorer's script
+	Triage          triageData
 }
 
 func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []string, pics []picture.Picture, files []string) error {
@@ -166,6 +167,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []
 		d.Run = append(d.Run, fact{"Windows skipped", strconv.Itoa(skipped)})
 	}
 	d.Events = eventsReport(r, ss)
+	d.Triage = triageOf(r)
 	d.Data = dataFacts(r)
 	d.Map = mapFacts(r.Model)
 	if r.Info != nil {

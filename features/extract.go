@@ -91,7 +91,8 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := checkData(ds, p, cfg); err != nil {
+	step, err := checkData(ds, p, cfg)
+	if err != nil {
 		return nil, err
 	}
 	clk := clock{loc: loc}
@@ -111,7 +112,7 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 		return w.site(order[i], p, cfg, clk)
 	})
 
-	t := &Table{Names: p.names, Config: cfg, Skipped: map[string]Skips{}}
+	t := &Table{Names: p.names, Config: cfg, Skipped: map[string]Skips{}, Step: step}
 	total := 0
 	for _, r := range results {
 		total += len(r.windows)

@@ -158,6 +158,10 @@ type Table struct {
 	Windows []Window         // sorted by site, then start
 	Skipped map[string]Skips // windows not used, by site; sites that skipped none are absent
 
+	// Step is the typical sampling step of the data: the median over series
+	// of the median interval between readings; 0 when unknown.
+	Step time.Duration
+
 	// Paths holds the track of each site whose dump reported positions
 	// and that has windows, at PathStep (see Fix); nil when none did.
 	Paths map[string][]Fix

@@ -56,8 +56,9 @@ func (e *TimeRangeError) Error() string {
 // checkData checks, before any window is cut, that the windows of cfg
 // suit the data: no shorter than the typical sampling step (the median over
 // series of the median interval between readings), at most MaxWindows of
-// them, and with every bound representable.
-func checkData(ds *ingest.Dataset, p *plan, cfg Config) error {
+// them, and with every bound representable. It returns that step, 0 when
+// no series has two readings.
+func checkData(ds *ingest.Dataset, p *plan, cfg Config) (time.Duration, error) {
 	size, stride := int64(cfg.Window), int64(cfg.Stride)
 	if stride == 0 {
 		stride = size
@@ -87,25 +88,26 @@ func checkData(ds *ingest.Dataset, p *plan, cfg Config) error {
 		}
 		for _, t := range []int64{first, last} {
 			if t < math.MinInt64+margin || t > math.MaxInt64-margin {
-				return &TimeRangeError{Site: sd.ID, Time: time.Unix(0, t).UTC()}
+				return 0, &TimeRangeError{Site: sd.ID, Time: time.Unix(0, t).UTC()}
 			}
 		}
 		windows += (float64(last)-float64(first))/float64(stride) + 1
 	}
+	var step int64
 	if len(steps) > 0 {
 		slices.Sort(steps)
-		step := steps[len(steps)/2]
+		step = steps[len(steps)/2]
 		if size < step {
-			return &StepError{Field: "Window", Value: cfg.Window, Step: time.Duration(step)}
+			return 0, &StepError{Field: "Window", Value: cfg.Window, Step: time.Duration(step)}
 		}
 		if stride < step {
-			return &StepError{Field: "Stride", Value: time.Duration(stride), Step: time.Duration(step)}
+			return 0, &StepError{Field: "Stride", Value: time.Duration(stride), Step: time.Duration(step)}
 		}
 	}
 	if windows > MaxWindows {
-		return &WindowLimitError{Windows: windows, Stride: time.Duration(stride)}
+		return 0, &WindowLimitError{Windows: windows, Stride: time.Duration(stride)}
 	}
-	return nil
+	return time.Duration(step), nil
 }
 
 // sampleStep is the median interval between the sorted times.

@@ -25,6 +25,11 @@ type Options struct {
 	TimeUnit   string   `json:"time_unit"`          // unit of integer epoch times: "s", "ms", "us" or "ns"
 	Workers    int      `json:"-"`                  // parallelism; 0 means all cores (at most 4 per file)
 
+	// Absent, when set, lets channels of Channels be absent from the dump:
+	// they are listed in Summary.Absent instead of refused. It serves a
+	// caller that selects a model's channels, not the user's list.
+	Absent bool `json:"-"`
+
 	// Register, when set, is attached to the result: SiteData.Info is filled
 	// and sites missing from it are listed in Summary.Unregistered.
 	Register *Register `json:"-"`
@@ -179,6 +184,11 @@ type Summary struct {
 	SkippedColumns []string   // non-numeric extra columns of a wide dump
 	NaiveTime      bool       // timestamps without UTC adjustment were read as UTC
 	Unregistered   []string   // sites in the dump but not in the register
+	Absent         []string   // channels of Options.Channels absent from the dump (Options.Absent)
+	// SiteDuplicates counts the duplicates of Duplicates by site, and
+	// SiteReadings the readings kept by site.
+	SiteDuplicates map[string]int64
+	SiteReadings   map[string]int64
 }
 
 // FileSummary describes one file read.

@@ -416,6 +416,10 @@ func (r *reader) newSeries(s, ch int32) int32 {
 func (r *reader) finish() (*Dataset, error) {
 	for _, ch := range r.opt.Channels {
 		if _, ok := r.chanIdx[ch]; !ok && !r.present[ch] {
+			if r.opt.Absent {
+				r.sum.Absent = append(r.sum.Absent, ch)
+				continue
+			}
 			met := slices.Concat(slices.Collect(maps.Keys(r.present)), r.channels)
 			slices.Sort(met)
 			files := make([]string, len(r.sum.Files))
@@ -432,8 +436,16 @@ func (r *reader) finish() (*Dataset, error) {
 	sum := &r.sum
 	sum.Layout = r.layout
 	kept := make([]bool, len(r.channels))
-	series, dups := r.kept.series(r.opt.Workers)
-	sum.Duplicates += dups
+	series, lost := r.kept.series(r.opt.Workers)
+	for id, d := range lost {
+		if d > 0 {
+			if sum.SiteDuplicates == nil {
+				sum.SiteDuplicates = make(map[string]int64)
+			}
+			sum.Duplicates += int64(d)
+			sum.SiteDuplicates[r.sites[r.seriesSite[id]].id] += int64(d)
+		}
+	}
 	bySite := make([][]int32, len(r.sites))
 	for id, s := range r.seriesSite {
 		bySite[s] = append(bySite[s], int32(id))
@@ -453,6 +465,10 @@ func (r *reader) finish() (*Dataset, error) {
 				continue
 			}
 			sum.Readings += int64(ser.Len())
+			if sum.SiteReadings == nil {
+				sum.SiteReadings = make(map[string]int64)
+			}
+			sum.SiteReadings[sa.id] += int64(ser.Len())
 			start, end = min(start, ser.Times[0]), max(end, ser.Times[ser.Len()-1])
 			ch := r.seriesChan[id]
 			kept[ch] = true

@@ -53,12 +53,12 @@ func (st *store) add(id int32, times []int64, vals []float64) {
 }
 
 // series returns the readings of every series sorted by time, the last
-// read of each time kept (see order), and the number of readings that lost
-// to a later one. The series are sorted on up to workers goroutines (0
-// means all cores, at most maxReaders).
-func (st *store) series(workers int) (out []Series, dups int64) {
+// read of each time kept (see order), and the number of readings of each
+// series that lost to a later one. The series are sorted on up to workers
+// goroutines (0 means all cores, at most maxReaders).
+func (st *store) series(workers int) (out []Series, lost []int) {
 	out = make([]Series, len(st.times))
-	lost := parallel.Map(len(st.times), min(parallel.Workers(workers), maxReaders), nil, func(_ struct{}, id int) int {
+	lost = parallel.Map(len(st.times), min(parallel.Workers(workers), maxReaders), nil, func(_ struct{}, id int) int {
 		t, v, d := order(st.times[id], st.vals[id])
 		if cap(t)-len(t) > len(t)/4 { // room reserved for readings that did not come
 			t, v = slices.Clone(t), slices.Clone(v)
@@ -67,8 +67,5 @@ func (st *store) series(workers int) (out []Series, dups int64) {
 		return d
 	})
 	*st = store{}
-	for _, d := range lost {
-		dups += int64(d)
-	}
-	return out, dups
+	return out, lost
 }

@@ -384,6 +384,9 @@ func mergeSummary(outcomes []fileOutcome, sites []siteResult, reg *ingest.Regist
 		sum.Files = append(sum.Files, s.Files...)
 		sum.Rows += s.Rows
 		sum.Duplicates += s.Duplicates
+		for site, n := range s.SiteDuplicates {
+			addTo(&sum.SiteDuplicates, site, n)
+		}
 		sum.NaiveTime = sum.NaiveTime || s.NaiveTime
 		for r, n := range s.Dropped {
 			sum.Dropped[r] += n
@@ -404,12 +407,26 @@ func mergeSummary(outcomes []fileOutcome, sites []siteResult, reg *ingest.Regist
 	for _, s := range sites {
 		sum.Readings += s.Readings
 		sum.Duplicates += s.Duplicates
+		addTo(&sum.SiteReadings, s.Site, s.Readings)
+		addTo(&sum.SiteDuplicates, s.Site, s.Duplicates)
 		if reg != nil && !s.Registered {
 			sum.Unregistered = append(sum.Unregistered, s.Site)
 		}
 	}
 	sum.Sites = len(sites)
 	return sum, nil
+}
+
+// addTo adds n to the count of key in *m, making the map when n is the
+// first non-zero count, as a local read leaves it nil without one.
+func addTo(m *map[string]int64, key string, n int64) {
+	if n == 0 {
+		return
+	}
+	if *m == nil {
+		*m = map[string]int64{}
+	}
+	(*m)[key] += n
 }
 
 // table assembles the feature table of the sites (sorted by site), as

@@ -1,0 +1,393 @@
+// Package attention turns a run's timelines into a week's work list: one
+// row per site that needs a look, ranked by urgency, with the reason in
+// words, and one row per fleet-wide event in place of the many sites it
+// moved.
+//
+// # Urgency
+//
+// Each site gets the most urgent of these levels that applies, and a row
+// lists every reason that applies to it:
+//
+//	fault       it switched into a regime marked "fault"
+//	watch       it switched into a regime marked "watch"
+//	stay        it spent at least Config.LongStay windows in a row, up to
+//	            its last window, in a regime marked "fault" or "watch"
+//	unfamiliar  more of its windows were unfamiliar than chance allows
+//	switch      it switched between other regimes with confidence at
+//	            least Config.MinConfidence
+//	weak        its only switches have a lower confidence
+//
+// Within a level, new events come before revisions of events an earlier run
+// reported, then fleet-wide events by their number of sites, then higher
+// confidence, then site. A switch is a revision when
+// an earlier run reported a switch of the same site less than
+// Config.Nearby before or after it (Input.Earlier); the history keeps
+// those, so that re-decoding the end of last week does not make the same
+// event news twice.
+//
+// # Thresholds
+//
+// MinConfidence defaults to ½. A switch's confidence is Δ/(Δ+c), c the
+// switch cost and Δ what the decoding would lose without it (package
+// timeline); ½ means Δ = c, so a switch below it would disappear if the
+// switch cost, itself a rule of thumb (twice the median quantization
+// error), were doubled. Such a switch stays in switches.csv but ranks
+// last.
+//
+// A site is flagged for unfamiliar windows when, of its n windows, k are
+// unfamiliar and P(X ≥ k) < Config.UnfamiliarAlpha for X binomial with n
+// trials and the chance rate 1 − q of the unfamiliar quantile q: a training
+// window is above that quantile with probability 1 − q, so one unfamiliar
+// window in a month is expected somewhere in any fleet, three at one site
+// are not.
+//
+// # Fleet-wide events
+//
+// Switches from the same regime to the same regime whose windows start on
+// the same UTC day are one fleet-wide event when there are at least
+// MinFleetSites of them and their number is improbable for sites switching
+// independently: with n such switches (same from and to) over a run of D
+// days, the count on one day is taken as Poisson with mean n/D, and the
+// day is an event when P(X ≥ k) < Config.FleetAlpha. Its level is that
+// of a switch into its regime, with the mean confidence of its switches. Weather, a season or a
+// change in the data pipeline moves many sites at once; one row names
+// them, and their switch leaves their own rows. This is a scan for an
+// excess of events in one cell of time, as in J. Naus, "Approximations for
+// distributions of scan statistics", JASA 77, 1982, in its simplest,
+// one-cell form.
+package attention
+
+import (
+	"cmp"
+	"fmt"
+	"maps"
+	"math"
+	"slices"
+	"strings"
+	"time"
+
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+// Level is how urgent a row is; a lower level is more urgent.
+type Level int
+
+// The levels, most urgent first (see the package documentation).
+const (
+	Fault Level = iota
+	Watch
+	Stay
+	Unfamiliar
+	Switch
+	Weak
+)
+
+var levelNames = [...]string{"fault", "watch", "stay", "unfamiliar", "switch", "weak"}
+
+// String is the level's name in attention.csv.
+func (l Level) String() string {
+	if l < 0 || int(l) >= len(levelNames) {
+		return fmt.Sprintf("level(%d)", int(l))
+	}
+	return levelNames[l]
+}
+
+// The statuses of a regime (mapper.Regime.Status); "" is unlabelled.
+const (
+	StatusNormal = "normal"
+	StatusWatch  = "watch"
+	StatusFault  = "fault"
+)
+
+// Config holds the thresholds of the list. Zero fields take the defaults
+// of DefaultConfig.
+type Config struct {
+	MinConfidence   float64       // switches below it rank last (Weak)
+	LongStay        int           // windows in a row in a watch or fault regime that make a long stay
+	Nearby          time.Duration // an earlier switch of the site this close makes a switch a revision
+	UnfamiliarRate  float64       // chance rate of an unfamiliar window, 1 − the unfamiliar quantile
+	UnfamiliarAlpha float64       // binomial tail below which a site's unfamiliar windows are flagged
+	FleetAlpha      float64       // Poisson tail below which same-day switches are one event
+	MinFleetSites   int           // fewest sites of a fleet-wide event
+}
+
+// DefaultConfig returns the defaults: confidence ½, a long stay of 7
+// windows, nearby within 2 days, a chance rate of 0.01, both tails 0.001
+// and at least 3 sites to a fleet-wide event.
+func DefaultConfig() Config {
+	return Config{MinConfidence: 0.5, LongStay: 7, Nearby: 48 * time.Hour, UnfamiliarRate: 0.01,
+		UnfamiliarAlpha: 0.001, FleetAlpha: 0.001, MinFleetSites: 3}
+}
+
+func (c Config) withDefaults() Config {
+	d := DefaultConfig()
+	c.MinConfidence = cmp.Or(c.MinConfidence, d.MinConfidence)
+	c.LongStay = cmp.Or(c.LongStay, d.LongStay)
+	c.Nearby = cmp.Or(c.Nearby, d.Nearby)
+	c.UnfamiliarRate = cmp.Or(c.UnfamiliarRate, d.UnfamiliarRate)
+	c.UnfamiliarAlpha = cmp.Or(c.UnfamiliarAlpha, d.UnfamiliarAlpha)
+	c.FleetAlpha = cmp.Or(c.FleetAlpha, d.FleetAlpha)
+	c.MinFleetSites = cmp.Or(c.MinFleetSites, d.MinFleetSites)
+	return c
+}
+
+// Earlier is a switch an earlier run reported.
+type Earlier struct {
+	Site     string
+	Time     time.Time
+	From, To int
+}
+
+// Input is what the list is made from.
+type Input struct {
+	Windows  []features.Window // the run's decoded windows, by site, then time
+	Switches []timeline.Switch // the run's switches
+	Status   map[int]string    // regime ID → status; a missing ID is unlabelled
+	Names    map[int]string    // regime ID → the user's name; optional
+	Earlier  []Earlier         // switches earlier runs reported
+}
+
+// Row is one line of the list: a site, or a fleet-wide event.
+type Row struct {
+	Rank   int
+	Level  Level
+	Site   string   // "" for a fleet-wide event
+	Sites  []string // the sites of a fleet-wide event; the site of a site row
+	Reason string   // every reason, in words
+	// The switch that set the level, if a switch did: its time, regimes
+	// and confidence; Time is zero otherwise.
+	Time       time.Time
+	From, To   int
+	Confidence float64
+	Revision   bool // the switch revises one an earlier run reported
+}
+
+// Kind is "site" or "fleet".
+func (r *Row) Kind() string {
+	if r.Site == "" {
+		return "fleet"
+	}
+	return "site"
+}
+
+// News is "new" or "revision" for a row set by a switch, "" otherwise.
+func (r *Row) News() string {
+	switch {
+	case r.Time.IsZero():
+		return ""
+	case r.Revision:
+		return "revision"
+	}
+	return "new"
+}
+
+// Rank makes the list.
+func Rank(in Input, cfg Config) []Row {
+	cfg = cfg.withDefaults()
+	label := func(id int) string {
+		if n := in.Names[id]; n != "" {
+			return fmt.Sprintf("%d (%s)", id, n)
+		}
+		return fmt.Sprint(id)
+	}
+	events, inEvent := fleetEvents(in, cfg)
+	var rows []Row
+	for _, e := range events {
+		e.Reason = fmt.Sprintf("%d sites switched from regime %s to %s on %s: a fleet-wide change (weather, season or the data pipeline?)",
+			len(e.Sites), label(e.From), label(e.To), e.Time.UTC().Format(time.DateOnly))
+		if lv := statusLevel(in.Status[e.To]); lv < e.Level {
+			e.Level = lv
+		} else if e.Confidence < cfg.MinConfidence {
+			e.Level = Weak
+		}
+		rows = append(rows, e)
+	}
+	bySite := map[string][]timeline.Switch{}
+	for _, s := range in.Switches {
+		if !inEvent[eventKey(s)+"|"+s.Site] {
+			bySite[s.Site] = append(bySite[s.Site], s)
+		}
+	}
+	earlier := map[string][]time.Time{}
+	for _, e := range in.Earlier {
+		earlier[e.Site] = append(earlier[e.Site], e.Time)
+	}
+	revision := func(s timeline.Switch) bool {
+		for _, t := range earlier[s.Site] {
+			if d := s.Time.Sub(t); d < cfg.Nearby && d > -cfg.Nearby {
+				return true
+			}
+		}
+		return false
+	}
+	for _, seq := range sites(in.Windows) {
+		site := seq[0].Site
+		r := Row{Site: site, Sites: []string{site}, Level: Weak + 1}
+		var reasons []string
+		set := func(lv Level, s *timeline.Switch) {
+			better := lv < r.Level
+			if s != nil && lv == r.Level && !r.Time.IsZero() {
+				rev := revision(*s)
+				better = !rev && r.Revision || rev == r.Revision && s.Confidence > r.Confidence
+			}
+			if !better {
+				return
+			}
+			r.Level, r.Time, r.From, r.To, r.Confidence, r.Revision = lv, time.Time{}, 0, 0, 0, false
+			if s != nil {
+				r.Time, r.From, r.To, r.Confidence, r.Revision = s.Time, s.From, s.To, s.Confidence, revision(*s)
+			}
+		}
+		for _, s := range bySite[site] {
+			lv := statusLevel(in.Status[s.To])
+			if lv > Watch {
+				lv = Switch
+				if s.Confidence < cfg.MinConfidence {
+					lv = Weak
+				}
+			}
+			news := "new"
+			if revision(s) {
+				news = "revises an earlier report"
+			}
+			what := "switched"
+			if lv <= Watch {
+				what = "switched into " + in.Status[s.To] + " regime"
+			}
+			reasons = append(reasons, fmt.Sprintf("%s %s → %s on %s (confidence %.2f, %s)", what, label(s.From), label(s.To),
+				s.Time.UTC().Format(time.DateOnly), s.Confidence, news))
+			set(lv, &s)
+		}
+		last := seq[len(seq)-1].Regime
+		if st := in.Status[last]; st == StatusFault || st == StatusWatch {
+			n := 0
+			for i := len(seq) - 1; i >= 0 && seq[i].Regime == last; i-- {
+				n++
+			}
+			if n >= cfg.LongStay {
+				reasons = append(reasons, fmt.Sprintf("%d windows in a row in %s regime %s, up to its last window", n, st, label(last)))
+				set(Stay, nil)
+			}
+		}
+		k := 0
+		for _, e := range seq {
+			if e.Unfamiliar {
+				k++
+			}
+		}
+		if k > 0 {
+			if p := binomialTail(len(seq), k, cfg.UnfamiliarRate); p < cfg.UnfamiliarAlpha {
+				reasons = append(reasons, fmt.Sprintf("%d of %d windows unfamiliar (chance p = %.1g)", k, len(seq), p))
+				set(Unfamiliar, nil)
+			}
+		}
+		if len(reasons) == 0 {
+			continue
+		}
+		r.Reason = strings.Join(reasons, "; ")
+		rows = append(rows, r)
+	}
+	slices.SortStableFunc(rows, func(a, b Row) int {
+		return cmp.Or(cmp.Compare(a.Level, b.Level), compareBool(a.Revision, b.Revision),
+			cmp.Compare(len(b.Sites), len(a.Sites)), cmp.Compare(b.Confidence, a.Confidence),
+			cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
+	})
+	for i := range rows {
+		rows[i].Rank = i + 1
+	}
+	return rows
+}
+
+// statusLevel is the level of a switch into a regime of status st, or
+// Switch for a regime neither fault nor watch.
+func statusLevel(st string) Level {
+	switch st {
+	case StatusFault:
+		return Fault
+	case StatusWatch:
+		return Watch
+	}
+	return Switch
+}
+
+func compareBool(a, b bool) int {
+	switch {
+	case a == b:
+		return 0
+	case a:
+		return 1
+	}
+	return -1
+}
+
+// sites splits ws, sorted by site, into each site's windows.
+func sites(ws []features.Window) [][]features.Window {
+	var out [][]features.Window
+	for i := 0; i < len(ws); {
+		j := i + 1
+		for j < len(ws) && ws[j].Site == ws[i].Site {
+			j++
+		}
+		out = append(out, ws[i:j])
+		i = j
+	}
+	return out
+}
+
+// binomialTail is P(X ≥ k) for X binomial with n trials of probability p.
+func binomialTail(n, k int, p float64) float64 {
+	if k <= 0 {
+		return 1
+	}
+	return 1 - distuv.Binomial{N: float64(n), P: p}.CDF(float64(k-1))
+}
+
+// eventKey groups switches of the same regimes on the same UTC day.
+func eventKey(s timeline.Switch) string {
+	return fmt.Sprintf("%d>%d@%s", s.From, s.To, s.Time.UTC().Format(time.DateOnly))
+}
+
+// fleetEvents finds the fleet-wide events of in (see the package
+// documentation) and the switches they hold, keyed by eventKey|site.
+func fleetEvents(in Input, cfg Config) ([]Row, map[string]bool) {
+	if len(in.Windows) == 0 {
+		return nil, nil
+	}
+	first, last := features.Span(in.Windows)
+	days := math.Max(1, last.Sub(first).Hours()/24)
+	pairs := map[[2]int]int{}
+	groups := map[string][]timeline.Switch{}
+	for _, s := range in.Switches {
+		pairs[[2]int{s.From, s.To}]++
+		k := eventKey(s)
+		groups[k] = append(groups[k], s)
+	}
+	var rows []Row
+	held := map[string]bool{}
+	for _, k := range slices.Sorted(maps.Keys(groups)) {
+		g := groups[k]
+		s := g[0]
+		n := pairs[[2]int{s.From, s.To}]
+		if len(g) < cfg.MinFleetSites {
+			continue
+		}
+		p := 1 - distuv.Poisson{Lambda: float64(n) / days}.CDF(float64(len(g)-1))
+		if p >= cfg.FleetAlpha {
+			continue
+		}
+		r := Row{Level: Switch, From: s.From, To: s.To, Time: s.Time.UTC().Truncate(24 * time.Hour)}
+		conf := 0.0
+		for _, x := range g {
+			r.Sites = append(r.Sites, x.Site)
+			conf += x.Confidence
+			held[k+"|"+x.Site] = true
+		}
+		r.Confidence = conf / float64(len(g))
+		slices.Sort(r.Sites)
+		rows = append(rows, r)
+	}
+	return rows, held
+}

@@ -1,0 +1,182 @@
+package attention
+
+import (
+	"math"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+var day0 = time.Date(2026, 11, 2, 0, 0, 0, 0, time.UTC)
+
+func at(d int) time.Time { return day0.AddDate(0, 0, d) }
+
+// fleetOf makes 28 daily windows for each site, every window in regime 1
+// unless regimes says otherwise from a day on.
+func fleetOf(sites []string, after map[string][2]int, unfamiliar map[string]int) []features.Window {
+	var es []features.Window
+	for _, s := range sites {
+		for d := range 28 {
+			e := features.Window{Site: s, Start: at(d), End: at(d + 1), Regime: 1}
+			if a, ok := after[s]; ok && d >= a[0] {
+				e.Regime = a[1]
+			}
+			e.Unfamiliar = d < unfamiliar[s]
+			es = append(es, e)
+		}
+	}
+	return es
+}
+
+func TestRankOrder(t *testing.T) {
+	sites := []string{"a", "b", "c", "d", "e", "f", "g"}
+	status := map[int]string{1: StatusNormal, 2: StatusNormal, 3: StatusWatch, 4: StatusFault}
+	after := map[string][2]int{"a": {20, 2}, "b": {10, 4}, "c": {25, 3}, "d": {20, 2}, "f": {3, 3}}
+	in := Input{
+		Windows: fleetOf(sites, after, map[string]int{"e": 4, "g": 1}),
+		Switches: []timeline.Switch{
+			{Site: "a", Time: at(20), From: 1, To: 2, Confidence: 0.9},
+			{Site: "b", Time: at(10), From: 1, To: 4, Confidence: 0.55},
+			{Site: "c", Time: at(25), From: 1, To: 3, Confidence: 0.6},
+			{Site: "d", Time: at(20), From: 1, To: 2, Confidence: 0.3},
+			{Site: "f", Time: at(3), From: 1, To: 3, Confidence: 0.99},
+		},
+		Status: status,
+		// f's switch was reported by an earlier run a day later.
+		Earlier: []Earlier{{Site: "f", Time: at(4), From: 1, To: 3}},
+	}
+	rows := Rank(in, DefaultConfig())
+	type want struct {
+		site  string
+		level Level
+		news  string
+	}
+	// b: into fault. c: into watch, new; f: into watch, a revision, so
+	// after c despite its higher confidence. e: 4 of 28 unfamiliar, chance
+	// 1.6e-4 at a rate of 0.01. a: a confident switch between normal
+	// regimes; d's is below ½. g: one unfamiliar window is chance.
+	wants := []want{{"b", Fault, "new"}, {"c", Watch, "new"}, {"f", Watch, "revision"}, {"e", Unfamiliar, ""}, {"a", Switch, "new"}, {"d", Weak, "new"}}
+	if len(rows) != len(wants) {
+		t.Fatalf("%d rows, want %d: %+v", len(rows), len(wants), rows)
+	}
+	for i, w := range wants {
+		r := rows[i]
+		if r.Site != w.site || r.Level != w.level || r.News() != w.news || r.Rank != i+1 {
+			t.Errorf("row %d: site %s level %s news %q rank %d, want %s %s %q", i, r.Site, r.Level, r.News(), r.Rank, w.site, w.level, w.news)
+		}
+	}
+	// f spent 25 windows in watch regime 3 up to its last: a long stay too.
+	if f := rows[2]; !containsAll(f.Reason, "switched into watch regime", "25 windows in a row in watch regime 3") {
+		t.Errorf("f's reason %q lacks its switch or its stay", f.Reason)
+	}
+}
+
+func containsAll(s string, parts ...string) bool {
+	for _, p := range parts {
+		if !strings.Contains(s, p) {
+			return false
+		}
+	}
+	return true
+}
+
+// A site without a switch that has sat for a week in a fault regime is a
+// long stay; six windows are not.
+func TestRankLongStay(t *testing.T) {
+	status := map[int]string{1: StatusNormal, 4: StatusFault}
+	in := Input{Windows: fleetOf([]string{"long", "short"}, map[string][2]int{"long": {21, 4}, "short": {22, 4}}, nil), Status: status}
+	rows := Rank(in, DefaultConfig())
+	if len(rows) != 1 || rows[0].Site != "long" || rows[0].Level != Stay {
+		t.Fatalf("got %+v, want one stay row for site long", rows)
+	}
+}
+
+// Ten of forty sites switching from 1 to 2 on one day of four weeks is one
+// fleet-wide row; two sites on another day are not an event.
+func TestRankFleetEvent(t *testing.T) {
+	var sites []string
+	after := map[string][2]int{}
+	var sw []timeline.Switch
+	for i := range 40 {
+		s := string(rune('A'+i/26)) + string(rune('a'+i%26))
+		sites = append(sites, s)
+		switch {
+		case i < 10:
+			after[s] = [2]int{14, 2}
+			sw = append(sw, timeline.Switch{Site: s, Time: at(14), From: 1, To: 2, Confidence: 0.8})
+		case i < 12:
+			after[s] = [2]int{5, 2}
+			sw = append(sw, timeline.Switch{Site: s, Time: at(5), From: 1, To: 2, Confidence: 0.8})
+		}
+	}
+	rows := Rank(Input{Windows: fleetOf(sites, after, nil), Switches: sw}, DefaultConfig())
+	if len(rows) != 3 {
+		t.Fatalf("%d rows, want the event and 2 sites: %+v", len(rows), rows)
+	}
+	ev := rows[0]
+	if ev.Kind() != "fleet" || len(ev.Sites) != 10 || !ev.Time.Equal(at(14)) || ev.From != 1 || ev.To != 2 {
+		t.Fatalf("first row %+v, want the fleet event of 10 sites on day 14", ev)
+	}
+	// λ = 12 switches / 28 days; P(X ≥ 10) is far below 0.001 and
+	// P(X ≥ 2) is 0.07, computed from the Poisson sum by hand here.
+	lambda := 12.0 / 28
+	p2 := 1 - math.Exp(-lambda)*(1+lambda)
+	if p2 < 0.001 {
+		t.Fatalf("test premise: P(X≥2) = %g", p2)
+	}
+	for _, r := range rows[1:] {
+		if r.Kind() != "site" {
+			t.Errorf("row %+v: want a site row", r)
+		}
+	}
+}
+
+// binomialTail agrees with the sum of the binomial probabilities written
+// out: P(X ≥ k) = 1 − Σ_{i<k} C(n,i) pⁱ (1−p)ⁿ⁻ⁱ.
+func TestBinomialTail(t *testing.T) {
+	for _, c := range []struct {
+		n, k int
+		p    float64
+	}{{28, 1, 0.01}, {28, 3, 0.01}, {28, 4, 0.01}, {7, 2, 0.05}, {100, 10, 0.05}} {
+		sum, binom := 0.0, 1.0
+		for i := range c.k {
+			if i > 0 {
+				binom = binom * float64(c.n-i+1) / float64(i)
+			}
+			sum += binom * math.Pow(c.p, float64(i)) * math.Pow(1-c.p, float64(c.n-i))
+		}
+		if got, want := binomialTail(c.n, c.k, c.p), 1-sum; math.Abs(got-want) > 1e-12 {
+			t.Errorf("n=%d k=%d p=%g: %g, want %g", c.n, c.k, c.p, got, want)
+		}
+	}
+}
+
+// A fleet-wide event takes the level of a switch into its regime: fault
+// when the regime is marked fault, weak when its switches' mean confidence
+// is below the threshold.
+func TestRankFleetEventLevel(t *testing.T) {
+	var sites []string
+	after := map[string][2]int{}
+	for i := range 8 {
+		s := string(rune('a' + i))
+		sites = append(sites, s)
+		after[s] = [2]int{24, 2} // 4 windows in regime 2: no long stay
+	}
+	for _, c := range []struct {
+		status string
+		conf   float64
+		want   Level
+	}{{StatusFault, 0.3, Fault}, {StatusNormal, 0.3, Weak}, {StatusNormal, 0.6, Switch}, {"", 0.6, Switch}} {
+		var sw []timeline.Switch
+		for _, s := range sites {
+			sw = append(sw, timeline.Switch{Site: s, Time: at(24), From: 1, To: 2, Confidence: c.conf})
+		}
+		rows := Rank(Input{Windows: fleetOf(sites, after, nil), Switches: sw, Status: map[int]string{2: c.status}}, DefaultConfig())
+		if len(rows) != 1 || rows[0].Kind() != "fleet" || rows[0].Level != c.want {
+			t.Errorf("status %q, confidence %g: rows %+v, want one fleet row at level %s", c.status, c.conf, rows, c.want)
+		}
+	}
+}

@@ -1,0 +1,50 @@
+package export
+
+// The kinds of a data health finding, in the order the report shows them.
+const (
+	HealthSilent         = "silent"          // a site of the register or the history sent no data
+	HealthNoWindows      = "no_windows"      // every window of the site was skipped
+	HealthMissingChannel = "missing_channel" // a channel the model or the fleet uses is absent at the site
+	HealthDuplicates     = "duplicates"      // readings of the site resolved as duplicates
+	HealthSentinels      = "sentinels"       // readings of the site dropped as sentinel values
+	HealthDropped        = "dropped"         // readings of the dump dropped, by reason
+	HealthWindowStep     = "window_step"     // the window is short or long for the sampling step
+	HealthEpochUnit      = "epoch_unit"      // integer times look like another epoch unit
+)
+
+// HealthKinds lists the kinds of finding in the report's order.
+func HealthKinds() []string {
+	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthDuplicates, HealthSentinels,
+		HealthDropped, HealthWindowStep, HealthEpochUnit}
+}
+
+// Finding is one line of the data health of a run: a site (or the whole
+// dump, Site ""), what is wrong, and how much.
+type Finding struct {
+	Kind    string  `json:"kind"`
+	Site    string  `json:"site,omitempty"`
+	Channel string  `json:"channel,omitempty"`
+	Count   int64   `json:"count"`           // readings, windows or sites concerned
+	Share   float64 `json:"share,omitempty"` // of the site's (or the dump's) readings, when a share applies
+	Warning bool    `json:"warning"`         // large enough to distrust the site's results
+	Detail  string  `json:"detail"`          // in words
+}
+
+// healthRow is one row of health.csv.
+type healthRow struct{ Finding }
+
+// healthColumns are the columns of health.csv.
+var healthColumns = []gpkgColumn{{"kind", "TEXT"}, {"site", "TEXT"}, {"channel", "TEXT"}, {"count", "INTEGER"},
+	{"share", "REAL"}, {"warning", "BOOLEAN"}, {"detail", "TEXT"}}
+
+func (r healthRow) values() []any {
+	return []any{r.Kind, r.Site, r.Channel, r.Count, r.Share, r.Warning, r.Detail}
+}
+
+func healthRows(fs []Finding) []healthRow {
+	rows := make([]healthRow, len(fs))
+	for i, f := range fs {
+		rows[i] = healthRow{f}
+	}
+	return rows
+}

@@ -1,0 +1,156 @@
+package export
+
+import (
+	"cmp"
+	"maps"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/kinmap/kinmap/attention"
+)
+
+// maxAttentionRows caps the work list in the report; attention.csv has it
+// all.
+const maxAttentionRows = 100
+
+// maxHealthRows caps each kind of data health finding in the report,
+// warnings first; health.csv has them all.
+const maxHealthRows = 20
+
+// triageData is what the sections of the work list, the data health and
+// the comparison with the previous period show.
+type triageData struct {
+	Attention      []attentionItem
+	AttentionTotal int
+	Health         []healthGroup
+	Against        *againstData
+}
+
+type attentionItem struct {
+	Rank                int
+	Level, Site, Reason string
+	Sites               int
+	News                string
+	HasSwitch           bool
+	Time                string
+	From, To            int
+	Confidence          string
+}
+
+type healthGroup struct {
+	Title    string
+	Findings []healthItem
+	More     int // findings left out of the report
+}
+
+type healthItem struct {
+	Site, Channel, Detail string
+	Count                 int64
+	Share                 string
+	Warning               bool
+}
+
+type againstData struct {
+	Period  string
+	Windows int
+	Shares  []shareItem
+	Changed []RegimeMove
+	Silent  []string
+	Back    []string
+}
+
+type shareItem struct {
+	ID        int
+	Then, Now string
+}
+
+// healthTitles heads each kind of finding in the report.
+var healthTitles = map[string]string{
+	HealthSilent:         "Sites that sent no data",
+	HealthNoWindows:      "Sites whose every window was skipped",
+	HealthMissingChannel: "Channels missing",
+	HealthDuplicates:     "Readings resolved as duplicates",
+	HealthSentinels:      "Readings dropped as sentinel values",
+	HealthDropped:        "Readings dropped",
+	HealthWindowStep:     "Windows and the sampling step",
+	HealthEpochUnit:      "Epoch unit of the times",
+}
+
+// triageOf builds the sections' data of r.
+func triageOf(r *Run) triageData {
+	d := triageData{AttentionTotal: len(r.Attention)}
+	for _, a := range r.Attention[:min(len(r.Attention), maxAttentionRows)] {
+		it := attentionItem{Rank: a.Rank, Level: a.Level.String(), Site: cmp.Or(a.Site, "fleet-wide"), Reason: a.Reason,
+			Sites: len(a.Sites), News: a.News(), HasSwitch: !a.Time.IsZero()}
+		if it.HasSwitch {
+			it.Time, it.From, it.To, it.Confidence = readable(a.Time), a.From, a.To, strconv.FormatFloat(a.Confidence, 'f', 2, 64)
+		}
+		d.Attention = append(d.Attention, it)
+	}
+	for _, kind := range HealthKinds() {
+		var g healthGroup
+		for _, f := range r.Health {
+			if f.Kind != kind {
+				continue
+			}
+			share := ""
+			if f.Share > 0 {
+				share = percent1(f.Share)
+			}
+			g.Findings = append(g.Findings, healthItem{Site: cmp.Or(f.Site, "all"), Channel: f.Channel, Detail: f.Detail,
+				Count: f.Count, Share: share, Warning: f.Warning})
+		}
+		if len(g.Findings) > 0 {
+			slices.SortStableFunc(g.Findings, func(a, b healthItem) int { return compareWarning(a.Warning, b.Warning) })
+			if len(g.Findings) > maxHealthRows {
+				g.More, g.Findings = len(g.Findings)-maxHealthRows, g.Findings[:maxHealthRows]
+			}
+			g.Title = healthTitles[kind]
+			d.Health = append(d.Health, g)
+		}
+	}
+	if c := r.Against; c != nil {
+		a := &againstData{Period: c.Period, Windows: c.Windows, Changed: c.Changed, Silent: c.Silent, Back: c.Back}
+		ids := slices.Sorted(maps.Keys(c.Now))
+		for id := range c.Then {
+			if !slices.Contains(ids, id) {
+				ids = append(ids, id)
+			}
+		}
+		slices.Sort(ids)
+		for _, id := range ids {
+			a.Shares = append(a.Shares, shareItem{ID: id, Then: percent1(c.Then[id]), Now: percent1(c.Now[id])})
+		}
+		d.Against = a
+	}
+	return d
+}
+
+// attentionRanks gives each site of rows the rank of the most urgent row
+// that names it: its own row, or a fleet-wide event it is part of.
+func attentionRanks(rows []attention.Row) map[string]int {
+	out := map[string]int{}
+	for _, r := range rows {
+		for _, s := range r.Sites {
+			if k, ok := out[s]; !ok || r.Rank < k {
+				out[s] = r.Rank
+			}
+		}
+	}
+	return out
+}
+
+// compareWarning orders warnings first.
+func compareWarning(a, b bool) int {
+	switch {
+	case a == b:
+		return 0
+	case a:
+		return -1
+	}
+	return 1
+}
+
+// joinSites lists site ids for the report.
+func joinSites(ids []string) string { return strings.Join(ids, ", ") }

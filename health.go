@@ -1,0 +1,176 @@
+package kinmap
+
+import (
+	"fmt"
+	"maps"
+	"slices"
+	"strings"
+	"time"
+
+	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/history"
+	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/mapper"
+)
+
+// largeShare is the share of a site's readings resolved as duplicates, or
+// of a dump's rows dropped, above which the data health warns. A logger
+// sends each reading once; a few per cent of repeats come from
+// retransmission, more points at a clock or a pipeline fault (common
+// practice, no source; a round figure).
+const largeShare = 0.05
+
+// minReadings is the fewest readings per channel that a window should
+// hold. With fewer than 20 readings, p05 and p95 (quantile definition 7 of
+// Hyndman & Fan) interpolate between the two most extreme readings, so the
+// basic set's quantiles say little more than min and max.
+const minReadings = 20
+
+// healthOf finds what is wrong with the data of a run from what the
+// stages counted (the ingest summary and the feature table), so that the
+// Beam path finds the same: sites of the register that sent nothing, sites
+// whose every window was skipped, channels of the features names missing
+// at sites, duplicates and sentinels per site, dropped readings, the
+// window against the sampling step and the epoch unit. The history's
+// silent sites are added when it is read (silentIn).
+func healthOf(res *Result, names []string) []export.Finding {
+	var out []export.Finding
+	sum := &res.Ingest
+	readings := sum.SiteReadings
+	if reg := res.Register; reg != nil {
+		for _, s := range reg.Sites {
+			if _, ok := readings[s.ID]; !ok {
+				out = append(out, export.Finding{Kind: export.HealthSilent, Site: s.ID, Warning: true,
+					Detail: "in the site register, no reading in this dump"})
+			}
+		}
+	}
+	t := res.Table
+	windows := map[string]int{}
+	for _, w := range t.Windows {
+		windows[w.Site]++
+	}
+	for _, site := range slices.Sorted(maps.Keys(t.Skipped)) {
+		if windows[site] > 0 {
+			continue
+		}
+		skips := t.Skipped[site]
+		var n int
+		var parts []string
+		for _, r := range slices.Sorted(maps.Keys(skips)) {
+			n += skips[r]
+			parts = append(parts, fmt.Sprintf("%d for %s", skips[r], r))
+		}
+		out = append(out, export.Finding{Kind: export.HealthNoWindows, Site: site, Count: int64(n), Warning: true,
+			Detail: "every window skipped: " + strings.Join(parts, ", ") + "; lower the minimum coverage or lengthen the window if its readings are sparse"})
+	}
+	for _, ch := range sum.Absent {
+		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(t.Windows)), Warning: true,
+			Detail: "missing from the whole dump; its features are missing and each window was placed by the others"})
+	}
+	absent := absentChannels(t, names)
+	for _, site := range slices.Sorted(maps.Keys(absent)) {
+		for _, ch := range absent[site] {
+			if slices.Contains(sum.Absent, ch) {
+				continue
+			}
+			out = append(out, export.Finding{Kind: export.HealthMissingChannel, Site: site, Channel: ch, Count: int64(windows[site]),
+				Detail: "no reading of this channel in the site's windows; its features are missing there"})
+		}
+	}
+	for _, site := range slices.Sorted(maps.Keys(sum.SiteDuplicates)) {
+		d := sum.SiteDuplicates[site]
+		share := float64(d) / float64(d+readings[site])
+		out = append(out, export.Finding{Kind: export.HealthDuplicates, Site: site, Count: d, Share: share, Warning: share > largeShare,
+			Detail: "readings of the same channel and time; the one read last was kept"})
+	}
+	for _, site := range slices.Sorted(maps.Keys(sum.Sentinels)) {
+		n := sum.Sentinels[site]
+		share := float64(n) / float64(n+readings[site])
+		out = append(out, export.Finding{Kind: export.HealthSentinels, Site: site, Count: n, Share: share, Warning: share > largeShare,
+			Detail: fmt.Sprintf("readings of magnitude %g or more taken for bad-quality markers", ingest.SentinelMagnitude)})
+	}
+	for _, reason := range slices.Sorted(maps.Keys(sum.Dropped)) {
+		n := sum.Dropped[reason]
+		share := 0.0
+		if sum.Rows > 0 {
+			share = float64(n) / float64(sum.Rows)
+		}
+		out = append(out, export.Finding{Kind: export.HealthDropped, Count: n, Share: share, Warning: share > largeShare,
+			Detail: "readings dropped for " + reason})
+	}
+	if f, ok := stepFinding(t); ok {
+		out = append(out, f)
+	}
+	if u := sum.EpochUnit; u != nil {
+		out = append(out, export.Finding{Kind: export.HealthEpochUnit, Warning: true, Detail: u.Error()})
+	}
+	return out
+}
+
+// stepFinding says when the window is short for the sampling step (fewer
+// than minReadings readings per channel) or long for the data (fewer
+// windows per site than a switch needs: the dwell on each side).
+func stepFinding(t *features.Table) (export.Finding, bool) {
+	if t.Step <= 0 {
+		return export.Finding{}, false
+	}
+	if per := int64(t.Config.Window / t.Step); per < minReadings {
+		return export.Finding{Kind: export.HealthWindowStep, Count: per, Warning: true,
+			Detail: fmt.Sprintf("a window of %s holds about %d readings at the sampling step of %s; quantiles need %d or more, so lengthen the window",
+				t.Config.Window, per, t.Step, minReadings)}, true
+	}
+	sites, windows := 0, len(t.Windows)
+	for i, w := range t.Windows {
+		if i == 0 || w.Site != t.Windows[i-1].Site {
+			sites++
+		}
+	}
+	// A switch needs the default dwell of windows on each side.
+	if need := 2 * mapper.DefaultMinDwell; sites > 0 && windows < need*sites {
+		return export.Finding{Kind: export.HealthWindowStep, Count: int64(windows / sites), Warning: true,
+			Detail: fmt.Sprintf("sites have %.1f windows on average; a switch needs %d (the dwell on each side), so shorten the window",
+				float64(windows)/float64(sites), need)}, true
+	}
+	return export.Finding{}, false
+}
+
+// silentIn lists the sites of the history that sent no data in this dump
+// and are not already listed (from the register), each with its last
+// window.
+func silentIn(h *history.History, t *features.Table, have []export.Finding) []export.Finding {
+	now := map[string]bool{}
+	for _, w := range t.Windows {
+		now[w.Site] = true
+	}
+	for s := range t.Skipped {
+		now[s] = true
+	}
+	listed := map[string]bool{}
+	for _, f := range have {
+		if f.Kind == export.HealthSilent {
+			listed[f.Site] = true
+		}
+	}
+	last := map[string]time.Time{}
+	for _, w := range h.Windows {
+		if !now[w.Site] && w.End.After(last[w.Site]) {
+			last[w.Site] = w.End
+		}
+	}
+	var out []export.Finding
+	for _, site := range slices.Sorted(maps.Keys(last)) {
+		d := "in the history, last window ending " + last[site].UTC().Format(time.RFC3339) + ", no reading in this dump"
+		if listed[site] {
+			for i := range have {
+				if have[i].Kind == export.HealthSilent && have[i].Site == site {
+					have[i].Detail = "in the site register and " + d
+				}
+			}
+			continue
+		}
+		out = append(out, export.Finding{Kind: export.HealthSilent, Site: site, Warning: true, Detail: d})
+	}
+	return out
+}

@@ -1,0 +1,95 @@
+package kinmap
+
+import (
+	"math"
+	"testing"
+	"time"
+
+	"github.com/kinmap/kinmap/export"
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/ingest"
+)
+
+// stepFinding warns of windows holding fewer than 20 readings at the
+// sampling step, where p05 and p95 (Hyndman & Fan definition 7, h =
+// (n−1)p + 1) fall between the two most extreme readings, and of sites
+// with fewer windows than a switch's dwell on both sides needs.
+func TestStepFinding(t *testing.T) {
+	windows := func(perSite int) []features.Window {
+		var ws []features.Window
+		for _, s := range []string{"a", "b"} {
+			for range perSite {
+				ws = append(ws, features.Window{Site: s})
+			}
+		}
+		return ws
+	}
+	for _, c := range []struct {
+		name    string
+		window  time.Duration
+		step    time.Duration
+		perSite int
+		want    bool
+	}{
+		{"6 readings", time.Hour, 10 * time.Minute, 10, true},
+		{"19 readings", 19 * time.Hour, time.Hour, 10, true},
+		{"20 readings", 20 * time.Hour, time.Hour, 10, false},
+		{"3 windows a site", 24 * time.Hour, 10 * time.Minute, 3, true},
+		{"4 windows a site", 24 * time.Hour, 10 * time.Minute, 4, false},
+		{"no step", 24 * time.Hour, 0, 1, false},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			tb := &features.Table{Config: features.Config{Window: c.window}, Step: c.step, Windows: windows(c.perSite)}
+			f, got := stepFinding(tb)
+			if got != c.want || got && (f.Kind != export.HealthWindowStep || !f.Warning) {
+				t.Errorf("finding %v %+v, want %v", got, f, c.want)
+			}
+		})
+	}
+}
+
+// The data health names a register site without data, a site without
+// windows and its reasons, a channel a site never reported, and warns of a
+// site whose duplicates pass 5 % of its readings.
+func TestHealthOf(t *testing.T) {
+	nan := math.NaN()
+	w := func(site string, flow, vib float64) features.Window {
+		return features.Window{Site: site, Values: []float64{flow, vib}}
+	}
+	reg := &ingest.Register{Sites: []*ingest.Site{{ID: "a"}, {ID: "b"}, {ID: "c"}, {ID: "quiet"}}}
+	res := &Result{
+		Register: reg,
+		Ingest: ingest.Summary{SiteDuplicates: map[string]int64{"a": 10, "b": 1},
+			SiteReadings: map[string]int64{"a": 180, "b": 100, "c": 190}},
+		Table: &features.Table{
+			Names:  []string{"flow.mean", "vibration.mean"},
+			Config: features.Config{Window: 24 * time.Hour},
+			Step:   10 * time.Minute,
+			// b never reported vibration; a lacks it in one window only.
+			Windows: []features.Window{w("a", 1, 2), w("a", 1, nan), w("a", 1, 2), w("a", 1, 2), w("b", 1, nan), w("b", 1, nan), w("b", 1, nan), w("b", 1, nan)},
+			Skipped: map[string]features.Skips{"c": {"coverage": 2, "empty": 1}, "a": {"coverage": 1}},
+		},
+	}
+	got := healthOf(res, []string{"flow.mean", "vibration.mean"})
+	want := []export.Finding{
+		{Kind: export.HealthSilent, Site: "quiet", Warning: true},
+		{Kind: export.HealthNoWindows, Site: "c", Count: 3, Warning: true},
+		{Kind: export.HealthMissingChannel, Site: "b", Channel: "vibration", Count: 4},
+		// a: 10 duplicates against 180 readings kept, 10/190 = 5.3 %.
+		{Kind: export.HealthDuplicates, Site: "a", Count: 10, Share: 10.0 / 190, Warning: true},
+		{Kind: export.HealthDuplicates, Site: "b", Count: 1, Share: 1.0 / 101},
+	}
+	if len(got) != len(want) {
+		t.Fatalf("%d findings, want %d: %+v", len(got), len(want), got)
+	}
+	for i, w := range want {
+		g := got[i]
+		g.Detail = ""
+		if g != w {
+			t.Errorf("finding %d: %+v, want %+v", i, g, w)
+		}
+	}
+	if d := got[1].Detail; d != "every window skipped: 2 for coverage, 1 for empty; lower the minimum coverage or lengthen the window if its readings are sparse" {
+		t.Errorf("detail of c: %q", d)
+	}
+}

@@ -1,0 +1,41 @@
+package ingest
+
+import (
+	"errors"
+	"maps"
+	"testing"
+)
+
+// Duplicates are counted by site: of three readings of a site, channel and
+// time, two lose to the last one read (RFC 4180 rows, in file order).
+func TestSiteDuplicates(t *testing.T) {
+	path := writeFile(t, "dups.csv", []byte("site,time,channel,value\n"+
+		"a,2026-01-01T00:00:00Z,flow,1\na,2026-01-01T00:00:00Z,flow,2\na,2026-01-01T00:00:00Z,flow,3\n"+
+		"a,2026-01-01T00:10:00Z,flow,4\nb,2026-01-01T00:00:00Z,flow,5\nb,2026-01-01T00:00:00Z,flow,6\n"+
+		"c,2026-01-01T00:00:00Z,flow,7\n"))
+	ds := mustRead(t, []string{path}, nil)
+	want := map[string]int64{"a": 2, "b": 1}
+	if !maps.Equal(ds.Summary.SiteDuplicates, want) || ds.Summary.Duplicates != 3 {
+		t.Fatalf("duplicates by site %v (total %d), want %v (total 3)", ds.Summary.SiteDuplicates, ds.Summary.Duplicates, want)
+	}
+}
+
+// A selected channel absent from the dump is refused, unless Absent lets
+// it be, when it is listed in Summary.Absent.
+func TestAbsentChannel(t *testing.T) {
+	path := writeFile(t, "one.csv", []byte("site,time,channel,value\na,2026-01-01T00:00:00Z,flow,1\n"))
+	o := DefaultOptions()
+	o.Channels = []string{"flow", "vibration"}
+	var e *Error
+	if _, err := Read([]string{path}, o); !errors.As(err, &e) {
+		t.Fatalf("a selected channel absent from the dump: error %v, want an *Error", err)
+	}
+	o.Absent = true
+	ds, err := Read([]string{path}, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(ds.Summary.Absent) != 1 || ds.Summary.Absent[0] != "vibration" || len(ds.Channels) != 1 {
+		t.Fatalf("absent %v, channels %v; want [vibration] and [flow]", ds.Summary.Absent, ds.Channels)
+	}
+}

@@ -55,6 +55,11 @@ type Run struct {
 	Changes     []mapper.RegimeChange // regime renumbering by an update, listed in the report
 	Warnings    []string              // from earlier stages, shown in the report, each warning once
 	Title       string                // heading of the report; "" means "kinmap run"
+
+	// Levels are the typical raw levels of the channels by regime, which
+	// the regime descriptions give in the channels' units; nil for the
+	// standardised differences alone.
+	Levels *Levels
 }
 
 // Write writes the outputs of r into dir, creating it if needed.
@@ -128,6 +133,8 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	if err != nil {
 		return err
 	}
+	model := r.Model // written as it is; the outputs show the descriptions in engineering terms
+	r = described(r)
 	ss, warnings := sites(r)
 	pics, err := picture.All(pictureInput(r, ss))
 	if err != nil {
@@ -159,7 +166,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 			return writeGeoPackage(w, layers)
 		}},
 		file{FeaturesFile, func(w io.Writer) error { return writeFeatures(w, r.Table) }},
-		file{ModelFile, r.Model.Write},
+		file{ModelFile, model.Write},
 	)
 	for _, p := range pics {
 		files = append(files, file{p.File, func(w io.Writer) error { _, err := w.Write(p.PNG); return err }})

@@ -24,7 +24,17 @@ var reportHTML string
 // reportTemplate is parsed for each report; it is cheap and keeps the
 // package free of init-time work.
 func reportTemplate() (*template.Template, error) {
-	return template.New("report").Funcs(template.FuncMap{"swatch": swatch}).Parse(reportHTML)
+	t, err := template.New("report").Funcs(template.FuncMap{"swatch": swatch}).Parse(reportHTML)
+	if err != nil {
+		return nil, err
+	}
+	// Sections of their own files, each a {{define}} that report.html calls.
+	for _, section := range []string{reportLabelsHTML} {
+		if _, err := t.New("").Parse(section); err != nil {
+			return nil, err
+		}
+	}
+	return t, nil
 }
 
 // maxSwitchRows caps the switch table; switches.csv has them all.
@@ -76,6 +86,7 @@ type reportData struct {
 	MoreUnfamiliar  int
 	Files           []string
 	Details         string
+	Labels          *labelsSection // regimes in engineering terms (report_labels.html)
 }
 
 func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []picture.Picture, files []string) error {
@@ -144,6 +155,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 	if skipped := r.Table.SkippedWindows(); skipped > 0 {
 		d.Run = append(d.Run, fact{"Windows skipped", strconv.Itoa(skipped)})
 	}
+	d.Labels = labelsData(r)
 	d.Data = dataFacts(r)
 	d.Map = mapFacts(r.Model)
 	if r.Info != nil {

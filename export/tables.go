@@ -22,6 +22,9 @@ type timelineRow struct {
 	Regime      int32     `parquet:"regime"`
 	QE          float64   `parquet:"qe"`
 	Unfamiliar  bool      `parquet:"unfamiliar"`
+	// The user's label of the regime (mapper.Regime), "" for none.
+	RegimeName   string `parquet:"regime_name,dict"`
+	RegimeStatus string `parquet:"regime_status,dict"`
 }
 
 // switchRow is one row of switches.parquet and switches.csv.
@@ -33,23 +36,31 @@ type switchRow struct {
 	WindowsBefore int32     `parquet:"windows_before"`
 	WindowsAfter  int32     `parquet:"windows_after"`
 	Confidence    float64   `parquet:"confidence"`
+	// The user's labels of the two regimes, "" for none.
+	FromName   string `parquet:"from_name,dict"`
+	FromStatus string `parquet:"from_status,dict"`
+	ToName     string `parquet:"to_name,dict"`
+	ToStatus   string `parquet:"to_status,dict"`
 }
 
 // The columns of the timeline and switch tables, for CSV headers and the
 // GeoPackage, in the order of the rows' fields.
 var (
 	timelineColumns = []gpkgColumn{{"site", "TEXT"}, {"window_start", "DATETIME"}, {"window_end", "DATETIME"},
-		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"}}
+		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"},
+		{"regime_name", "TEXT"}, {"regime_status", "TEXT"}}
 	switchColumns = []gpkgColumn{{"site", "TEXT"}, {"time", "DATETIME"}, {"from_regime", "INTEGER"}, {"to_regime", "INTEGER"},
-		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"}}
+		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"},
+		{"from_name", "TEXT"}, {"from_status", "TEXT"}, {"to_name", "TEXT"}, {"to_status", "TEXT"}}
 )
 
 func (r timelineRow) values() []any {
-	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar}
+	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar, r.RegimeName, r.RegimeStatus}
 }
 
 func (r switchRow) values() []any {
-	return []any{r.Site, r.Time, r.FromRegime, r.ToRegime, r.WindowsBefore, r.WindowsAfter, r.Confidence}
+	return []any{r.Site, r.Time, r.FromRegime, r.ToRegime, r.WindowsBefore, r.WindowsAfter, r.Confidence,
+		r.FromName, r.FromStatus, r.ToName, r.ToStatus}
 }
 
 // csvField writes a value of a row as CSV text: times RFC 3339 in UTC,
@@ -80,7 +91,9 @@ func timelineRows(r *Run, ss []*site) []timelineRow {
 	rows := make([]timelineRow, 0, len(r.Entries))
 	for _, s := range ss {
 		for _, i := range s.entries {
-			rows = append(rows, rowOf(r.Entries[i]))
+			row := rowOf(r.Entries[i])
+			row.RegimeName, row.RegimeStatus = regimeLabel(r.Model, r.Entries[i].Regime)
+			rows = append(rows, row)
 		}
 	}
 	return rows
@@ -104,6 +117,8 @@ func switchRows(r *Run) []switchRow {
 			WindowsBefore: int32(s.Before), WindowsAfter: int32(s.After),
 			Confidence: s.Confidence,
 		}
+		rows[i].FromName, rows[i].FromStatus = regimeLabel(r.Model, s.From)
+		rows[i].ToName, rows[i].ToStatus = regimeLabel(r.Model, s.To)
 	}
 	return rows
 }

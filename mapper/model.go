@@ -66,7 +66,7 @@ func Fit(x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assi
 // regimes again with cfg.Regimes (tl as for Fit), and numbers them after prev's regimes
 // with MatchRegimes. The model returned keeps prev's feature schema,
 // feature settings and scaler; the changes list every renumbering, split
-// and merge.
+// and merge. Names and statuses follow the regime numbers (CarryLabels).
 func Update(prev *Model, x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, []RegimeChange, error) {
 	if err := checkNames(x, names); err != nil {
 		return nil, nil, nil, err
@@ -86,6 +86,7 @@ func Update(prev *Model, x *mat.Dense, names []string, tl Timelines, cfg Config)
 	if err := next.Renumber(ids); err != nil {
 		return nil, nil, nil, err
 	}
+	CarryLabels(prev.Regimes, next.Regimes)
 	next.FeatureNames = slices.Clone(prev.FeatureNames)
 	next.FeatureConfig = prev.FeatureConfig
 	next.Scaler = prev.Scaler
@@ -392,6 +393,9 @@ func (m *Model) check() error {
 	for _, r := range m.Regimes {
 		if ids[r.ID] {
 			return fmt.Errorf("regime %d appears twice", r.ID)
+		}
+		if err := CheckLabel(r.Name, r.Status); err != nil {
+			return fmt.Errorf("regime %d: %w", r.ID, err)
 		}
 		if len(r.Centroid) != m.Map.Dim {
 			return fmt.Errorf("regime %d has a centroid of dimension %d, the map %d", r.ID, len(r.Centroid), m.Map.Dim)

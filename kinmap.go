@@ -19,6 +19,7 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
@@ -42,6 +43,11 @@ type Options struct {
 	Timeline timeline.Config
 	History  string    // folder of earlier timelines; "" for none
 	Log      io.Writer // progress messages; nil for none
+
+	// Units are the units of channels, such as "m3/h" for flow, in which
+	// the regime descriptions give typical levels; they replace the
+	// model's for assign and update, and are recorded in the model.
+	Units map[string]string
 }
 
 // DefaultOptions returns the defaults of the command.
@@ -86,6 +92,12 @@ type Result struct {
 	Switches    []timeline.Switch
 	Changes     []mapper.RegimeChange // regime renumbering by Update
 	Info        RunInfo
+
+	// Levels are the typical raw levels of the channels by regime, for
+	// the regime descriptions; nil when the run's readings were not at
+	// hand (a run on Beam).
+	Levels *export.Levels
+	data   *ingest.Dataset // the dump read, until Conclude has the levels
 
 	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
@@ -148,6 +160,7 @@ type OptionsRecord struct {
 	Map      mapper.Config          `json:"map"`
 	Timeline timeline.Config        `json:"timeline"`
 	History  string                 `json:"history,omitempty"`
+	Units    map[string]string      `json:"units,omitempty"`
 }
 
 // Validate reports the first usage error in the options.
@@ -213,6 +226,7 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 		return nil, err
 	}
 	res.Ingest = ds.Summary
+	res.data = ds
 	for _, site := range slices.Sorted(maps.Keys(ds.Summary.Sentinels)) {
 		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("site %s: %d readings of magnitude %g or more dropped as sentinel values (bad-quality markers)",
 			site, ds.Summary.Sentinels[site], ingest.SentinelMagnitude))

@@ -45,6 +45,7 @@ func Train(o Options) (*Result, error) {
 	model.FeatureNames = res.Table.Names
 	model.FeatureConfig = res.Table.Config
 	model.Scaler = sc
+	model.Units = Units(model, o.Units)
 	res.Model, res.Assignments = model, asg
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -104,6 +105,8 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	}
 	// The update keeps the regime numbers, hence the lineage.
 	model.Lineage = lineageOf(prev)
+	model.Units = Units(prev, o.Units)
+	res.Info.Warnings = append(res.Info.Warnings, unlabelledWarnings(prev, changes)...)
 	res.Model, res.Assignments, res.Changes = model, asg, changes
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -251,6 +254,9 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	if err := decode(&o, r); err != nil {
 		return err
 	}
+	if r.data != nil {
+		r.Levels, r.data = r.levels(&o, r.data), nil
+	}
 	sw.lap("decode")
 	finish(r, sw)
 	return nil
@@ -303,7 +309,7 @@ func Begin(command string, o Options) *Result {
 		Warnings: []string{}, // a list in run.json even when empty
 		Options: OptionsRecord{
 			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
-			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History,
+			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History, Units: o.Units,
 		},
 	}}
 }

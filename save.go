@@ -127,6 +127,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Register:    r.Register,
 		Summary:     &r.Ingest,
 		Changes:     r.Changes,
+		Levels:      r.Levels,
 		Title:       "kinmap " + cmp.Or(r.Info.Command, "run"),
 	}
 	ws, err := export.Warnings(run)

@@ -119,4 +119,9 @@ type Model struct {
 	// scratch and kept by updates, which keep the numbers. Files written
 	// before it existed have none.
 	Lineage string `json:",omitempty"`
+
+	// Units are the units of the channels (such as "m3/h" for flow) in
+	// which descriptions give their levels; channels without one are
+	// absent. A file without units is read by builds that predate them.
+	Units map[string]string `json:",omitempty"`
 }

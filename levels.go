@@ -13,8 +13,7 @@ import (
 
 // levels computes the typical raw levels of the model's channels in each
 // decoded regime of the run and over all its windows (features.Levels on
-// the readings of ds), with the channels' units: the model's, replaced by
-// those of the options.
+// the readings of ds), with the channels' units (channelUnits).
 func (r *Result) levels(o *Options, ds *ingest.Dataset) *export.Levels {
 	channels := features.Channels(r.Model.FeatureNames)
 	ids := make([]int, 0, len(r.Model.Regimes))
@@ -26,7 +25,7 @@ func (r *Result) levels(o *Options, ds *ingest.Dataset) *export.Levels {
 		group[i] = slices.Index(ids, e.Regime) // -1 for a window without regime
 	}
 	byGroup, fleet := features.Levels(ds, r.Table.Windows, group, len(ids), channels)
-	lv := &export.Levels{Regimes: make(map[int][]features.Level, len(ids)), Fleet: fleet, Units: Units(r.Model, o.Units)}
+	lv := &export.Levels{Regimes: make(map[int][]features.Level, len(ids)), Fleet: fleet, Units: channelUnits(r.Model, r.Ingest.Units, o.Units)}
 	for g, id := range ids {
 		lv.Regimes[id] = byGroup[g]
 	}
@@ -38,13 +37,13 @@ func (r *Result) levels(o *Options, ds *ingest.Dataset) *export.Levels {
 	return lv
 }
 
-// Units returns the units of the channels of m: those the model records,
-// replaced by the ones given.
-func Units(m *mapper.Model, given map[string]string) map[string]string {
-	u := maps.Clone(m.Units)
-	if u == nil {
-		u = map[string]string{}
-	}
+// channelUnits returns the units of the channels: those model m records,
+// replaced by those the dump's field metadata gives, replaced by those
+// given in the options.
+func channelUnits(m *mapper.Model, dump, given map[string]string) map[string]string {
+	u := map[string]string{}
+	maps.Copy(u, m.Units)
+	maps.Copy(u, dump)
 	maps.Copy(u, given)
 	return u
 }

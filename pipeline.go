@@ -45,7 +45,7 @@ func Train(o Options) (*Result, error) {
 	model.FeatureNames = res.Table.Names
 	model.FeatureConfig = res.Table.Config
 	model.Scaler = sc
-	model.Units = Units(model, o.Units)
+	model.Units = channelUnits(model, res.Ingest.Units, o.Units)
 	res.Model, res.Assignments = model, asg
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -105,7 +105,7 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 	}
 	// The update keeps the regime numbers, hence the lineage.
 	model.Lineage = lineageOf(prev)
-	model.Units = Units(prev, o.Units)
+	model.Units = channelUnits(prev, res.Ingest.Units, o.Units)
 	res.Info.Warnings = append(res.Info.Warnings, unlabelledWarnings(prev, changes)...)
 	res.Model, res.Assignments, res.Changes = model, asg, changes
 	sw.lap("train")

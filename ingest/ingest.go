@@ -179,6 +179,9 @@ type Summary struct {
 	SkippedColumns []string   // non-numeric extra columns of a wide dump
 	NaiveTime      bool       // timestamps without UTC adjustment were read as UTC
 	Unregistered   []string   // sites in the dump but not in the register
+	// Units are the units of a wide dump's channels that the field
+	// metadata of its Parquet or Arrow columns gives (UnitKey), by channel.
+	Units map[string]string `json:",omitempty"`
 }
 
 // FileSummary describes one file read.

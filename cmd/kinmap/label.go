@@ -4,8 +4,11 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"path/filepath"
+	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/internal/cli"
 	"github.com/kinmap/kinmap/labels"
 	"github.com/kinmap/kinmap/mapper"
@@ -28,14 +31,25 @@ func labelCmd(args []string, e *env) error {
 	case model == "":
 		return cli.UsageError("no model: name the model file to label with --model FILE")
 	}
-	m, err := mapper.ReadModelFile(model)
-	if err != nil {
-		return err
-	}
 	if file == "" {
+		m, err := mapper.ReadModelFile(model)
+		if err != nil {
+			return err
+		}
 		return labels.Write(e.stdout, m.Regimes, nil)
 	}
 	ls, err := labels.ReadFile(file)
+	if err != nil {
+		return err
+	}
+	// The model's folder is locked from the reading to the writing, as a
+	// run locks it, so that neither overwrites the other's model.
+	tx, err := atomicfile.Begin(filepath.Dir(model), nil, time.Minute)
+	if err != nil {
+		return err
+	}
+	defer tx.Abort()
+	m, err := mapper.ReadModelFile(model)
 	if err != nil {
 		return err
 	}
@@ -50,7 +64,10 @@ func labelCmd(args []string, e *env) error {
 		fmt.Fprintf(e.stdout, "%s: no label changed\n", model)
 		return nil
 	}
-	if err := m.WriteFile(model); err != nil {
+	if err := tx.Create(model, func(w io.Writer) error { return errors.Unwrap(m.Write(w)) }); err != nil {
+		return err
+	}
+	if err := tx.Commit(); err != nil {
 		return err
 	}
 	for _, c := range changed {

@@ -62,6 +62,17 @@ func TestLabelCommand(t *testing.T) {
 	if code != cli.ExitOK || !strings.Contains(stdout, `regime 1: "baseline" normal (was unlabelled)`) {
 		t.Fatalf("label: exit status %d:\n%s%s", code, stdout, stderr)
 	}
+	// Written through a transaction: no lock, journal or temporary file
+	// stays beside the model.
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, e := range entries {
+		if strings.HasPrefix(e.Name(), ".kinmap") {
+			t.Errorf("%s left beside the model", e.Name())
+		}
+	}
 	m, err := mapper.ReadModelFile(model)
 	if err != nil {
 		t.Fatal(err)

@@ -186,18 +186,14 @@ func ReadFile(path string) ([]Label, error) {
 // Write writes the labels of regs as a labels file, one row per regime
 // in the order given, with each regime's description for orientation:
 // the file to start from.
-func Write(w io.Writer, regs []mapper.Regime, describe func(mapper.Regime) string) error {
+func Write(w io.Writer, regs []mapper.Regime) error {
 	c := csv.NewWriter(w)
 	c.UseCRLF = true
 	if err := c.Write([]string{ColRegime, ColName, ColStatus, ColDescription}); err != nil {
 		return fmt.Errorf("labels: %w", err)
 	}
 	for _, g := range regs {
-		d := g.Description
-		if describe != nil {
-			d = describe(g)
-		}
-		if err := c.Write([]string{strconv.Itoa(g.ID), g.Name, g.Status, d}); err != nil {
+		if err := c.Write([]string{strconv.Itoa(g.ID), g.Name, g.Status, g.Description}); err != nil {
 			return fmt.Errorf("labels: %w", err)
 		}
 	}

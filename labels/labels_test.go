@@ -90,7 +90,7 @@ func TestWriteReadsBack(t *testing.T) {
 	m := model()
 	m.Regimes[0].Name, m.Regimes[0].Status = `baseline, "A"`, mapper.StatusNormal
 	var b bytes.Buffer
-	if err := Write(&b, m.Regimes, nil); err != nil {
+	if err := Write(&b, m.Regimes); err != nil {
 		t.Fatal(err)
 	}
 	ls, err := Read(&b)
@@ -161,7 +161,7 @@ func FuzzRead(f *testing.F) {
 			regs[i] = mapper.Regime{ID: l.Regime, Name: l.Name, Status: l.Status}
 		}
 		var b bytes.Buffer
-		if err := Write(&b, regs, nil); err != nil {
+		if err := Write(&b, regs); err != nil {
 			t.Fatal(err)
 		}
 		again, err := Read(&b)

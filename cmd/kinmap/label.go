@@ -36,7 +36,7 @@ func labelCmd(args []string, e *env) error {
 		if err != nil {
 			return err
 		}
-		return labels.Write(e.stdout, m.Regimes, nil)
+		return labels.Write(e.stdout, m.Regimes)
 	}
 	ls, err := labels.ReadFile(file)
 	if err != nil {

@@ -2,11 +2,10 @@ package cli
 
 import (
 	"fmt"
+	"maps"
 	"slices"
 	"strings"
 	"unicode/utf8"
-
-	"maps"
 )
 
 // unitsValue is a CHANNEL=UNIT,CHANNEL=UNIT flag.

@@ -94,8 +94,8 @@ type Result struct {
 	Info        RunInfo
 
 	// Levels are the typical raw levels of the channels by regime, for
-	// the regime descriptions; nil when the run's readings were not at
-	// hand (a run on Beam).
+	// the regime descriptions (SetLevels); Conclude sets them when the run
+	// read the dump itself.
 	Levels *export.Levels
 	data   *ingest.Dataset // the dump read, until Conclude has the levels
 

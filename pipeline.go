@@ -255,7 +255,8 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 		return err
 	}
 	if r.data != nil {
-		r.Levels, r.data = r.levels(&o, r.data), nil
+		r.levels(&o, r.data)
+		r.data = nil
 	}
 	sw.lap("decode")
 	finish(r, sw)

@@ -36,51 +36,67 @@ func Levels(ds *ingest.Dataset, ws []Window, group []int, k int, channels []stri
 	for _, s := range ds.Sites {
 		bySite[s.ID] = s
 	}
-	upto := make([]int, k+1) // per group: readings of the series taken so far
 	for lo := 0; lo < len(ws); {
 		hi := lo + 1
 		for hi < len(ws) && ws[hi].Site == ws[lo].Site {
 			hi++
 		}
-		site := bySite[ws[lo].Site]
-		for c, ch := range channels {
-			if site == nil {
-				break
-			}
-			s := site.Series[ch]
-			clear(upto)
-			for i := lo; i < hi; i++ {
-				g := group[i]
-				if g < 0 || g >= k {
-					continue
-				}
-				a, b := readingsIn(s.Times, ws[i].Start, ws[i].End)
-				for _, at := range []int{g, k} {
-					if from := max(a, upto[at]); from < b {
-						vals[at][c] = append(vals[at][c], s.Values[from:b]...)
-						upto[at] = b
-					}
-				}
-			}
+		if site := bySite[ws[lo].Site]; site != nil {
+			SiteReadings(site, ws[lo:hi], group[lo:hi], k, channels, func(g, c int, v []float64) {
+				vals[g][c] = append(vals[g][c], v...)
+			})
 		}
 		lo = hi
 	}
-	levels := func(v [][]float64) []Level {
-		out := make([]Level, len(channels))
-		for c, ch := range channels {
-			out[c] = Level{Channel: ch, Readings: len(v[c]), Median: math.NaN(), P95: math.NaN()}
-			if len(v[c]) > 0 {
-				slices.Sort(v[c])
-				out[c].Median, out[c].P95 = quantile.Sorted(v[c], 0.5), quantile.Sorted(v[c], 0.95)
-			}
-		}
-		return out
-	}
 	groups = make([][]Level, k)
 	for g := range k {
-		groups[g] = levels(vals[g])
+		groups[g] = make([]Level, len(channels))
+		for c, ch := range channels {
+			groups[g][c] = LevelOf(ch, vals[g][c])
+		}
 	}
-	return groups, levels(vals[k])
+	all = make([]Level, len(channels))
+	for c, ch := range channels {
+		all[c] = LevelOf(ch, vals[k][c])
+	}
+	return groups, all
+}
+
+// SiteReadings passes to add the raw readings of one site in its windows
+// ws (sorted by start) by group and channel index, as Levels counts them:
+// group[i] in [0, k) is the group of ws[i], group k stands for all
+// windows, and a reading in several windows of a group is passed once for
+// it. add may keep v only as a copy.
+func SiteReadings(site *ingest.SiteData, ws []Window, group []int, k int, channels []string, add func(g, c int, v []float64)) {
+	upto := make([]int, k+1) // per group: readings of the series taken so far
+	for c, ch := range channels {
+		s := site.Series[ch]
+		clear(upto)
+		for i := range ws {
+			g := group[i]
+			if g < 0 || g >= k {
+				continue
+			}
+			a, b := readingsIn(s.Times, ws[i].Start, ws[i].End)
+			for _, at := range []int{g, k} {
+				if from := max(a, upto[at]); from < b {
+					add(at, c, s.Values[from:b])
+					upto[at] = b
+				}
+			}
+		}
+	}
+}
+
+// LevelOf returns the level of channel ch over the readings v, which it
+// sorts.
+func LevelOf(ch string, v []float64) Level {
+	l := Level{Channel: ch, Readings: len(v), Median: math.NaN(), P95: math.NaN()}
+	if len(v) > 0 {
+		slices.Sort(v)
+		l.Median, l.P95 = quantile.Sorted(v, 0.5), quantile.Sorted(v, 0.95)
+	}
+	return l
 }
 
 // readingsIn returns the indexes [a, b) of the ascending times in

@@ -20,12 +20,7 @@ func TestLabelCommand(t *testing.T) {
 	}
 	_, dump, _ := smallFleet(t, 12)
 	dir := t.TempDir()
-	model := filepath.Join(dir, "model")
-	code, _, stderr := invoke("run", "--data", dump, "--out", filepath.Join(dir, "train"), "--model", model,
-		"--grid", "6x4", "--epochs", "2", "--regimes", "2", "--units", "flow=m3/h", "--quiet")
-	if code != cli.ExitOK {
-		t.Fatalf("run: exit status %d:\n%s", code, stderr)
-	}
+	model := smallModel(t, dir, dump, "--regimes", "2", "--units", "flow=m3/h")
 	code, stdout, stderr := invoke("label", "--model", model)
 	if code != cli.ExitOK {
 		t.Fatalf("label: exit status %d:\n%s", code, stderr)

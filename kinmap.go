@@ -24,6 +24,7 @@ import (
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -79,19 +80,18 @@ func IsUsage(err error) bool {
 	return errors.As(err, &u) || errors.Is(err, ingest.ErrUsage)
 }
 
-// Result is the outcome of a run: what was read, the feature table, the
-// model, where each window landed and the decoded timelines.
+// Result is the outcome of a run: what was read, the feature table, whose
+// windows record where each landed on the map and its decoded regime, the
+// model and the switches.
 type Result struct {
-	Ingest      ingest.Summary
-	Register    *ingest.Register
-	Table       *features.Table
-	X           *mat.Dense // scaled features, one row per window of Table
-	Model       *mapper.Model
-	Assignments []mapper.Assignment
-	Entries     []timeline.Entry
-	Switches    []timeline.Switch
-	Changes     []mapper.RegimeChange // regime renumbering by Update
-	Info        RunInfo
+	Ingest   ingest.Summary
+	Register *ingest.Register
+	Table    *features.Table // one record per window, filled by every stage
+	X        *mat.Dense      // scaled features, one row per window of Table (each window's Scaled is a view of its row)
+	Model    *model.Model
+	Switches []timeline.Switch
+	Changes  []mapper.RegimeChange // regime renumbering by Update
+	Info     RunInfo
 
 	// Levels are the typical raw levels of the channels by regime, for
 	// the regime descriptions (SetLevels); Conclude sets them when the run
@@ -104,6 +104,9 @@ type Result struct {
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality *mapper.Quality
+	// daily summarises the readings by site, channel and day for the
+	// report's explorer.
+	daily []export.DailySummary
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.

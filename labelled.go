@@ -5,13 +5,14 @@ import (
 
 	"github.com/kinmap/kinmap/labels"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // unlabelledWarnings names, when the model an update started from had
 // labels, the regimes of the update that have none (new regimes, the
 // other parts of a split among them) and the labelled regimes that are
 // gone: the user's labels no longer cover the map.
-func unlabelledWarnings(prev *mapper.Model, changes []mapper.RegimeChange) []string {
+func unlabelledWarnings(prev *model.Model, changes []mapper.RegimeChange) []string {
 	if !mapper.Labelled(prev.Regimes) {
 		return nil
 	}

@@ -13,6 +13,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/labels"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // Names and statuses survive run → label → assign → update → assign, with
@@ -38,7 +39,7 @@ func TestLabelsSurviveUpdate(t *testing.T) {
 		t.Fatal(err)
 	}
 	modelFile := filepath.Join(dir, "run", "model")
-	m, err := mapper.ReadModelFile(modelFile)
+	m, err := model.ReadFile(modelFile)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -52,7 +53,7 @@ func TestLabelsSurviveUpdate(t *testing.T) {
 	if err := m.WriteFile(modelFile); err != nil {
 		t.Fatal(err)
 	}
-	if m, err = mapper.ReadModelFile(modelFile); err != nil {
+	if m, err = model.ReadFile(modelFile); err != nil {
 		t.Fatal(err)
 	}
 	want := map[int][2]string{1: {"baseline", "normal"}, 2: {"wet well, high", "watch"}}
@@ -99,7 +100,7 @@ func TestLabelsSurviveUpdate(t *testing.T) {
 	}
 	checkOutputs(t, out, want)
 
-	m2, err := mapper.ReadModelFile(filepath.Join(out, "model"))
+	m2, err := model.ReadFile(filepath.Join(out, "model"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -116,7 +117,7 @@ func TestLabelsSurviveUpdate(t *testing.T) {
 
 // checkLabels checks that the regimes of m named in want carry those
 // labels and that every other regime has none.
-func checkLabels(t *testing.T, what string, m *mapper.Model, want map[int][2]string) {
+func checkLabels(t *testing.T, what string, m *model.Model, want map[int][2]string) {
 	t.Helper()
 	for _, g := range m.Regimes {
 		if got := [2]string{g.Name, g.Status}; got != want[g.ID] {

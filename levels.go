@@ -8,7 +8,7 @@ import (
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // levels computes the typical raw levels of the model's channels in each
@@ -28,9 +28,9 @@ func (r *Result) LevelGroups() (group []int, k int) {
 	for i, g := range r.Model.Regimes {
 		ids[i] = g.ID
 	}
-	group = make([]int, len(r.Entries))
-	for i, e := range r.Entries {
-		group[i] = slices.Index(ids, e.Regime)
+	group = make([]int, len(r.Table.Windows))
+	for i, w := range r.Table.Windows {
+		group[i] = slices.Index(ids, w.Regime)
 	}
 	return group, len(ids)
 }
@@ -58,7 +58,7 @@ func (r *Result) SetLevels(o *Options, byGroup [][]features.Level, fleet []featu
 // channelUnits returns the units of the channels: those model m records,
 // replaced by those the dump's field metadata gives, replaced by those
 // given in the options.
-func channelUnits(m *mapper.Model, dump, given map[string]string) map[string]string {
+func channelUnits(m *model.Model, dump, given map[string]string) map[string]string {
 	u := map[string]string{}
 	maps.Copy(u, m.Units)
 	maps.Copy(u, dump)

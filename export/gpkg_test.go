@@ -54,7 +54,7 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 		{"tracks", ogrLayer{"Line String", 2, map[string]string{
 			"site": "String", "regime": "Integer64", "start": "DateTime", "end": "DateTime", "windows": "Integer64", "colour": "String",
 		}}},
-		{"timeline", ogrLayer{"None", len(fixtureRun().Entries), map[string]string{
+		{"timeline", ogrLayer{"None", len(fixtureRun().Table.Windows), map[string]string{
 			"site": "String", "window_start": "DateTime", "window_end": "DateTime", "col": "Integer64", "row": "Integer64",
 			"regime": "Integer64", "qe": "Real", "unfamiliar": "Integer(Boolean)", "regime_name": "String", "regime_status": "String",
 		}}},

@@ -9,6 +9,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // Levels are the typical raw levels of the channels in each regime and in
@@ -155,7 +156,7 @@ func number(v float64) string {
 
 // regimeLabel returns the user's name and status of regime id of m, ""
 // when it has none.
-func regimeLabel(m *mapper.Model, id int) (name, status string) {
+func regimeLabel(m *model.Model, id int) (name, status string) {
 	for _, g := range m.Regimes {
 		if g.ID == id {
 			return g.Name, g.Status

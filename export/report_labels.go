@@ -1,16 +1,12 @@
 package export
 
 import (
-	_ "embed"
 	"fmt"
 	"slices"
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
 )
-
-//go:embed report_labels.html
-var reportLabelsHTML string
 
 // labelsSection is the report's section on the regimes in engineering
 // terms: each regime's name, status and typical levels, and the meaning

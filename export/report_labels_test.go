@@ -28,7 +28,7 @@ func TestReportLabels(t *testing.T) {
 	}
 	var b bytes.Buffer
 	d := described(r)
-	if err := writeReport(&b, d, nil, nil, nil, nil); err != nil {
+	if err := writeReport(&b, d, nil, nil, nil, nil, nil); err != nil {
 		t.Fatal(err)
 	}
 	html := b.String()

@@ -9,7 +9,8 @@ import (
 
 	"github.com/parquet-go/parquet-go"
 
-	"github.com/kinmap/kinmap/timeline"
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/mapper"
 )
 
 // timelineRow is one row of timeline.parquet and timeline.csv.
@@ -88,23 +89,25 @@ func attributesLayer[T interface{ values() []any }](name, description string, co
 // timelineRows lists the windows by site, then time. Times are kept to the
 // microsecond, the Parquet unit.
 func timelineRows(r *Run, ss []*site) []timelineRow {
-	rows := make([]timelineRow, 0, len(r.Entries))
+	rows := make([]timelineRow, 0, len(r.Table.Windows))
 	for _, s := range ss {
-		for _, i := range s.entries {
-			row := rowOf(r.Entries[i])
-			row.RegimeName, row.RegimeStatus = regimeLabel(r.Model, r.Entries[i].Regime)
+		for _, i := range s.windows {
+			w := &r.Table.Windows[i]
+			row := rowOf(r.Model.Map.Lattice, w)
+			row.RegimeName, row.RegimeStatus = regimeLabel(r.Model, w.Regime)
 			rows = append(rows, row)
 		}
 	}
 	return rows
 }
 
-// rowOf is the timeline row of one entry.
-func rowOf(e timeline.Entry) timelineRow {
+// rowOf is the timeline row of one window, its unit a cell of l.
+func rowOf(l mapper.Lattice, w *features.Window) timelineRow {
+	col, row := l.Cell(w.Unit)
 	return timelineRow{
-		Site: e.Site, WindowStart: micro(e.Start), WindowEnd: micro(e.End),
-		Col: int32(e.Col), Row: int32(e.Row), Regime: int32(e.Regime),
-		QE: e.QE, Unfamiliar: e.Unfamiliar,
+		Site: w.Site, WindowStart: micro(w.Start), WindowEnd: micro(w.End),
+		Col: int32(col), Row: int32(row), Regime: int32(w.Regime),
+		QE: w.QE, Unfamiliar: w.Unfamiliar,
 	}
 }
 

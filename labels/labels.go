@@ -28,6 +28,7 @@ import (
 	"strings"
 
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // The columns of a labels file.
@@ -208,7 +209,7 @@ func Write(w io.Writer, regs []mapper.Regime) error {
 // regime whose label changed, such as `regime 2: "baseline" normal (was
 // unlabelled)`. A label naming a regime the model lacks is an error; m is
 // left unchanged on any error.
-func Apply(m *mapper.Model, ls []Label) ([]string, error) {
+func Apply(m *model.Model, ls []Label) ([]string, error) {
 	at := make(map[int]int, len(m.Regimes))
 	for i, g := range m.Regimes {
 		at[g.ID] = i

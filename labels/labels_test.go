@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 func TestRead(t *testing.T) {
@@ -76,8 +77,8 @@ func TestReadTooLarge(t *testing.T) {
 	}
 }
 
-func model() *mapper.Model {
-	return &mapper.Model{Regimes: []mapper.Regime{
+func labelledModel() *model.Model {
+	return &model.Model{Regimes: []mapper.Regime{
 		{ID: 1, Description: "flow.std −0.7σ"},
 		{ID: 2, Description: "vibration.p95 +2.6σ", Name: "old", Status: mapper.StatusWatch},
 		{ID: 5, Description: "flow.flat +2.4σ"},
@@ -87,7 +88,7 @@ func model() *mapper.Model {
 // What Write prints, Read reads back as the same labels, and Apply of it
 // changes nothing.
 func TestWriteReadsBack(t *testing.T) {
-	m := model()
+	m := labelledModel()
 	m.Regimes[0].Name, m.Regimes[0].Status = `baseline, "A"`, mapper.StatusNormal
 	var b bytes.Buffer
 	if err := Write(&b, m.Regimes); err != nil {
@@ -107,7 +108,7 @@ func TestWriteReadsBack(t *testing.T) {
 }
 
 func TestApply(t *testing.T) {
-	m := model()
+	m := labelledModel()
 	changed, err := Apply(m, []Label{{Regime: 1, Name: "baseline", Status: "normal"}, {Regime: 2}, {Regime: 5, Status: "fault"}})
 	if err != nil {
 		t.Fatal(err)
@@ -121,7 +122,7 @@ func TestApply(t *testing.T) {
 	}
 
 	// An unknown regime or a bad label leaves the model as it was.
-	m = model()
+	m = labelledModel()
 	for _, ls := range [][]Label{
 		{{Regime: 1, Name: "a"}, {Regime: 3, Name: "b", Row: 3}},
 		{{Regime: 1, Name: "a"}, {Regime: 2, Status: "broken", Row: 3}},
@@ -131,7 +132,7 @@ func TestApply(t *testing.T) {
 		if !errors.As(err, &le) || le.Row != 3 {
 			t.Errorf("Apply(%v): error %v, want one at row 3", ls, err)
 		}
-		if fmt.Sprint(m.Regimes) != fmt.Sprint(model().Regimes) {
+		if fmt.Sprint(m.Regimes) != fmt.Sprint(labelledModel().Regimes) {
 			t.Errorf("Apply(%v) changed the model: %+v", ls, m.Regimes)
 		}
 	}

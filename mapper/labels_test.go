@@ -1,7 +1,6 @@
 package mapper
 
 import (
-	"bytes"
 	"fmt"
 	"strings"
 	"testing"
@@ -51,13 +50,12 @@ func TestCarryLabelsThroughSplit(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	m := &Model{Regimes: next, UnitRegime: []int{}}
-	if err := m.Renumber(ids); err != nil {
-		t.Fatal(err)
+	for i := range next {
+		next[i].ID = ids[i]
 	}
-	CarryLabels(prev, m.Regimes)
+	CarryLabels(prev, next)
 	got := map[int]string{}
-	for _, g := range m.Regimes {
+	for _, g := range next {
 		got[g.ID] = g.Name + "/" + g.Status
 	}
 	want := map[int]string{1: "baseline/normal", 2: "standby/watch", 3: "/"}
@@ -73,22 +71,5 @@ func TestCarryLabelsThroughSplit(t *testing.T) {
 	}
 	if !Labelled(prev) || Labelled(next[2:]) {
 		t.Error("Labelled is wrong")
-	}
-}
-
-// A labelled model reads back with its labels.
-func TestModelKeepsLabels(t *testing.T) {
-	mdl, _, _ := fitted(t)
-	mdl.Regimes[0].Name, mdl.Regimes[0].Status = "baseline, \"A\"", StatusNormal
-	var buf bytes.Buffer
-	if err := mdl.Write(&buf); err != nil {
-		t.Fatal(err)
-	}
-	back, err := ReadModel(&buf)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if g := back.Regimes[0]; g.Name != mdl.Regimes[0].Name || g.Status != StatusNormal {
-		t.Errorf("read back %q %q", g.Name, g.Status)
 	}
 }

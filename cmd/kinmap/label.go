@@ -11,16 +11,16 @@ import (
 	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/internal/cli"
 	"github.com/kinmap/kinmap/labels"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // labelCmd sets the names and statuses of a model's regimes from a CSV
 // file, or prints them as such a file.
 func labelCmd(args []string, e *env) error {
-	var model, file string
+	var modelFile, file string
 	f := cli.New(commandNamed("label"), nil)
 	f.Section("Labels")
-	f.Str(&model, "model", "", "model `FILE` whose regimes to label; it is rewritten in place")
+	f.Str(&modelFile, "model", "", "model `FILE` whose regimes to label; it is rewritten in place")
 	f.Str(&file, "file", "", "labels `CSV` with the columns regime, name and status (normal, watch or fault); without it, print the model's labels as such a file")
 	if err := f.Parse(args, e.stdout); err != nil {
 		return err
@@ -28,11 +28,11 @@ func labelCmd(args []string, e *env) error {
 	switch {
 	case f.NArg() > 0:
 		return cli.UsageError("unexpected arguments %q: label takes --model FILE and --file CSV", f.Args())
-	case model == "":
+	case modelFile == "":
 		return cli.UsageError("no model: name the model file to label with --model FILE")
 	}
 	if file == "" {
-		m, err := mapper.ReadModelFile(model)
+		m, err := model.ReadFile(modelFile)
 		if err != nil {
 			return err
 		}
@@ -44,12 +44,12 @@ func labelCmd(args []string, e *env) error {
 	}
 	// The model's folder is locked from the reading to the writing, as a
 	// run locks it, so that neither overwrites the other's model.
-	tx, err := atomicfile.Begin(filepath.Dir(model), nil, time.Minute)
+	tx, err := atomicfile.Begin(filepath.Dir(modelFile), nil, time.Minute)
 	if err != nil {
 		return err
 	}
 	defer tx.Abort()
-	m, err := mapper.ReadModelFile(model)
+	m, err := model.ReadFile(modelFile)
 	if err != nil {
 		return err
 	}
@@ -61,10 +61,10 @@ func labelCmd(args []string, e *env) error {
 		return err
 	}
 	if len(changed) == 0 {
-		fmt.Fprintf(e.stdout, "%s: no label changed\n", model)
+		fmt.Fprintf(e.stdout, "%s: no label changed\n", modelFile)
 		return nil
 	}
-	if err := tx.Create(model, func(w io.Writer) error { return errors.Unwrap(m.Write(w)) }); err != nil {
+	if err := tx.Create(modelFile, func(w io.Writer) error { return errors.Unwrap(m.Write(w)) }); err != nil {
 		return err
 	}
 	if err := tx.Commit(); err != nil {
@@ -73,7 +73,7 @@ func labelCmd(args []string, e *env) error {
 	for _, c := range changed {
 		fmt.Fprintln(e.stdout, c)
 	}
-	fmt.Fprintf(e.stdout, "%s: %d regime(s) relabelled; outputs show the labels from the next assign or update with this model\n", model, len(changed))
+	fmt.Fprintf(e.stdout, "%s: %d regime(s) relabelled; outputs show the labels from the next assign or update with this model\n", modelFile, len(changed))
 	return nil
 }
 

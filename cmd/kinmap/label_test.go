@@ -9,6 +9,7 @@ import (
 
 	"github.com/kinmap/kinmap/internal/cli"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // kinmap label prints the labels to start from, applies an edited file,
@@ -20,8 +21,8 @@ func TestLabelCommand(t *testing.T) {
 	}
 	_, dump, _ := smallFleet(t, 12)
 	dir := t.TempDir()
-	model := smallModel(t, dir, dump, "--regimes", "2", "--units", "flow=m3/h")
-	code, stdout, stderr := invoke("label", "--model", model)
+	modelFile := smallModel(t, dir, dump, "--regimes", "2", "--units", "flow=m3/h")
+	code, stdout, stderr := invoke("label", "--model", modelFile)
 	if code != cli.ExitOK {
 		t.Fatalf("label: exit status %d:\n%s", code, stderr)
 	}
@@ -30,17 +31,17 @@ func TestLabelCommand(t *testing.T) {
 		t.Fatalf("label printed %q (%v), want a header and regimes 1 and 2", stdout, err)
 	}
 
-	before, err := os.ReadFile(model)
+	before, err := os.ReadFile(modelFile)
 	if err != nil {
 		t.Fatal(err)
 	}
 	bad := filepath.Join(dir, "bad.csv")
 	os.WriteFile(bad, []byte("regime,name,status\n1,baseline,normal\n2,worn,faulty\n"), 0o644)
-	code, _, stderr = invoke("label", "--model", model, "--file", bad)
+	code, _, stderr = invoke("label", "--model", modelFile, "--file", bad)
 	if code != cli.ExitData || !strings.Contains(stderr, bad+": row 3: column \"status\"") {
 		t.Errorf("a bad status: exit status %d, %s", code, stderr)
 	}
-	if after, _ := os.ReadFile(model); string(after) != string(before) {
+	if after, _ := os.ReadFile(modelFile); string(after) != string(before) {
 		t.Error("a refused labels file changed the model")
 	}
 
@@ -53,7 +54,7 @@ func TestLabelCommand(t *testing.T) {
 	}
 	csv.NewWriter(f).WriteAll(recs)
 	f.Close()
-	code, stdout, stderr = invoke("label", "--model", model, "--file", good)
+	code, stdout, stderr = invoke("label", "--model", modelFile, "--file", good)
 	if code != cli.ExitOK || !strings.Contains(stdout, `regime 1: "baseline" normal (was unlabelled)`) {
 		t.Fatalf("label: exit status %d:\n%s%s", code, stdout, stderr)
 	}
@@ -68,7 +69,7 @@ func TestLabelCommand(t *testing.T) {
 			t.Errorf("%s left beside the model", e.Name())
 		}
 	}
-	m, err := mapper.ReadModelFile(model)
+	m, err := model.ReadFile(modelFile)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -77,7 +78,7 @@ func TestLabelCommand(t *testing.T) {
 	}
 
 	out := filepath.Join(dir, "assigned")
-	code, _, stderr = invoke("assign", "--model", model, "--data", dump, "--out", out, "--units", "vibration=mm/s", "--quiet")
+	code, _, stderr = invoke("assign", "--model", modelFile, "--data", dump, "--out", out, "--units", "vibration=mm/s", "--quiet")
 	if code != cli.ExitOK {
 		t.Fatalf("assign: exit status %d:\n%s", code, stderr)
 	}

@@ -46,6 +46,11 @@ type Options struct {
 	History  string    // folder of earlier timelines; "" for none
 	Log      io.Writer // progress messages; nil for none
 	Events   EventOptions
+
+	// Units are the units of channels, such as "m3/h" for flow, in which
+	// the regime descriptions give typical levels; they replace the
+	// model's for assign and update, and are recorded in the model.
+	Units map[string]string
 }
 
 // DefaultOptions returns the defaults of the command.
@@ -97,6 +102,12 @@ type Result struct {
 	Attention []attention.Row
 	Health    []export.Finding
 	Against   *export.Comparison
+
+	// Levels are the typical raw levels of the channels by regime, for
+	// the regime descriptions (SetLevels); Conclude sets them when the run
+	// read the dump itself.
+	Levels *export.Levels
+	data   *ingest.Dataset // the dump read, until Conclude has the levels
 
 	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
@@ -174,6 +185,7 @@ type OptionsRecord struct {
 	Timeline timeline.Config        `json:"timeline"`
 	History  string                 `json:"history,omitempty"`
 	Events   *EventOptions          `json:"events,omitempty"`
+	Units    map[string]string      `json:"units,omitempty"`
 }
 
 // Validate reports the first usage error in the options.
@@ -239,6 +251,7 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 		return nil, err
 	}
 	res.Ingest = ds.Summary
+	res.data = ds
 	for _, site := range slices.Sorted(maps.Keys(ds.Summary.Sentinels)) {
 		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("site %s: %d readings of magnitude %g or more dropped as sentinel values (bad-quality markers)",
 			site, ds.Summary.Sentinels[site], ingest.SentinelMagnitude))

@@ -43,6 +43,7 @@ func Train(o Options) (*Result, error) {
 	if res.Model, err = model.Train(res.Table, res.X, sc, mc); err != nil {
 		return nil, err
 	}
+	res.Model.Units = channelUnits(res.Model, res.Ingest.Units, o.Units)
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
 		return nil, err
@@ -102,6 +103,8 @@ func Update(o Options, prev *model.Model) (*Result, error) {
 	if res.Model, res.Changes, err = model.Update(prev, res.Table, res.X, mc); err != nil {
 		return nil, err
 	}
+	res.Model.Units = channelUnits(prev, res.Ingest.Units, o.Units)
+	res.Info.Warnings = append(res.Info.Warnings, unlabelledWarnings(prev, res.Changes)...)
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
 		return nil, err
@@ -264,6 +267,10 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	if err := decode(&o, r); err != nil {
 		return err
 	}
+	if r.data != nil {
+		r.levels(&o, r.data)
+		r.data = nil
+	}
 	sw.lap("decode")
 	triage(&o, r)
 	finish(r, sw)
@@ -319,7 +326,7 @@ func Begin(command string, o Options) *Result {
 		Warnings: []string{}, // a list in run.json even when empty
 		Options: OptionsRecord{
 			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
-			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History,
+			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History, Units: o.Units,
 			Events: eventsRecord(o.Events),
 		},
 	}}

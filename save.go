@@ -127,6 +127,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Attention:  r.Attention,
 		Health:     r.Health,
 		Against:    r.Against,
+		Levels:     r.Levels,
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {

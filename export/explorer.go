@@ -60,6 +60,8 @@ type exGroup struct {
 	ID          int    `json:"id"`
 	Colour      string `json:"colour"`
 	Description string `json:"desc"`
+	Name        string `json:"name,omitempty"`   // the user's label (kinmap label)
+	Status      string `json:"status,omitempty"` // normal, watch, fault or none
 }
 
 type exSite struct {
@@ -109,7 +111,7 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, er
 		g := exGroup{ID: id, Colour: hex(picture.RegimeColour(id))}
 		for _, rg := range m.Regimes {
 			if rg.ID == id {
-				g.Description = rg.Description
+				g.Description, g.Name, g.Status = rg.Description, rg.Name, rg.Status
 			}
 		}
 		d.Regimes = append(d.Regimes, g)

@@ -6,8 +6,12 @@
   "use strict";
   var D = JSON.parse(document.getElementById("kinmap-data").textContent);
   var state = { regime: 0, unit: -1, site: "", query: "", sortKey: "id", sortDir: 1 };
-  var colour = {}, description = {};
-  D.regimes.forEach(function (g) { colour[g.id] = g.colour; description[g.id] = g.desc; });
+  var colour = {}, description = {}, label = {};
+  D.regimes.forEach(function (g) {
+    colour[g.id] = g.colour; description[g.id] = g.desc;
+    // The user's name and status of the regime (kinmap label), if any.
+    label[g.id] = (g.name ? " “" + g.name + "”" : "") + (g.status ? " [" + g.status + "]" : "");
+  });
   var byID = {};
   D.sites.forEach(function (s, i) { byID[s.id] = s; s.index = i; });
   var $ = function (id) { return document.getElementById(id); };
@@ -31,7 +35,7 @@
   function drawRegimeChips() {
     $("ex-regimes").innerHTML = D.regimes.map(function (g) {
       return '<button type="button" class="chip" data-regime="' + g.id + '" title="' + esc(g.desc) + '">' +
-        swatch(g.id) + "Regime " + g.id + "</button>";
+        swatch(g.id) + "Regime " + g.id + esc(label[g.id]) + "</button>";
     }).join("") + '<button type="button" class="chip" id="ex-clear">All sites</button>';
   }
 
@@ -249,7 +253,7 @@
     }
     var attrs = D.attrs.map(function (name, i) { return "<tr><th>" + esc(name) + "</th><td>" + esc(fmt(s.a ? s.a[i] : null)) + "</td></tr>"; }).join("");
     var html = "<h3>Site " + esc(s.id) + "</h3>" +
-      '<p>Now in ' + swatch(s.g) + "regime " + s.g + " (" + esc(description[s.g] || "") + "); " + s.w + " windows, " + s.sw + " switch" + (s.sw === 1 ? "" : "es") +
+      '<p>Now in ' + swatch(s.g) + "regime " + s.g + esc(label[s.g] || "") + " (" + esc(description[s.g] || "") + "); " + s.w + " windows, " + s.sw + " switch" + (s.sw === 1 ? "" : "es") +
       ", " + s.u + " unfamiliar" + (s.m ? "; mobile, shown at its last position" : "") + ".</p>" +
       (attrs ? '<table class="facts mini">' + attrs + "</table>" : "") +
       '<svg class="strip" viewBox="-10 0 ' + (W + 20) + ' 76" width="100%" role="img" aria-label="Regime strip">' + strip.join("") + ticks.join("") + "</svg>" +

@@ -65,6 +65,11 @@ type Run struct {
 	Attention []attention.Row
 	Health    []Finding
 	Against   *Comparison
+
+	// Levels are the typical raw levels of the channels by regime, which
+	// the regime descriptions give in the channels' units; nil for the
+	// standardised differences alone.
+	Levels *Levels
 }
 
 // Write writes the outputs of r into dir, creating it if needed.
@@ -142,6 +147,8 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	if err != nil {
 		return err
 	}
+	saved := r.Model // written as it is; the outputs show the descriptions in engineering terms
+	r = described(r)
 	ss, warnings := sites(r)
 	pics, err := picture.All(pictureInput(r, ss))
 	if err != nil {
@@ -173,7 +180,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 			return writeGeoPackage(w, layers)
 		}},
 		file{FeaturesFile, func(w io.Writer) error { return writeFeatures(w, r.Table) }},
-		file{ModelFile, r.Model.Write},
+		file{ModelFile, saved.Write},
 		file{AttentionCSVFile, func(w io.Writer) error { return writeCSV(w, attentionColumns, attentionRows(r.Attention)) }},
 		file{AttentionParquetFile, func(w io.Writer) error { return writeParquet(w, attentionRows(r.Attention)) }},
 		file{HealthFile, func(w io.Writer) error { return writeCSV(w, healthColumns, healthRows(r.Health)) }},

@@ -54,7 +54,7 @@ func fixtureModel() *model.Model {
 	}
 	m.Regimes = []mapper.Regime{
 		{ID: 1, Description: "flow.mean +1.2σ"},
-		{ID: 2, Description: "vibration.p95 +2.1σ, flow.mean −1.4σ"},
+		{ID: 2, Description: "vibration.p95 +2.1σ, flow.mean −1.4σ", Name: "worn bearing, \"B\"", Status: mapper.StatusFault},
 		{ID: 3, Description: "low load <idle> & quiet"},
 	}
 	for u := range cols * rows {

@@ -104,7 +104,7 @@ func point(s *site) orb.Geometry {
 // reserved are the property names of sites.geojson that kinmap sets itself.
 func reserved() map[string]bool {
 	r := map[string]bool{}
-	for _, k := range []string{"site", "regime", "dominant_regime", "shares", "windows", "switches", "last_switch", "col", "row", "qe", "unfamiliar", "unfamiliar_windows", "mobile", "home_lon", "home_lat"} {
+	for _, k := range []string{"site", "regime", "regime_name", "regime_status", "dominant_regime", "shares", "windows", "switches", "last_switch", "col", "row", "qe", "unfamiliar", "unfamiliar_windows", "mobile", "home_lon", "home_lat"} {
 		r[k] = true
 	}
 	return r
@@ -143,6 +143,9 @@ func siteFeatures(r *Run, ss []*site) []*feature {
 			}
 		}
 		p.add("regime", s.last.Regime)
+		name, status := regimeLabel(r.Model, s.last.Regime)
+		p.add("regime_name", name)
+		p.add("regime_status", status)
 		p.add("dominant_regime", s.dominant)
 		p.add("shares", shares(ids, s))
 		p.add("windows", len(s.windows))
@@ -194,7 +197,10 @@ func regimeFeatures(r *Run, ss []*site) []*feature {
 		}
 		var p props
 		p.add("regime", g.ID)
+		p.add("regime_name", g.Name)
+		p.add("regime_status", g.Status)
 		p.add("description", g.Description)
+		p.add("levels", levelProps(r.Levels, g))
 		p.add("colour", hex(picture.RegimeColour(g.ID)))
 		p.add("sites", len(names))
 		p.add("site_ids", strings.Join(names, ","))

@@ -272,6 +272,7 @@ func TestSitesGeoJSON(t *testing.T) {
 		"site": "PS-01", "name": "Aare North", "capacity_kw": 450.0, "elevation_m": 540.5, "active": true,
 		"register_regime": "summer",                    // the register's own "regime" column, renamed
 		"regime":          2.0, "dominant_regime": 1.0, // 3 windows each: the lower ID
+		"regime_name": "worn bearing, \"B\"", "regime_status": "fault", // the user's label of regime 2
 		"windows":  6.0,
 		"switches": 1.0, "last_switch": "2025-03-04T00:00:00Z",
 		"col": 2.0, "row": 0.0, "qe": 0.35, "unfamiliar": false, "unfamiliar_windows": 0.0, "mobile": false,
@@ -379,14 +380,15 @@ func TestOgrinfo(t *testing.T) {
 			"id":   "String", // GDAL's field for the Feature id (the site; RFC 7946, 3.2)
 			"site": "String", "name": "String", "capacity_kw": "Integer", "elevation_m": "Real",
 			"active": "Integer(Boolean)", "register_regime": "String",
-			"regime": "Integer", "dominant_regime": "Integer", "shares": "String(JSON)",
+			"regime": "Integer", "regime_name": "String", "regime_status": "String", "dominant_regime": "Integer", "shares": "String(JSON)",
 			"windows": "Integer", "switches": "Integer", "last_switch": "DateTime",
 			"col": "Integer", "row": "Integer", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer", "mobile": "Integer(Boolean)",
 			"home_lon": "Real", "home_lat": "Real", "likely_condition": "String", "condition_confidence": "Real",
 		}}},
 		{RegimesFile, ogrLayer{"Multi Point", 3, map[string]string{
-			"regime": "Integer", "description": "String", "colour": "String", "sites": "Integer", "site_ids": "String", "units": "Integer",
+			"regime": "Integer", "regime_name": "String", "regime_status": "String", "description": "String", "levels": "String(JSON)",
+			"colour": "String", "sites": "Integer", "site_ids": "String", "units": "Integer",
 		}}},
 		{TracksFile, ogrLayer{"Line String", 2, map[string]string{
 			"site": "String", "regime": "Integer", "start": "DateTime", "end": "DateTime", "windows": "Integer", "colour": "String",

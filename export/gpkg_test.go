@@ -41,26 +41,28 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 		{"sites", ogrLayer{"Point", 4, map[string]string{
 			"site": "String", "name": "String", "capacity_kw": "Integer64", "elevation_m": "Real",
 			"active": "Integer(Boolean)", "register_regime": "String",
-			"regime": "Integer64", "dominant_regime": "Integer64", "shares": "String(JSON)",
+			"regime": "Integer64", "regime_name": "String", "regime_status": "String", "dominant_regime": "Integer64", "shares": "String(JSON)",
 			"windows": "Integer64", "switches": "Integer64", "last_switch": "DateTime",
 			"col": "Integer64", "row": "Integer64", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer64", "mobile": "Integer(Boolean)",
 			"home_lon": "Real", "home_lat": "Real", "likely_condition": "String", "condition_confidence": "Real",
 		}}},
 		{"regimes", ogrLayer{"Multi Point", 3, map[string]string{
-			"regime": "Integer64", "description": "String", "colour": "String", "sites": "Integer64", "site_ids": "String", "units": "Integer64",
+			"regime": "Integer64", "regime_name": "String", "regime_status": "String", "description": "String", "levels": "String(JSON)",
+			"colour": "String", "sites": "Integer64", "site_ids": "String", "units": "Integer64",
 		}}},
 		{"tracks", ogrLayer{"Line String", 2, map[string]string{
 			"site": "String", "regime": "Integer64", "start": "DateTime", "end": "DateTime", "windows": "Integer64", "colour": "String",
 		}}},
 		{"timeline", ogrLayer{"None", len(fixtureRun().Table.Windows), map[string]string{
 			"site": "String", "window_start": "DateTime", "window_end": "DateTime", "col": "Integer64", "row": "Integer64",
-			"regime": "Integer64", "qe": "Real", "unfamiliar": "Integer(Boolean)",
+			"regime": "Integer64", "qe": "Real", "unfamiliar": "Integer(Boolean)", "regime_name": "String", "regime_status": "String",
 			"likely_condition": "String", "condition_confidence": "Real",
 		}}},
 		{"switches", ogrLayer{"None", len(fixtureSwitches), map[string]string{
 			"site": "String", "time": "DateTime", "from_regime": "Integer64", "to_regime": "Integer64",
 			"windows_before": "Integer64", "windows_after": "Integer64", "confidence": "Real",
+			"from_name": "String", "from_status": "String", "to_name": "String", "to_status": "String",
 		}}},
 	}
 	if len(layers) != len(tests) {
@@ -171,13 +173,13 @@ func TestGeoPackageContents(t *testing.T) {
 	}
 	// The R-tree extension (Annex F.3): registered, and one entry per
 	// feature with a geometry (X-9 has none). The schema extension (Annex
-	// F.9) declares shares JSON.
+	// F.9) declares shares and levels JSON.
 	ext := query(t, db, `SELECT table_name, extension_name FROM gpkg_extensions ORDER BY table_name`)
 	if want := "[[gpkg_data_column_constraints gpkg_schema] [gpkg_data_columns gpkg_schema] [regimes gpkg_rtree_index] [sites gpkg_rtree_index] [tracks gpkg_rtree_index]]"; fmt.Sprint(ext) != want {
 		t.Errorf("gpkg_extensions %v, want %s", ext, want)
 	}
-	if dc := query(t, db, `SELECT table_name, column_name, mime_type FROM gpkg_data_columns`); fmt.Sprint(dc) != "[[sites shares application/json]]" {
-		t.Errorf("gpkg_data_columns %v, want sites.shares as application/json", dc)
+	if dc := query(t, db, `SELECT table_name, column_name, mime_type FROM gpkg_data_columns`); fmt.Sprint(dc) != "[[sites shares application/json] [regimes levels application/json]]" {
+		t.Errorf("gpkg_data_columns %v, want sites.shares and regimes.levels as application/json", dc)
 	}
 	if n := query(t, db, `SELECT COUNT(*) FROM rtree_sites_geom`); fmt.Sprint(n) != "[[3]]" {
 		t.Errorf("%v entries in the sites index, want 3", n)

@@ -86,6 +86,7 @@ type reportData struct {
 	Daily           template.JS    // the sites' daily summaries, a JSON object
 	Script          template.JS    // the explorer's script
 	Triage          triageData
+	Labels          *labelsSection // regimes in engineering terms (report_labels.html)
 }
 
 func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []string, pics []picture.Picture, files []string) error {
@@ -168,6 +169,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []
 	}
 	d.Events = eventsReport(r, ss)
 	d.Triage = triageOf(r)
+	d.Labels = labelsData(r)
 	d.Data = dataFacts(r)
 	d.Map = mapFacts(r.Model)
 	if r.Info != nil {

@@ -23,6 +23,9 @@ type timelineRow struct {
 	Regime      int32     `parquet:"regime"`
 	QE          float64   `parquet:"qe"`
 	Unfamiliar  bool      `parquet:"unfamiliar"`
+	// The user's label of the regime (mapper.Regime), "" for none.
+	RegimeName   string `parquet:"regime_name,dict"`
+	RegimeStatus string `parquet:"regime_status,dict"`
 	// Condition and ConditionConfidence are the window's likely condition
 	// from the labelled windows near it on the map (package events).
 	Condition           string  `parquet:"likely_condition,dict"`
@@ -38,6 +41,11 @@ type switchRow struct {
 	WindowsBefore int32     `parquet:"windows_before"`
 	WindowsAfter  int32     `parquet:"windows_after"`
 	Confidence    float64   `parquet:"confidence"`
+	// The user's labels of the two regimes, "" for none.
+	FromName   string `parquet:"from_name,dict"`
+	FromStatus string `parquet:"from_status,dict"`
+	ToName     string `parquet:"to_name,dict"`
+	ToStatus   string `parquet:"to_status,dict"`
 }
 
 // The columns of the timeline and switch tables, for CSV headers and the
@@ -45,17 +53,20 @@ type switchRow struct {
 var (
 	timelineColumns = []gpkgColumn{{"site", "TEXT"}, {"window_start", "DATETIME"}, {"window_end", "DATETIME"},
 		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"},
+		{"regime_name", "TEXT"}, {"regime_status", "TEXT"},
 		{"likely_condition", "TEXT"}, {"condition_confidence", "REAL"}}
 	switchColumns = []gpkgColumn{{"site", "TEXT"}, {"time", "DATETIME"}, {"from_regime", "INTEGER"}, {"to_regime", "INTEGER"},
-		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"}}
+		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"},
+		{"from_name", "TEXT"}, {"from_status", "TEXT"}, {"to_name", "TEXT"}, {"to_status", "TEXT"}}
 )
 
 func (r timelineRow) values() []any {
-	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar, r.Condition, r.ConditionConfidence}
+	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar, r.RegimeName, r.RegimeStatus, r.Condition, r.ConditionConfidence}
 }
 
 func (r switchRow) values() []any {
-	return []any{r.Site, r.Time, r.FromRegime, r.ToRegime, r.WindowsBefore, r.WindowsAfter, r.Confidence}
+	return []any{r.Site, r.Time, r.FromRegime, r.ToRegime, r.WindowsBefore, r.WindowsAfter, r.Confidence,
+		r.FromName, r.FromStatus, r.ToName, r.ToStatus}
 }
 
 // csvField writes a value of a row as CSV text: times RFC 3339 in UTC,
@@ -86,7 +97,10 @@ func timelineRows(r *Run, ss []*site) []timelineRow {
 	rows := make([]timelineRow, 0, len(r.Table.Windows))
 	for _, s := range ss {
 		for _, i := range s.windows {
-			rows = append(rows, rowOf(r.Model.Map.Lattice, &r.Table.Windows[i]))
+			w := &r.Table.Windows[i]
+			row := rowOf(r.Model.Map.Lattice, w)
+			row.RegimeName, row.RegimeStatus = regimeLabel(r.Model, w.Regime)
+			rows = append(rows, row)
 		}
 	}
 	return rows
@@ -112,6 +126,8 @@ func switchRows(r *Run) []switchRow {
 			WindowsBefore: int32(s.Before), WindowsAfter: int32(s.After),
 			Confidence: s.Confidence,
 		}
+		rows[i].FromName, rows[i].FromStatus = regimeLabel(r.Model, s.From)
+		rows[i].ToName, rows[i].ToStatus = regimeLabel(r.Model, s.To)
 	}
 	return rows
 }

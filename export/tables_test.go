@@ -104,8 +104,8 @@ func TestParquetEqualsCSV(t *testing.T) {
 		header       []string
 		times        []string
 	}{
-		{TimelineParquetFile, TimelineCSVFile, []string{"site", "window_start", "window_end", "col", "row", "regime", "qe", "unfamiliar", "likely_condition", "condition_confidence"}, []string{"window_start", "window_end"}},
-		{SwitchesParquetFile, SwitchesCSVFile, []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence"}, []string{"time"}},
+		{TimelineParquetFile, TimelineCSVFile, []string{"site", "window_start", "window_end", "col", "row", "regime", "qe", "unfamiliar", "regime_name", "regime_status", "likely_condition", "condition_confidence"}, []string{"window_start", "window_end"}},
+		{SwitchesParquetFile, SwitchesCSVFile, []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence", "from_name", "from_status", "to_name", "to_status"}, []string{"time"}},
 	} {
 		t.Run(tc.parquet, func(t *testing.T) {
 			header, rows := readCSV(t, read(t, dir, tc.csv))
@@ -165,13 +165,13 @@ func TestCSVContents(t *testing.T) {
 		t.Errorf("%d rows, want %d", len(rows), n)
 	}
 	// QE 0.1 × 3 in binary floating point, in its shortest round-trip form.
-	if want := []string{"X-9", "2025-03-03T00:00:00Z", "2025-03-04T00:00:00Z", "2", "0", "2", "0.30000000000000004", "true", "", "0"}; strings.Join(rows[len(rows)-1], ",") != strings.Join(want, ",") {
+	if want := []string{"X-9", "2025-03-03T00:00:00Z", "2025-03-04T00:00:00Z", "2", "0", "2", "0.30000000000000004", "true", "worn bearing, \"B\"", "fault", "", "0"}; strings.Join(rows[len(rows)-1], ",") != strings.Join(want, ",") {
 		t.Errorf("last row %v, want %v", rows[len(rows)-1], want)
 	}
 	_, sw := readCSV(t, read(t, dir, SwitchesCSVFile))
 	want := [][]string{
-		{"PS-01", "2025-03-04T00:00:00Z", "1", "2", "3", "3", "0.9"},
-		{"T-7", "2025-03-03T00:00:00Z", "1", "3", "2", "3", "0.75"},
+		{"PS-01", "2025-03-04T00:00:00Z", "1", "2", "3", "3", "0.9", "", "", "worn bearing, \"B\"", "fault"},
+		{"T-7", "2025-03-03T00:00:00Z", "1", "3", "2", "3", "0.75", "", "", "", ""},
 	}
 	if fmt.Sprint(sw) != fmt.Sprint(want) {
 		t.Errorf("switches %v, want %v", sw, want)

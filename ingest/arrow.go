@@ -67,7 +67,7 @@ func newArrowSource(sc *arrow.Schema, next func() (arrow.RecordBatch, error), cl
 
 // arrowField maps an Arrow type (Schema.fbs of the Arrow format) to a kind.
 func arrowField(f arrow.Field) field {
-	fl := field{name: f.Name, typ: f.Type.String()}
+	fl := field{name: f.Name, typ: f.Type.String(), chanUnit: fieldUnit(f.Metadata)}
 	switch t := f.Type.(type) {
 	case *arrow.Int8Type, *arrow.Int16Type, *arrow.Int32Type, *arrow.Int64Type:
 		fl.kind = kindInt

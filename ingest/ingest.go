@@ -189,6 +189,9 @@ type Summary struct {
 	// SiteReadings the readings kept by site.
 	SiteDuplicates map[string]int64
 	SiteReadings   map[string]int64
+	// Units are the units of a wide dump's channels that the field
+	// metadata of its Parquet or Arrow columns gives (UnitKey), by channel.
+	Units map[string]string `json:",omitempty"`
 }
 
 // FileSummary describes one file read.

@@ -52,6 +52,7 @@ func openParquet(f *os.File) (src *parquetSource, err error) {
 		src.firsts = append(src.firsts, row)
 		row += g.NumRows()
 	}
+	units := parquetUnits(pf.Metadata().KeyValueMetadata)
 	for _, c := range pf.Root().Columns() {
 		fl := field{name: c.Name()}
 		leaf := -1
@@ -66,6 +67,7 @@ func openParquet(f *os.File) (src *parquetSource, err error) {
 			leaf = c.Index()
 			fl = parquetField(elems[leaf])
 		}
+		fl.chanUnit = units[fl.name]
 		src.fields = append(src.fields, fl)
 		src.leaves = append(src.leaves, leaf)
 		src.maxDefs = append(src.maxDefs, byte(c.MaxDefinitionLevel()))

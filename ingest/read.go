@@ -230,6 +230,7 @@ func (r *reader) readFile(path string) error {
 			want[i] = true
 		}
 	}
+	r.noteUnits(fields, ro.channels)
 	fs := FileSummary{Path: path, Format: in.format}
 	total := int64(-1) // rows of the file, -1 when the source cannot tell
 	if sz, ok := src.(interface{ numRows() int64 }); ok {

@@ -35,7 +35,9 @@ import (
 // was reached (mapper.Choice) instead of the Davies–Bouldin scores, which older
 // files keep. Version 4 records the lattice's shape by name (cells and
 // surface) instead of the booleans Hex and Flat; older files read as before.
-const FormatVersion = 4
+// Version 5 adds the channels' units (Units), which an older build would
+// refuse as an unknown field; older files read as before, without units.
+const FormatVersion = 5
 
 // Score is the Davies–Bouldin index of one number of regimes K, as model
 // files before format version 3 recorded it: lower was better.
@@ -73,6 +75,11 @@ type Model struct {
 	// before it existed have none.
 	Lineage string `json:",omitempty"`
 
+	// Units are the units of the channels (such as "m3/h" for flow) in
+	// which descriptions give their levels; channels without one are
+	// absent. Files before format version 5 have none.
+	Units map[string]string `json:",omitempty"`
+
 	// Conditions is what labelled events (maintenance and inspection
 	// records) said about the windows each unit won; nil when no run of
 	// the model was given events. Files without it read as before.
@@ -98,8 +105,8 @@ func Train(t *features.Table, x *mat.Dense, sc *features.Scaler, cfg mapper.Conf
 // again with cfg.Regimes, and numbers them after prev's regimes with
 // mapper.MatchRegimes. The model returned keeps prev's feature schema,
 // feature settings, normalisation and lineage; the changes list every
-// renumbering, split and merge. The windows of t are placed on the new
-// map.
+// renumbering, split and merge; names and statuses follow the regime
+// numbers (mapper.CarryLabels). The windows of t are placed on the new map.
 func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*Model, []mapper.RegimeChange, error) {
 	if err := checkNames(x, prev.Scaler); err != nil {
 		return nil, nil, err
@@ -119,6 +126,7 @@ func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*M
 	if err := next.Renumber(ids); err != nil {
 		return nil, nil, err
 	}
+	mapper.CarryLabels(prev.Regimes, next.Regimes)
 	next.FeatureNames = slices.Clone(prev.FeatureNames)
 	next.FeatureConfig = prev.FeatureConfig
 	// The update keeps the regime numbers, hence the lineage.
@@ -430,6 +438,9 @@ func (m *Model) check() error {
 	for _, r := range m.Regimes {
 		if ids[r.ID] {
 			return fmt.Errorf("regime %d appears twice", r.ID)
+		}
+		if err := mapper.CheckLabel(r.Name, r.Status); err != nil {
+			return fmt.Errorf("regime %d: %w", r.ID, err)
 		}
 		if len(r.Centroid) != m.Map.Dim {
 			return fmt.Errorf("regime %d has a centroid of dimension %d, the map %d", r.ID, len(r.Centroid), m.Map.Dim)

@@ -302,6 +302,10 @@ func TestModelRefusesDamage(t *testing.T) {
 			m.QEQuantiles[5] = m.QEQuantiles[4] - 1
 		}, "ascending"},
 		{"no window", func(m *Model) { m.FeatureConfig.Window = 0 }, "window settings"},
+		{"unknown status", func(m *Model) {
+			m.Regimes = slices.Clone(m.Regimes)
+			m.Regimes[0].Status = "broken"
+		}, `status "broken"`},
 	} {
 		bad := *mdl
 		tc.spoil(&bad)

@@ -45,7 +45,6 @@ package scaleout
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"path"
@@ -188,7 +187,15 @@ func (r *run) train(ctx context.Context) error {
 		return err
 	}
 	r.lap("assign")
-	return res.Conclude(o.Options, r.times)
+	if err := res.Conclude(o.Options, r.times); err != nil {
+		return err
+	}
+	// The levels need each window's decoded regime, and the readings.
+	if err := r.levels(ctx, files); err != nil {
+		return err
+	}
+	r.lap("levels")
+	return nil
 }
 
 // readRegister reads the site register on the driver; the workers read it
@@ -215,18 +222,11 @@ func (r *run) readRegister(ctx context.Context) error {
 // what was read and the feature table.
 func (r *run) windows(ctx context.Context, files []string) error {
 	o, res := &r.o, r.res
-	refs := make([]fileRef, len(files))
-	for i, f := range files {
-		refs[i] = fileRef{Index: i, Path: f}
-	}
-	in := o.Ingest
-	in.Register = nil
-	inJSON, err := json.Marshal(in)
+	p, s := beam.NewPipelineWithRoot()
+	siteChunks, outcomes, err := readStage(s, o, files)
 	if err != nil {
 		return err
 	}
-	p, s := beam.NewPipelineWithRoot()
-	siteChunks, outcomes := beam.ParDo2(s, &readFn{Ingest: inJSON}, beam.Reshuffle(s, beam.CreateList(s, refs)))
 	channels := beam.Combine(s, &channelsFn{}, outcomes)
 	sites := beam.ParDo(s, &siteFn{Features: o.Features, Register: o.Sites, RegOpts: o.Register, Shards: o.Shards},
 		beam.GroupByKey(s, siteChunks), beam.SideInput{Input: channels})

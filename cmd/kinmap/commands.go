@@ -122,6 +122,7 @@ func demoCmd(args []string, e *env) error {
 	o := kinmap.DefaultOptions()
 	o.Data = []string{files.dump}
 	o.Sites = files.register
+	o.Units = files.units
 	if !out.Quiet && e.terminal {
 		o.Log = e.stderr
 	}
@@ -195,6 +196,7 @@ func scenarioCmd(args []string, e *env) error {
 type scenarioFiles struct {
 	dump, register string
 	all            []string
+	units          map[string]string // of the channels, those with a unit
 }
 
 func writeScenario(spec scenarios.Spec, dir string, only ...string) (scenarioFiles, error) {
@@ -206,10 +208,17 @@ func writeScenario(spec scenarios.Spec, dir string, only ...string) (scenarioFil
 	if err != nil {
 		return scenarioFiles{}, err
 	}
+	units := map[string]string{}
+	for _, c := range fleet.Channels {
+		if c.Unit != "" && c.Unit != "1" { // "1" marks a dimensionless share, read bare
+			units[c.Name] = c.Unit
+		}
+	}
 	return scenarioFiles{
 		dump:     filepath.Join(dir, scenarios.FileLongParquet),
 		register: filepath.Join(dir, scenarios.FileSites),
 		all:      all,
+		units:    units,
 	}, nil
 }
 

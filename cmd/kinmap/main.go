@@ -38,6 +38,8 @@ func commands() []command {
 			Example: "kinmap assign --model week48-map/model --data 'week49/*.parquet' --sites sites.csv --out week49"}, assignCmd},
 		{cli.Command{Name: "update", Summary: "continue training a model on a new dump, keeping regime numbers", Usage: "kinmap update --model FILE --data FILES... --out DIR [options]",
 			Example: "kinmap update --model week48-map/model --data 'week49/*.parquet' --out week49"}, updateCmd},
+		{cli.Command{Name: "label", Summary: "name regimes and mark them normal, watch or fault", Usage: "kinmap label --model FILE [--file CSV]",
+			Example: "kinmap label --model week48-map/model > regimes.csv; kinmap label --model week48-map/model --file regimes.csv"}, labelCmd},
 		{cli.Command{Name: "demo", Summary: "generate the pumping-station scenario and map it", Usage: "kinmap demo [--out DIR]",
 			Example: "kinmap demo --out kinmap-demo"}, demoCmd},
 		{cli.Command{Name: "scenario", Summary: "write a synthetic fleet with known ground truth", Usage: "kinmap scenario NAME --out DIR [--sites N] [--weeks W] [--seed S]",
@@ -70,6 +72,10 @@ func dispatch(args []string, e *env) int {
 				overview(e.stdout)
 				return cli.ExitOK
 			}
+			if rest[0] == "features" {
+				featuresHelp(e.stdout)
+				return cli.ExitOK
+			}
 			name, rest = rest[0], []string{"-h"}
 		default:
 			return cli.Status(e.stderr, "kinmap help", cli.UsageError("unexpected arguments %q: help takes one command name", rest[1:]))
@@ -96,7 +102,8 @@ func overview(w io.Writer) {
 		fmt.Fprintf(w, "  %-9s %s\n", c.Name, c.Summary)
 	}
 	fmt.Fprintln(w)
-	fmt.Fprintln(w, "Start with 'kinmap demo'. Run 'kinmap CMD -h' for the options of a command.")
+	fmt.Fprintln(w, "Start with 'kinmap demo'. Run 'kinmap CMD -h' for the options of a command,")
+	fmt.Fprintln(w, "'kinmap help features' for what each feature statistic means.")
 }
 
 func isTerminal(w io.Writer) bool {

@@ -37,6 +37,19 @@ func smallFleet(t *testing.T, n int) (fleet *scenarios.Fleet, dump, register str
 	return fleet, filepath.Join(dir, scenarios.FileLongParquet), filepath.Join(dir, scenarios.FileSites)
 }
 
+// smallModel trains a small map on dump with the options extra, writes
+// its outputs into dir/train and returns the path of its model, dir/model.
+func smallModel(t *testing.T, dir, dump string, extra ...string) string {
+	t.Helper()
+	model := filepath.Join(dir, "model")
+	args := append([]string{"run", "--data", dump, "--out", filepath.Join(dir, "train"), "--model", model,
+		"--grid", "6x4", "--epochs", "2", "--quiet"}, extra...)
+	if code, _, stderr := invoke(args...); code != cli.ExitOK {
+		t.Fatalf("run: exit status %d:\n%s", code, stderr)
+	}
+	return model
+}
+
 // longRows counts the rows a long dump of the fleet holds: one per reading
 // with a value, duplicated rows included.
 func longRows(f *scenarios.Fleet) int64 {
@@ -227,16 +240,11 @@ func TestAssignSchemaMismatch(t *testing.T) {
 	}
 	_, dump, _ := smallFleet(t, 12)
 	dir := t.TempDir()
-	model := filepath.Join(dir, "model")
-	code, _, stderr := invoke("run", "--data", dump, "--out", filepath.Join(dir, "train"), "--model", model,
-		"--channels", "flow,pressure,current,vibration", "--grid", "6x4", "--epochs", "2", "--quiet")
-	if code != cli.ExitOK {
-		t.Fatalf("run: exit status %d:\n%s", code, stderr)
-	}
+	model := smallModel(t, dir, dump, "--channels", "flow,pressure,current,vibration")
 	// The later dump has lost its vibration sensor and gained the bearing
 	// temperature.
 	out := filepath.Join(dir, "assigned")
-	code, _, stderr = invoke("assign", "--model", model, "--data", dump, "--out", out, "--channels", "flow,pressure,current,bearing_temp")
+	code, _, stderr := invoke("assign", "--model", model, "--data", dump, "--out", out, "--channels", "flow,pressure,current,bearing_temp")
 	if code != cli.ExitData {
 		t.Errorf("assign: exit status %d, want %d (data error):\n%s", code, cli.ExitData, stderr)
 	}

@@ -25,7 +25,7 @@ func regimeMap(ft *fonts, in Input) (*canvas, Picture) {
 	}
 	desc := make(map[int]string)
 	for _, r := range m.Regimes {
-		desc[r.ID] = r.Description
+		desc[r.ID] = legendText(r)
 	}
 	// The legend is laid out first, as its entries take one or two lines
 	// of description and the page must hold them.

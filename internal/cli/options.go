@@ -70,6 +70,7 @@ func (f *Flags) Input(o *kinmap.Options) {
 	f.Str(&o.Ingest.LonCol, "lon-col", o.Ingest.LonCol, "longitude `COLUMN` of the register and of a dump with moving sites")
 	f.Value(listValue{p: &o.Ingest.Channels, comma: true}, "channels", "use only these `CHANNELS`, for example flow,pressure (default: all)")
 	f.Value(choiceValue{&o.Ingest.TimeUnit, []string{"s", "ms", "us", "ns"}}, "time-unit", "`UNIT` of integer epoch times: s, ms, us or ns")
+	f.Value(unitsValue{&o.Units}, "units", "`UNITS` of channels for the regime descriptions, for example flow=m3/h,vibration=mm/s; kept in the model")
 }
 
 // Features registers the flags of the windows, features and scaling.

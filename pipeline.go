@@ -361,8 +361,9 @@ func regimeChoice(c *mapper.Choice) *RegimeChoice {
 	return &RegimeChoice{Choice: *c, Note: note}
 }
 
-// RegimeTimelines returns the sites' windows of t in time order and the
-// windows of a week, with which mapper.FindRegimes chooses the regimes.
+// RegimeTimelines returns the sites' windows of t in time order, the
+// windows of a week and the time slot of every window, with which
+// mapper.FindRegimes chooses the regimes.
 func RegimeTimelines(t *features.Table) mapper.Timelines {
-	return mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun()}
+	return mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun(), Slots: timeSlots(t)}
 }

@@ -35,9 +35,15 @@ type Windows struct {
 // sequence. With daily windows MinRun is 7: a week, the period of the
 // calendar, so that weekly cycles and passing weather average out within
 // every segment that is tested.
+//
+// Slots, when set, holds the time slot of every window (its start in
+// strides from the earliest), so that the windows of one slot are the
+// fleet at one time, from which FindRegimes finds what the fleet shares
+// (commonDirections); nil leaves that out.
 type Timelines struct {
 	Sequences [][]int
 	MinRun    int
+	Slots     []int
 }
 
 // FindRegimes groups the units of m into k regimes, returning the group
@@ -94,12 +100,23 @@ func FindRegimes(m *Map, k int, win *Windows) ([]int, *Choice, error) {
 		}
 		hits = m.Hits(win.Assignments)
 	}
+	var common int
+	if win != nil {
+		if dirs := commonDirections(win.X, win.Slots); len(dirs) > 0 {
+			m, win = withoutCommon(m, win, dirs)
+			common = len(dirs)
+		}
+	}
 	w := unitWeights(u, hits)
 	s := &splitter{m: m, w: w, tree: wardTree(m, w), win: win}
 	if win != nil {
 		s.switchCost = SwitchCostPerQE * medianQE(win.Assignments)
 	}
-	return s.run(k)
+	groups, ch, err := s.run(k)
+	if ch != nil {
+		ch.Common = common
+	}
+	return groups, ch, err
 }
 
 // check reports windows that do not fit m.
@@ -113,6 +130,9 @@ func (win *Windows) check(m *Map) error {
 		return fmt.Errorf("mapper: windows of %d features for a map of dimension %d", d, m.Dim)
 	case len(win.Assignments) != n:
 		return fmt.Errorf("mapper: %d assignments for %d windows", len(win.Assignments), n)
+	}
+	if win.Slots != nil && len(win.Slots) != n {
+		return fmt.Errorf("mapper: %d time slots for %d windows", len(win.Slots), n)
 	}
 	seen := make([]bool, n)
 	for _, seq := range win.Sequences {

@@ -32,6 +32,9 @@ type Choice struct {
 	Given  bool    `json:"given"`  // K was asked for, not chosen
 	Alpha  float64 `json:"alpha"`  // significance level of a split
 	Splits []Split `json:"splits"` // in the order made; a last one not made, when one was tested
+	// Common is the number of directions of variation the fleet shared at
+	// each time, left out before the regimes were grouped.
+	Common int `json:"common_directions"`
 
 	// RunnerUp is the other number of regimes that came closest, K−1
 	// (undo the weakest split made) or K+1 (make the strongest split

@@ -50,7 +50,12 @@ type Timelines struct {
 // (0 … K−1) of every unit, groups numbered in order of their lowest unit,
 // and how K was reached.
 //
-// The units are first agglomerated by Ward's minimum-variance criterion
+// When win has time slots, the directions in which the whole fleet moves
+// together (commonDirections) are first projected out of the codebook and
+// the windows; the grouping and the tests below see only the rest, while
+// the regimes' centroids (Describe) stay in the full space.
+//
+// The units are then agglomerated by Ward's minimum-variance criterion
 // (J. H. Ward, "Hierarchical grouping to optimize an objective function",
 // JASA 58, 1963), merging only groups that are adjacent on the lattice, so
 // that every regime is a connected area of the map. With win, each unit
@@ -71,7 +76,9 @@ type Timelines struct {
 // "Learning the k in k-means", NIPS 16, 2003): the segment means are
 // projected on the line between the two groups' centroids and the
 // Anderson–Darling test asks whether the projections could come from one
-// normal distribution. Windows that vary from day to day around one state
+// normal distribution; since any skew fails that test, the split must also
+// be preferred by the BIC for two modes over one after a power transform,
+// with two modes in the fit (mixtureGain). Windows that vary from day to day around one state
 // (weather, noise, a slow drift) average out within a segment and leave
 // one mode; sites that hold two different states leave two. The segments,
 // not the windows, are the sample, since the windows of one site in one
@@ -79,7 +86,7 @@ type Timelines struct {
 //
 // The most significant split is made first, and the segments decoded
 // again. With k = 0, splitting stops when no split is significant at
-// level Alpha (or at 12 regimes), so a homogeneous fleet keeps one
+// level Alpha with a positive gain (or at 12 regimes), so a homogeneous fleet keeps one
 // regime; with k > 0 it goes on to k regimes, the most significant split
 // first. A regime with fewer than minSegments segments cannot be tested
 // and is split only to reach a given k, in Ward's order (the last merge

@@ -27,7 +27,7 @@ const minSlotWindows = 8
 // commonDirections returns orthonormal directions of the component the
 // windows of x share at each slot, strongest first; none when slots is
 // nil or no direction is significant.
-func commonDirections(x *mat.Dense, slots []int) [][]float64 {
+func commonDirections(x *mat.Dense, slots []int, seqs [][]int) [][]float64 {
 	n, d := x.Dims()
 	if slots == nil || n == 0 {
 		return nil
@@ -81,7 +81,8 @@ func commonDirections(x *mat.Dense, slots []int) [][]float64 {
 	var dirs [][]float64
 	for c := range nv {
 		dir := mat.Col(nil, c, &v)
-		if !slotEffect(x, keys, bySlot, dir) {
+		meds, ok := slotEffect(x, keys, bySlot, dir)
+		if !ok || !sharedByMost(x, slots, keys, meds, seqs, dir) {
 			break
 		}
 		dirs = append(dirs, dir)
@@ -101,7 +102,9 @@ func commonDirections(x *mat.Dense, slots []int) [][]float64 {
 // curve and its role in robust estimation", JASA 69, 1974). Medians and
 // their spread are those of the fleet's bulk: a minority of sites
 // changing regime on the same day moves neither.
-func slotEffect(x *mat.Dense, keys []int, bySlot map[int][]int, dir []float64) bool {
+//
+// It returns the slot medians, in the order of keys.
+func slotEffect(x *mat.Dense, keys []int, bySlot map[int][]int, dir []float64) ([]float64, bool) {
 	meds := make([]float64, len(keys))
 	var dev, proj []float64
 	var m float64
@@ -123,14 +126,64 @@ func slotEffect(x *mat.Dense, keys []int, bySlot map[int][]int, dir []float64) b
 	slices.Sort(dev)
 	sigma := 1.4826 * median(dev)
 	if !(sigma > 0) {
-		return false
+		return meds, false
 	}
 	var stat float64
 	for r, k := range keys {
 		stat += float64(len(bySlot[k])) * (meds[r] - m) * (meds[r] - m)
 	}
 	stat /= math.Pi / 2 * sigma * sigma
-	return distuv.ChiSquared{K: float64(len(keys) - 1)}.Survival(stat) < Alpha
+	return meds, distuv.ChiSquared{K: float64(len(keys) - 1)}.Survival(stat) < Alpha
+}
+
+// sharedByMost reports whether most sites move with the slot medians meds
+// along dir: each site's least-squares slope on the medians, over its
+// windows, is counted when it exceeds one half, and the count must exceed
+// half the sites by the one-sided sign test at level Alpha (W. J. Dixon
+// and A. M. Mood, "The statistical sign test", JASA 41, 1946). Weather
+// moves nearly every site with slope near one; a minority of sites that
+// change regime over the weeks move the medians a little, and the
+// majority, which held its state, has slopes near zero.
+func sharedByMost(x *mat.Dense, slots, keys []int, meds []float64, seqs [][]int, dir []float64) bool {
+	at := make(map[int]float64, len(keys))
+	for r, k := range keys {
+		at[k] = meds[r]
+	}
+	var sites, most int
+	for _, seq := range seqs {
+		var n, mx, my float64
+		for _, i := range seq {
+			if m, ok := at[slots[i]]; ok {
+				n++
+				mx += m
+				my += dot(dir, x.RawRowView(i))
+			}
+		}
+		if n < 3 {
+			continue
+		}
+		mx /= n
+		my /= n
+		var sxy, sxx float64
+		for _, i := range seq {
+			if m, ok := at[slots[i]]; ok {
+				sxy += (m - mx) * (dot(dir, x.RawRowView(i)) - my)
+				sxx += (m - mx) * (m - mx)
+			}
+		}
+		if !(sxx > 0) {
+			continue
+		}
+		sites++
+		if sxy/sxx > 0.5 {
+			most++
+		}
+	}
+	if sites == 0 {
+		return false
+	}
+	// P(X ≥ most) for X binomial(sites, 1/2).
+	return distuv.Binomial{N: float64(sites), P: 0.5}.Survival(float64(most)-0.5) < Alpha
 }
 
 // median of a sorted slice.

@@ -109,7 +109,7 @@ func FindRegimes(m *Map, k int, win *Windows) ([]int, *Choice, error) {
 	}
 	var common int
 	if win != nil {
-		if dirs := commonDirections(win.X, win.Slots); len(dirs) > 0 {
+		if dirs := commonDirections(win.X, win.Slots, win.Sequences); len(dirs) > 0 {
 			m, win = withoutCommon(m, win, dirs)
 			common = len(dirs)
 		}

@@ -14,23 +14,28 @@ import (
 // decide Ward's top splits. FindRegimes therefore looks for a component
 // common to the fleet at each time: the per-slot median of the windows
 // (robust to a minority of sites in another regime), whose directions of
-// variation over time are found by principal components, and each kept
-// while the variance between slots along it is significant against the
-// spread of the windows within slots (slotEffect, at level Alpha). The kept directions are projected out of the codebook and
-// the windows before regimes are grouped and tested, so that regimes
-// differ in what the fleet does not share.
+// variation over time are found by principal components, each kept while
+// the medians move significantly against the spread of the windows within
+// slots (slotEffect) and most sites move with them (sharedByMost), both at
+// level Alpha. Each window is then taken less its slot's common
+// component, and the grouping and the tests see the fleet-relative
+// windows: a state keeps its offset from the fleet on the same day, even
+// along a direction the weather also moves in, and only the shared
+// movement is gone.
 
 // minSlotWindows is the fewest windows a slot needs to stand for the
 // fleet at that time.
 const minSlotWindows = 8
 
 // commonDirections returns orthonormal directions of the component the
-// windows of x share at each slot, strongest first; none when slots is
+// windows of x share at each slot, strongest first, and that component at
+// every slot of at least minSlotWindows windows: along each direction, the
+// slot's median less the mean of the slot medians. None when slots is
 // nil or no direction is significant.
-func commonDirections(x *mat.Dense, slots []int, seqs [][]int) [][]float64 {
+func commonDirections(x *mat.Dense, slots []int, seqs [][]int) ([][]float64, map[int][]float64) {
 	n, d := x.Dims()
 	if slots == nil || n == 0 {
-		return nil
+		return nil, nil
 	}
 	bySlot := map[int][]int{}
 	for i, s := range slots {
@@ -44,7 +49,7 @@ func commonDirections(x *mat.Dense, slots []int, seqs [][]int) [][]float64 {
 		}
 	})
 	if len(keys) < 3 {
-		return nil
+		return nil, nil
 	}
 	// The slot medians, centred by their mean, weighted by √windows.
 	med := mat.NewDense(len(keys), d, nil)
@@ -73,12 +78,13 @@ func commonDirections(x *mat.Dense, slots []int, seqs [][]int) [][]float64 {
 	}
 	var svd mat.SVD
 	if !svd.Factorize(med, mat.SVDThinV) {
-		return nil
+		return nil, nil
 	}
 	var v mat.Dense
 	svd.VTo(&v)
 	_, nv := v.Dims()
 	var dirs [][]float64
+	common := map[int][]float64{}
 	for c := range nv {
 		dir := mat.Col(nil, c, &v)
 		meds, ok := slotEffect(x, keys, bySlot, dir)
@@ -86,8 +92,21 @@ func commonDirections(x *mat.Dense, slots []int, seqs [][]int) [][]float64 {
 			break
 		}
 		dirs = append(dirs, dir)
+		var mean float64
+		for r, k := range keys {
+			mean += float64(len(bySlot[k])) * meds[r]
+		}
+		mean /= total
+		for r, k := range keys {
+			if common[k] == nil {
+				common[k] = make([]float64, d)
+			}
+			for j := range d {
+				common[k][j] += (meds[r] - mean) * dir[j]
+			}
+		}
 	}
-	return dirs
+	return dirs, common
 }
 
 // slotEffect reports whether the medians of the projections of the
@@ -195,34 +214,45 @@ func median(s []float64) float64 {
 	return (s[n/2-1] + s[n/2]) / 2
 }
 
-// projectOut returns v less its components along the orthonormal dirs.
-func projectOut(v []float64, dirs [][]float64) []float64 {
-	out := slices.Clone(v)
-	for _, dir := range dirs {
-		c := dot(dir, out)
-		for j := range out {
-			out[j] -= c * dir[j]
-		}
-	}
-	return out
-}
-
-// withoutCommon returns copies of m and win with dirs projected out of
-// the codebook and the windows, and the quantization errors measured
-// again in what is left.
-func withoutCommon(m *Map, win *Windows, dirs [][]float64) (*Map, *Windows) {
-	u := m.Units()
-	pm := &Map{Lattice: m.Lattice, Dim: m.Dim, Codebook: make([]float64, 0, len(m.Codebook))}
-	for i := range u {
-		pm.Codebook = append(pm.Codebook, projectOut(m.Vector(i), dirs)...)
-	}
+// withoutCommon returns copies of m and win taken relative to the fleet:
+// every window less the common component of its slot (common; a slot
+// without one keeps its window), and every unit that won windows the mean
+// of its windows so taken, so that a state keeps its offset from the
+// fleet on the same day and loses only what the fleet shared. Units that
+// won nothing weigh nothing and keep their vectors. The quantization
+// errors are measured again.
+func withoutCommon(m *Map, win *Windows, common map[int][]float64) (*Map, *Windows) {
 	n, d := win.X.Dims()
 	px := mat.NewDense(n, d, nil)
-	asg := slices.Clone(win.Assignments)
 	for i := range n {
-		row := projectOut(win.X.RawRowView(i), dirs)
-		px.SetRow(i, row)
-		asg[i].QE = math.Sqrt(sqdist(row, pm.Vector(asg[i].BMU)))
+		row := px.RawRowView(i)
+		copy(row, win.X.RawRowView(i))
+		if c := common[win.Slots[i]]; c != nil {
+			for j := range row {
+				row[j] -= c[j]
+			}
+		}
+	}
+	u := m.Units()
+	pm := &Map{Lattice: m.Lattice, Dim: m.Dim, Codebook: slices.Clone(m.Codebook)}
+	sums := make([]float64, u*d)
+	hits := make([]float64, u)
+	for i, a := range win.Assignments {
+		hits[a.BMU]++
+		for j, v := range px.RawRowView(i) {
+			sums[a.BMU*d+j] += v
+		}
+	}
+	for k := range u {
+		if hits[k] > 0 {
+			for j := range d {
+				pm.Codebook[k*d+j] = sums[k*d+j] / hits[k]
+			}
+		}
+	}
+	asg := slices.Clone(win.Assignments)
+	for i := range asg {
+		asg[i].QE = math.Sqrt(sqdist(px.RawRowView(i), pm.Vector(asg[i].BMU)))
 	}
 	return pm, &Windows{X: px, Assignments: asg, Timelines: win.Timelines}
 }

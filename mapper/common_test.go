@@ -41,7 +41,7 @@ func TestCommonDirections(t *testing.T) {
 				}
 			}
 		}
-		dirs := commonDirections(x, slot, seqs)
+		dirs, _ := commonDirections(x, slot, seqs)
 		if len(dirs) != tt.want {
 			t.Fatalf("%s: %d common directions, want %d", tt.name, len(dirs), tt.want)
 		}
@@ -51,7 +51,7 @@ func TestCommonDirections(t *testing.T) {
 			}
 		}
 	}
-	if dirs := commonDirections(mat.NewDense(20, 2, nil), nil, nil); dirs != nil {
+	if dirs, _ := commonDirections(mat.NewDense(20, 2, nil), nil, nil); dirs != nil {
 		t.Errorf("without slots: %d directions, want none", len(dirs))
 	}
 }

@@ -50,10 +50,11 @@ type Timelines struct {
 // (0 … K−1) of every unit, groups numbered in order of their lowest unit,
 // and how K was reached.
 //
-// When win has time slots, the directions in which the whole fleet moves
-// together (commonDirections) are first projected out of the codebook and
-// the windows; the grouping and the tests below see only the rest, while
-// the regimes' centroids (Describe) stay in the full space.
+// When win has time slots, what the whole fleet does together at each
+// time (commonDirections) is first taken out of every window, and every
+// unit that won windows stands for the mean of its windows so taken
+// (withoutCommon); the grouping and the tests below see the fleet-relative
+// windows, while the regimes' centroids (Describe) stay in the full space.
 //
 // The units are then agglomerated by Ward's minimum-variance criterion
 // (J. H. Ward, "Hierarchical grouping to optimize an objective function",
@@ -109,8 +110,8 @@ func FindRegimes(m *Map, k int, win *Windows) ([]int, *Choice, error) {
 	}
 	var common int
 	if win != nil {
-		if dirs := commonDirections(win.X, win.Slots, win.Sequences); len(dirs) > 0 {
-			m, win = withoutCommon(m, win, dirs)
+		if dirs, byslot := commonDirections(win.X, win.Slots, win.Sequences); len(dirs) > 0 {
+			m, win = withoutCommon(m, win, byslot)
 			common = len(dirs)
 		}
 	}

@@ -229,8 +229,13 @@ func (s *splitter) test(parts []int) []candidate {
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
 			c.p = normalP(c.stat)
+			// The mixture is costly and decides only what the normality
+			// test would split; a sample it cannot fit (no spread) keeps
+			// gain 0, so that run.json holds finite numbers.
 			if c.p < Alpha {
-				c.gain, c.bimodal = mixtureGain(proj) // costly; it decides only what the normality test would split
+				if g, bi := mixtureGain(proj); !math.IsInf(g, 0) {
+					c.gain, c.bimodal = g, bi
+				}
 			}
 		}
 		out = append(out, c)

@@ -70,7 +70,7 @@ func evaluate(t *testing.T, name string, seed int64) evalRun {
 		truth[s.ID] = s.Regimes
 	}
 	var want, got []int
-	for _, e := range res.Entries {
+	for _, e := range res.Table.Windows {
 		i := int(e.Start.Sub(fleet.WindowStart(0)) / fleet.Window)
 		want = append(want, truth[e.Site][i])
 		got = append(got, e.Regime)

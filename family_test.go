@@ -12,7 +12,9 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/score"
 	"github.com/kinmap/kinmap/timeline"
@@ -86,10 +88,10 @@ func truthOf(f *scenarios.Fleet) ([]score.Window, []score.Event) {
 
 // scoreTimelines scores decoded entries and switches against the truth of
 // a fleet.
-func scoreTimelines(f *scenarios.Fleet, entries []timeline.Entry, switches []timeline.Switch) score.Report {
+func scoreTimelines(f *scenarios.Fleet, ws []features.Window, switches []timeline.Switch) score.Report {
 	truth, trueEvents := truthOf(f)
-	found := make([]score.Window, len(entries))
-	for i, e := range entries {
+	found := make([]score.Window, len(ws))
+	for i, e := range ws {
 		found[i] = score.Window{Site: e.Site, Start: e.Start, Regime: strconv.Itoa(e.Regime)}
 	}
 	events := make([]score.Event, len(switches))
@@ -104,7 +106,7 @@ func scoreTimelines(f *scenarios.Fleet, entries []timeline.Entry, switches []tim
 // that true regime (NaN components left out), numbered from 1 in the
 // fleet's order. The map, its quantization errors and hence the automatic
 // switch cost stay those of the default run.
-func trueRegimeModel(t *testing.T, r *familyRun) *mapper.Model {
+func trueRegimeModel(t *testing.T, r *familyRun) *model.Model {
 	t.Helper()
 	f, res := r.fleet, r.res
 	regimeOf := map[string][]int{}
@@ -146,11 +148,12 @@ func trueRegimeModel(t *testing.T, r *familyRun) *mapper.Model {
 func oracle(t *testing.T, r *familyRun) score.Report {
 	t.Helper()
 	m := trueRegimeModel(t, r)
-	entries, switches, err := timeline.Build(m, r.res.Table, r.res.X, r.res.Assignments, timeline.DefaultConfig())
+	ws := slices.Clone(r.res.Table.Windows) // decoded anew, leaving the run's regimes
+	switches, err := timeline.Build(m, ws, timeline.DefaultConfig())
 	if err != nil {
 		t.Fatal(err)
 	}
-	return scoreTimelines(r.fleet, entries, switches)
+	return scoreTimelines(r.fleet, ws, switches)
 }
 
 // familyFleets returns the fleets of names that the environment variable
@@ -222,7 +225,7 @@ func TestFamilyDefaults(t *testing.T) {
 	for _, name := range familyFleets(append(scenarios.Family(), "pumping", "reefers")) {
 		for _, seed := range []int64{1, scenarios.SecondSeed} {
 			r := runFleet(t, name, seed)
-			rep := scoreTimelines(r.fleet, r.res.Entries, r.res.Switches)
+			rep := scoreTimelines(r.fleet, r.res.Table.Windows, r.res.Switches)
 			sw := rep.Found.Switches
 			chosen := len(r.res.Model.Regimes)
 			fmt.Fprintf(&table, "%-12s %4d %6d %8d %7.3f %6.3f %6.3f %6.3f %7.1f\n",

@@ -16,7 +16,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/history"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // Regime numbers of another map mean other regimes: a run continues only
@@ -112,7 +112,7 @@ func TestHistoryOfAnotherMap(t *testing.T) {
 	if bytes.Contains(buf.Bytes(), []byte("Lineage")) {
 		t.Error("a model without a lineage writes one")
 	}
-	read, err := mapper.ReadModel(&buf)
+	read, err := model.Read(&buf)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -216,9 +216,10 @@ func TestHistoryWrittenTheOldWay(t *testing.T) {
 	if err := first.AppendHistory(now); err != nil {
 		t.Fatal(err)
 	}
-	rows := make([]oldRow, len(first.Entries))
-	for i, e := range first.Entries {
-		rows[i] = oldRow{Site: e.Site, WindowStart: e.Start, WindowEnd: e.End, Col: int32(e.Col), Row: int32(e.Row),
+	rows := make([]oldRow, len(first.Table.Windows))
+	for i, e := range first.Table.Windows {
+		col, row := first.Model.Map.Lattice.Cell(e.Unit)
+		rows[i] = oldRow{Site: e.Site, WindowStart: e.Start, WindowEnd: e.End, Col: int32(col), Row: int32(row),
 			Regime: int32(e.Regime), QE: e.QE, Unfamiliar: e.Unfamiliar, Scaled: first.X.RawRowView(i)}
 	}
 	period := filepath.Join(old, "period="+fleet.WindowStart(0).UTC().Format(time.DateOnly))
@@ -238,14 +239,14 @@ func TestHistoryWrittenTheOldWay(t *testing.T) {
 		return r
 	}
 	a, b := assign(now), assign(old)
-	if !reflect.DeepEqual(a.Entries, b.Entries) || !reflect.DeepEqual(a.Switches, b.Switches) {
+	if !reflect.DeepEqual(a.Table.Windows, b.Table.Windows) || !reflect.DeepEqual(a.Switches, b.Switches) {
 		t.Errorf("continuing from the old folder: %d switches, from this version's: %d; want the same timelines", len(b.Switches), len(a.Switches))
 	}
 	alone, err := kinmap.Assign(options(week2), first.Model)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if reflect.DeepEqual(alone.Switches, a.Switches) && reflect.DeepEqual(alone.Entries, a.Entries) {
+	if reflect.DeepEqual(alone.Switches, a.Switches) && reflect.DeepEqual(alone.Table.Windows, a.Table.Windows) {
 		t.Error("the history changed no window of the second week; the check would not tell")
 	}
 	if err := b.AppendHistory(old); err != nil {
@@ -255,7 +256,7 @@ func TestHistoryWrittenTheOldWay(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n := len(first.Entries) + len(b.Entries); len(h.Windows) != n {
+	if n := len(first.Table.Windows) + len(b.Table.Windows); len(h.Windows) != n {
 		t.Errorf("the old folder holds %d windows after a write, want %d", len(h.Windows), n)
 	}
 }

@@ -19,10 +19,12 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -42,6 +44,7 @@ type Options struct {
 	Timeline timeline.Config
 	History  string    // folder of earlier timelines; "" for none
 	Log      io.Writer // progress messages; nil for none
+	Events   EventOptions
 }
 
 // DefaultOptions returns the defaults of the command.
@@ -54,6 +57,7 @@ func DefaultOptions() Options {
 		Scaling:  "zscore",
 		Map:      mapper.Config{Hex: true, Rule: "batch", Init: "pca", Eta0: 0.5},
 		Timeline: timeline.DefaultConfig(),
+		Events:   DefaultEventOptions(),
 	}
 }
 
@@ -73,25 +77,30 @@ func IsUsage(err error) bool {
 	return errors.As(err, &u) || errors.Is(err, ingest.ErrUsage)
 }
 
-// Result is the outcome of a run: what was read, the feature table, the
-// model, where each window landed and the decoded timelines.
+// Result is the outcome of a run: what was read, the feature table, whose
+// windows record where each landed on the map and its decoded regime, the
+// model and the switches.
 type Result struct {
-	Ingest      ingest.Summary
-	Register    *ingest.Register
-	Table       *features.Table
-	X           *mat.Dense // scaled features, one row per window of Table
-	Model       *mapper.Model
-	Assignments []mapper.Assignment
-	Entries     []timeline.Entry
-	Switches    []timeline.Switch
-	Changes     []mapper.RegimeChange // regime renumbering by Update
-	Info        RunInfo
+	Ingest     ingest.Summary
+	Register   *ingest.Register
+	Table      *features.Table // one record per window, filled by every stage
+	X          *mat.Dense      // scaled features, one row per window of Table (each window's Scaled is a view of its row)
+	Model      *model.Model
+	Switches   []timeline.Switch
+	Changes    []mapper.RegimeChange // regime renumbering by Update
+	Conditions *Conditions           // what labelled events say of the windows; nil without events or label knowledge
+	Info       RunInfo
 
 	history *history.History                  // the history read for decoding, with the windows it revised; nil without one
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality *mapper.Quality
+	// daily summarises the readings by site, channel and day for the
+	// report's explorer.
+	daily []export.DailySummary
+	// showNotes lets the outputs show the free-text notes of events.
+	showNotes bool
 }
 
 // RunInfo is the machine-readable summary of a run, written as run.json.
@@ -148,6 +157,7 @@ type OptionsRecord struct {
 	Map      mapper.Config          `json:"map"`
 	Timeline timeline.Config        `json:"timeline"`
 	History  string                 `json:"history,omitempty"`
+	Events   *EventOptions          `json:"events,omitempty"`
 }
 
 // Validate reports the first usage error in the options.

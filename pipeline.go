@@ -6,10 +6,12 @@ import (
 	"strings"
 	"time"
 
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -38,14 +40,9 @@ func Train(o Options) (*Result, error) {
 	mc := o.Map
 	mc.Progress = progress(&o)
 	o.logf("training on %d windows × %d features", res.X.RawMatrix().Rows, len(sc.Names))
-	model, asg, err := mapper.Fit(res.X, sc.Names, RegimeTimelines(res.Table), mc)
-	if err != nil {
+	if res.Model, err = model.Train(res.Table, res.X, sc, mc); err != nil {
 		return nil, err
 	}
-	model.FeatureNames = res.Table.Names
-	model.FeatureConfig = res.Table.Config
-	model.Scaler = sc
-	res.Model, res.Assignments = model, asg
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
 		return nil, err
@@ -56,7 +53,7 @@ func Train(o Options) (*Result, error) {
 // Assign maps the dumps of o onto an existing model without training: the
 // same windows and features, the same normalisation, the same lattice and
 // the same regime numbers.
-func Assign(o Options, m *mapper.Model) (*Result, error) {
+func Assign(o Options, m *model.Model) (*Result, error) {
 	if err := o.Validate(); err != nil {
 		return nil, err
 	}
@@ -65,8 +62,11 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 		return nil, err
 	}
 	res.Model = m
-	res.Assignments = m.Map.Assign(res.X, o.Map.Workers)
-	q := m.Map.Quality(res.Assignments)
+	asg := m.Map.Assign(res.X, o.Map.Workers)
+	if err := mapper.Place(res.Table.Windows, asg); err != nil {
+		return nil, err
+	}
+	q := m.Map.Quality(asg)
 	res.quality = &q
 	sw.lap("assign")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -82,7 +82,7 @@ func Assign(o Options, m *mapper.Model) (*Result, error) {
 // regime, split and merge. The number of regimes stays that of the model
 // unless o.Map.Regimes sets another. The feature schema and the normalisation stay
 // those of the model.
-func Update(o Options, prev *mapper.Model) (*Result, error) {
+func Update(o Options, prev *model.Model) (*Result, error) {
 	if err := o.Validate(); err != nil {
 		return nil, err
 	}
@@ -98,13 +98,10 @@ func Update(o Options, prev *mapper.Model) (*Result, error) {
 		mc.Regimes = len(prev.Regimes)
 	}
 	mc.Progress = progress(&o)
-	model, asg, changes, err := mapper.Update(prev, res.X, prev.Scaler.Names, RegimeTimelines(res.Table), mc)
-	if err != nil {
+	var err error
+	if res.Model, res.Changes, err = model.Update(prev, res.Table, res.X, mc); err != nil {
 		return nil, err
 	}
-	// The update keeps the regime numbers, hence the lineage.
-	model.Lineage = lineageOf(prev)
-	res.Model, res.Assignments, res.Changes = model, asg, changes
 	sw.lap("train")
 	if err := res.Conclude(o, sw.times); err != nil {
 		return nil, err
@@ -122,7 +119,7 @@ func progress(o *Options) func(int, float64) {
 
 // project reads the dumps and turns them into the model's scaled feature
 // space.
-func project(o *Options, res *Result, m *mapper.Model, sw *stopwatch) error {
+func project(o *Options, res *Result, m *model.Model, sw *stopwatch) error {
 	// Only the model's channels are read unless the options choose: a
 	// model trained on some channels of a dump applies to the whole dump.
 	if len(o.Ingest.Channels) == 0 {
@@ -198,6 +195,7 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 		return &NoWindowError{Reasons: t.SkipReasons(), Unit: res.Ingest.EpochUnit}
 	}
 	res.Table = t
+	res.daily = export.DailySummaries(ds, fc.Workers)
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))
 	return nil
 }
@@ -237,8 +235,8 @@ func droppedWarning(names []string) string {
 	return fmt.Sprintf("%d features have no variance in the training windows and are left out: %s", len(names), list)
 }
 
-// Conclude finishes a run whose windows are on the map (Table, X, Model
-// and Assignments set): it decodes every site's timeline, continuing from
+// Conclude finishes a run whose windows are on the map (Table, X and
+// Model set, each window placed by mapper.Place): it decodes every site's timeline, continuing from
 // the periods of the history folder of o that the model's lineage numbered,
 // and completes the run summary with the durations of the earlier steps, by
 // name, in timings. A model without a lineage (a new map) is replaced by a
@@ -247,6 +245,9 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	sw := &stopwatch{last: time.Now(), times: timings}
 	if sw.times == nil {
 		sw.times = map[string]float64{}
+	}
+	if err := r.classify(&o); err != nil {
+		return err
 	}
 	if err := decode(&o, r); err != nil {
 		return err
@@ -262,28 +263,28 @@ func decode(o *Options, res *Result) error {
 	if res.Model.Lineage == "" {
 		// A new map, or one that predates lineages, starts its own.
 		m := *res.Model
-		m.Lineage = lineageOf(&m)
+		m.Lineage = m.LineageOrDerived()
 		res.Model = &m
 	}
-	c := (&history.History{}).Continue(res.Model, res.Model.Lineage, res.Table)
+	c := (&history.History{}).Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 	if o.History != "" {
 		h, err := history.Read(o.History)
 		if err != nil {
 			return err
 		}
-		c = h.Continue(res.Model, res.Model.Lineage, res.Table)
+		c = h.Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 		res.history = h
 		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)
 		res.Info.Warnings = append(res.Info.Warnings, c.Warnings...)
 		o.logf("history: %d sites continue from earlier dumps, %d of their windows decoded again", len(c.Priors), c.Tail())
 	}
-	t, x, asg := c.Prepend(res.Model, res.Table, res.X, res.Assignments)
-	entries, switches, err := timeline.BuildFrom(res.Model, t, x, asg, o.Timeline, c.Priors)
+	ws := c.Prepend(res.Model, res.Table.Windows)
+	switches, err := timeline.BuildFrom(res.Model, ws, o.Timeline, c.Priors)
 	if err != nil {
 		return err
 	}
 	var revised int
-	res.Entries, res.Switches, revised = c.Settle(entries, switches)
+	res.Table.Windows, res.Switches, revised = c.Settle(ws, switches)
 	o.logf("timelines: %d switches", len(res.Switches))
 	if revised > 0 {
 		o.logf("history: %d windows of earlier dumps decoded anew", revised)
@@ -304,6 +305,7 @@ func Begin(command string, o Options) *Result {
 		Options: OptionsRecord{
 			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
 			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History,
+			Events: eventsRecord(o.Events),
 		},
 	}}
 }
@@ -329,8 +331,8 @@ func finish(res *Result, sw *stopwatch) {
 		dropped += n
 	}
 	unfamiliar := 0
-	for _, e := range res.Entries {
-		if e.Unfamiliar {
+	for _, w := range res.Table.Windows {
+		if w.Unfamiliar {
 			unfamiliar++
 		}
 	}
@@ -359,11 +361,4 @@ func regimeChoice(c *mapper.Choice) *RegimeChoice {
 		note += fmt.Sprintf(": re-run with --regimes %d to see the other", c.RunnerUp)
 	}
 	return &RegimeChoice{Choice: *c, Note: note}
-}
-
-// RegimeTimelines returns the sites' windows of t in time order, the
-// windows of a week and the time slot of every window, with which
-// mapper.FindRegimes chooses the regimes.
-func RegimeTimelines(t *features.Table) mapper.Timelines {
-	return mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun(), Slots: timeSlots(t)}
 }

@@ -109,25 +109,21 @@ func (r *Result) stageHistory(tx *atomicfile.Tx, dir string) error {
 		}
 		r.Info.Warnings = appendNew(r.Info.Warnings, h.Notes...)
 	}
-	ws, err := history.Windows(r.Entries, r.X)
-	if err != nil {
-		return err
-	}
-	return h.Stage(tx, lineageOf(r.Model), ws)
+	return h.Stage(tx, r.Model.LineageOrDerived(), history.Windows(r.Table.Windows))
 }
 
 // stageOutputs adds the output folder dir to tx.
 func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 	run := &export.Run{
-		Model:       r.Model,
-		Table:       r.Table,
-		Assignments: r.Assignments,
-		Entries:     r.Entries,
-		Switches:    r.Switches,
-		Register:    r.Register,
-		Summary:     &r.Ingest,
-		Changes:     r.Changes,
-		Title:       "kinmap " + cmp.Or(r.Info.Command, "run"),
+		Model:      r.Model,
+		Table:      r.Table,
+		Switches:   r.Switches,
+		Register:   r.Register,
+		Summary:    &r.Ingest,
+		Changes:    r.Changes,
+		Daily:      r.daily,
+		Title:      "kinmap " + cmp.Or(r.Info.Command, "run"),
+		Conditions: r.exportConditions(r.showNotes),
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {

@@ -25,7 +25,7 @@ import (
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/internal/faultwriter"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // saveFixture is a trained first week, saved to every target, and a
@@ -140,14 +140,14 @@ func TestSaveAllOrNothing(t *testing.T) {
 	if err := json.Unmarshal(b, &info); err != nil || len(info.Inputs) != 1 || info.Inputs[0].Path != f.week2 {
 		t.Errorf("run.json inputs %+v (%v), want the second week", info.Inputs, err)
 	}
-	if _, err := mapper.ReadModelFile(f.to.Model); err != nil {
+	if _, err := model.ReadFile(f.to.Model); err != nil {
 		t.Error(err)
 	}
 	h, err := history.Read(f.to.History)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n := len(f.first.Entries) + len(second.Entries); len(h.Windows) != n {
+	if n := len(f.first.Table.Windows) + len(second.Table.Windows); len(h.Windows) != n {
 		t.Errorf("history holds %d windows, want %d", len(h.Windows), n)
 	}
 	t.Logf("%d files failed in turn", len(paths))
@@ -201,7 +201,7 @@ func TestSaveConcurrentRuns(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n := len(f.first.Entries) + len(rs[won].Entries); len(h.Windows) != n {
+	if n := len(f.first.Table.Windows) + len(rs[won].Table.Windows); len(h.Windows) != n {
 		t.Errorf("history holds %d windows, want %d", len(h.Windows), n)
 	}
 }
@@ -214,7 +214,7 @@ func TestMain(m *testing.M) {
 	}
 	var to kinmap.Targets
 	json.Unmarshal([]byte(os.Getenv("KINMAP_SAVE_CHILD")), &to)
-	model, err := mapper.ReadModelFile(to.Model)
+	model, err := model.ReadFile(to.Model)
 	if err != nil {
 		fmt.Fprintln(os.Stderr, err)
 		os.Exit(3)
@@ -332,7 +332,7 @@ func checkWhole(t *testing.T, f *saveFixture, round int) {
 	if earliest[:10] != first {
 		t.Errorf("round %d: the timeline starts %s, the dump run.json names %s", round, earliest[:10], first)
 	}
-	if _, err := mapper.ReadModelFile(f.to.Model); err != nil {
+	if _, err := model.ReadFile(f.to.Model); err != nil {
 		t.Errorf("round %d: %v", round, err)
 	}
 	h, err := history.Read(f.to.History)
@@ -347,7 +347,7 @@ func checkWhole(t *testing.T, f *saveFixture, round int) {
 		}
 		seen[k] = true
 	}
-	if len(h.Windows) < len(f.first.Entries) {
-		t.Errorf("round %d: history holds %d windows, fewer than the first week's %d", round, len(h.Windows), len(f.first.Entries))
+	if len(h.Windows) < len(f.first.Table.Windows) {
+		t.Errorf("round %d: history holds %d windows, fewer than the first week's %d", round, len(h.Windows), len(f.first.Table.Windows))
 	}
 }

@@ -15,6 +15,7 @@ import (
 	"github.com/kinmap/kinmap"
 	khistory "github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -94,19 +95,19 @@ func TestAssignTrainingDump(t *testing.T) {
 	if err := trained.Model.WriteFile(path); err != nil {
 		t.Fatal(err)
 	}
-	model, err := mapper.ReadModelFile(path)
+	back, err := model.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	assigned, err := kinmap.Assign(options(dump), model)
+	assigned, err := kinmap.Assign(options(dump), back)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(assigned.Entries) != len(trained.Entries) {
-		t.Fatalf("%d windows assigned, %d trained", len(assigned.Entries), len(trained.Entries))
+	if len(assigned.Table.Windows) != len(trained.Table.Windows) {
+		t.Fatalf("%d windows assigned, %d trained", len(assigned.Table.Windows), len(trained.Table.Windows))
 	}
-	for i, e := range assigned.Entries {
-		if tr := trained.Entries[i]; e.Site != tr.Site || !e.Start.Equal(tr.Start) || e.BMU != tr.BMU || e.Regime != tr.Regime {
+	for i, e := range assigned.Table.Windows {
+		if tr := trained.Table.Windows[i]; e.Site != tr.Site || !e.Start.Equal(tr.Start) || e.Unit != tr.Unit || e.Regime != tr.Regime {
 			t.Fatalf("window %d: assigned %+v, trained %+v", i, e, tr)
 		}
 	}
@@ -130,7 +131,7 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	ids := func(m *mapper.Model) []int {
+	ids := func(m *model.Model) []int {
 		var out []int
 		for _, r := range m.Regimes {
 			out = append(out, r.ID)
@@ -171,10 +172,10 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 		res  *kinmap.Result
 	}{{"train", first}, {"update", second}, {"assign", third}} {
 		var sum float64
-		for _, a := range r.res.Assignments {
-			sum += a.QE
+		for _, w := range r.res.Table.Windows {
+			sum += w.QE
 		}
-		if mean := sum / float64(len(r.res.Assignments)); math.Abs(r.res.Info.Quality.QE-mean) > 1e-12*mean {
+		if mean := sum / float64(len(r.res.Table.Windows)); math.Abs(r.res.Info.Quality.QE-mean) > 1e-12*mean {
 			t.Errorf("%s: run quality QE %g, mean QE of its windows %g", r.name, r.res.Info.Quality.QE, mean)
 		}
 	}
@@ -216,7 +217,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	model := trained.Model
+	mdl := trained.Model
 	// The dumps hold the planted site and a few others: the checks look
 	// at the planted site, and decoding is per site.
 	few := *fleet
@@ -229,7 +230,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 	whole := filepath.Join(dir, "whole.csv")
 	writeDump(t, whole, &few, fleet.WindowStart(0), fleet.WindowStart(fleet.Windows()), 0, 0, 1)
 	// One decoding of the whole record, without history.
-	joint, err := kinmap.Assign(options(whole), model)
+	joint, err := kinmap.Assign(options(whole), mdl)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -250,7 +251,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 
 			o := options(before)
 			o.History = history
-			first, err := kinmap.Assign(o, model)
+			first, err := kinmap.Assign(o, mdl)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -270,7 +271,7 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			o.History = history
 			var second *kinmap.Result
 			for run := range 2 { // the same dump twice: its period is replaced, not doubled
-				if second, err = kinmap.Assign(o, model); err != nil {
+				if second, err = kinmap.Assign(o, mdl); err != nil {
 					t.Fatal(err)
 				}
 				if err := second.AppendHistory(history); err != nil {
@@ -285,13 +286,13 @@ func TestSwitchAcrossDumps(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if n := len(first.Entries) + len(second.Entries); len(h.Windows) != n {
+			if n := len(first.Table.Windows) + len(second.Table.Windows); len(h.Windows) != n {
 				t.Errorf("history holds %d windows, want the %d of both dumps once", len(h.Windows), n)
 			}
 
 			// Windows as "time regime" and switches as "time from→to".
 			var want, got []string
-			for _, e := range joint.Entries {
+			for _, e := range joint.Table.Windows {
 				if e.Site == planted.Site {
 					want = append(want, fmt.Sprintf("%s %d", e.Start.UTC().Format(time.RFC3339), e.Regime))
 				}

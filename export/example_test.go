@@ -11,12 +11,12 @@ import (
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
-	"github.com/kinmap/kinmap/timeline"
+	"github.com/kinmap/kinmap/model"
 )
 
 func ExampleWrite() {
 	// A map of two units, one regime each, and one site seen for three days.
-	m := &mapper.Model{
+	m := &model.Model{
 		FeatureNames: []string{"flow.mean"},
 		Map:          mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
 		Regimes: []mapper.Regime{
@@ -30,10 +30,8 @@ func ExampleWrite() {
 	day := time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
 	for d := range 3 {
 		start := day.AddDate(0, 0, d)
-		w := features.Window{Site: "PS-01", Start: start, End: start.AddDate(0, 0, 1), Lat: 46.95, Lon: 7.45, Located: true, Values: []float64{-1}}
-		run.Table.Windows = append(run.Table.Windows, w)
-		run.Assignments = append(run.Assignments, mapper.Assignment{BMU: 0, QE: 0.1})
-		run.Entries = append(run.Entries, timeline.Entry{Site: w.Site, Start: w.Start, End: w.End, Regime: 1, QE: 0.1})
+		run.Table.Windows = append(run.Table.Windows, features.Window{Site: "PS-01", Start: start, End: start.AddDate(0, 0, 1),
+			Lat: 46.95, Lon: 7.45, Located: true, Values: []float64{-1}, Unit: 0, Regime: 1, QE: 0.1})
 	}
 
 	dir, err := os.MkdirTemp("", "kinmap-example-")

@@ -22,6 +22,7 @@ import (
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -44,17 +45,19 @@ const (
 
 // Run is everything the outputs of one run are made from.
 type Run struct {
-	Model       *mapper.Model
-	Table       *features.Table     // the windows, with their positions, and mobile sites' paths
-	Assignments []mapper.Assignment // one per Table.Windows entry
-	Entries     []timeline.Entry    // one per Table.Windows entry, in the same order (timeline.Build)
-	Switches    []timeline.Switch
-	Register    *ingest.Register      // nil when there is none
-	Summary     *ingest.Summary       // what was read; nil when unknown
-	Info        any                   // machine-readable run summary, written as run.json
-	Changes     []mapper.RegimeChange // regime renumbering by an update, listed in the report
-	Warnings    []string              // from earlier stages, shown in the report, each warning once
-	Title       string                // heading of the report; "" means "kinmap run"
+	Model    *model.Model
+	Table    *features.Table // the windows, placed, classified by events and decoded (timeline.Build), and mobile sites' paths
+	Switches []timeline.Switch
+	Register *ingest.Register      // nil when there is none
+	Summary  *ingest.Summary       // what was read; nil when unknown
+	Info     any                   // machine-readable run summary, written as run.json
+	Changes  []mapper.RegimeChange // regime renumbering by an update, listed in the report
+	Warnings []string              // from earlier stages, shown in the report, each warning once
+	Daily    []DailySummary        // the readings by site, channel and UTC day (DailySummaries), drawn by the report; nil for none
+	Title    string                // heading of the report; "" means "kinmap run"
+	// Conditions is the label knowledge from events; nil when there is
+	// none. Each window's likely condition is on the window.
+	Conditions *Conditions
 }
 
 // Write writes the outputs of r into dir, creating it if needed.
@@ -172,7 +175,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	all := append(slices.Clone(listed), ReportFile)
 	files = append(files,
 		file{RunFile, func(w io.Writer) error { return writeRunFile(w, r.Info, all) }},
-		file{ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, warnings, pics, listed) }},
+		file{ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, tracks, warnings, pics, listed) }},
 	)
 	for _, f := range files {
 		if err := tx.Create(filepath.Join(dir, f.name), f.write); err != nil {
@@ -312,12 +315,11 @@ func check(r *Run) error {
 	switch {
 	case r == nil || r.Model == nil || r.Table == nil:
 		return fmt.Errorf("export: a run needs a model and a feature table")
-	case len(r.Entries) != len(r.Table.Windows) || len(r.Assignments) != len(r.Table.Windows):
-		return fmt.Errorf("export: %d windows, %d timeline entries and %d assignments; they must match", len(r.Table.Windows), len(r.Entries), len(r.Assignments))
 	}
-	for i, e := range r.Entries {
-		if w := r.Table.Windows[i]; e.Site != w.Site || !e.Start.Equal(w.Start) {
-			return fmt.Errorf("export: timeline entry %d (%q at %s) is not window %d (%q at %s)", i, e.Site, rfc3339(e.Start), i, w.Site, rfc3339(w.Start))
+	units := r.Model.Map.Lattice.Units()
+	for _, w := range r.Table.Windows {
+		if w.Unit < 0 || w.Unit >= units {
+			return fmt.Errorf("export: site %q, window %s: unit %d outside the map's %d units", w.Site, rfc3339(w.Start), w.Unit, units)
 		}
 	}
 	return nil
@@ -334,7 +336,10 @@ func regimeIDs(r *Run) []int {
 }
 
 func pictureInput(r *Run, ss []*site) picture.Input {
-	in := picture.Input{Model: r.Model, Assignments: r.Assignments, Entries: r.Entries, Switches: r.Switches}
+	in := picture.Input{Model: r.Model, Windows: r.Table.Windows, Switches: r.Switches}
+	if c := r.Conditions; c != nil {
+		in.Conditions = &model.Conditions{Labels: c.Labels, Counts: c.UnitCounts}
+	}
 	for _, s := range ss {
 		in.Sites = append(in.Sites, picture.SitePoint{ID: s.id, Lon: s.lon, Lat: s.lat, Located: s.located, Regime: s.last.Regime})
 	}

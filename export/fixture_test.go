@@ -7,6 +7,7 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -38,9 +39,9 @@ var fixtureSwitches = []timeline.Switch{
 	{Site: "T-7", Time: day0.AddDate(0, 0, 2), From: 1, To: 3, Before: 2, After: 3, Confidence: 0.75},
 }
 
-func fixtureModel() *mapper.Model {
+func fixtureModel() *model.Model {
 	const cols, rows = 4, 4
-	m := &mapper.Model{
+	m := &model.Model{
 		Version:      1,
 		FeatureNames: []string{"flow.mean", "vibration.p95"},
 		Scaler: &features.Scaler{Method: "zscore", Names: []string{"flow.mean", "vibration.p95"},
@@ -119,13 +120,9 @@ func fixtureRun() *Run {
 				info := reg.Sites[map[string]int{"PS-01": 0, "PS-02": 1}[s.id]]
 				w.Lon, w.Lat, w.Located = info.Lon, info.Lat, true
 			}
-			bmu := m.Regimes[g-1].Units[0]
-			col, row := m.Map.Lattice.Cell(bmu)
-			qe := 0.1 * float64(d+1)
-			unfamiliar := s.id == "X-9" && d == len(s.regimes)-1
+			w.Unit, w.Regime, w.QE = m.Regimes[g-1].Units[0], g, 0.1*float64(d+1)
+			w.Unfamiliar = s.id == "X-9" && d == len(s.regimes)-1
 			r.Table.Windows = append(r.Table.Windows, w)
-			r.Assignments = append(r.Assignments, mapper.Assignment{BMU: bmu, QE: qe})
-			r.Entries = append(r.Entries, timeline.Entry{Site: s.id, Start: w.Start, End: w.End, BMU: bmu, Col: col, Row: row, Regime: g, QE: qe, Unfamiliar: unfamiliar})
 		}
 	}
 	return r

@@ -116,7 +116,7 @@ func reserved() map[string]bool {
 func shares(ids []int, s *site) props {
 	var p props
 	for _, id := range ids {
-		p.add(strconv.Itoa(id), round(float64(s.count[id])/float64(len(s.entries)), 4))
+		p.add(strconv.Itoa(id), round(float64(s.count[id])/float64(len(s.windows)), 4))
 	}
 	return p
 }
@@ -138,31 +138,28 @@ func siteFeatures(r *Run, ss []*site) []*feature {
 		var p props
 		p.add("site", s.id)
 		if r.Register != nil {
-			values := map[string]any{}
-			if s.info != nil {
-				for _, a := range s.info.Attrs {
-					values[a.Name] = a.Value
-				}
-			}
-			for _, name := range r.Register.AttrNames {
-				p.add(attrName(name, taken), values[name])
+			for i, v := range s.attrValues(r.Register.AttrNames) {
+				p.add(attrName(r.Register.AttrNames[i], taken), v)
 			}
 		}
 		p.add("regime", s.last.Regime)
 		p.add("dominant_regime", s.dominant)
 		p.add("shares", shares(ids, s))
-		p.add("windows", len(s.entries))
+		p.add("windows", len(s.windows))
 		p.add("switches", s.switches)
 		if s.lastSw.IsZero() {
 			p.add("last_switch", nil)
 		} else {
 			p.add("last_switch", s.lastSw)
 		}
-		p.add("col", s.last.Col)
-		p.add("row", s.last.Row)
+		col, row := r.Model.Map.Lattice.Cell(s.last.Unit)
+		p.add("col", col)
+		p.add("row", row)
 		p.add("qe", significant(s.meanQE, 6))
 		p.add("unfamiliar", s.unfamiliar > 0)
 		p.add("unfamiliar_windows", s.unfamiliar)
+		p.add("likely_condition", s.last.Condition)
+		p.add("condition_confidence", significant(s.last.ConditionConfidence, 6))
 		p.add("mobile", s.mobile)
 		if s.homed {
 			h := roundPosition(s.home[0], s.home[1])
@@ -231,10 +228,10 @@ func trackFeatures(r *Run, ss []*site) []*feature {
 		if !s.mobile {
 			continue
 		}
-		// The segments: indexes into s.entries where a new regime starts.
+		// The segments: indexes into s.windows where a new regime starts.
 		starts := []int{0}
-		for j := 1; j < len(s.entries); j++ {
-			if r.Entries[s.entries[j]].Regime != r.Entries[s.entries[j-1]].Regime {
+		for j := 1; j < len(s.windows); j++ {
+			if r.Table.Windows[s.windows[j]].Regime != r.Table.Windows[s.windows[j-1]].Regime {
 				starts = append(starts, j)
 			}
 		}
@@ -242,14 +239,14 @@ func trackFeatures(r *Run, ss []*site) []*feature {
 		var line orb.LineString
 		at := 0 // next position
 		for k, j := range starts {
-			end := len(s.entries)
+			end := len(s.windows)
 			if k+1 < len(starts) {
 				end = starts[k+1]
 			}
-			for ; at < len(positions) && (end == len(s.entries) || positions[at].Time.Before(r.Entries[s.entries[end]].Start)); at++ {
+			for ; at < len(positions) && (end == len(s.windows) || positions[at].Time.Before(r.Table.Windows[s.windows[end]].Start)); at++ {
 				line = append(line, orb.Point(roundPosition(positions[at].Lon, positions[at].Lat)))
 			}
-			first, last := r.Entries[s.entries[j]], r.Entries[s.entries[end-1]]
+			first, last := r.Table.Windows[s.windows[j]], r.Table.Windows[s.windows[end-1]]
 			if distinct(line) {
 				var p props
 				p.add("site", s.id)
@@ -281,7 +278,7 @@ func trackPositions(r *Run, s *site) []features.Fix {
 	if len(out) > 0 {
 		return out
 	}
-	for _, i := range s.entries {
+	for _, i := range s.windows {
 		if w := r.Table.Windows[i]; w.Located && validPosition(w.Lon, w.Lat) {
 			out = append(out, features.Fix{Time: w.Start, Lat: w.Lat, Lon: w.Lon})
 		}

@@ -276,6 +276,7 @@ func TestSitesGeoJSON(t *testing.T) {
 		"switches": 1.0, "last_switch": "2025-03-04T00:00:00Z",
 		"col": 2.0, "row": 0.0, "qe": 0.35, "unfamiliar": false, "unfamiliar_windows": 0.0, "mobile": false,
 		"home_lon": 7.4474, "home_lat": 46.948,
+		"likely_condition": "", "condition_confidence": 0.0, // a run without label knowledge
 	}
 	for k, v := range want {
 		if p[k] != v {
@@ -382,7 +383,7 @@ func TestOgrinfo(t *testing.T) {
 			"windows": "Integer", "switches": "Integer", "last_switch": "DateTime",
 			"col": "Integer", "row": "Integer", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer", "mobile": "Integer(Boolean)",
-			"home_lon": "Real", "home_lat": "Real",
+			"home_lon": "Real", "home_lat": "Real", "likely_condition": "String", "condition_confidence": "Real",
 		}}},
 		{RegimesFile, ogrLayer{"Multi Point", 3, map[string]string{
 			"regime": "Integer", "description": "String", "colour": "String", "sites": "Integer", "site_ids": "String", "units": "Integer",

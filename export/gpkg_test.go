@@ -45,7 +45,7 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 			"windows": "Integer64", "switches": "Integer64", "last_switch": "DateTime",
 			"col": "Integer64", "row": "Integer64", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer64", "mobile": "Integer(Boolean)",
-			"home_lon": "Real", "home_lat": "Real",
+			"home_lon": "Real", "home_lat": "Real", "likely_condition": "String", "condition_confidence": "Real",
 		}}},
 		{"regimes", ogrLayer{"Multi Point", 3, map[string]string{
 			"regime": "Integer64", "description": "String", "colour": "String", "sites": "Integer64", "site_ids": "String", "units": "Integer64",
@@ -53,9 +53,10 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 		{"tracks", ogrLayer{"Line String", 2, map[string]string{
 			"site": "String", "regime": "Integer64", "start": "DateTime", "end": "DateTime", "windows": "Integer64", "colour": "String",
 		}}},
-		{"timeline", ogrLayer{"None", len(fixtureRun().Entries), map[string]string{
+		{"timeline", ogrLayer{"None", len(fixtureRun().Table.Windows), map[string]string{
 			"site": "String", "window_start": "DateTime", "window_end": "DateTime", "col": "Integer64", "row": "Integer64",
 			"regime": "Integer64", "qe": "Real", "unfamiliar": "Integer(Boolean)",
+			"likely_condition": "String", "condition_confidence": "Real",
 		}}},
 		{"switches", ogrLayer{"None", len(fixtureSwitches), map[string]string{
 			"site": "String", "time": "DateTime", "from_regime": "Integer64", "to_regime": "Integer64",

@@ -2,7 +2,7 @@ package export
 
 import (
 	"cmp"
-	_ "embed"
+	"embed"
 	"encoding/base64"
 	"encoding/json"
 	"fmt"
@@ -16,15 +16,20 @@ import (
 
 	"github.com/kinmap/kinmap/export/picture"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
-//go:embed report.html
-var reportHTML string
+// reportFiles holds the page, the templates of its sections (one
+// report_NAME.html file each, defining NAME) and the explorer's script.
+//
+//go:embed report*.html explorer.js
+var reportFiles embed.FS
 
 // reportTemplate is parsed for each report; it is cheap and keeps the
-// package free of init-time work.
+// package free of init-time work. Every report*.html file joins it, so that
+// a section's file only has to be added.
 func reportTemplate() (*template.Template, error) {
-	return template.New("report").Funcs(template.FuncMap{"swatch": swatch}).Parse(reportHTML)
+	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch, "readable": readable}).ParseFS(reportFiles, "report*.html")
 }
 
 // maxSwitchRows caps the switch table; switches.csv has them all.
@@ -37,7 +42,7 @@ type fact struct{ Label, Value string }
 
 type reportPicture struct {
 	Title, Caption, File string
-	Src                  template.URL
+	Src                  template.HTMLAttr // the src attribute
 }
 
 type reportRegime struct {
@@ -76,28 +81,44 @@ type reportData struct {
 	MoreUnfamiliar  int
 	Files           []string
 	Details         string
+	Events          *eventsSection // known events; nil without label knowledge
+	Explorer        template.JS    // the explorer's data, a JSON object
+	Daily           template.JS    // the sites' daily summaries, a JSON object
+	Script          template.JS    // the explorer's script
 }
 
-func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []picture.Picture, files []string) error {
+func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []string, pics []picture.Picture, files []string) error {
 	t, err := reportTemplate()
 	if err != nil {
 		return err
 	}
-	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Entries), SwitchesTotal: len(r.Switches)}
+	script, err := reportFiles.ReadFile("explorer.js")
+	if err != nil {
+		return err
+	}
+	data, daily, err := explorerJSON(r, ss, tracks)
+	if err != nil {
+		return err
+	}
+	// Both are built here: the JSON escapes <, > and & (encoding/json), so
+	// neither can close its script element.
+	d := reportData{Title: cmp.Or(r.Title, "kinmap run"), Windows: len(r.Table.Windows), SwitchesTotal: len(r.Switches),
+		Explorer: template.JS(data), Daily: template.JS(daily), Script: template.JS(script)}
 	d.Warnings = once(r.Warnings, r.Model.Quality.Warnings, warnings)
 	d.Files = append(slices.Clone(files), ReportFile)
 	for _, p := range pics {
 		d.Pictures = append(d.Pictures, reportPicture{
 			Title: p.Title, Caption: p.Caption, File: p.File,
-			// Built here from PNG bytes, so safe to mark as a URL.
-			Src: template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(p.PNG)),
+			// Built here from PNG bytes, so safe to mark as an attribute;
+			// as a URL each + of the base64 would be escaped into five bytes.
+			Src: template.HTMLAttr(`src="data:image/png;base64,` + base64.StdEncoding.EncodeToString(p.PNG) + `"`),
 		})
 	}
 
 	perRegime := map[int]int{} // windows
 	sitesIn := map[int]int{}   // sites by last regime
 	var unfamiliar []siteCount
-	for _, e := range r.Entries {
+	for _, e := range r.Table.Windows {
 		perRegime[e.Regime]++
 		if e.Unfamiliar {
 			d.Unfamiliar++
@@ -118,7 +139,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 	for _, g := range r.Model.Regimes {
 		d.Regimes = append(d.Regimes, reportRegime{
 			ID: g.ID, Description: g.Description, Units: len(g.Units),
-			Sites: sitesIn[g.ID], Windows: perRegime[g.ID], Share: percent(perRegime[g.ID], len(r.Entries)),
+			Sites: sitesIn[g.ID], Windows: perRegime[g.ID], Share: percent(perRegime[g.ID], len(r.Table.Windows)),
 		})
 	}
 	for _, c := range r.Changes {
@@ -136,14 +157,15 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 
 	d.Run = []fact{
 		{"Sites", strconv.Itoa(len(ss))},
-		{"Windows", strconv.Itoa(len(r.Entries))},
+		{"Windows", strconv.Itoa(len(r.Table.Windows))},
 		{"Regimes", strconv.Itoa(len(r.Model.Regimes))},
 		{"Switches", strconv.Itoa(len(r.Switches))},
-		{"Unfamiliar windows", fmt.Sprintf("%d (%s)", d.Unfamiliar, percent(d.Unfamiliar, len(r.Entries)))},
+		{"Unfamiliar windows", fmt.Sprintf("%d (%s)", d.Unfamiliar, percent(d.Unfamiliar, len(r.Table.Windows)))},
 	}
 	if skipped := r.Table.SkippedWindows(); skipped > 0 {
 		d.Run = append(d.Run, fact{"Windows skipped", strconv.Itoa(skipped)})
 	}
+	d.Events = eventsReport(r, ss)
 	d.Data = dataFacts(r)
 	d.Map = mapFacts(r.Model)
 	if r.Info != nil {
@@ -153,7 +175,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, warnings []string, pics []pict
 		}
 		d.Details = string(b)
 	}
-	return t.Execute(w, d)
+	return t.ExecuteTemplate(w, ReportFile, d)
 }
 
 // once returns the strings of the lists in order, each once: the
@@ -210,7 +232,7 @@ func dataFacts(r *Run) []fact {
 	return out
 }
 
-func mapFacts(m *mapper.Model) []fact {
+func mapFacts(m *model.Model) []fact {
 	l := m.Map.Lattice
 	cells, surface := l.Cells()+", 4 neighbours", l.Surface()+", wraps both ways"
 	if l.Hex {

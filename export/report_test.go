@@ -20,16 +20,24 @@ import (
 	"github.com/chromedp/chromedp"
 
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // The report loads nothing: no scripts, style sheets or fonts from
-// anywhere, and every src or href is a data: URI or a fragment.
+// anywhere, and every src or href is a data: URI or a fragment. Its three
+// script elements are inline: the explorer's data, its script, which
+// opens no connection, and the sites' daily readings.
 func TestReportSelfContained(t *testing.T) {
 	doc := string(read(t, written(t), ReportFile))
-	for _, bad := range []string{"http://", "https://", "<script", "<link", "@import", "<iframe", "<object", "<embed"} {
+	for _, bad := range []string{"http://", "https://", "<link", "@import", "<iframe", "<object", "<embed",
+		"fetch(", "xmlhttprequest", "websocket", "eventsource", "sendbeacon", "import(", "worker(", "<base"} {
 		if strings.Contains(strings.ToLower(doc), bad) {
 			t.Errorf("report contains %q", bad)
 		}
+	}
+	scripts := regexp.MustCompile(`(?i)<script[^>]*>`).FindAllString(doc, -1)
+	if want := []string{`<script type="application/json" id="kinmap-data">`, `<script>`, `<script type="application/json" id="kinmap-daily">`}; !slices.Equal(scripts, want) {
+		t.Errorf("script elements %q, want %q", scripts, want)
 	}
 	for _, m := range regexp.MustCompile(`(?i)\b(src|href|srcset|poster|data)\s*=\s*"([^"]*)"`).FindAllStringSubmatch(doc, -1) {
 		if !strings.HasPrefix(m[2], "data:image/png;base64,") && !strings.HasPrefix(m[2], "#") {
@@ -110,8 +118,8 @@ const pictureScript = `Promise.all(Array.from(document.images).map(img =>
     width: img.naturalWidth, height: img.naturalHeight, error}))))`
 
 // chromiumContext starts Debian's chromium, headless, with a fresh
-// profile, driven through the DevTools protocol.
-func chromiumContext(t *testing.T) context.Context {
+// profile, driven through the DevTools protocol, for at most limit.
+func chromiumContext(t *testing.T, limit time.Duration) context.Context {
 	t.Helper()
 	chromium := tool(t, "chromium")
 	alloc, cancelAlloc := chromedp.NewExecAllocator(context.Background(),
@@ -120,7 +128,7 @@ func chromiumContext(t *testing.T) context.Context {
 		chromedp.Flag("disable-component-update", true), chromedp.Flag("disable-sync", true),
 		chromedp.UserDataDir(t.TempDir()))
 	ctx, cancelCtx := chromedp.NewContext(alloc)
-	ctx, cancelTimeout := context.WithTimeout(ctx, 90*time.Second)
+	ctx, cancelTimeout := context.WithTimeout(ctx, limit)
 	t.Cleanup(func() { cancelTimeout(); cancelCtx(); cancelAlloc() })
 	return ctx
 }
@@ -193,7 +201,7 @@ func pictureProblems(t *testing.T, dir string, imgs []browserImage) []string {
 // copy whose pictures are broken fails for every picture, so that its
 // passing means something.
 func TestReportInChromium(t *testing.T) {
-	ctx := chromiumContext(t)
+	ctx := chromiumContext(t, 90*time.Second)
 	dir := written(t)
 	imgs, shot, err := showReport(ctx, filepath.Join(dir, ReportFile))
 	if err != nil {
@@ -294,7 +302,7 @@ func TestReportListsRegimeChanges(t *testing.T) {
 // every number tried, so that a user can see how close the others came.
 func TestReportShowsRegimeScores(t *testing.T) {
 	r := fixtureRun()
-	r.Model.Scores = []mapper.Score{{K: 2, DaviesBouldin: 1.154}, {K: 3, DaviesBouldin: 0.7203}}
+	r.Model.Scores = []model.Score{{K: 2, DaviesBouldin: 1.154}, {K: 3, DaviesBouldin: 0.7203}}
 	dir := t.TempDir()
 	if err := Write(dir, r); err != nil {
 		t.Fatal(err)

@@ -7,27 +7,43 @@ import (
 	"slices"
 	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/timeline"
 )
 
 // site is what the outputs say about one site.
 type site struct {
 	id         string
 	info       *ingest.Site // register entry, nil when not registered
-	entries    []int        // indexes into Run.Entries, in time order
+	windows    []int        // indexes into Run.Table.Windows, in time order
 	lon, lat   float64
 	located    bool
 	home       [2]float64 // registered position, lon and lat
 	homed      bool       // home is known
 	mobile     bool       // more than one distinct window position
-	last       timeline.Entry
+	last       *features.Window
 	dominant   int
 	count      map[int]int // windows by regime ID
 	switches   int
 	lastSw     time.Time // zero when the site did not switch
 	meanQE     float64
 	unfamiliar int // unfamiliar windows
+}
+
+// attrValues returns the site's register attributes in the order of
+// names, nil where it has none.
+func (s *site) attrValues(names []string) []any {
+	values := map[string]any{}
+	if s.info != nil {
+		for _, a := range s.info.Attrs {
+			values[a.Name] = a.Value
+		}
+	}
+	out := make([]any, len(names))
+	for i, name := range names {
+		out[i] = values[name]
+	}
+	return out
 }
 
 // sites gathers the sites of r, sorted by ID, and the warnings about them.
@@ -42,14 +58,14 @@ func sites(r *Run) ([]*site, []string) {
 	}
 	byID := map[string]*site{}
 	var out []*site
-	for i, e := range r.Entries {
-		s := byID[e.Site]
+	for i, w := range r.Table.Windows {
+		s := byID[w.Site]
 		if s == nil {
-			s = &site{id: e.Site, info: registered[e.Site], count: map[int]int{}}
-			byID[e.Site] = s
+			s = &site{id: w.Site, info: registered[w.Site], count: map[int]int{}}
+			byID[w.Site] = s
 			out = append(out, s)
 		}
-		s.entries = append(s.entries, i)
+		s.windows = append(s.windows, i)
 	}
 	slices.SortFunc(out, func(a, b *site) int { return cmp.Compare(a.id, b.id) })
 	for _, sw := range r.Switches {
@@ -62,23 +78,23 @@ func sites(r *Run) ([]*site, []string) {
 	}
 	var warnings, unlocated []string
 	for _, s := range out {
-		slices.SortStableFunc(s.entries, func(a, b int) int { return r.Entries[a].Start.Compare(r.Entries[b].Start) })
+		slices.SortStableFunc(s.windows, func(a, b int) int { return r.Table.Windows[a].Start.Compare(r.Table.Windows[b].Start) })
 		var qe float64
 		positions := map[[2]float64]bool{}
-		for _, i := range s.entries {
-			e := r.Entries[i]
-			s.count[e.Regime]++
-			qe += e.QE
-			if e.Unfamiliar {
+		for _, i := range s.windows {
+			w := &r.Table.Windows[i]
+			s.count[w.Regime]++
+			qe += w.QE
+			if w.Unfamiliar {
 				s.unfamiliar++
 			}
-			if w := r.Table.Windows[i]; w.Located && validPosition(w.Lon, w.Lat) {
+			if w.Located && validPosition(w.Lon, w.Lat) {
 				positions[roundPosition(w.Lon, w.Lat)] = true
 				s.lon, s.lat, s.located = w.Lon, w.Lat, true
 			}
 		}
-		s.meanQE = qe / float64(len(s.entries))
-		s.last = r.Entries[s.entries[len(s.entries)-1]]
+		s.meanQE = qe / float64(len(s.windows))
+		s.last = &r.Table.Windows[s.windows[len(s.windows)-1]]
 		s.mobile = len(positions) > 1
 		for id, n := range s.count {
 			if d := s.count[s.dominant]; n > d || n == d && id < s.dominant {

@@ -9,7 +9,8 @@ import (
 
 	"github.com/parquet-go/parquet-go"
 
-	"github.com/kinmap/kinmap/timeline"
+	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/mapper"
 )
 
 // timelineRow is one row of timeline.parquet and timeline.csv.
@@ -22,6 +23,10 @@ type timelineRow struct {
 	Regime      int32     `parquet:"regime"`
 	QE          float64   `parquet:"qe"`
 	Unfamiliar  bool      `parquet:"unfamiliar"`
+	// Condition and ConditionConfidence are the window's likely condition
+	// from the labelled windows near it on the map (package events).
+	Condition           string  `parquet:"likely_condition,dict"`
+	ConditionConfidence float64 `parquet:"condition_confidence"`
 }
 
 // switchRow is one row of switches.parquet and switches.csv.
@@ -39,13 +44,14 @@ type switchRow struct {
 // GeoPackage, in the order of the rows' fields.
 var (
 	timelineColumns = []gpkgColumn{{"site", "TEXT"}, {"window_start", "DATETIME"}, {"window_end", "DATETIME"},
-		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"}}
+		{"col", "INTEGER"}, {"row", "INTEGER"}, {"regime", "INTEGER"}, {"qe", "REAL"}, {"unfamiliar", "BOOLEAN"},
+		{"likely_condition", "TEXT"}, {"condition_confidence", "REAL"}}
 	switchColumns = []gpkgColumn{{"site", "TEXT"}, {"time", "DATETIME"}, {"from_regime", "INTEGER"}, {"to_regime", "INTEGER"},
 		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"}}
 )
 
 func (r timelineRow) values() []any {
-	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar}
+	return []any{r.Site, r.WindowStart, r.WindowEnd, r.Col, r.Row, r.Regime, r.QE, r.Unfamiliar, r.Condition, r.ConditionConfidence}
 }
 
 func (r switchRow) values() []any {
@@ -77,21 +83,23 @@ func attributesLayer[T interface{ values() []any }](name, description string, co
 // timelineRows lists the windows by site, then time. Times are kept to the
 // microsecond, the Parquet unit.
 func timelineRows(r *Run, ss []*site) []timelineRow {
-	rows := make([]timelineRow, 0, len(r.Entries))
+	rows := make([]timelineRow, 0, len(r.Table.Windows))
 	for _, s := range ss {
-		for _, i := range s.entries {
-			rows = append(rows, rowOf(r.Entries[i]))
+		for _, i := range s.windows {
+			rows = append(rows, rowOf(r.Model.Map.Lattice, &r.Table.Windows[i]))
 		}
 	}
 	return rows
 }
 
-// rowOf is the timeline row of one entry.
-func rowOf(e timeline.Entry) timelineRow {
+// rowOf is the timeline row of one window, its unit a cell of l.
+func rowOf(l mapper.Lattice, w *features.Window) timelineRow {
+	col, row := l.Cell(w.Unit)
 	return timelineRow{
-		Site: e.Site, WindowStart: micro(e.Start), WindowEnd: micro(e.End),
-		Col: int32(e.Col), Row: int32(e.Row), Regime: int32(e.Regime),
-		QE: e.QE, Unfamiliar: e.Unfamiliar,
+		Site: w.Site, WindowStart: micro(w.Start), WindowEnd: micro(w.End),
+		Col: int32(col), Row: int32(row), Regime: int32(w.Regime),
+		QE: w.QE, Unfamiliar: w.Unfamiliar,
+		Condition: w.Condition, ConditionConfidence: w.ConditionConfidence,
 	}
 }
 

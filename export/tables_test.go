@@ -104,7 +104,7 @@ func TestParquetEqualsCSV(t *testing.T) {
 		header       []string
 		times        []string
 	}{
-		{TimelineParquetFile, TimelineCSVFile, []string{"site", "window_start", "window_end", "col", "row", "regime", "qe", "unfamiliar"}, []string{"window_start", "window_end"}},
+		{TimelineParquetFile, TimelineCSVFile, []string{"site", "window_start", "window_end", "col", "row", "regime", "qe", "unfamiliar", "likely_condition", "condition_confidence"}, []string{"window_start", "window_end"}},
 		{SwitchesParquetFile, SwitchesCSVFile, []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence"}, []string{"time"}},
 	} {
 		t.Run(tc.parquet, func(t *testing.T) {
@@ -165,7 +165,7 @@ func TestCSVContents(t *testing.T) {
 		t.Errorf("%d rows, want %d", len(rows), n)
 	}
 	// QE 0.1 × 3 in binary floating point, in its shortest round-trip form.
-	if want := []string{"X-9", "2025-03-03T00:00:00Z", "2025-03-04T00:00:00Z", "2", "0", "2", "0.30000000000000004", "true"}; strings.Join(rows[len(rows)-1], ",") != strings.Join(want, ",") {
+	if want := []string{"X-9", "2025-03-03T00:00:00Z", "2025-03-04T00:00:00Z", "2", "0", "2", "0.30000000000000004", "true", "", "0"}; strings.Join(rows[len(rows)-1], ",") != strings.Join(want, ",") {
 		t.Errorf("last row %v, want %v", rows[len(rows)-1], want)
 	}
 	_, sw := readCSV(t, read(t, dir, SwitchesCSVFile))

@@ -8,8 +8,6 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/mapper"
-	"github.com/kinmap/kinmap/timeline"
 )
 
 // roundTripRun is a delivery van registered at depot H that is parked at
@@ -47,12 +45,10 @@ func roundTripRun(t *testing.T) *Run {
 	}
 	m := fixtureModel()
 	r := &Run{Model: m, Table: tab, Register: &ingest.Register{Key: "site", Sites: []*ingest.Site{home}}}
-	for i, w := range tab.Windows {
+	for i := range tab.Windows {
 		g := []int{1, 1, 2}[i]
-		bmu := m.Regimes[g-1].Units[0]
-		col, row := m.Map.Lattice.Cell(bmu)
-		r.Assignments = append(r.Assignments, mapper.Assignment{BMU: bmu, QE: 0.1})
-		r.Entries = append(r.Entries, timeline.Entry{Site: w.Site, Start: w.Start, End: w.End, BMU: bmu, Col: col, Row: row, Regime: g, QE: 0.1})
+		w := &tab.Windows[i]
+		w.Unit, w.Regime, w.QE = m.Regimes[g-1].Units[0], g, 0.1
 	}
 	return r
 }

@@ -143,10 +143,8 @@ func TestStaleOutputsRemoved(t *testing.T) {
 }
 
 func TestCheck(t *testing.T) {
-	short := fixtureRun()
-	short.Entries = short.Entries[1:]
-	swapped := fixtureRun()
-	swapped.Entries[0], swapped.Entries[1] = swapped.Entries[1], swapped.Entries[0]
+	offMap := fixtureRun()
+	offMap.Table.Windows[1].Unit = offMap.Model.Map.Units()
 	for _, tc := range []struct {
 		name string
 		r    *Run
@@ -154,8 +152,7 @@ func TestCheck(t *testing.T) {
 	}{
 		{"nil", nil, "needs a model"},
 		{"no model", &Run{Table: fixtureRun().Table}, "needs a model"},
-		{"short", short, "must match"},
-		{"misaligned", swapped, "timeline entry 0"},
+		{"off the map", offMap, `site "PS-01", window 2025-03-02T00:00:00Z: unit 16 outside the map's 16 units`},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			dir := t.TempDir()

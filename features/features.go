@@ -120,13 +120,35 @@ func DefaultConfig() Config {
 	return Config{Window: 24 * time.Hour, MinCoverage: 0.6, Features: "basic"}
 }
 
-// Window is one site's window and its raw (unscaled) feature values.
+// Window is one site's window: the one record of it that travels through
+// the stages. Extract fills its place, time and raw (unscaled) feature
+// values; each later stage fills its own fields, in place, so that no
+// stage keeps a slice in step with another by index.
 type Window struct {
 	Site       string
 	Start, End time.Time // [Start, End), in UTC
 	Lat, Lon   float64   // centroid of the window's positions, or the registered position
 	Located    bool      // Lat and Lon are known
 	Values     []float64 // in Table.Names order; NaN where a feature is undefined
+
+	// Scaled is the window's row of the scaled matrix (Scaler.Transform
+	// sets it to a view of that row); nil before scaling.
+	Scaled []float64
+
+	// Set by package mapper (mapper.Place) once the window is on the map.
+	Unit   int     // best-matching unit
+	Second int     // second-best unit
+	QE     float64 // quantization error: Euclidean distance to Unit's codebook vector
+
+	// Set by package timeline (timeline.Build) when the site is decoded.
+	Regime     int  // decoded regime ID
+	Unfamiliar bool // QE above the training windows' threshold quantile
+
+	// Set by the run when it has label knowledge from events (package
+	// events, Classify): the window's likely condition ("" without
+	// knowledge) and its confidence in [0, 1].
+	Condition           string
+	ConditionConfidence float64
 }
 
 // Table is the feature table of a dataset.
@@ -145,23 +167,27 @@ type Table struct {
 // reasons.
 func (t *Table) SkippedWindows() int {
 	n := 0
-	for _, s := range t.Skipped {
-		for _, c := range s {
-			n += c
-		}
+	for _, c := range t.skipsByReason() {
+		n += c
 	}
 	return n
 }
 
-// SkipReasons words the windows skipped by reason, such as "3 for
-// coverage, 1 for empty", or "no windows at all" when none were skipped.
-func (t *Table) SkipReasons() string {
+// skipsByReason totals the windows skipped over all sites, by reason.
+func (t *Table) skipsByReason() map[string]int {
 	by := map[string]int{}
 	for _, s := range t.Skipped {
 		for r, c := range s {
 			by[r] += c
 		}
 	}
+	return by
+}
+
+// SkipReasons words the windows skipped by reason, such as "3 for
+// coverage, 1 for empty", or "no windows at all" when none were skipped.
+func (t *Table) SkipReasons() string {
+	by := t.skipsByReason()
 	if len(by) == 0 {
 		return "no windows at all"
 	}

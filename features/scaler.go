@@ -111,7 +111,8 @@ func meanStd(x []float64) (mean, std float64) {
 // kept feature in s.Names order, holding (v − Center)·Weight/Scale. A NaN
 // (undefined) value becomes 0, the centre, so that it pulls a window
 // neither way. Features of t that s does not keep are ignored; a feature s
-// keeps that t lacks is an error.
+// keeps that t lacks is an error. Each window's Scaled field becomes a view
+// of its row.
 func (s *Scaler) Transform(t *Table) (*mat.Dense, error) {
 	if t == nil || len(t.Windows) == 0 {
 		return nil, errors.New("features: no windows to scale")
@@ -137,13 +138,15 @@ func (s *Scaler) Transform(t *Table) (*mat.Dense, error) {
 		return nil, fmt.Errorf("features: the table lacks features %s", strings.Join(missing, ", "))
 	}
 	out := mat.NewDense(len(t.Windows), len(s.Names), nil)
-	for r, w := range t.Windows {
+	for r := range t.Windows {
+		w := &t.Windows[r]
 		row := out.RawRowView(r)
 		for i, j := range cols {
 			if v := w.Values[j]; !math.IsNaN(v) {
 				row[i] = (v - s.Center[i]) / s.Scale[i] * s.Weight[i]
 			}
 		}
+		w.Scaled = row
 	}
 	return out, nil
 }

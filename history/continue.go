@@ -8,10 +8,8 @@ import (
 	"strings"
 	"time"
 
-	"gonum.org/v1/gonum/mat"
-
 	"github.com/kinmap/kinmap/features"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -31,16 +29,16 @@ type Continuation struct {
 	tail   []int          // windows of h, by site, then time
 }
 
-// Continue returns where the history leaves the sites of the windows of
-// t, to decode with m, whose regime numbers belong to lineage. Only the
-// windows that end by a site's first window in t count, so running a dump
+// Continue returns where the history leaves the sites of the windows ws,
+// to decode with m, whose regime numbers belong to lineage. Only the
+// windows that end by a site's first window in ws count, so running a dump
 // again does not feed on its own earlier result, and only windows of
 // lineage: the regime numbers of another map mean other regimes, and the
 // sites last seen under one are warned about.
-func (h *History) Continue(m *mapper.Model, lineage string, t *features.Table) *Continuation {
+func (h *History) Continue(m *model.Model, lineage string, ws []features.Window) *Continuation {
 	c := &Continuation{h: h, Priors: map[string]timeline.Prior{}, before: map[string]int{}}
 	first := map[string]time.Time{}
-	for _, w := range t.Windows {
+	for _, w := range ws {
 		if f, ok := first[w.Site]; !ok || w.Start.Before(f) {
 			first[w.Site] = w.Start
 		}
@@ -97,7 +95,7 @@ func (h *History) Continue(m *mapper.Model, lineage string, t *features.Table) *
 
 // unitOf returns the unit of w on m's lattice, from its cell for a window
 // written before units were recorded; -1 when unknown.
-func unitOf(m *mapper.Model, w *Window) int {
+func unitOf(m *model.Model, w *Window) int {
 	if w.Unit >= 0 {
 		return w.Unit
 	}
@@ -110,39 +108,28 @@ func unitOf(m *mapper.Model, w *Window) int {
 // Tail returns the number of windows of the history decoded again.
 func (c *Continuation) Tail() int { return len(c.tail) }
 
-// Prepend returns the inputs of the decoding with the tail windows before
-// the run's: their units and quantization errors as recorded, their scaled
-// vectors from the history.
-func (c *Continuation) Prepend(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.Assignment) (*features.Table, *mat.Dense, []mapper.Assignment) {
-	k := len(c.tail)
-	if k == 0 {
-		return t, x, asg
-	}
-	n, dim := x.Dims()
-	tt := &features.Table{Names: t.Names, Config: t.Config, Windows: make([]features.Window, 0, k+n)}
-	xx := mat.NewDense(k+n, dim, nil)
-	aa := make([]mapper.Assignment, 0, k+n)
-	for i, r := range c.tail {
+// Prepend returns the windows to decode: the tail windows, with their
+// units, quantization errors and scaled vectors as the history recorded
+// them, then copies of the run's windows ws.
+func (c *Continuation) Prepend(m *model.Model, ws []features.Window) []features.Window {
+	out := make([]features.Window, 0, len(c.tail)+len(ws))
+	for _, r := range c.tail {
 		w := &c.h.Windows[r]
-		tt.Windows = append(tt.Windows, features.Window{Site: w.Site, Start: w.Start, End: w.End})
-		xx.SetRow(i, w.Scaled)
-		aa = append(aa, mapper.Assignment{BMU: unitOf(m, w), QE: w.QE})
+		out = append(out, features.Window{Site: w.Site, Start: w.Start, End: w.End, Scaled: w.Scaled, Unit: unitOf(m, w), QE: w.QE})
 	}
-	tt.Windows = append(tt.Windows, t.Windows...)
-	xx.Slice(k, k+n, 0, dim).(*mat.Dense).Copy(x)
-	return tt, xx, append(aa, asg...)
+	return append(out, ws...)
 }
 
-// Settle splits the decoding made from Prepend's inputs. It returns the
-// run's entries and the switches, less those at tail windows that the
+// Settle splits the decoded windows that Prepend returned. It returns the
+// run's windows and the switches, less those at tail windows that the
 // history already records (a switch whose window a later dump revised is
 // reported again: this run supersedes that one). The tail windows whose
 // regime changed are changed in the history and marked revised, to be
 // written with the run (Stage); revised counts them.
-func (c *Continuation) Settle(entries []timeline.Entry, switches []timeline.Switch) (run []timeline.Entry, sw []timeline.Switch, revised int) {
+func (c *Continuation) Settle(ws []features.Window, switches []timeline.Switch) (run []features.Window, sw []timeline.Switch, revised int) {
 	k := len(c.tail)
 	if k == 0 {
-		return entries, switches, 0
+		return ws, switches, 0
 	}
 	h := c.h
 	inTail := make(map[key]int, k)
@@ -164,8 +151,8 @@ func (c *Continuation) Settle(entries []timeline.Entry, switches []timeline.Swit
 	}
 	switches = slices.DeleteFunc(switches, recorded)
 	for i, r := range c.tail {
-		if w := &h.Windows[r]; w.Regime != entries[i].Regime {
-			w.Regime, w.Revised = entries[i].Regime, true
+		if w := &h.Windows[r]; w.Regime != ws[i].Regime {
+			w.Regime, w.Revised = ws[i].Regime, true
 			if h.dirty == nil {
 				h.dirty = map[int]bool{}
 			}
@@ -173,23 +160,14 @@ func (c *Continuation) Settle(entries []timeline.Entry, switches []timeline.Swit
 			revised++
 		}
 	}
-	return entries[k:], switches, revised
+	return ws[k:], switches, revised
 }
 
-// Windows returns the history windows of a run's timeline entries, with
-// the scaled feature vectors of x (one row per entry; nil for none).
-func Windows(entries []timeline.Entry, x *mat.Dense) ([]Window, error) {
-	if x != nil {
-		if n, _ := x.Dims(); n != len(entries) {
-			return nil, fmt.Errorf("history: %d scaled rows for %d windows", n, len(entries))
-		}
+// Windows returns the history windows of a run's decoded windows.
+func Windows(ws []features.Window) []Window {
+	out := make([]Window, len(ws))
+	for i, w := range ws {
+		out[i] = Window{Site: w.Site, Start: w.Start, End: w.End, Unit: w.Unit, Regime: w.Regime, QE: w.QE, Unfamiliar: w.Unfamiliar, Scaled: w.Scaled}
 	}
-	ws := make([]Window, len(entries))
-	for i, e := range entries {
-		ws[i] = Window{Site: e.Site, Start: e.Start, End: e.End, Unit: e.BMU, Regime: e.Regime, QE: e.QE, Unfamiliar: e.Unfamiliar}
-		if x != nil {
-			ws[i].Scaled = x.RawRowView(i)
-		}
-	}
-	return ws, nil
+	return out
 }

@@ -149,7 +149,7 @@ func neighbourhood(l Lattice, sigma float64) []float64 {
 // neighbourhoodRow fills the weights of unit j for width sigma.
 func neighbourhoodRow(l Lattice, sigma float64, j int, h []float64) {
 	for i := range h {
-		h[i] = kernel(l.Dist2(j, i), sigma)
+		h[i] = kernel(l.dist2(j, i), sigma)
 	}
 }
 

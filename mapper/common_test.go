@@ -93,7 +93,7 @@ func TestFindRegimesSharedWeather(t *testing.T) {
 				siteSD:  0.4, weatherSD: 3, noiseSD: 0.3,
 			}
 			x, seqs, truth := spec.fleet(seed)
-			m, err := Train(x, Config{Cols: 12, Rows: 10, Hex: true, Epochs: 12})
+			m, _, err := Train(x, Config{Cols: 12, Rows: 10, Hex: true, Epochs: 12})
 			if err != nil {
 				t.Fatal(err)
 			}

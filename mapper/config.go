@@ -13,18 +13,18 @@ const (
 	InitRandom = "random"
 )
 
-// minSide is the smallest side DefaultGrid proposes: even, so that it suits a
+// minSide is the smallest side defaultGrid proposes: even, so that it suits a
 // hexagonal torus, and large enough for a torus to have distinct neighbours.
 const minSide = 4
 
-// DefaultGrid proposes a lattice for n training windows: about 5·√n units
+// defaultGrid proposes a lattice for n training windows: about 5·√n units
 // (common practice, no source), at most MaxUnits, at least 4 along each side. Its aspect
 // ratio cols/rows follows sv1/sv2, the two leading singular values of the
 // centred data, which are proportional to the spread of the data along its
 // first two principal axes, so the lattice is stretched like the data. On a
 // hexagonal lattice the ratio is taken in the plane (rows are √3/2 apart) and
 // rows is rounded to an even number, as a hexagonal torus requires.
-func DefaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
+func defaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
 	units := math.Min(5*math.Sqrt(float64(max(n, 1))), MaxUnits)
 	ratio := 1.0
 	if sv1 > 0 && sv2 > 0 && !math.IsInf(sv1, 0) {
@@ -53,7 +53,7 @@ func DefaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
 // whose centred data have the leading singular values sv1 and sv2:
 //
 //   - Rule "batch", Init "pca";
-//   - Cols and Rows from DefaultGrid when both are 0;
+//   - Cols and Rows from defaultGrid when both are 0;
 //   - Epochs 25 for the batch map, 10 for the online rule;
 //   - Sigma0 a quarter of the longer side of the grid, at least 1; SigmaEnd
 //     the smaller of 1 and Sigma0;
@@ -69,7 +69,7 @@ func (c Config) WithDefaults(n int, sv1, sv2 float64) Config {
 		c.Init = InitPCA
 	}
 	if c.Cols == 0 && c.Rows == 0 {
-		c.Cols, c.Rows = DefaultGrid(n, sv1, sv2, c.Hex)
+		c.Cols, c.Rows = defaultGrid(n, sv1, sv2, c.Hex)
 	}
 	if c.Epochs == 0 {
 		c.Epochs = 25

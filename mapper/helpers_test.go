@@ -206,7 +206,7 @@ func initAndTrain(t *testing.T, x *mat.Dense, cfg Config) (start, trained *Map) 
 	if err != nil {
 		t.Fatal(err)
 	}
-	trained, err = Train(x, cfg)
+	trained, _, err = Train(x, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -9,9 +9,9 @@ import (
 // units are one unit apart: √3/2.
 const rowPitch = 0.86602540378443864676372317075294
 
-// NewLattice returns a lattice of cols × rows units. A hexagonal torus needs
+// newLattice returns a lattice of cols × rows units. A hexagonal torus needs
 // an even number of rows, or the row offsets would not match across the seam.
-func NewLattice(cols, rows int, hex, flat bool) (Lattice, error) {
+func newLattice(cols, rows int, hex, flat bool) (Lattice, error) {
 	l := Lattice{Cols: cols, Rows: rows, Hex: hex, Flat: flat}
 	return l, l.Validate()
 }
@@ -81,9 +81,9 @@ func (l Lattice) Period() (px, py float64) {
 	return float64(l.Cols), float64(l.Rows)
 }
 
-// Dist2 returns the squared planar distance between units a and b, the
+// dist2 returns the squared planar distance between units a and b, the
 // shortest way round on a torus.
-func (l Lattice) Dist2(a, b int) float64 {
+func (l Lattice) dist2(a, b int) float64 {
 	ca, ra := l.Cell(a)
 	cb, rb := l.Cell(b)
 	return l.offsetDist2(ra%2, cb-ca, rb-ra)
@@ -109,7 +109,7 @@ func (l Lattice) offsetDist2(p, dc, dr int) float64 {
 }
 
 // Dist returns the planar distance between units a and b.
-func (l Lattice) Dist(a, b int) float64 { return math.Sqrt(l.Dist2(a, b)) }
+func (l Lattice) Dist(a, b int) float64 { return math.Sqrt(l.dist2(a, b)) }
 
 // Neighbours returns the distinct units adjacent to u: up to 4 on a
 // square lattice, up to 6 on a hexagonal one, fewer at the edge of a
@@ -136,8 +136,8 @@ func (l Lattice) Neighbours(u int) []int {
 	return out
 }
 
-// Adjacent reports whether units a and b are lattice neighbours.
-func (l Lattice) Adjacent(a, b int) bool { return contains(l.Neighbours(a), b) }
+// adjacent reports whether units a and b are lattice neighbours.
+func (l Lattice) adjacent(a, b int) bool { return contains(l.Neighbours(a), b) }
 
 // neighbourTable returns the neighbours of every unit.
 func (l Lattice) neighbourTable() [][]int {

@@ -37,7 +37,7 @@ func TestNeighbourCounts(t *testing.T) {
 					t.Errorf("unit %d has %d neighbours, want %d", u, len(nb), tc.each)
 				}
 				for _, v := range nb {
-					if !tc.l.Adjacent(v, u) {
+					if !tc.l.adjacent(v, u) {
 						t.Errorf("unit %d lists %d, which does not list it back", u, v)
 					}
 				}
@@ -67,8 +67,8 @@ func TestNeighboursAtUnitDistance(t *testing.T) {
 			for b := range l.Units() {
 				d := l.Dist(a, b)
 				near := math.Abs(d-1) < 1e-12
-				if near != l.Adjacent(a, b) {
-					t.Errorf("%+v: units %d and %d at distance %g, adjacent %v", l, a, b, d, l.Adjacent(a, b))
+				if near != l.adjacent(a, b) {
+					t.Errorf("%+v: units %d and %d at distance %g, adjacent %v", l, a, b, d, l.adjacent(a, b))
 				}
 				if math.Abs(d-l.Dist(b, a)) > 0 {
 					t.Errorf("%+v: distance %d–%d not symmetric", l, a, b)
@@ -87,7 +87,7 @@ func TestDistMatchesCubeCoordinates(t *testing.T) {
 	} {
 		for a := range l.Units() {
 			for b := range l.Units() {
-				if got, want := l.Dist2(a, b), refDist2(l, a, b); math.Abs(got-want) > 1e-12*(1+want) {
+				if got, want := l.dist2(a, b), refDist2(l, a, b); math.Abs(got-want) > 1e-12*(1+want) {
 					t.Errorf("%+v: units %d and %d at squared distance %g, cube coordinates give %g", l, a, b, got, want)
 				}
 			}
@@ -147,7 +147,7 @@ func TestLatticeValidate(t *testing.T) {
 		{Lattice{Cols: 20, Rows: 1, Flat: true}, ""},
 		{Lattice{Cols: 0, Rows: 3}, "at least 1"},
 	} {
-		_, err := NewLattice(tc.l.Cols, tc.l.Rows, tc.l.Hex, tc.l.Flat)
+		_, err := newLattice(tc.l.Cols, tc.l.Rows, tc.l.Hex, tc.l.Flat)
 		switch {
 		case tc.want == "" && err != nil:
 			t.Errorf("%+v: %v", tc.l, err)
@@ -158,12 +158,12 @@ func TestLatticeValidate(t *testing.T) {
 }
 
 func ExampleLattice_Neighbours() {
-	l, err := NewLattice(4, 4, false, false)
+	l, err := newLattice(4, 4, false, false)
 	if err != nil {
 		panic(err)
 	}
 	fmt.Println(l.Neighbours(0)) // right, left across the seam, below, above across the seam
-	h, _ := NewLattice(4, 4, true, false)
+	h, _ := newLattice(4, 4, true, false)
 	fmt.Println(h.Neighbours(5)) // an odd row, shifted right
 	// Output:
 	// [1 3 4 12]
@@ -183,7 +183,7 @@ func TestLatticeLimit(t *testing.T) {
 		{MaxUnits + 1, 1, false},
 		{1 << 31, 1 << 31, false}, // the product overflows int32
 	} {
-		_, err := NewLattice(tc.cols, tc.rows, false, true)
+		_, err := newLattice(tc.cols, tc.rows, false, true)
 		var le *LimitError
 		if got := errors.As(err, &le); got == tc.ok {
 			t.Errorf("%dx%d: err = %v, want a LimitError: %v", tc.cols, tc.rows, err, !tc.ok)
@@ -192,9 +192,9 @@ func TestLatticeLimit(t *testing.T) {
 	// The default grid stays within the limit for any data size.
 	for _, n := range []int{1, 1000, 1e6, 1e9} {
 		for _, ratio := range []float64{1, 50, 1e6} {
-			c, r := DefaultGrid(n, ratio, 1, true)
+			c, r := defaultGrid(n, ratio, 1, true)
 			if c*r > MaxUnits {
-				t.Errorf("DefaultGrid(%d, ratio %g) = %dx%d, beyond %d units", n, ratio, c, r, MaxUnits)
+				t.Errorf("defaultGrid(%d, ratio %g) = %dx%d, beyond %d units", n, ratio, c, r, MaxUnits)
 			}
 		}
 	}

@@ -2,11 +2,11 @@
 // both ways (a torus), measures its quality, and groups its units into
 // operating regimes.
 //
-// Fit is the whole stage: Train (or InitMap and one Accumulate and Smooth
-// per epoch, for a runner that spreads the data over machines), Assign,
-// Quality, FindRegimes and Describe. A Model is written to one versioned,
-// checksummed file by Write and read back by ReadModel. Update continues a
-// model on a later dump and keeps its regime numbers with MatchRegimes.
+// The stage is Train (or InitMap and one Accumulate and Smooth per epoch,
+// for a runner that spreads the data over machines), Assign, Quality,
+// FindRegimes and Describe; TrainFrom continues a map on a later dump and
+// MatchRegimes keeps its regime numbers. Package model puts them together
+// into the saved model.
 //
 // Regimes are states that sites hold for days, relative to the fleet.
 // FindRegimes leaves out the directions the whole fleet moves in together
@@ -24,10 +24,6 @@
 // of late epochs proves its winners or falls back to the full search. The
 // batch map is deterministic for any number of workers.
 package mapper
-
-import (
-	"github.com/kinmap/kinmap/features"
-)
 
 // Lattice is the arrangement of the map's units. Unit u sits at column
 // u % Cols and row u / Cols.
@@ -98,27 +94,4 @@ type Regime struct {
 type Trait struct {
 	Feature string
 	Sigma   float64
-}
-
-// Model is everything needed to map a later dump the same way: the feature
-// schema and settings, the normalisation, the map, its regimes and the
-// training settings. It is written to one checksummed file.
-type Model struct {
-	Version       int
-	FeatureNames  []string        // schema of the feature table at training
-	FeatureConfig features.Config // how windows were cut
-	Scaler        *features.Scaler
-	Map           Map
-	Regimes       []Regime
-	UnitRegime    []int     // regime ID of each unit
-	Training      Config    // training settings
-	Quality       Quality   // on the training windows
-	QEQuantiles   []float64 // training quantization errors at quantiles 0, 0.001, …, 1
-	Windows       int       // training windows
-	Choice        *Choice   // how the number of regimes was reached; nil in files before format version 3
-	Scores        []Score   `json:",omitempty"` // files before format version 3: the Davies–Bouldin index of each number of regimes tried
-	// Lineage names the regime numbering: set when a map is trained from
-	// scratch and kept by updates, which keep the numbers. Files written
-	// before it existed have none.
-	Lineage string `json:",omitempty"`
 }

@@ -31,7 +31,7 @@ func (m *Map) Quality(asg []Assignment) Quality {
 		return q
 	}
 	nb := m.Lattice.neighbourTable()
-	hits := m.Hits(asg)
+	hits := m.hits(asg)
 	var broken int
 	for _, a := range asg {
 		q.QE += a.QE

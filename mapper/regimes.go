@@ -11,6 +11,8 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
+
+	"github.com/kinmap/kinmap/internal/quantile"
 )
 
 // maxAutoRegimes is the most regimes FindRegimes chooses by itself.
@@ -106,7 +108,7 @@ func FindRegimes(m *Map, k int, win *Windows) ([]int, *Choice, error) {
 		if err := win.check(m); err != nil {
 			return nil, nil, err
 		}
-		hits = m.Hits(win.Assignments)
+		hits = m.hits(win.Assignments)
 	}
 	var common int
 	if win != nil {
@@ -156,8 +158,12 @@ func (win *Windows) check(m *Map) error {
 
 // medianQE is the median quantization error of asg.
 func medianQE(asg []Assignment) float64 {
-	q := qeQuantiles(asg)
-	return q[len(q)/2]
+	qe := make([]float64, len(asg))
+	for i, a := range asg {
+		qe[i] = a.QE
+	}
+	slices.Sort(qe)
+	return quantile.Sorted(qe, 0.5)
 }
 
 // merge is one step of the agglomeration: clusters a and b, numbered as
@@ -355,7 +361,7 @@ func Describe(m *Map, groups []int, x *mat.Dense, asg []Assignment, names []stri
 		}
 		regs[g].Units = append(regs[g].Units, i)
 	}
-	cent, _ := groupMeans(m, groups, k, unitWeights(u, m.Hits(asg)))
+	cent, _ := groupMeans(m, groups, k, unitWeights(u, m.hits(asg)))
 	sums := make([][]float64, k)
 	wins := make([]int, k)
 	for i, a := range asg {

@@ -133,7 +133,7 @@ func TestWardAgreesWithLanceWilliams(t *testing.T) {
 // Every regime is a connected area of the lattice.
 func TestRegimesConnected(t *testing.T) {
 	x, _ := clusterData(1500, 4, 5, 8, 0.6, 9)
-	m, err := Train(x, Config{Cols: 10, Rows: 8, Hex: true, Epochs: 10})
+	m, _, err := Train(x, Config{Cols: 10, Rows: 8, Hex: true, Epochs: 10})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -210,7 +210,7 @@ func TestDescribeKeepsStrongest(t *testing.T) {
 		hi := float64(i % 2)
 		x.SetRow(i, []float64{rng.NormFloat64(), 7, hi*3 + rng.NormFloat64()*0.1, -hi + rng.NormFloat64()*0.1, hi*0.2 + rng.NormFloat64()})
 	}
-	m, err := Train(x, Config{Cols: 6, Rows: 6, Epochs: 8})
+	m, _, err := Train(x, Config{Cols: 6, Rows: 6, Epochs: 8})
 	if err != nil {
 		t.Fatal(err)
 	}

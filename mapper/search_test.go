@@ -154,7 +154,7 @@ func TestTrainDeterministic(t *testing.T) {
 	x, _ := clusterData(2000, 6, 4, 8, 0.5, 4)
 	var first []float64
 	for _, workers := range []int{1, 2, 5} {
-		m, err := Train(x, Config{Cols: 10, Rows: 8, Epochs: 8, Workers: workers})
+		m, _, err := Train(x, Config{Cols: 10, Rows: 8, Epochs: 8, Workers: workers})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -172,7 +172,7 @@ func TestTrainDeterministic(t *testing.T) {
 func TestEpochPiecesReproduceTrain(t *testing.T) {
 	x, _ := clusterData(1500, 5, 3, 6, 0.6, 5)
 	cfg := Config{Cols: 8, Rows: 6, Hex: true, Epochs: 10}
-	want, err := Train(x, cfg)
+	want, _, err := Train(x, cfg)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -262,7 +262,7 @@ func TestNeighbourhoodTable(t *testing.T) {
 			for j := range l.Units() {
 				neighbourhoodRow(l, sigma, j, row)
 				for i, v := range row {
-					if want := math.Exp(-l.Dist2(j, i) / (2 * sigma * sigma)); sigma > 0 && math.Abs(v-want) > 1e-15 {
+					if want := math.Exp(-l.dist2(j, i) / (2 * sigma * sigma)); sigma > 0 && math.Abs(v-want) > 1e-15 {
 						t.Fatalf("%+v σ %g: weight %d–%d is %g, want %g", l, sigma, j, i, v, want)
 					}
 					if h[j*l.Units()+i] != v {

@@ -58,7 +58,7 @@ func (spec fleetSpec) fleet(seed uint64) (*mat.Dense, [][]int, []int) {
 // with k = 0, returning the regime of every window (its BMU's group).
 func findFleetRegimes(t *testing.T, x *mat.Dense, seqs [][]int) ([]int, *Choice) {
 	t.Helper()
-	m, err := Train(x, Config{Cols: 12, Rows: 10, Hex: true, Epochs: 12})
+	m, _, err := Train(x, Config{Cols: 12, Rows: 10, Hex: true, Epochs: 12})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -15,30 +15,27 @@ import (
 const pcaSpan = 2
 
 // Train trains a map on the rows of x (windows × features, already scaled)
-// with the settings cfg, whose unset fields get the defaults of WithDefaults.
+// with the settings cfg, whose unset fields get the defaults of WithDefaults,
+// and returns it with the complete settings.
 // The batch map is deterministic: the same data and settings give the same
 // codebook for any number of workers. InitMap followed by one Accumulate and
 // Smooth(acc, Sigma(cfg, e)) per epoch e reaches the same codebook.
-func Train(x *mat.Dense, cfg Config) (*Map, error) {
+func Train(x *mat.Dense, cfg Config) (*Map, Config, error) {
 	m, cfg, err := InitMap(x, cfg)
 	if err != nil {
-		return nil, err
+		return nil, cfg, err
 	}
 	train(m, x, cfg)
-	return m, nil
+	return m, cfg, nil
 }
 
 // TrainFrom continues training from the codebook of m, which it leaves
-// unchanged, and returns the new map: on the same lattice, with Init
-// ignored, and unset Sigma0 and SigmaEnd meaning 1 lattice unit and Sigma0,
-// a neighbourhood small enough to keep the map's layout. The grid fields of
-// cfg must be zero or agree with m's lattice; Hex and Flat are taken from m.
-func TrainFrom(m *Map, x *mat.Dense, cfg Config) (*Map, error) {
-	out, _, err := trainFrom(m, x, cfg)
-	return out, err
-}
-
-func trainFrom(m *Map, x *mat.Dense, cfg Config) (*Map, Config, error) {
+// unchanged, and returns the new map and the complete settings: on the
+// same lattice, with Init ignored, and unset Sigma0 and SigmaEnd meaning 1
+// lattice unit and Sigma0, a neighbourhood small enough to keep the map's
+// layout. The grid fields of cfg must be zero or agree with m's lattice;
+// Hex and Flat are taken from m.
+func TrainFrom(m *Map, x *mat.Dense, cfg Config) (*Map, Config, error) {
 	if err := checkData(x); err != nil {
 		return nil, cfg, err
 	}

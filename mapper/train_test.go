@@ -50,7 +50,7 @@ func TestTorusDataPreferTorus(t *testing.T) {
 	x := torusData(3000, 12)
 	te := map[bool]float64{}
 	for _, flat := range []bool{false, true} {
-		m, err := Train(x, Config{Cols: 16, Rows: 16, Flat: flat, Epochs: 20, Sigma0: 4, SigmaEnd: 1})
+		m, _, err := Train(x, Config{Cols: 16, Rows: 16, Flat: flat, Epochs: 20, Sigma0: 4, SigmaEnd: 1})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -138,7 +138,7 @@ func TestUMatrixRidge(t *testing.T) {
 			x.Set(i, j, c+rng.NormFloat64()*0.5)
 		}
 	}
-	m, err := Train(x, Config{Cols: 12, Rows: 10, Epochs: 15})
+	m, _, err := Train(x, Config{Cols: 12, Rows: 10, Epochs: 15})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -182,12 +182,12 @@ func TestSmallSigmaFragments(t *testing.T) {
 		var total int
 		for seed := range uint64(3) {
 			x := uniformData(400, 3, 20+seed)
-			m, err := Train(x, Config{Cols: 25, Rows: 20, Epochs: 20, Sigma0: sigma0, SigmaEnd: 0.5})
+			m, _, err := Train(x, Config{Cols: 25, Rows: 20, Epochs: 20, Sigma0: sigma0, SigmaEnd: 0.5})
 			if err != nil {
 				t.Fatal(err)
 			}
 			won := make([]bool, m.Units())
-			for u, h := range m.Hits(m.Assign(x, 0)) {
+			for u, h := range m.hits(m.Assign(x, 0)) {
 				won[u] = h > 0
 			}
 			total += components(m.Lattice, won)
@@ -202,7 +202,7 @@ func TestSmallSigmaFragments(t *testing.T) {
 // More units than windows leave most units unused, and Quality says so.
 func TestUnusedWarning(t *testing.T) {
 	x := uniformData(150, 2, 15)
-	m, err := Train(x, Config{Cols: 20, Rows: 20, Epochs: 5})
+	m, _, err := Train(x, Config{Cols: 20, Rows: 20, Epochs: 5})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -210,7 +210,7 @@ func TestUnusedWarning(t *testing.T) {
 	if q.Unused < 1-150.0/400 || len(q.Warnings) != 1 || !strings.Contains(q.Warnings[0], "smaller grid") || !strings.Contains(q.Warnings[0], "Sigma0") {
 		t.Errorf("unused share %.2f, warnings %q", q.Unused, q.Warnings)
 	}
-	small, err := Train(x, Config{Cols: 5, Rows: 4, Epochs: 5})
+	small, _, err := Train(x, Config{Cols: 5, Rows: 4, Epochs: 5})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -289,7 +289,7 @@ func TestPCAInit(t *testing.T) {
 		}
 	}
 	// The grid follows the spread: sd₁/sd₂ = 3 along the axes.
-	if c, r := DefaultGrid(n, math.Sqrt(vars[0]), math.Sqrt(vars[1]), false); cfg.Cols != 9 || c <= 2*r {
+	if c, r := defaultGrid(n, math.Sqrt(vars[0]), math.Sqrt(vars[1]), false); cfg.Cols != 9 || c <= 2*r {
 		t.Errorf("default grid %dx%d for a spread ratio near 3", c, r)
 	}
 }
@@ -308,7 +308,7 @@ func TestDefaultGrid(t *testing.T) {
 		{100_000, 5, 1, true},
 		{40_000, 1, 3, false},
 	} {
-		cols, rows := DefaultGrid(tc.n, tc.sv1, tc.sv2, tc.hex)
+		cols, rows := defaultGrid(tc.n, tc.sv1, tc.sv2, tc.hex)
 		units := 5 * math.Sqrt(float64(tc.n))
 		ratio := math.Max(tc.sv1, tc.sv2) / math.Min(tc.sv1, tc.sv2)
 		planar := float64(cols) / float64(rows)
@@ -321,12 +321,12 @@ func TestDefaultGrid(t *testing.T) {
 		if tc.hex && rows%2 != 0 {
 			t.Errorf("%+v: %d rows on a hexagonal lattice", tc, rows)
 		}
-		if _, err := NewLattice(cols, rows, tc.hex, false); err != nil {
+		if _, err := newLattice(cols, rows, tc.hex, false); err != nil {
 			t.Errorf("%+v: %v", tc, err)
 		}
 	}
 	for _, tc := range [][2]float64{{1, 1}, {1, 0}, {0, 0}} {
-		if c, r := DefaultGrid(3, tc[0], tc[1], true); c < minSide || r < minSide || r%2 != 0 {
+		if c, r := defaultGrid(3, tc[0], tc[1], true); c < minSide || r < minSide || r%2 != 0 {
 			t.Errorf("3 windows, singular values %v: %dx%d", tc, c, r)
 		}
 	}
@@ -355,7 +355,7 @@ func TestConfigRefused(t *testing.T) {
 		{Config{}, uniformData(1, 2, 1), "at least 2 windows, got 1"},
 		{Config{}, mat.NewDense(3, 1, []float64{1, math.NaN(), 2}), "window 1, feature 0: NaN is not a finite number"},
 	} {
-		_, err := Train(tc.data, tc.cfg)
+		_, _, err := Train(tc.data, tc.cfg)
 		if err == nil || !strings.Contains(err.Error(), tc.want) || !strings.HasPrefix(err.Error(), "mapper: ") {
 			t.Errorf("%+v: error %v, want one saying %q", tc.cfg, err, tc.want)
 		}
@@ -371,7 +371,7 @@ func TestProgressAndSchedule(t *testing.T) {
 			epochs = append(epochs, e)
 			qes = append(qes, qe)
 		}}
-		if _, err := Train(x, cfg); err != nil {
+		if _, _, err := Train(x, cfg); err != nil {
 			t.Fatal(err)
 		}
 		if !slices.Equal(epochs, []int{0, 1, 2, 3, 4, 5}) || !(qes[5] < qes[0]) {
@@ -389,7 +389,7 @@ func TestProgressAndSchedule(t *testing.T) {
 func TestOnlineSeeded(t *testing.T) {
 	x := uniformData(400, 3, 18)
 	train := func(seed int64) []float64 {
-		m, err := Train(x, Config{Cols: 5, Rows: 4, Rule: RuleOnline, Epochs: 3, Seed: seed})
+		m, _, err := Train(x, Config{Cols: 5, Rows: 4, Rule: RuleOnline, Epochs: 3, Seed: seed})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -550,12 +550,12 @@ func TestInitMapDefaultGrid(t *testing.T) {
 
 func TestTrainFrom(t *testing.T) {
 	x, _ := clusterData(1000, 4, 3, 6, 0.5, 19)
-	m, err := Train(x, Config{Cols: 8, Rows: 6, Epochs: 10})
+	m, _, err := Train(x, Config{Cols: 8, Rows: 6, Epochs: 10})
 	if err != nil {
 		t.Fatal(err)
 	}
 	before := slices.Clone(m.Codebook)
-	next, err := TrainFrom(m, offsetData(x, 0.01), Config{Epochs: 3})
+	next, _, err := TrainFrom(m, offsetData(x, 0.01), Config{Epochs: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -576,10 +576,10 @@ func TestTrainFrom(t *testing.T) {
 	if moved/float64(m.Units()) > spread/3/4 {
 		t.Errorf("units moved %.3f on average; units 20 apart are %.3f apart", moved/float64(m.Units()), spread/3)
 	}
-	if _, err := TrainFrom(m, x, Config{Cols: 9, Rows: 6}); err == nil || !strings.Contains(err.Error(), "grid 9x6 asked of a 8x6 map") {
+	if _, _, err := TrainFrom(m, x, Config{Cols: 9, Rows: 6}); err == nil || !strings.Contains(err.Error(), "grid 9x6 asked of a 8x6 map") {
 		t.Errorf("grid mismatch: %v", err)
 	}
-	if _, err := TrainFrom(m, uniformData(10, 3, 1), Config{}); err == nil || !strings.Contains(err.Error(), "3 features") {
+	if _, _, err := TrainFrom(m, uniformData(10, 3, 1), Config{}); err == nil || !strings.Contains(err.Error(), "3 features") {
 		t.Errorf("feature mismatch: %v", err)
 	}
 }
@@ -592,7 +592,7 @@ func ExampleTrain() {
 	for i := range 500 {
 		x.Set(i, 0, float64(i)/499)
 	}
-	m, err := Train(x, Config{Cols: 10, Rows: 1, Flat: true, Epochs: 20, Sigma0: 3, SigmaEnd: 0.5})
+	m, _, err := Train(x, Config{Cols: 10, Rows: 1, Flat: true, Epochs: 20, Sigma0: 3, SigmaEnd: 0.5})
 	if err != nil {
 		panic(err)
 	}
@@ -606,8 +606,8 @@ func ExampleTrain() {
 
 // 10,000 windows call for about 5·√10,000 = 500 units; a spread twice as
 // wide along the first axis gives rows = √(500/2) ≈ 16 and cols = 500/16 ≈ 31.
-func ExampleDefaultGrid() {
-	cols, rows := DefaultGrid(10_000, 2, 1, false)
+func Example_defaultGrid() {
+	cols, rows := defaultGrid(10_000, 2, 1, false)
 	fmt.Println(cols, rows)
 	// Output: 31 16
 }

@@ -1,6 +1,10 @@
 package mapper
 
-import "math"
+import (
+	"math"
+
+	"github.com/kinmap/kinmap/features"
+)
 
 // Units reports the number of units of the map.
 func (m *Map) Units() int { return m.Lattice.Units() }
@@ -28,8 +32,17 @@ func (m *Map) UMatrix() []float64 {
 	return u
 }
 
-// Hits counts the windows won by each unit.
-func (m *Map) Hits(asg []Assignment) []int {
+// Hits counts the windows of ws won by each unit (see Place).
+func (m *Map) Hits(ws []features.Window) []int {
+	h := make([]int, m.Units())
+	for _, w := range ws {
+		h[w.Unit]++
+	}
+	return h
+}
+
+// hits counts the windows of asg won by each unit.
+func (m *Map) hits(asg []Assignment) []int {
 	h := make([]int, m.Units())
 	for _, a := range asg {
 		h[a.BMU]++

@@ -7,18 +7,19 @@ import (
 	"slices"
 	"time"
 
-	"gonum.org/v1/gonum/mat"
-
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/internal/viterbi"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
-// Build places every window of t on the map and decodes each site's windows,
-// in time order, into regime segments: the cost of a window in a regime is
-// the Euclidean distance from its scaled vector (the row of x) to the
-// regime's centroid, and each change of regime costs cfg.SwitchCost (see
-// Viterbi), under the cfg.MinDwell rule. Components that are NaN in a
+// Build decodes each site's windows of ws, in time order, into regime
+// segments, and records in every window its Regime and whether it is
+// Unfamiliar (its QE above the model's threshold quantile). The windows
+// must be on the map (Scaled, Unit and QE set, see mapper.Place). The cost
+// of a window in a regime is the Euclidean distance from its scaled vector
+// to the regime's centroid, and each change of regime costs cfg.SwitchCost
+// (see Viterbi), under the cfg.MinDwell rule. Components that are NaN in a
 // window are left out of its distances, the same for every regime.
 //
 // Gaps between windows (windows skipped for low coverage, or a unit that was
@@ -26,15 +27,15 @@ import (
 // needs, and a gap brings none. A change across a gap is a switch at the
 // first window after it.
 //
-// It returns one Entry per window, in t.Windows order, and the switches
-// sorted by site and time. The confidence of a switch is Δ / (Δ + c), c the
-// switch cost and Δ ≥ 0 how much more the decoded sequence would cost
-// without that switch: the cheaper of extending the old regime over the new
-// segment and extending the new regime back over the old one. It is 0 when
-// removing the switch costs nothing, ½ when it costs one more switch
-// penalty, and tends to 1 as the evidence grows.
-func Build(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.Assignment, cfg Config) ([]Entry, []Switch, error) {
-	return BuildFrom(m, t, x, asg, cfg, nil)
+// It returns the switches sorted by site and time. The confidence of a
+// switch is Δ / (Δ + c), c the switch cost and Δ ≥ 0 how much more the
+// decoded sequence would cost without that switch: the cheaper of
+// extending the old regime over the new segment and extending the new
+// regime back over the old one. It is 0 when removing the switch costs
+// nothing, ½ when it costs one more switch penalty, and tends to 1 as the
+// evidence grows.
+func Build(m *model.Model, ws []features.Window, cfg Config) ([]Switch, error) {
+	return BuildFrom(m, ws, cfg, nil)
 }
 
 // BuildFrom is Build continuing each site's decoding from its Prior, the
@@ -44,40 +45,37 @@ func Build(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.Assign
 // window is a switch at that window, with Before the prior's windows; its
 // confidence compares with keeping the prior regime over the new segment.
 // A prior whose regime the model does not have is ignored.
-func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.Assignment, cfg Config, priors map[string]Prior) ([]Entry, []Switch, error) {
-	if m == nil || t == nil || x == nil {
-		return nil, nil, fmt.Errorf("timeline: Build needs a model, a feature table and its scaled matrix")
-	}
-	n := len(t.Windows)
-	if rows, _ := x.Dims(); rows != n || len(asg) != n {
-		return nil, nil, fmt.Errorf("timeline: %d windows, %d scaled rows and %d assignments; they must match", n, rows, len(asg))
+func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[string]Prior) ([]Switch, error) {
+	if m == nil {
+		return nil, fmt.Errorf("timeline: Build needs a model")
 	}
 	if len(m.Regimes) == 0 {
-		return nil, nil, fmt.Errorf("timeline: the model has no regimes")
+		return nil, fmt.Errorf("timeline: the model has no regimes")
 	}
-	_, dim := x.Dims()
+	dim := m.Map.Dim
 	for _, r := range m.Regimes {
 		if len(r.Centroid) != dim {
-			return nil, nil, fmt.Errorf("timeline: regime %d: centroid has %d components, the scaled features %d", r.ID, len(r.Centroid), dim)
+			return nil, fmt.Errorf("timeline: regime %d: centroid has %d components, the map %d", r.ID, len(r.Centroid), dim)
 		}
 	}
 	cfg, err := resolve(cfg, m)
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
 	threshold := m.QEThreshold(cfg.UnfamiliarQ)
 	units := m.Map.Lattice.Units()
 
-	entries := make([]Entry, n)
 	bySite := map[string][]int{}
 	var sites []string
-	for i, w := range t.Windows {
-		a := asg[i]
-		if a.BMU < 0 || a.BMU >= units {
-			return nil, nil, fmt.Errorf("timeline: site %q, window %s: BMU %d outside the map's %d units", w.Site, w.Start.Format(time.RFC3339), a.BMU, units)
+	for i := range ws {
+		w := &ws[i]
+		switch {
+		case len(w.Scaled) != dim:
+			return nil, fmt.Errorf("timeline: site %q, window %s: %d scaled features for a map of dimension %d", w.Site, w.Start.Format(time.RFC3339), len(w.Scaled), dim)
+		case w.Unit < 0 || w.Unit >= units:
+			return nil, fmt.Errorf("timeline: site %q, window %s: unit %d outside the map's %d units", w.Site, w.Start.Format(time.RFC3339), w.Unit, units)
 		}
-		col, row := m.Map.Lattice.Cell(a.BMU)
-		entries[i] = Entry{Site: w.Site, Start: w.Start, End: w.End, BMU: a.BMU, Col: col, Row: row, QE: a.QE, Unfamiliar: a.QE > threshold}
+		w.Unfamiliar = w.QE > threshold
 		if _, ok := bySite[w.Site]; !ok {
 			sites = append(sites, w.Site)
 		}
@@ -88,21 +86,21 @@ func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.As
 	var switches []Switch
 	for _, site := range sites {
 		idx := bySite[site]
-		slices.SortStableFunc(idx, func(a, b int) int { return t.Windows[a].Start.Compare(t.Windows[b].Start) })
+		slices.SortStableFunc(idx, func(a, b int) int { return ws[a].Start.Compare(ws[b].Start) })
 		costs := make([][]float64, len(idx))
 		for j, i := range idx {
 			costs[j] = make([]float64, len(m.Regimes))
 			for k, r := range m.Regimes {
-				costs[j][k] = distance(x.RawRowView(i), r.Centroid)
+				costs[j][k] = distance(ws[i].Scaled, r.Centroid)
 				if math.IsInf(costs[j][k], 0) {
-					return nil, nil, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, t.Windows[i].Start.Format(time.RFC3339))
+					return nil, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, ws[i].Start.Format(time.RFC3339))
 				}
 			}
 		}
 		from, initial := startOf(m, priors, site, cfg.SwitchCost)
 		path, total := viterbi.Decode(costs, cfg.SwitchCost, initial, cfg.MinDwell, from)
 		for j, i := range idx {
-			entries[i].Regime = m.Regimes[path[j]].ID
+			ws[i].Regime = m.Regimes[path[j]].ID
 		}
 		for _, sw := range segmentSwitches(costs, cfg.SwitchCost, initial, from, path, total) {
 			before := from.State
@@ -111,7 +109,7 @@ func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.As
 			}
 			switches = append(switches, Switch{
 				Site:       site,
-				Time:       t.Windows[idx[sw.at]].Start,
+				Time:       ws[idx[sw.at]].Start,
 				From:       m.Regimes[before].ID,
 				To:         m.Regimes[path[sw.at]].ID,
 				Before:     sw.before,
@@ -123,12 +121,12 @@ func BuildFrom(m *mapper.Model, t *features.Table, x *mat.Dense, asg []mapper.As
 	slices.SortStableFunc(switches, func(a, b Switch) int {
 		return cmp.Or(cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
 	})
-	return entries, switches, nil
+	return switches, nil
 }
 
 // startOf returns the decoding start of a site from its prior, and the
 // initial costs that go with it; none when it has no usable prior.
-func startOf(m *mapper.Model, priors map[string]Prior, site string, switchCost float64) (viterbi.Start, []float64) {
+func startOf(m *model.Model, priors map[string]Prior, site string, switchCost float64) (viterbi.Start, []float64) {
 	p, ok := priors[site]
 	if !ok || p.Windows < 1 {
 		return viterbi.NoStart, nil
@@ -161,7 +159,7 @@ func (cfg Config) Validate() error {
 }
 
 // resolve fills the defaults of cfg and checks it.
-func resolve(cfg Config, m *mapper.Model) (Config, error) {
+func resolve(cfg Config, m *model.Model) (Config, error) {
 	def := DefaultConfig()
 	if cfg.MinDwell == 0 {
 		cfg.MinDwell = def.MinDwell

@@ -1,17 +1,15 @@
 package timeline
 
 import (
-	"cmp"
 	"math"
 	"slices"
 	"strings"
 	"testing"
 	"time"
 
-	"gonum.org/v1/gonum/mat"
-
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 var day0 = time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
@@ -20,12 +18,12 @@ var day0 = time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
 // 3 × 1 map, and training quantization errors spread evenly over [0, 1]:
 // the median is 0.5, so the automatic switch cost is 1, and the 99th
 // percentile is 0.99.
-func testModel() *mapper.Model {
+func testModel() *model.Model {
 	q := make([]float64, 1001)
 	for i := range q {
 		q[i] = float64(i) / 1000
 	}
-	return &mapper.Model{
+	return &model.Model{
 		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 3, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0, 0, 10, 0, 0, 10}},
 		Regimes: []mapper.Regime{
 			{ID: 1, Units: []int{0}, Centroid: []float64{0, 0}},
@@ -58,32 +56,29 @@ func series(site string, regimes ...int) []window {
 	return w
 }
 
-func inputs(ws []window) (*features.Table, *mat.Dense, []mapper.Assignment) {
-	t := &features.Table{Names: []string{"f1", "f2"}}
-	x := mat.NewDense(len(ws), 2, nil)
-	asg := make([]mapper.Assignment, len(ws))
+// inputs makes the windows of ws, each on the unit of the nearest
+// centroid.
+func inputs(ws []window) []features.Window {
+	out := make([]features.Window, len(ws))
 	for i, w := range ws {
 		start := day0.AddDate(0, 0, w.day)
-		t.Windows = append(t.Windows, features.Window{Site: w.site, Start: start, End: start.AddDate(0, 0, 1)})
-		x.Set(i, 0, w.x)
-		x.Set(i, 1, w.y)
-		bmu := 0
+		unit := 0
 		switch {
 		case w.x > 5:
-			bmu = 1
+			unit = 1
 		case w.y > 5:
-			bmu = 2
+			unit = 2
 		}
-		asg[i] = mapper.Assignment{BMU: bmu, QE: w.qe}
+		out[i] = features.Window{Site: w.site, Start: start, End: start.AddDate(0, 0, 1), Scaled: []float64{w.x, w.y}, Unit: unit, QE: w.qe}
 	}
-	return t, x, asg
+	return out
 }
 
-func regimesOf(entries []Entry, site string) []int {
+func regimesOf(ws []features.Window, site string) []int {
 	var r []int
-	for _, e := range entries {
-		if e.Site == site {
-			r = append(r, e.Regime)
+	for _, w := range ws {
+		if w.Site == site {
+			r = append(r, w.Regime)
 		}
 	}
 	return r
@@ -179,12 +174,12 @@ func TestBuildSegments(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			tab, x, asg := inputs(tc.windows)
-			entries, switches, err := Build(testModel(), tab, x, asg, tc.cfg)
+			ws := inputs(tc.windows)
+			switches, err := Build(testModel(), ws, tc.cfg)
 			if err != nil {
 				t.Fatal(err)
 			}
-			if got := regimesOf(entries, tc.windows[0].site); !slices.Equal(got, tc.regimes) {
+			if got := regimesOf(ws, tc.windows[0].site); !slices.Equal(got, tc.regimes) {
 				t.Errorf("regimes %v, want %v", got, tc.regimes)
 			}
 			if len(switches) != len(tc.switches) {
@@ -209,8 +204,7 @@ func TestBuildSegments(t *testing.T) {
 // relabels 4 windows (+40) and saves one switch (−1): Δ = 39, so the
 // confidence is 39 / (39 + 1).
 func TestBuildConfidence(t *testing.T) {
-	tab, x, asg := inputs(series("a", 1, 1, 1, 1, 2, 2, 2, 2))
-	_, sw, err := Build(testModel(), tab, x, asg, Config{})
+	sw, err := Build(testModel(), inputs(series("a", 1, 1, 1, 1, 2, 2, 2, 2)), Config{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -219,8 +213,7 @@ func TestBuildConfidence(t *testing.T) {
 	}
 	// A doubtful switch: the new segment is only 0.8 per window closer to
 	// regime 2 (distances 4.6 and 5.4), over 2 windows: Δ = 1.6 − 1 = 0.6.
-	tab, x, asg = inputs([]window{{"g", 0, 0, 0, 0.1}, {"g", 1, 0, 0, 0.1}, {"g", 2, 5.4, 0, 0.1}, {"g", 3, 5.4, 0, 0.1}})
-	_, sw, err = Build(testModel(), tab, x, asg, Config{})
+	sw, err = Build(testModel(), inputs([]window{{"g", 0, 0, 0, 0.1}, {"g", 1, 0, 0, 0.1}, {"g", 2, 5.4, 0, 0.1}, {"g", 3, 5.4, 0, 0.1}}), Config{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -234,33 +227,23 @@ func TestBuildEntries(t *testing.T) {
 	ws[1].qe = 0.995 // above the 99th percentile (0.99)
 	ws[2].qe = 0.985
 	ws[5].x = math.NaN() // left out of the distances: (NaN, 10) is still at regime 3
-	// Out of time order within a site: Build must sort, yet keep entries
-	// aligned with the table.
+	// Out of time order within a site: Build must sort, yet set each
+	// window's own fields.
 	ws[0], ws[3] = ws[3], ws[0]
-	tab, x, asg := inputs(ws)
-	entries, switches, err := Build(testModel(), tab, x, asg, Config{})
+	in := inputs(ws)
+	switches, err := Build(testModel(), in, Config{})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(entries) != len(ws) {
-		t.Fatalf("%d entries for %d windows", len(entries), len(ws))
-	}
-	for i, e := range entries {
-		w := tab.Windows[i]
-		if e.Site != w.Site || !e.Start.Equal(w.Start) || !e.End.Equal(w.End) || e.BMU != asg[i].BMU || e.QE != asg[i].QE {
-			t.Errorf("entry %d %+v does not match window %+v / %+v", i, e, w, asg[i])
-		}
-		if col, row := e.BMU%3, 0; e.Col != col || e.Row != row {
-			t.Errorf("entry %d: cell (%d, %d), want (%d, %d)", i, e.Col, e.Row, col, row)
-		}
-		if want := i == 1; e.Unfamiliar != want {
-			t.Errorf("entry %d (QE %g): unfamiliar %v, want %v", i, e.QE, e.Unfamiliar, want)
+	for i, w := range in {
+		if want := i == 1; w.Unfamiliar != want {
+			t.Errorf("window %d (QE %g): unfamiliar %v, want %v", i, w.QE, w.Unfamiliar, want)
 		}
 	}
 	wantRegime := []int{2, 1, 2, 1, 3, 3, 3}
-	for i, e := range entries {
-		if e.Regime != wantRegime[i] {
-			t.Errorf("entry %d (%s day %d): regime %d, want %d", i, e.Site, ws[i].day, e.Regime, wantRegime[i])
+	for i, w := range in {
+		if w.Regime != wantRegime[i] {
+			t.Errorf("window %d (%s day %d): regime %d, want %d", i, w.Site, ws[i].day, w.Regime, wantRegime[i])
 		}
 	}
 	if len(switches) != 1 || switches[0].Site != "b" || !switches[0].Time.Equal(day0.AddDate(0, 0, 2)) {
@@ -268,8 +251,7 @@ func TestBuildEntries(t *testing.T) {
 	}
 	// Sorted by site, then time.
 	many := append(series("z", 1, 1, 2, 2, 1, 1), series("y", 2, 2, 3, 3)...)
-	tab, x, asg = inputs(many)
-	_, switches, err = Build(testModel(), tab, x, asg, Config{})
+	switches, err = Build(testModel(), inputs(many), Config{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -283,39 +265,40 @@ func TestBuildEntries(t *testing.T) {
 }
 
 func TestBuildErrors(t *testing.T) {
-	tab, x, asg := inputs(series("a", 1, 1, 2))
+	ws := inputs(series("a", 1, 1, 2))
 	noQuantiles := testModel()
 	noQuantiles.QEQuantiles = nil
 	noRegimes := testModel()
 	noRegimes.Regimes = nil
 	badCentroid := testModel()
 	badCentroid.Regimes[1].Centroid = []float64{1}
-	badBMU := slices.Clone(asg)
-	badBMU[2].BMU = 3
-	infinite := mat.DenseCopyOf(x)
-	infinite.Set(1, 0, math.Inf(1))
+	badUnit := slices.Clone(ws)
+	badUnit[2].Unit = 3
+	unscaled := slices.Clone(ws)
+	unscaled[1].Scaled = nil
+	infinite := slices.Clone(ws)
+	infinite[1].Scaled = []float64{math.Inf(1), 0}
 	tests := []struct {
 		name string
-		m    *mapper.Model
-		x    *mat.Dense // nil: x
-		asg  []mapper.Assignment
+		m    *model.Model
+		ws   []features.Window
 		cfg  Config
 		want string
 	}{
-		{"assignments", testModel(), nil, asg[:2], Config{}, "must match"},
-		{"no quantiles", noQuantiles, nil, asg, Config{SwitchCost: 1}, "quantiles"},
-		{"no regimes", noRegimes, nil, asg, Config{}, "no regimes"},
-		{"centroid", badCentroid, nil, asg, Config{}, "regime 2: centroid has 1 components"},
-		{"bmu", testModel(), nil, badBMU, Config{}, "BMU 3 outside"},
-		{"dwell", testModel(), nil, asg, Config{MinDwell: -1}, "minimum dwell"},
-		{"quantile", testModel(), nil, asg, Config{UnfamiliarQ: 1.5}, "unfamiliar quantile"},
-		{"switch cost", testModel(), nil, asg, Config{SwitchCost: math.NaN()}, "switch cost"},
-		{"infinite", testModel(), infinite, asg, Config{}, "not finite"},
+		{"no model", nil, ws, Config{}, "needs a model"},
+		{"unscaled", testModel(), unscaled, Config{}, "0 scaled features for a map of dimension 2"},
+		{"no quantiles", noQuantiles, ws, Config{SwitchCost: 1}, "quantiles"},
+		{"no regimes", noRegimes, ws, Config{}, "no regimes"},
+		{"centroid", badCentroid, ws, Config{}, "regime 2: centroid has 1 components"},
+		{"unit", testModel(), badUnit, Config{}, "unit 3 outside"},
+		{"dwell", testModel(), ws, Config{MinDwell: -1}, "minimum dwell"},
+		{"quantile", testModel(), ws, Config{UnfamiliarQ: 1.5}, "unfamiliar quantile"},
+		{"switch cost", testModel(), ws, Config{SwitchCost: math.NaN()}, "switch cost"},
+		{"infinite", testModel(), infinite, Config{}, "not finite"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			x := cmp.Or(tc.x, x)
-			_, _, err := Build(tc.m, tab, x, tc.asg, tc.cfg)
+			_, err := Build(tc.m, tc.ws, tc.cfg)
 			if err == nil || !strings.Contains(err.Error(), tc.want) || !strings.HasPrefix(err.Error(), "timeline: ") {
 				t.Errorf("error %v, want one mentioning %q", err, tc.want)
 			}
@@ -328,9 +311,9 @@ func TestBuildErrors(t *testing.T) {
 // not a switch; without the history neither is seen.
 func TestBuildFromPrior(t *testing.T) {
 	ws := append(series("a", 2, 2, 2, 2), series("b", 1, 1, 1, 1)...)
-	tb, x, asg := inputs(ws)
+	in := inputs(ws)
 	priors := map[string]Prior{"a": {Regime: 1, Windows: 5}, "b": {Regime: 1, Windows: 5}}
-	_, sws, err := BuildFrom(testModel(), tb, x, asg, Config{}, priors)
+	sws, err := BuildFrom(testModel(), in, Config{}, priors)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -344,11 +327,11 @@ func TestBuildFromPrior(t *testing.T) {
 	if !(got.Confidence > 0.5 && got.Confidence < 1) {
 		t.Errorf("confidence %g of a clear switch, want in (0.5, 1)", got.Confidence)
 	}
-	if _, sws, _ := Build(testModel(), tb, x, asg, Config{}); len(sws) != 0 {
+	if sws, _ := Build(testModel(), in, Config{}); len(sws) != 0 {
 		t.Errorf("without history: switches %+v, want none", sws)
 	}
 	// A prior in a regime the model lacks is ignored.
-	if _, sws, _ := BuildFrom(testModel(), tb, x, asg, Config{}, map[string]Prior{"a": {Regime: 9, Windows: 3}}); len(sws) != 0 {
+	if sws, _ := BuildFrom(testModel(), in, Config{}, map[string]Prior{"a": {Regime: 9, Windows: 3}}); len(sws) != 0 {
 		t.Errorf("unknown prior regime: switches %+v, want none", sws)
 	}
 }

@@ -3,12 +3,12 @@ package timeline_test
 import (
 	"fmt"
 	"log"
+	"math"
 	"time"
-
-	"gonum.org/v1/gonum/mat"
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -16,7 +16,7 @@ func ExampleBuild() {
 	// Two regimes on a map of two units, one scaled feature. The training
 	// windows' quantization errors run from 0 to 0.5 (median 0.25), so the
 	// automatic switch cost is 0.5.
-	m := &mapper.Model{
+	m := &model.Model{
 		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
 		Regimes: []mapper.Regime{
 			{ID: 1, Units: []int{0}, Centroid: []float64{-1}},
@@ -30,28 +30,22 @@ func ExampleBuild() {
 	// switches (1.0) it would take. Without the switch, regime 2 would have
 	// to cover the first four days instead (+4.7, the cheaper way), so the
 	// confidence is 4.7 / (4.7 + 0.5).
-	scaled := []float64{-1, -0.9, 0.3, -1.1, 0.9, 1, 1.2}
-	t := &features.Table{Names: []string{"flow.mean"}}
-	asg := make([]mapper.Assignment, len(scaled))
+	// Each window is on the unit nearest to it, at most 0.6 from it.
 	day := time.Date(2025, 3, 1, 0, 0, 0, 0, time.UTC)
-	for i, v := range scaled {
-		start := day.AddDate(0, 0, i)
-		t.Windows = append(t.Windows, features.Window{Site: "PS-01", Start: start, End: start.AddDate(0, 0, 1)})
-		bmu := 0
-		if v > 0 {
-			bmu = 1
-		}
-		asg[i] = mapper.Assignment{BMU: bmu, QE: min(abs(v-m.Map.Codebook[bmu]), 0.6)}
+	var ws []features.Window
+	for i, v := range []float64{-1, -0.9, 0.3, -1.1, 0.9, 1, 1.2} {
+		unit := max(0, int(math.Copysign(1, v)))
+		ws = append(ws, features.Window{Site: "PS-01", Start: day.AddDate(0, 0, i), End: day.AddDate(0, 0, i+1),
+			Scaled: []float64{v}, Unit: unit, QE: min(math.Abs(v-m.Map.Codebook[unit]), 0.6)})
 	}
-	x := mat.NewDense(len(scaled), 1, scaled)
 
-	entries, switches, err := timeline.Build(m, t, x, asg, timeline.DefaultConfig())
+	switches, err := timeline.Build(m, ws, timeline.DefaultConfig())
 	if err != nil {
 		log.Fatal(err)
 	}
 	var regimes []int
-	for _, e := range entries {
-		regimes = append(regimes, e.Regime)
+	for _, w := range ws {
+		regimes = append(regimes, w.Regime)
 	}
 	fmt.Println(regimes)
 	for _, s := range switches {
@@ -62,5 +56,3 @@ func ExampleBuild() {
 	// [1 1 1 1 2 2 2]
 	// PS-01 2025-03-05: 1 → 2 after 4 windows, for 3, confidence 0.90
 }
-
-func abs(v float64) float64 { return max(v, -v) }

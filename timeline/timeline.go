@@ -8,17 +8,6 @@ import (
 	"github.com/kinmap/kinmap/mapper"
 )
 
-// Entry is one window of one site on the map.
-type Entry struct {
-	Site       string
-	Start, End time.Time
-	BMU        int // best-matching unit
-	Col, Row   int // BMU's cell on the lattice
-	Regime     int // decoded regime ID
-	QE         float64
-	Unfamiliar bool // QE above the training windows' threshold quantile
-}
-
 // Switch is a change of a site's decoded regime.
 type Switch struct {
 	Site       string

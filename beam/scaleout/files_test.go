@@ -18,7 +18,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/beam/internal/beamtest"
 	"github.com/kinmap/kinmap/export"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // The Beam run writes the files of a local run, the same set of names:
@@ -63,11 +63,11 @@ func TestWriteMatchesLocal(t *testing.T) {
 		t.Errorf("a fleet of fixed sites should have no %s (%v)", export.TracksFile, err)
 	}
 
-	bm, err := mapper.ReadModelFile(filepath.Join(bd, export.ModelFile))
+	bm, err := model.ReadFile(filepath.Join(bd, export.ModelFile))
 	if err != nil {
 		t.Fatal(err)
 	}
-	lm, err := mapper.ReadModelFile(filepath.Join(ld, export.ModelFile))
+	lm, err := model.ReadFile(filepath.Join(ld, export.ModelFile))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -26,8 +26,9 @@
 //
 // The driver gathers the windows (small beside the readings), fits the
 // normalisation (features.FitScaler), makes the initial codebook
-// (mapper.InitMap) from the scaled windows, and after training finds the
-// regimes, decodes the timelines (timeline.Build) and returns a
+// (mapper.InitMap) from the scaled windows, and after training builds the
+// model with its regimes (model.New), decodes the timelines
+// (timeline.Build) and returns a
 // kinmap.Result, whose Write writes the same files as a local run.
 //
 // # Equality with a local run
@@ -60,6 +61,7 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // DefaultShards is the number of window shards when Options.Shards is 0.
@@ -178,15 +180,13 @@ func (r *run) train(ctx context.Context) error {
 		r.logf("epoch %d: quantization error %.4f", e, qe/float64(res.X.RawMatrix().Rows))
 	}
 	r.lap("train")
-	if res.Assignments, err = r.assign(ctx, m, shard); err != nil {
+	asg, err := r.assign(ctx, m, shard)
+	if err != nil {
 		return err
 	}
-	if res.Model, err = mapper.NewModel(m, res.X, sc.Names, kinmap.RegimeTimelines(res.Table), cfg, res.Assignments); err != nil {
+	if res.Model, err = model.New(m, cfg, res.Table, res.X, sc, asg); err != nil {
 		return err
 	}
-	res.Model.FeatureNames = res.Table.Names
-	res.Model.FeatureConfig = res.Table.Config
-	res.Model.Scaler = sc
 	r.lap("assign")
 	return res.Conclude(o.Options, r.times)
 }

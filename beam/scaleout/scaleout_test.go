@@ -8,7 +8,9 @@ import (
 	"testing"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -80,7 +82,6 @@ func TestTrainMatchesLocal(t *testing.T) {
 				t.Errorf("training settings:\n got %+v\nwant %+v", bm.Training, lm.Training)
 			}
 			compareModels(t, bm, lm)
-			compareAssignments(t, beam.Assignments, local.Assignments)
 			compareTimelines(t, beam, local)
 
 			bi, li := beam.Info, local.Info
@@ -119,10 +120,19 @@ func compareTables(t *testing.T, beam, local *kinmap.Result) {
 	}
 }
 
-func compareModels(t *testing.T, bm, lm *mapper.Model) {
+func compareModels(t *testing.T, bm, lm *model.Model) {
 	t.Helper()
 	if !reflect.DeepEqual(bm.UnitRegime, lm.UnitRegime) {
 		t.Errorf("unit regimes:\n got %v\nwant %v", bm.UnitRegime, lm.UnitRegime)
+	}
+	// The codebooks agree to rounding, not bits, so the choice is compared
+	// by its decisions: how many regimes, the fleet's common directions
+	// left out, the splits made and the runner-up.
+	if (bm.Choice == nil) != (lm.Choice == nil) {
+		t.Errorf("regime choice %v, want %v", bm.Choice, lm.Choice)
+	} else if b, l := bm.Choice, lm.Choice; b != nil && (b.K != l.K || b.Given != l.Given || b.Common != l.Common ||
+		len(b.Splits) != len(l.Splits) || b.RunnerUp != l.RunnerUp || b.Marginal != l.Marginal) {
+		t.Errorf("regime choice:\n got %+v\nwant %+v", *b, *l)
 	}
 	if len(bm.Regimes) != len(lm.Regimes) {
 		t.Fatalf("%d regimes, want %d", len(bm.Regimes), len(lm.Regimes))
@@ -149,22 +159,21 @@ func compareModels(t *testing.T, bm, lm *mapper.Model) {
 	}
 }
 
-func compareAssignments(t *testing.T, got, want []mapper.Assignment) {
-	t.Helper()
-	if len(got) != len(want) {
-		t.Fatalf("%d assignments, want %d", len(got), len(want))
-	}
-	for i, a := range got {
-		w := want[i]
-		if a.BMU != w.BMU || a.Second != w.Second || math.Abs(a.QE-w.QE) > tol {
-			t.Fatalf("window %d: assignment %+v, want %+v", i, a, w)
-		}
-	}
-}
-
+// compareTimelines compares where each window landed, its decoded regime
+// and the switches.
 func compareTimelines(t *testing.T, beam, local *kinmap.Result) {
 	t.Helper()
-	nearlySame(t, "entry", beam.Entries, local.Entries, func(e *timeline.Entry) *float64 { return &e.QE })
+	got, want := beam.Table.Windows, local.Table.Windows
+	if len(got) != len(want) {
+		t.Fatalf("%d windows, want %d", len(got), len(want))
+	}
+	for i, g := range got {
+		w := want[i]
+		if g.Unit != w.Unit || g.Second != w.Second || math.Abs(g.QE-w.QE) > tol || g.Regime != w.Regime || g.Unfamiliar != w.Unfamiliar {
+			t.Fatalf("window %d: unit %d, second %d, QE %g, regime %d, unfamiliar %v; want %d, %d, %g, %d, %v",
+				i, g.Unit, g.Second, g.QE, g.Regime, g.Unfamiliar, w.Unit, w.Second, w.QE, w.Regime, w.Unfamiliar)
+		}
+	}
 	nearlySame(t, "switch", beam.Switches, local.Switches, func(s *timeline.Switch) *float64 { return &s.Confidence })
 }
 
@@ -196,16 +205,16 @@ func TestTrainWithHistory(t *testing.T) {
 	}
 	// An earlier period in which every site was in regime 1, so that the
 	// history changes where switches are found.
-	earlier := make([]timeline.Entry, 0, len(first.Entries))
-	for _, e := range first.Entries {
+	earlier := make([]features.Window, 0, len(first.Table.Windows))
+	for _, e := range first.Table.Windows {
 		e.Start, e.End = e.Start.AddDate(0, 0, -30), e.End.AddDate(0, 0, -30)
-		e.Regime = 1
+		e.Regime, e.Scaled = 1, nil
 		earlier = append(earlier, e)
 	}
 	o.History = t.TempDir()
 	// Numbered by the first map, whose regimes both paths make again, so
 	// both continue from it.
-	h := &kinmap.Result{Entries: earlier, Model: first.Model}
+	h := &kinmap.Result{Table: &features.Table{Windows: earlier}, Model: first.Model}
 	if err := h.AppendHistory(o.History); err != nil {
 		t.Fatal(err)
 	}

@@ -7,7 +7,7 @@ import (
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/internal/cli"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 )
 
@@ -46,6 +46,7 @@ func runFlags(o *kinmap.Options, out *cli.Outputs) *cli.Flags {
 	f.Features(o)
 	f.Map(o, true)
 	f.Timeline(o)
+	f.Events(o)
 	f.Output(o, out, "also write the model to `FILE` (it is always written to DIR/model)")
 	return f
 }
@@ -59,7 +60,7 @@ func updateCmd(args []string, e *env) error {
 }
 
 // applyModel runs a command that reads a model: assign or update.
-func applyModel(name string, args []string, e *env, apply func(kinmap.Options, *mapper.Model) (*kinmap.Result, error)) error {
+func applyModel(name string, args []string, e *env, apply func(kinmap.Options, *model.Model) (*kinmap.Result, error)) error {
 	o := kinmap.DefaultOptions()
 	var out cli.Outputs
 	f := cli.New(commandNamed(name), nil)
@@ -68,11 +69,12 @@ func applyModel(name string, args []string, e *env, apply func(kinmap.Options, *
 		f.Map(&o, false)
 	}
 	f.Timeline(&o)
+	f.Events(&o)
 	f.Output(&o, &out, "model `FILE` of an earlier run")
 	if err := parse(f, args, e, &o, &out, true); err != nil {
 		return err
 	}
-	m, err := mapper.ReadModelFile(out.Model)
+	m, err := model.ReadFile(out.Model)
 	if err != nil {
 		return err
 	}

@@ -6,10 +6,10 @@ import (
 	"math"
 	"slices"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
-// Layout of the component planes, in pixels.
+// Layout of the feature planes, in pixels.
 const (
 	planeMaxW   = 250 // largest plane, margin included
 	planeGap    = 36  // between planes
@@ -20,7 +20,7 @@ const (
 	planesWide  = 5   // planes per row
 )
 
-// MaxPlanes is the most component planes one picture draws: a dump of
+// MaxPlanes is the most feature planes one picture draws: a dump of
 // thousands of channels once asked for a picture of 17 GB. Beyond it the
 // planes of the features whose codebook values vary most across the units,
 // those the map orders most, are drawn, and the picture says how many were
@@ -49,7 +49,7 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 		left = fmt.Sprintf(" The %d features whose values vary most across the units are drawn; %d others are left out.", n, out)
 		sub = fmt.Sprintf("%s: the %d of %d features that vary most across the units, each with its own colour range", shapeName(l), n, m.Map.Dim)
 	}
-	heading(c, "Component planes", sub)
+	heading(c, "Feature planes", sub)
 	c.text(padSide, subBase+lineGap, scaleNote(m)+" "+wrapNote(l), ft.small, softInk, alignLeft)
 
 	for k, dim := range dims {
@@ -65,7 +65,7 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 		by := float64(sh.clip.Max.Y) + 6
 		rampStrip(c, x, by, pw, planeBar, lo, hi)
 	}
-	return c, Picture{Title: "Component planes",
+	return c, Picture{Title: "Feature planes",
 		Caption: "One plane per feature: each unit in the colour of its codebook value for that feature, light for low and " +
 			"dark for high, on the feature's own range." + left + " " + scaleNote(m) + " " + wrapNote(l)}
 }
@@ -73,7 +73,7 @@ func componentPlanes(ft *fonts, in Input) (*canvas, Picture) {
 // informativeDims returns the codebook dimensions to draw, in order: all of
 // them up to limit, else the limit of them whose values have the largest
 // variance across the units.
-func informativeDims(m *mapper.Model, limit int) []int {
+func informativeDims(m *model.Model, limit int) []int {
 	dims := make([]int, m.Map.Dim)
 	for k := range dims {
 		dims[k] = k
@@ -118,7 +118,7 @@ func rampStrip(c *canvas, x, y, w, h, lo, hi float64) {
 
 // dimNames returns the name of each codebook dimension: the scaler's kept
 // features, or the model's feature names when they match the dimension.
-func dimNames(m *mapper.Model) []string {
+func dimNames(m *model.Model) []string {
 	if m.Scaler != nil && len(m.Scaler.Names) == m.Map.Dim {
 		return m.Scaler.Names
 	}
@@ -133,7 +133,7 @@ func dimNames(m *mapper.Model) []string {
 }
 
 // scaleNote says in which units the codebook values are.
-func scaleNote(m *mapper.Model) string {
+func scaleNote(m *model.Model) string {
 	s := "Values in standardised units"
 	if m.Scaler == nil {
 		return s + "."

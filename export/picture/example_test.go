@@ -5,7 +5,9 @@ import (
 	"log"
 
 	"github.com/kinmap/kinmap/export/picture"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 func ExampleRegimeColour() {
@@ -28,7 +30,7 @@ func ExampleAll() {
 	// A 6 × 4 hexagonal torus with two regimes, its left half and its
 	// right half, and one feature rising from left to right.
 	l := mapper.Lattice{Cols: 6, Rows: 4, Hex: true}
-	m := &mapper.Model{
+	m := &model.Model{
 		FeatureNames: []string{"flow.mean"},
 		Map:          mapper.Map{Lattice: l, Dim: 1, Codebook: make([]float64, l.Units())},
 		UnitRegime:   make([]int, l.Units()),
@@ -40,9 +42,9 @@ func ExampleAll() {
 		m.UnitRegime[u] = 1 + col/3
 	}
 	in := picture.Input{
-		Model:       m,
-		Assignments: []mapper.Assignment{{BMU: 0}, {BMU: 0}, {BMU: 5}},
-		Sites:       []picture.SitePoint{{ID: "a", Lon: 9.1, Lat: 48.2, Located: true, Regime: 1}, {ID: "b", Lon: 9.4, Lat: 48.0, Located: true, Regime: 2}},
+		Model:   m,
+		Windows: []features.Window{{Site: "a", Unit: 0}, {Site: "a", Unit: 0}, {Site: "b", Unit: 5}},
+		Sites:   []picture.SitePoint{{ID: "a", Lon: 9.1, Lat: 48.2, Located: true, Regime: 1}, {ID: "b", Lon: 9.4, Lat: 48.0, Located: true, Regime: 2}},
 	}
 	ps, err := picture.All(in)
 	if err != nil {
@@ -55,6 +57,6 @@ func ExampleAll() {
 	// regimes.png     Regime map
 	// sites.png       Site map
 	// umatrix.png     U-matrix
-	// hits.png        Hit counts
-	// components.png  Component planes
+	// hits.png        Windows per unit
+	// components.png  Feature planes
 }

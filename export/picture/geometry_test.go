@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/paulmach/orb"
 	"github.com/paulmach/orb/geo"
 )
@@ -33,7 +34,7 @@ func rgbaAt(img image.Image, p pt) color.RGBA {
 }
 
 // badges returns the centres of the regime numbers, which cover their tiles.
-func badges(sh sheet, m *mapper.Model) []pt {
+func badges(sh sheet, m *model.Model) []pt {
 	var out []pt
 	for _, r := range m.Regimes {
 		if u, ok := labelUnit(sh, m.UnitRegime, r.ID); ok {
@@ -68,7 +69,7 @@ func step(l mapper.Lattice, u, v int) (d pt, wrapped bool) {
 
 // tileColour returns the colour of unit v's tile in the regime map: faded
 // for a wrapped copy.
-func tileColour(m *mapper.Model, v int, wrapped bool) color.RGBA {
+func tileColour(m *model.Model, v int, wrapped bool) color.RGBA {
 	c := RegimeColour(m.UnitRegime[v])
 	if wrapped {
 		return mixRGBA(c, white, copyFade)
@@ -79,7 +80,7 @@ func tileColour(m *mapper.Model, v int, wrapped bool) color.RGBA {
 // regimeMapOf draws the regime map of a demonstration run of five regimes
 // on l, and returns the model, the image, its sheet and the centres of the
 // regime numbers, which cover their tiles.
-func regimeMapOf(t *testing.T, l mapper.Lattice) (*mapper.Model, *image.RGBA, sheet, []pt) {
+func regimeMapOf(t *testing.T, l mapper.Lattice) (*model.Model, *image.RGBA, sheet, []pt) {
 	in := demoInput(l, 5, 20)
 	sh := pageSheet(l)
 	return in.Model, drawn(t, in, regimeMap), sh, badges(sh, in.Model)

@@ -8,6 +8,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -31,7 +32,7 @@ func demoInput(l mapper.Lattice, k, sites int) Input {
 			centre[i][j] = 2.5 * rng.NormFloat64()
 		}
 	}
-	m := &mapper.Model{
+	m := &model.Model{
 		FeatureNames: demoFeatures,
 		Scaler:       &features.Scaler{Method: "zscore", Names: demoFeatures},
 		Map:          mapper.Map{Lattice: l, Dim: dim, Codebook: make([]float64, n*dim)},
@@ -71,6 +72,8 @@ func demoInput(l mapper.Lattice, k, sites int) Input {
 	m.Regimes[0].Description += ", temp.mean −0.4σ, power.mean +0.3σ"
 
 	in := Input{Model: m}
+	var units []int // where the windows land, in turn
+	var near []int  // the regime seed each of units crowds near
 	for range 12 * n {
 		// Windows crowd near the regime seeds, leaving some units unused.
 		s := seeds[rng.IntN(k)]
@@ -80,7 +83,22 @@ func demoInput(l mapper.Lattice, k, sites int) Input {
 				u = nb[rng.IntN(len(nb))]
 			}
 		}
-		in.Assignments = append(in.Assignments, mapper.Assignment{BMU: u, Second: s})
+		units = append(units, u)
+		near = append(near, s)
+	}
+	// Two labels of events, each marking the windows of the units near
+	// one regime seed.
+	in.Conditions = &model.Conditions{Labels: []string{"bearing failure", "overhaul"}, Counts: make([][]int, l.Units())}
+	for u := range in.Conditions.Counts {
+		in.Conditions.Counts[u] = []int{0, 0, 1}
+	}
+	for j, u := range units {
+		switch {
+		case near[j] == seeds[0]:
+			in.Conditions.Counts[u][0]++
+		case k > 1 && near[j] == seeds[1] && rng.IntN(2) == 0:
+			in.Conditions.Counts[u][1]++
+		}
 	}
 
 	start := time.Date(2024, 3, 4, 0, 0, 0, 0, time.UTC)
@@ -104,8 +122,8 @@ func demoInput(l mapper.Lattice, k, sites int) Input {
 			if switchAt >= 0 && d >= switchAt {
 				r = to
 			}
-			in.Entries = append(in.Entries, timeline.Entry{Site: id,
-				Start: start.AddDate(0, 0, d), End: start.AddDate(0, 0, d+1), Regime: r})
+			in.Windows = append(in.Windows, features.Window{Site: id, Start: start.AddDate(0, 0, d), End: start.AddDate(0, 0, d+1),
+				Unit: units[len(in.Windows)%len(units)], Regime: r})
 		}
 		sp.Regime = to
 		if switchAt >= 0 {

@@ -3,7 +3,6 @@ package picture
 import (
 	"fmt"
 	"image"
-	"image/color"
 	"math"
 	"slices"
 	"strconv"
@@ -12,16 +11,12 @@ import (
 	"github.com/kinmap/kinmap/mapper"
 )
 
-// dotInk is the colour of the hit-count dots, a dark slate apart from every
-// regime colour.
-var dotInk = color.RGBA{0x2F, 0x3B, 0x4A, 0xFF}
-
 // regimeMap draws each unit in its regime's colour, the borders between
 // regimes, the regime numbers and a legend with their descriptions.
 func regimeMap(ft *fonts, in Input) (*canvas, Picture) {
 	m := in.Model
 	l := m.Map.Lattice
-	hits := m.Map.Hits(in.Assignments)
+	hits := m.Map.Hits(in.Windows)
 	units := make(map[int]int)
 	windows := make(map[int]int)
 	for u, id := range m.UnitRegime {
@@ -51,8 +46,8 @@ func regimeMap(ft *fonts, in Input) (*canvas, Picture) {
 			d = "no description"
 		}
 		e.lines = wrap(ft.body, d, legendW-64, 2)
-		if len(in.Assignments) > 0 {
-			e.count += fmt.Sprintf(", %.0f %% of windows", 100*float64(windows[id])/float64(len(in.Assignments)))
+		if len(in.Windows) > 0 {
+			e.count += fmt.Sprintf(", %.0f %% of windows", 100*float64(windows[id])/float64(len(in.Windows)))
 		}
 		legend = append(legend, e)
 		legendH += float64(len(e.lines)+1)*lineGap + entryGap
@@ -212,12 +207,15 @@ func unitInterval(v, lo, hi float64) float64 {
 	return (v - lo) / (hi - lo)
 }
 
-// hitMap draws a dot on each unit, its area proportional to the windows the
-// unit won, and a cross on each unit that won none.
+// hitMap fills each unit from the bottom like a gauge, to a height
+// proportional to the windows the unit won (the fullest unit is full), and
+// draws the borders between regimes, so that a regime's busy and idle
+// units can be told apart. A unit that won none is left empty with a short
+// dash at its foot.
 func hitMap(ft *fonts, in Input) (*canvas, Picture) {
 	m := in.Model
 	l := m.Map.Lattice
-	hits := m.Map.Hits(in.Assignments)
+	hits := m.Map.Hits(in.Windows)
 	most := slices.Max(hits)
 	unused := 0
 	for _, h := range hits {
@@ -225,68 +223,90 @@ func hitMap(ft *fonts, in Input) (*canvas, Picture) {
 			unused++
 		}
 	}
-	c, sh, lp := latticePage(ft, l, "Hit counts",
-		fmt.Sprintf("%s, %s on %s", shapeName(l), plural(len(in.Assignments), "window"), plural(l.Units(), "unit")), 280, 420)
+	c, sh, lp := latticePage(ft, l, "Windows per unit",
+		fmt.Sprintf("%s, %s on %s", shapeName(l), plural(len(in.Windows), "window"), plural(l.Units(), "unit")), 280, 420)
 	tiles := sh.tiles()
-	rMax := 0.44 * sh.s
 	for _, t := range tiles {
-		sh.paint(c, t, emptyTile)
+		gauge(c, sh.clip, sh.body(t), share(hits[t.u], most), t.fade(), sliver(sh))
 	}
-	sh.outline(c, sh.edges(tiles), true)
-	for _, t := range tiles {
-		if h := hits[t.u]; h > 0 {
-			c.disc(sh.clip, t.c, rMax*math.Sqrt(float64(h)/float64(most)), mixRGBA(dotInk, white, t.fade()))
-		} else {
-			cross(c, sh.clip, t.c, 0.16*sh.s, mixRGBA(softInk, white, t.fade()))
-		}
-	}
+	es := sh.edges(tiles)
+	sh.outline(c, es, true)
+	sh.borders(c, es, m.UnitRegime)
 
 	y := lp.Y + ascent(ft.head)
 	c.text(lp.X, y, "Windows won", ft.head, ink, alignLeft)
-	step := math.Max(lineGap+8, 2*rMax+10)
-	cy := y + step/2 + 4
-	for _, n := range sampleCounts(most) {
-		c.disc(c.img.Bounds(), pt{lp.X + rMax, cy}, rMax*math.Sqrt(float64(n)/float64(most)), dotInk)
-		c.text(lp.X+2*rMax+14, cy+ascent(ft.body)/2, plural(n, "window"), ft.body, ink, alignLeft)
-		cy += step
-	}
-	cross(c, c.img.Bounds(), pt{lp.X + rMax, cy}, 0.16*sh.s, softInk)
-	c.text(lp.X+2*rMax+14, cy+ascent(ft.body)/2, "none", ft.body, ink, alignLeft)
-	y = cy + 2*lineGap
-	textLines(c, lp.X, y, ft.small, softInk, "dot area proportional to", "the windows a unit won;",
-		fmt.Sprintf("%s unused (%.0f %%)", plural(unused, "unit"), 100*float64(unused)/float64(l.Units())))
-	return c, Picture{Title: "Hit counts",
-		Caption: "Windows won by each unit of the map: the area of each dot is proportional to the unit's windows, and a cross " +
-			"marks a unit that won none. " + wrapNote(l)}
-}
-
-// cross draws a small × of half-size r.
-func cross(c *canvas, clip image.Rectangle, o pt, r float64, col color.RGBA) {
-	w := math.Max(1.2, r/3)
-	c.line(clip, pt{o.X - r, o.Y - r}, pt{o.X + r, o.Y + r}, w, col)
-	c.line(clip, pt{o.X - r, o.Y + r}, pt{o.X + r, o.Y - r}, w, col)
-}
-
-// sampleCounts returns up to three round counts for a dot-size legend, the
-// largest not above most.
-func sampleCounts(most int) []int {
-	var out []int
-	for k := range 3 {
-		v := niceFloor(float64(most) / math.Pow(5, float64(k)))
-		if v >= 1 && (len(out) == 0 || v < out[len(out)-1]) {
-			out = append(out, v)
+	y += lineGap + 8
+	key := sheet{lat: l, s: 34, pitch: sh.pitch}
+	var samples []int
+	for _, n := range []int{most, most / 2, most / 4} {
+		if n > 0 && !slices.Contains(samples, n) {
+			samples = append(samples, n)
 		}
 	}
-	return out
+	if unused > 0 {
+		samples = append(samples, 0)
+	}
+	for _, n := range samples {
+		o := pt{lp.X + 17, y + 17}
+		shape := key.shape(o, 0)
+		gauge(c, c.img.Bounds(), shape, share(n, most), 0, 0)
+		for i := range shape {
+			c.line(c.img.Bounds(), shape[i], shape[(i+1)%len(shape)], 1, softInk)
+		}
+		label := plural(n, "window")
+		if n == 0 {
+			label = "none"
+		}
+		c.text(lp.X+46, o.Y+ascent(ft.body)/2, label, ft.body, ink, alignLeft)
+		y += 44
+	}
+	textLines(c, lp.X, y+lineGap, ft.small, softInk, "the filled height of a unit", "is its share of the busiest",
+		fmt.Sprintf("unit's %s;", plural(most, "window")),
+		fmt.Sprintf("%s unused (%.0f %%);", plural(unused, "unit"), 100*float64(unused)/float64(l.Units())),
+		"dark lines: regime borders")
+	return c, Picture{Title: "Windows per unit",
+		Caption: "Windows won by each unit of the map: each unit is filled from its foot to a height proportional to its windows, " +
+			"the busiest unit full; an empty unit with a dash at its foot won none. Dark lines are the borders between regimes. " + wrapNote(l)}
 }
 
-// niceFloor returns the largest 1, 2 or 5 times a power of ten not above
-// x, or 0 below 1.
-func niceFloor(x float64) int {
-	if x < 1 {
+// share is n over most, 0 when most is 0.
+func share(n, most int) float64 {
+	if most == 0 {
 		return 0
 	}
-	return int(math.Round(niceFloorF(x)))
+	return float64(n) / float64(most)
+}
+
+// sliver is the least fill of a unit that won any window: it shows above
+// the white grid line at the tile's foot, which on a hexagon's bottom
+// corner, where two lines meet, covers about twice its width.
+func sliver(sh sheet) float64 {
+	if sh.lat.Hex {
+		return 2*sh.gridWidth() + 2.5
+	}
+	return sh.gridWidth() + 1.5
+}
+
+// gauge paints a tile empty, then fills it from the bottom to the share f
+// of its height in the dark end of the sequential ramp, at least minH
+// pixels when f > 0 so that the grid line at its foot does not hide a
+// unit that won few windows; an empty gauge gets a dash at its foot.
+func gauge(c *canvas, clip image.Rectangle, body []pt, f, fade, minH float64) {
+	c.fill(clip, image.NewUniform(mixRGBA(emptyTile, white, fade)), body)
+	y0, y1 := math.Inf(1), math.Inf(-1)
+	x0, x1 := math.Inf(1), math.Inf(-1)
+	for _, p := range body {
+		y0, y1 = math.Min(y0, p.Y), math.Max(y1, p.Y)
+		x0, x1 = math.Min(x0, p.X), math.Max(x1, p.X)
+	}
+	if f <= 0 {
+		w := (x1 - x0) / 5
+		c.line(clip, pt{(x0+x1)/2 - w, y1 - 0.18*(y1-y0)}, pt{(x0+x1)/2 + w, y1 - 0.18*(y1-y0)}, math.Max(1.2, (y1-y0)/16), mixRGBA(softInk, white, fade))
+		return
+	}
+	level := int(math.Round(y1 - math.Max(f*(y1-y0), minH)))
+	c.fill(clip.Intersect(image.Rect(int(math.Floor(x0)), level, int(math.Ceil(x1)), int(math.Ceil(y1)))),
+		image.NewUniform(mixRGBA(rampColour(0.8), white, fade)), body)
 }
 
 // plural writes a count and a noun, in the plural unless the count is one.

@@ -1,6 +1,7 @@
 // Package picture draws a run's pictures as PNG: the regime map, the
-// U-matrix, the hit counts and the component planes of the trained map, a
-// site map and the regime timelines of the sites that switched.
+// U-matrix, the windows per unit and the feature planes of the trained
+// map, a site map, the regime timelines of the sites that switched and,
+// when a run has events, the labels of the events on the map.
 //
 // Hexagonal cells are drawn as hexagons and square ones as squares.
 // A torus is drawn with a margin of faded copies of its opposite edges
@@ -14,18 +15,21 @@ package picture
 import (
 	"errors"
 	"fmt"
+	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
 // Input bundles what the pictures show.
 type Input struct {
-	Model       *mapper.Model
-	Assignments []mapper.Assignment // one per window shown, for hit counts
-	Entries     []timeline.Entry
-	Switches    []timeline.Switch
-	Sites       []SitePoint
+	Model      *model.Model
+	Windows    []features.Window // decoded (see timeline.Build), for windows per unit and strips
+	Switches   []timeline.Switch
+	Sites      []SitePoint
+	Conditions *model.Conditions // label counts per unit from events; nil for none
 }
 
 // SitePoint is one site on the site map.
@@ -47,8 +51,8 @@ type Picture struct {
 }
 
 // All draws every picture, in reading order: the regime map, the site map,
-// the regime timelines, the U-matrix, the hit counts and the component
-// planes. The site map is left out when no site is located, the timelines
+// the regime timelines, the U-matrix, the windows per unit and the
+// feature planes. The site map is left out when no site is located, the timelines
 // when no site switched.
 func All(in Input) ([]Picture, error) {
 	if err := check(in); err != nil {
@@ -104,6 +108,7 @@ func pages() []page {
 		{"umatrix.png", uMatrix},
 		{"hits.png", hitMap},
 		{"components.png", componentPlanes},
+		{"conditions.png", conditionMap},
 	}
 }
 
@@ -126,9 +131,9 @@ func check(in Input) error {
 	case len(m.UnitRegime) != n:
 		return fmt.Errorf("picture: %d unit regimes for %d units", len(m.UnitRegime), n)
 	}
-	for i, a := range in.Assignments {
-		if a.BMU < 0 || a.BMU >= n {
-			return fmt.Errorf("picture: assignment %d: unit %d outside the map of %d units", i, a.BMU, n)
+	for _, w := range in.Windows {
+		if w.Unit < 0 || w.Unit >= n {
+			return fmt.Errorf("picture: site %q, window %s: unit %d outside the map of %d units", w.Site, w.Start.Format(time.RFC3339), w.Unit, n)
 		}
 	}
 	return nil
@@ -188,7 +193,7 @@ func wrapNote(l mapper.Lattice) string {
 
 // regimeIDs returns the regime IDs to show, those of the model in order, and
 // 0 in front when a unit has no regime.
-func regimeIDs(m *mapper.Model) []int {
+func regimeIDs(m *model.Model) []int {
 	var ids []int
 	known := make(map[int]bool)
 	for _, r := range m.Regimes {

@@ -17,6 +17,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -53,7 +54,7 @@ func inked(img image.Image) (share float64, colours int) {
 }
 
 func TestAllPictures(t *testing.T) {
-	order := []string{"regimes.png", "sites.png", "timelines.png", "umatrix.png", "hits.png", "components.png"}
+	order := []string{"regimes.png", "sites.png", "timelines.png", "umatrix.png", "hits.png", "components.png", "conditions.png"}
 	// Files names every picture All can draw, so that an earlier run's
 	// pictures can be cleared away.
 	if got := Files(); !slices.Equal(got, order) {
@@ -110,6 +111,7 @@ func TestAllPictures(t *testing.T) {
 func TestAllLeavesOutEmptyPictures(t *testing.T) {
 	in := demoInput(mapper.Lattice{Cols: 6, Rows: 4, Hex: true}, 2, 10)
 	in.Switches = nil
+	in.Conditions = nil
 	for i := range in.Sites {
 		in.Sites[i].Located = false
 	}
@@ -130,7 +132,7 @@ func TestAllSmallAndOddInputs(t *testing.T) {
 	// Degenerate but valid runs draw without failing.
 	for _, l := range []mapper.Lattice{{Cols: 1, Rows: 1, Flat: true}, {Cols: 5, Rows: 1, Hex: true, Flat: true}, {Cols: 3, Rows: 4, Hex: true}} {
 		in := demoInput(l, 1, 3)
-		in.Assignments = nil
+		in.Windows = nil
 		in.Model.Scaler = nil
 		in.Sites = append(in.Sites, SitePoint{ID: "pole", Lon: 0, Lat: 90, Located: true, Regime: 0})
 		if _, err := All(in); err != nil {
@@ -150,7 +152,7 @@ func TestAllRejectsBadInput(t *testing.T) {
 		{"codebook", func(in *Input) { in.Model.Map.Codebook = in.Model.Map.Codebook[1:] }, "codebook"},
 		{"unit regimes", func(in *Input) { in.Model.UnitRegime = in.Model.UnitRegime[:3] }, "unit regimes"},
 		{"lattice", func(in *Input) { in.Model.Map.Lattice.Rows = 3 }, "even number of rows"},
-		{"assignment", func(in *Input) { in.Assignments[2].BMU = 16 }, "assignment 2"},
+		{"unit", func(in *Input) { in.Windows[2].Unit = 16 }, "unit 16 outside"},
 	} {
 		in := good()
 		tc.spoil(&in)
@@ -231,7 +233,7 @@ func TestComponentPlanesLimit(t *testing.T) {
 	const dim = 5000
 	rng := rand.New(rand.NewPCG(3, 5))
 	names := make([]string, dim)
-	m := &mapper.Model{Map: mapper.Map{Lattice: l, Dim: dim, Codebook: make([]float64, l.Units()*dim)}}
+	m := &model.Model{Map: mapper.Map{Lattice: l, Dim: dim, Codebook: make([]float64, l.Units()*dim)}}
 	for k := range names {
 		names[k] = fmt.Sprintf("c%04d.mean", k)
 	}

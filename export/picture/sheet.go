@@ -214,9 +214,12 @@ func (t tile) fade() float64 {
 	return copyFade
 }
 
+// gridWidth is the width of the white grid lines between tiles.
+func (sh sheet) gridWidth() float64 { return math.Max(1, sh.s/30) }
+
 // outline draws the grid between all tiles, then the seam or edge.
 func (sh sheet) outline(c *canvas, es []edge, grid bool) {
-	w := math.Max(1, sh.s/30)
+	w := sh.gridWidth()
 	if grid {
 		for _, e := range es {
 			c.line(sh.clip, e.a, e.b, w, white)

@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/timeline"
 	"golang.org/x/image/font"
 )
@@ -62,7 +63,7 @@ func timelines(ft *fonts, in Input) (*canvas, Picture) {
 		return nil, Picture{}
 	}
 	shown, omitted := switchedSites(in.Switches)
-	entries := make(map[string][]timeline.Entry)
+	entries := make(map[string][]features.Window)
 	for _, s := range shown {
 		entries[s.id] = nil
 	}
@@ -76,7 +77,7 @@ func timelines(ft *fonts, in Input) (*canvas, Picture) {
 		}
 	}
 	regimes := make(map[int]bool)
-	for _, e := range in.Entries {
+	for _, e := range in.Windows {
 		if _, ok := entries[e.Site]; ok {
 			entries[e.Site] = append(entries[e.Site], e)
 			widen(e.Start, e.End)
@@ -142,9 +143,9 @@ type run struct {
 
 // runs joins a site's windows into runs of one regime; windows that
 // overlap or touch join.
-func runs(es []timeline.Entry) []run {
+func runs(es []features.Window) []run {
 	es = slices.Clone(es)
-	slices.SortFunc(es, func(a, b timeline.Entry) int { return a.Start.Compare(b.Start) })
+	slices.SortFunc(es, func(a, b features.Window) int { return a.Start.Compare(b.Start) })
 	var out []run
 	for _, e := range es {
 		if n := len(out); n > 0 && out[n-1].regime == e.Regime && !e.Start.After(out[n-1].end) {

@@ -155,7 +155,7 @@ func (f *Flags) Finish(o *kinmap.Options, out *Outputs, needModel bool) error {
 // --history naming a file; and any output that is an input (a dump, the
 // register, or the model that assign and update read).
 func checkOutputs(o *kinmap.Options, out *Outputs, modelIsInput bool) error {
-	inputs := []string{o.Sites}
+	inputs := []string{o.Sites, o.Events.File}
 	for _, d := range o.Data {
 		if m, err := filepath.Glob(d); err == nil && len(m) > 0 {
 			inputs = append(inputs, m...)

@@ -12,7 +12,7 @@ import (
 
 	"github.com/kinmap/kinmap/beam/internal/beamtest"
 	"github.com/kinmap/kinmap/internal/cli"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 func TestMain(m *testing.M) { os.Exit(beamtest.Main(m)) }
@@ -71,9 +71,9 @@ func TestFlags(t *testing.T) {
 func TestRun(t *testing.T) {
 	dump, register := beamtest.Fleet(t, "pumping", 8, 1)
 	out := filepath.Join(t.TempDir(), "map")
-	model := filepath.Join(t.TempDir(), "copy.model")
+	modelPath := filepath.Join(t.TempDir(), "copy.model")
 	c, err := parse(t, "--data", dump, "--sites", register,
-		"--epochs", "4", "--out", out, "--model", model, "--quiet")
+		"--epochs", "4", "--out", out, "--model", modelPath, "--quiet")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -89,7 +89,7 @@ func TestRun(t *testing.T) {
 			t.Error(err)
 		}
 	}
-	m, err := mapper.ReadModelFile(model)
+	m, err := model.ReadFile(modelPath)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,14 +1,10 @@
-package kinmap
+package features
 
-import (
-	"github.com/kinmap/kinmap/features"
-)
-
-// timeSlots returns the time slot of every window of t: its start in
-// strides from the earliest start, rounded, so that the windows of the
-// fleet at one time share a slot even when sites start their days at
-// different hours.
-func timeSlots(t *features.Table) []int {
+// Slots returns the time slot of every window of t: its start in strides
+// from the earliest start, rounded, so that the windows of the fleet at
+// one time share a slot even when sites start their days at different
+// hours. It returns nil for a table without windows or stride.
+func (t *Table) Slots() []int {
 	if len(t.Windows) == 0 {
 		return nil
 	}

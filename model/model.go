@@ -1,9 +1,15 @@
-package mapper
+// Package model builds, writes and reads the saved model: everything
+// needed to map a later dump the same way (the feature schema and
+// settings, the normalisation, the map, its regimes, the training settings
+// and the lineage of its regime numbers), built complete by one
+// constructor, Train, Update or, for a map trained elsewhere, New.
+package model
 
 import (
 	"bufio"
 	"bytes"
 	"crypto/sha256"
+	"encoding/binary"
 	"encoding/hex"
 	"encoding/json"
 	"errors"
@@ -20,12 +26,13 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/internal/quantile"
+	"github.com/kinmap/kinmap/mapper"
 )
 
 // FormatVersion is the version of the model file this package writes, and
 // the newest it reads. Version 2 added the lineage, which a version 1 file
 // lacks; it reads as before. Version 3 records how the number of regimes
-// was reached (Choice) instead of the Davies–Bouldin scores, which older
+// was reached (mapper.Choice) instead of the Davies–Bouldin scores, which older
 // files keep. Version 4 records the lattice's shape by name (cells and
 // surface) instead of the booleans Hex and Flat; older files read as before.
 const FormatVersion = 4
@@ -44,92 +51,115 @@ const magic = "kinmap-model"
 // training quantization error: quantiles 0, 1/qeSteps, …, 1.
 const qeSteps = 1000
 
-// Fit trains a map on the rows of x, whose columns names names, assigns the
-// windows, measures the quality, finds and describes the regimes, and
-// returns the model with the assignments of x. tl holds each site's rows
-// in time order, which FindRegimes decodes; no sequences count every row
-// as a site of its own. The caller fills FeatureNames, FeatureConfig and
-// Scaler.
-func Fit(x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, error) {
-	if err := checkNames(x, names); err != nil {
-		return nil, nil, err
-	}
-	m, cfg, err := InitMap(x, cfg)
-	if err != nil {
-		return nil, nil, err
-	}
-	train(m, x, cfg)
-	return finish(m, x, names, tl, cfg)
+// Model is everything needed to map a later dump the same way: the feature
+// schema and settings, the normalisation, the map, its regimes and the
+// training settings. It is written to one checksummed file.
+type Model struct {
+	Version       int
+	FeatureNames  []string        // schema of the feature table at training
+	FeatureConfig features.Config // how windows were cut
+	Scaler        *features.Scaler
+	Map           mapper.Map
+	Regimes       []mapper.Regime
+	UnitRegime    []int          // regime ID of each unit
+	Training      mapper.Config  // training settings
+	Quality       mapper.Quality // on the training windows
+	QEQuantiles   []float64      // training quantization errors at quantiles 0, 0.001, …, 1
+	Windows       int            // training windows
+	Choice        *mapper.Choice // how the number of regimes was reached; nil in files before format version 3
+	Scores        []Score        `json:",omitempty"` // files before format version 3: the Davies–Bouldin index of each number of regimes tried
+	// Lineage names the regime numbering: set when a map is trained from
+	// scratch and kept by updates, which keep the numbers. Files written
+	// before it existed have none.
+	Lineage string `json:",omitempty"`
+
+	// Conditions is what labelled events (maintenance and inspection
+	// records) said about the windows each unit won; nil when no run of
+	// the model was given events. Files without it read as before.
+	Conditions *Conditions `json:",omitempty"`
 }
 
-// Update continues training prev's map on x (see TrainFrom), derives the
-// regimes again with cfg.Regimes (tl as for Fit), and numbers them after prev's regimes
-// with MatchRegimes. The model returned keeps prev's feature schema,
-// feature settings and scaler; the changes list every renumbering, split
-// and merge.
-func Update(prev *Model, x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, []RegimeChange, error) {
-	if err := checkNames(x, names); err != nil {
-		return nil, nil, nil, err
+// Train trains a new map on the training windows of t, scaled by sc into
+// x (Scaler.Transform), with the settings cfg, and returns the complete
+// model (see New); the windows of t are placed on the map.
+func Train(t *features.Table, x *mat.Dense, sc *features.Scaler, cfg mapper.Config) (*Model, error) {
+	if err := checkNames(x, sc); err != nil {
+		return nil, err
 	}
-	m, cfg, err := trainFrom(&prev.Map, x, cfg)
+	m, cfg, err := mapper.Train(x, cfg)
 	if err != nil {
-		return nil, nil, nil, err
+		return nil, err
 	}
-	next, asg, err := finish(m, x, names, tl, cfg)
-	if err != nil {
-		return nil, nil, nil, err
+	return New(m, cfg, t, x, sc, m.Assign(x, cfg.Workers))
+}
+
+// Update continues training prev's map on the windows of t, scaled by
+// prev's normalisation into x (see mapper.TrainFrom), derives the regimes
+// again with cfg.Regimes, and numbers them after prev's regimes with
+// mapper.MatchRegimes. The model returned keeps prev's feature schema,
+// feature settings, normalisation and lineage; the changes list every
+// renumbering, split and merge. The windows of t are placed on the new
+// map.
+func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*Model, []mapper.RegimeChange, error) {
+	if err := checkNames(x, prev.Scaler); err != nil {
+		return nil, nil, err
 	}
-	ids, changes, err := MatchRegimes(prev.Regimes, next.Regimes)
+	m, cfg, err := mapper.TrainFrom(&prev.Map, x, cfg)
 	if err != nil {
-		return nil, nil, nil, err
+		return nil, nil, err
+	}
+	next, err := New(m, cfg, t, x, prev.Scaler, m.Assign(x, cfg.Workers))
+	if err != nil {
+		return nil, nil, err
+	}
+	ids, changes, err := mapper.MatchRegimes(prev.Regimes, next.Regimes)
+	if err != nil {
+		return nil, nil, err
 	}
 	if err := next.Renumber(ids); err != nil {
-		return nil, nil, nil, err
+		return nil, nil, err
 	}
 	next.FeatureNames = slices.Clone(prev.FeatureNames)
 	next.FeatureConfig = prev.FeatureConfig
-	next.Scaler = prev.Scaler
-	return next, asg, changes, nil
+	// The update keeps the regime numbers, hence the lineage.
+	next.Lineage = prev.LineageOrDerived()
+	// It keeps the lattice's units, hence the label counts of events.
+	next.Conditions = prev.Conditions
+	return next, changes, nil
 }
 
-func checkNames(x *mat.Dense, names []string) error {
-	if x == nil {
-		return fmt.Errorf("mapper: no training windows")
+func checkNames(x *mat.Dense, sc *features.Scaler) error {
+	switch {
+	case x == nil:
+		return fmt.Errorf("model: no training windows")
+	case sc == nil:
+		return fmt.Errorf("model: no normalisation")
 	}
-	if _, d := x.Dims(); d != len(names) {
-		return fmt.Errorf("mapper: %d feature names for %d columns", len(names), d)
+	if _, d := x.Dims(); d != len(sc.Names) {
+		return fmt.Errorf("model: %d feature names for %d columns", len(sc.Names), d)
 	}
 	return nil
 }
 
-// finish builds the model of a trained map.
-func finish(m *Map, x *mat.Dense, names []string, tl Timelines, cfg Config) (*Model, []Assignment, error) {
-	asg := m.Assign(x, cfg.Workers)
-	md, err := NewModel(m, x, names, tl, cfg, asg)
-	return md, asg, err
-}
-
-// NewModel builds the model of a map trained with the complete settings cfg
-// (Config.WithDefaults) on x, whose windows landed at asg and whose sites'
-// windows in time order tl holds (no sequences: every window a site of its
-// own):
-// the regimes (FindRegimes on those windows, then Describe), the quality and
-// the quantiles of the training quantization errors. Fit and Update call
-// it after their epochs; a runner that trains the map elsewhere calls it
-// too. The caller fills FeatureNames, FeatureConfig and Scaler.
-func NewModel(m *Map, x *mat.Dense, names []string, tl Timelines, cfg Config, asg []Assignment) (*Model, error) {
-	if tl.Sequences == nil {
-		n, _ := x.Dims()
-		tl.Sequences = make([][]int, n)
-		for i := range tl.Sequences {
-			tl.Sequences[i] = []int{i}
-		}
+// New builds the complete model of map m, trained with the complete
+// settings cfg (mapper.Config.WithDefaults) on the windows of t, scaled by
+// sc into x, which landed at asg (one per window, as mapper.Map.Assign
+// gives): it places the windows of t on the map (mapper.Place), finds the
+// regimes (mapper.FindRegimes on the sites' timelines, then
+// mapper.Describe), and records the quality, the quantiles of the training
+// quantization errors, the feature schema and settings of t, sc and a new
+// lineage. Train and Update call it; a runner that trains the map
+// elsewhere calls it too.
+func New(m *mapper.Map, cfg mapper.Config, t *features.Table, x *mat.Dense, sc *features.Scaler, asg []mapper.Assignment) (*Model, error) {
+	if err := mapper.Place(t.Windows, asg); err != nil {
+		return nil, err
 	}
-	groups, choice, err := FindRegimes(m, cfg.Regimes, &Windows{X: x, Assignments: asg, Timelines: tl})
+	tl := mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun(), Slots: t.Slots()}
+	groups, choice, err := mapper.FindRegimes(m, cfg.Regimes, &mapper.Windows{X: x, Assignments: asg, Timelines: tl})
 	if err != nil {
 		return nil, err
 	}
-	regs, err := Describe(m, groups, x, asg, names)
+	regs, err := mapper.Describe(m, groups, x, asg, sc.Names)
 	if err != nil {
 		return nil, err
 	}
@@ -138,24 +168,29 @@ func NewModel(m *Map, x *mat.Dense, names []string, tl Timelines, cfg Config, as
 		unitRegime[u] = regs[g].ID
 	}
 	cfg.Progress = nil
-	return &Model{
-		Version:     FormatVersion,
-		Map:         *m,
-		Regimes:     regs,
-		UnitRegime:  unitRegime,
-		Training:    cfg,
-		Quality:     m.Quality(asg),
-		QEQuantiles: qeQuantiles(asg),
-		Windows:     len(asg),
-		Choice:      choice,
-	}, nil
+	md := &Model{
+		Version:       FormatVersion,
+		FeatureNames:  t.Names,
+		FeatureConfig: t.Config,
+		Scaler:        sc,
+		Map:           *m,
+		Regimes:       regs,
+		UnitRegime:    unitRegime,
+		Training:      cfg,
+		Quality:       m.Quality(asg),
+		QEQuantiles:   qeQuantiles(asg),
+		Windows:       len(asg),
+		Choice:        choice,
+	}
+	md.Lineage = md.LineageOrDerived()
+	return md, nil
 }
 
 // qeQuantiles returns the quantization errors at quantiles 0, 0.001, …, 1,
 // interpolated linearly between order statistics: the sample quantile of
 // definition 7 of R. J. Hyndman and Y. Fan, "Sample quantiles in
 // statistical packages", The American Statistician 50(4), 1996.
-func qeQuantiles(asg []Assignment) []float64 {
+func qeQuantiles(asg []mapper.Assignment) []float64 {
 	if len(asg) == 0 {
 		return nil
 	}
@@ -189,13 +224,13 @@ func (m *Model) QEThreshold(q float64) float64 {
 // updates UnitRegime to match. The numbers must be positive and distinct.
 func (m *Model) Renumber(ids []int) error {
 	if len(ids) != len(m.Regimes) {
-		return fmt.Errorf("mapper: %d numbers for %d regimes", len(ids), len(m.Regimes))
+		return fmt.Errorf("model: %d numbers for %d regimes", len(ids), len(m.Regimes))
 	}
 	seen := make(map[int]bool)
 	old := make(map[int]int)
 	for i, id := range ids {
 		if id < 1 || seen[id] {
-			return fmt.Errorf("mapper: regime number %d is not positive or is repeated", id)
+			return fmt.Errorf("model: regime number %d is not positive or is repeated", id)
 		}
 		seen[id] = true
 		old[m.Regimes[i].ID] = id
@@ -217,7 +252,7 @@ func (m *Model) CheckSchema(names []string) error {
 	have := make(map[string]bool, len(names))
 	for _, n := range names {
 		if have[n] {
-			return fmt.Errorf("mapper: the feature table has feature %q twice", n)
+			return fmt.Errorf("model: the feature table has feature %q twice", n)
 		}
 		have[n] = true
 	}
@@ -242,12 +277,12 @@ func (m *Model) CheckSchema(names []string) error {
 		if len(extra) > 0 {
 			parts = append(parts, "extra "+strings.Join(extra, ", "))
 		}
-		return fmt.Errorf("mapper: the feature table does not match the model, which uses the channels %s: %s",
+		return fmt.Errorf("model: the feature table does not match the model, which uses the channels %s: %s",
 			strings.Join(features.Channels(m.FeatureNames), ", "), strings.Join(parts, "; "))
 	}
 	for i, n := range names {
 		if n != m.FeatureNames[i] {
-			return fmt.Errorf("mapper: the feature table has the model's features in another order: column %d is %q, the model has %q", i, n, m.FeatureNames[i])
+			return fmt.Errorf("model: the feature table has the model's features in another order: column %d is %q, the model has %q", i, n, m.FeatureNames[i])
 		}
 	}
 	return nil
@@ -263,26 +298,26 @@ func (m *Model) Write(w io.Writer) error {
 	c.Version = FormatVersion
 	payload, err := json.Marshal(&c)
 	if err != nil {
-		return fmt.Errorf("mapper: model: %w", err)
+		return fmt.Errorf("model: %w", err)
 	}
 	sum := sha256.Sum256(payload)
 	if _, err := fmt.Fprintf(w, "%s %d\n%d %s\n", magic, FormatVersion, len(payload), hex.EncodeToString(sum[:])); err != nil {
-		return fmt.Errorf("mapper: model: %w", err)
+		return fmt.Errorf("model: %w", err)
 	}
 	if _, err := w.Write(payload); err != nil {
-		return fmt.Errorf("mapper: model: %w", err)
+		return fmt.Errorf("model: %w", err)
 	}
 	return nil
 }
 
-// ReadModel reads a model written by Write. It checks the format version,
+// Read reads a model written by Write. It checks the format version,
 // the length and the checksum of the payload and the consistency of what it
 // decodes before returning anything, so a truncated, corrupted or newer file
 // is refused whole.
-func ReadModel(r io.Reader) (*Model, error) {
+func Read(r io.Reader) (*Model, error) {
 	m, err := readModel(r)
 	if err != nil {
-		return nil, fmt.Errorf("mapper: model: %w", err)
+		return nil, fmt.Errorf("model: %w", err)
 	}
 	return m, nil
 }
@@ -292,21 +327,21 @@ func ReadModel(r io.Reader) (*Model, error) {
 func (m *Model) WriteFile(path string) error {
 	err := atomicfile.WriteFile(path, func(w io.Writer) error { return errors.Unwrap(m.Write(w)) })
 	if err != nil {
-		return fmt.Errorf("mapper: %w", err)
+		return fmt.Errorf("model: %w", err)
 	}
 	return nil
 }
 
-// ReadModelFile reads the model file at path.
-func ReadModelFile(path string) (*Model, error) {
+// ReadFile reads the model file at path.
+func ReadFile(path string) (*Model, error) {
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, fmt.Errorf("mapper: %w", err)
+		return nil, fmt.Errorf("model: %w", err)
 	}
 	defer f.Close()
 	m, err := readModel(bufio.NewReader(f))
 	if err != nil {
-		return nil, fmt.Errorf("mapper: %s: %w", path, err)
+		return nil, fmt.Errorf("model: %s: %w", path, err)
 	}
 	return m, nil
 }
@@ -387,6 +422,9 @@ func (m *Model) check() error {
 	if err := m.checkValues(); err != nil {
 		return err
 	}
+	if err := m.Conditions.check(u); err != nil {
+		return err
+	}
 	ids := make(map[int]bool)
 	listed := 0
 	for _, r := range m.Regimes {
@@ -460,3 +498,25 @@ func (m *Model) checkValues() error {
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// LineageOrDerived returns the lineage of m: its own, or for a model that
+// records none (one trained before lineages, or by a runner that does not
+// set it) one derived from what its regime numbers mean: the feature
+// schema, the lattice and the regime of every unit. Not from the codebook:
+// two runs that differ only by rounding, such as the local and the Beam
+// batch map, make the same regimes and so number them the same.
+func (m *Model) LineageOrDerived() string {
+	if m.Lineage != "" {
+		return m.Lineage
+	}
+	h := sha256.New()
+	for _, n := range m.FeatureNames {
+		fmt.Fprintf(h, "%q ", n)
+	}
+	l := m.Map.Lattice
+	fmt.Fprintf(h, "\n%d %d %t %t\n", l.Cols, l.Rows, l.Hex, l.Flat)
+	for _, id := range m.UnitRegime {
+		binary.Write(h, binary.LittleEndian, int64(id))
+	}
+	return hex.EncodeToString(h.Sum(nil)[:8])
+}

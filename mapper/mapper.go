@@ -8,12 +8,14 @@
 // MatchRegimes keeps its regime numbers. Package model puts them together
 // into the saved model.
 //
-// Regimes are states that sites hold for days. FindRegimes builds Ward's
-// tree of the units, only lattice neighbours merging, and splits it from
-// the top while the decoded segments of the sites (runs of one site in one
-// regime) show two modes along the split (an Anderson–Darling test at
-// level Alpha, as in G-means); Choice records each split, the runner-up
-// number and how close it came. The decoding is the timelines' own
+// Regimes are states that sites hold for days, relative to the fleet.
+// FindRegimes leaves out the directions the whole fleet moves in together
+// at each time, builds Ward's tree of the units, only lattice neighbours
+// merging, and splits it from the top while the decoded segments of the
+// sites (runs of one site in one regime) show two modes along the split
+// (an Anderson–Darling test at level Alpha, as in G-means, and a BIC
+// preference for two modes over one after a power transform); Choice
+// records each split, the runner-up number and how close it came. The decoding is the timelines' own
 // (package internal/viterbi, SwitchCostPerQE, DefaultMinDwell).
 //
 // Winners are exact: the matrix product that scores every unit only

@@ -4,10 +4,7 @@ import (
 	"fmt"
 	"maps"
 	"math"
-	"os/exec"
 	"slices"
-	"strconv"
-	"strings"
 	"testing"
 
 	"github.com/kinmap/kinmap/internal/tooltest"
@@ -32,29 +29,14 @@ func TestAndersonDarlingAgreesWithSciPy(t *testing.T) {
 		samples[fmt.Sprint("lognormal ", n)] = skewed
 	}
 	names := slices.Sorted(maps.Keys(samples))
-	var in strings.Builder
+	var ordered [][]float64
 	for _, name := range names {
-		for _, v := range samples[name] {
-			fmt.Fprintf(&in, "%s ", strconv.FormatFloat(v, 'g', 17, 64))
-		}
-		in.WriteString("\n")
+		ordered = append(ordered, samples[name])
 	}
-	cmd := exec.Command(py, "-c", "import sys, scipy.stats\nfor line in sys.stdin: print(repr(scipy.stats.anderson([float(v) for v in line.split()], 'norm').statistic))")
-	cmd.Stdin = strings.NewReader(in.String())
-	out, err := cmd.Output()
-	if err != nil {
-		t.Fatalf("scipy: %v", err)
-	}
-	lines := strings.Fields(string(out))
-	if len(lines) != len(names) {
-		t.Fatalf("scipy printed %d statistics for %d samples", len(lines), len(names))
-	}
+	stats := runPython(t, py, "import sys, scipy.stats\nfor line in sys.stdin: print(repr(scipy.stats.anderson([float(v) for v in line.split()], 'norm').statistic))", ordered)
 	for i, name := range names {
 		x := samples[name]
-		want, err := strconv.ParseFloat(lines[i], 64)
-		if err != nil {
-			t.Fatal(err)
-		}
+		want := stats[i]
 		n := float64(len(x))
 		if got := andersonDarling(x) / (1 + 0.75/n + 2.25/(n*n)); math.Abs(got-want) > 1e-9*math.Max(1, want) {
 			t.Errorf("%s: A² %.12g, scipy %.12g", name, got, want)

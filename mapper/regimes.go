@@ -37,16 +37,28 @@ type Windows struct {
 // sequence. With daily windows MinRun is 7: a week, the period of the
 // calendar, so that weekly cycles and passing weather average out within
 // every segment that is tested.
+//
+// Slots, when set, holds the time slot of every window (its start in
+// strides from the earliest), so that the windows of one slot are the
+// fleet at one time, from which FindRegimes finds what the fleet shares
+// (commonDirections); nil leaves that out.
 type Timelines struct {
 	Sequences [][]int
 	MinRun    int
+	Slots     []int
 }
 
 // FindRegimes groups the units of m into k regimes, returning the group
 // (0 … K−1) of every unit, groups numbered in order of their lowest unit,
 // and how K was reached.
 //
-// The units are first agglomerated by Ward's minimum-variance criterion
+// When win has time slots, what the whole fleet does together at each
+// time (commonDirections) is first taken out of every window, and every
+// unit that won windows stands for the mean of its windows so taken
+// (withoutCommon); the grouping and the tests below see the fleet-relative
+// windows, while the regimes' centroids (Describe) stay in the full space.
+//
+// The units are then agglomerated by Ward's minimum-variance criterion
 // (J. H. Ward, "Hierarchical grouping to optimize an objective function",
 // JASA 58, 1963), merging only groups that are adjacent on the lattice, so
 // that every regime is a connected area of the map. With win, each unit
@@ -67,7 +79,9 @@ type Timelines struct {
 // "Learning the k in k-means", NIPS 16, 2003): the segment means are
 // projected on the line between the two groups' centroids and the
 // Anderson–Darling test asks whether the projections could come from one
-// normal distribution. Windows that vary from day to day around one state
+// normal distribution; since any skew fails that test, the split must also
+// be preferred by the BIC for two modes over one after a power transform,
+// with two modes in the fit (mixtureGain). Windows that vary from day to day around one state
 // (weather, noise, a slow drift) average out within a segment and leave
 // one mode; sites that hold two different states leave two. The segments,
 // not the windows, are the sample, since the windows of one site in one
@@ -75,7 +89,7 @@ type Timelines struct {
 //
 // The most significant split is made first, and the segments decoded
 // again. With k = 0, splitting stops when no split is significant at
-// level Alpha (or at 12 regimes), so a homogeneous fleet keeps one
+// level Alpha with a positive gain (or at 12 regimes), so a homogeneous fleet keeps one
 // regime; with k > 0 it goes on to k regimes, the most significant split
 // first. A regime with fewer than minSegments segments cannot be tested
 // and is split only to reach a given k, in Ward's order (the last merge
@@ -96,12 +110,23 @@ func FindRegimes(m *Map, k int, win *Windows) ([]int, *Choice, error) {
 		}
 		hits = m.hits(win.Assignments)
 	}
+	var common int
+	if win != nil {
+		if dirs, byslot := commonDirections(win.X, win.Slots, win.Sequences); len(dirs) > 0 {
+			m, win = withoutCommon(m, win, byslot)
+			common = len(dirs)
+		}
+	}
 	w := unitWeights(u, hits)
 	s := &splitter{m: m, w: w, tree: wardTree(m, w), win: win}
 	if win != nil {
 		s.switchCost = SwitchCostPerQE * medianQE(win.Assignments)
 	}
-	return s.run(k)
+	groups, ch, err := s.run(k)
+	if ch != nil {
+		ch.Common = common
+	}
+	return groups, ch, err
 }
 
 // check reports windows that do not fit m.
@@ -115,6 +140,9 @@ func (win *Windows) check(m *Map) error {
 		return fmt.Errorf("mapper: windows of %d features for a map of dimension %d", d, m.Dim)
 	case len(win.Assignments) != n:
 		return fmt.Errorf("mapper: %d assignments for %d windows", len(win.Assignments), n)
+	}
+	if win.Slots != nil && len(win.Slots) != n {
+		return fmt.Errorf("mapper: %d time slots for %d windows", len(win.Slots), n)
 	}
 	seen := make([]bool, n)
 	for _, seq := range win.Sequences {

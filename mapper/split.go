@@ -32,15 +32,21 @@ type Choice struct {
 	Given  bool    `json:"given"`  // K was asked for, not chosen
 	Alpha  float64 `json:"alpha"`  // significance level of a split
 	Splits []Split `json:"splits"` // in the order made; a last one not made, when one was tested
+	// Common is the number of directions of variation the fleet shared at
+	// each time, left out before the regimes were grouped.
+	Common int `json:"common_directions"`
 
 	// RunnerUp is the other number of regimes that came closest, K−1
 	// (undo the weakest split made) or K+1 (make the strongest split
-	// turned down), and RunnerUpP the p-value of that split; 0 when K was
-	// given or there is none.
-	RunnerUp  int     `json:"runner_up,omitempty"`
-	RunnerUpP float64 `json:"runner_up_p,omitempty"`
-	// Marginal is set when the runner-up's p-value lies within a factor of
-	// ten of Alpha, either side: the data barely tell the two apart.
+	// turned down), and RunnerUpP and RunnerUpGain the p-value and BIC
+	// gain of that split; 0 when K was given or there is none.
+	RunnerUp     int     `json:"runner_up,omitempty"`
+	RunnerUpP    float64 `json:"runner_up_p,omitempty"`
+	RunnerUpGain float64 `json:"runner_up_bic_gain,omitempty"`
+	// Marginal is set when the runner-up's deciding test came within one
+	// band of going the other way: its p-value within a factor of ten of
+	// Alpha, or its BIC gain within bicBand of 0. The data barely tell the
+	// two apart.
 	Marginal bool `json:"marginal"`
 }
 
@@ -51,7 +57,12 @@ type Split struct {
 	Segments  int     `json:"segments"`  // decoded segments tested; 0 when too few to test
 	Statistic float64 `json:"statistic"` // Anderson–Darling A*² of their projections
 	P         float64 `json:"p"`         // its p-value; 1 when not tested
-	Made      bool    `json:"made"`
+	// Gain is the BIC's preference for two modes over one in the
+	// projections after a power transform (mixtureGain); a split needs
+	// it positive as well as P below Alpha. 0 when not tested.
+	Gain    float64 `json:"bic_gain"`
+	Bimodal bool    `json:"bimodal"` // the two-normal fit of Gain has two modes (bimodal)
+	Made    bool    `json:"made"`
 }
 
 // splitter divides Ward's tree of the units from the top down.
@@ -68,7 +79,12 @@ type candidate struct {
 	at       int // index in the partition
 	segments int
 	stat, p  float64
+	gain     float64 // mixtureGain of the projections
+	bimodal  bool    // whether that two-mode fit has two modes
 }
+
+// significant reports whether the split passes both tests.
+func (c candidate) significant() bool { return c.p < Alpha && c.gain > 0 && c.bimodal }
 
 // run splits from the root until k groups (k > 0) or while a split is
 // significant (k = 0).
@@ -85,8 +101,8 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 		if !ok {
 			break // only single units are left
 		}
-		made := k > 0 || best.p < Alpha
-		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Made: made})
+		made := k > 0 || best.significant()
+		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Gain: best.gain, Bimodal: best.bimodal, Made: made})
 		if !made {
 			break
 		}
@@ -104,17 +120,39 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 	return numberGroups(u, func(unit int) int { return root[unit] }), ch, nil
 }
 
+// bicBand is the BIC difference within which a choice is marginal: below
+// 2 the evidence is "not worth more than a bare mention" (R. E. Kass and
+// A. E. Raftery, "Bayes factors", JASA 90, 1995).
+const bicBand = 2
+
 // runnerUp sets the runner-up: the weakest split made or the strongest
-// turned down, whichever p-value lies closer to Alpha on a log scale.
+// turned down, whichever decision lies closest to going the other way.
+// Distances are counted in marginal bands: decades of the p-value from
+// Alpha, and units of bicBand of the BIC gain. A made split is as close
+// as the weaker of its two tests; a split turned down by the normality
+// test as close as its p-value (the mixture is fitted only to samples
+// that test rejects), and one turned down by the mixture as close as its
+// gain, or never close when the fitted mixture has one mode.
 func (ch *Choice) runnerUp() {
-	closeness := func(p float64) float64 { return math.Abs(math.Log10(math.Max(p, 1e-300) / ch.Alpha)) }
+	decades := func(p float64) float64 { return math.Abs(math.Log10(math.Max(p, 1e-300) / ch.Alpha)) }
 	best := math.Inf(1)
 	for _, sp := range ch.Splits {
 		if sp.Segments == 0 {
 			continue
 		}
-		if c := closeness(sp.P); c < best {
-			best, ch.RunnerUpP = c, sp.P
+		var c float64
+		switch {
+		case sp.Made:
+			c = math.Min(decades(sp.P), sp.Gain/bicBand)
+		case sp.P >= ch.Alpha:
+			c = decades(sp.P)
+		case sp.Bimodal:
+			c = -sp.Gain / bicBand
+		default:
+			c = math.Inf(1)
+		}
+		if c < best {
+			best, ch.RunnerUpP, ch.RunnerUpGain = c, sp.P, sp.Gain
 			ch.RunnerUp = sp.K
 			if sp.Made {
 				ch.RunnerUp = sp.K - 1
@@ -136,7 +174,12 @@ func (s *splitter) best(parts []int) (candidate, bool) {
 	var out candidate
 	found := false
 	for _, c := range tested {
-		if c.segments > 0 && (!found || c.p < out.p || c.p == out.p && c.stat > out.stat) {
+		if c.segments == 0 {
+			continue
+		}
+		better := !found || c.significant() && !out.significant() ||
+			c.significant() == out.significant() && (c.p < out.p || c.p == out.p && c.stat > out.stat)
+		if better {
 			out, found = c, true
 		}
 	}
@@ -186,6 +229,14 @@ func (s *splitter) test(parts []int) []candidate {
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
 			c.p = normalP(c.stat)
+			// The mixture is costly and decides only what the normality
+			// test would split; a sample it cannot fit (no spread) keeps
+			// gain 0, so that run.json holds finite numbers.
+			if c.p < Alpha {
+				if g, bi := mixtureGain(proj); !math.IsInf(g, 0) {
+					c.gain, c.bimodal = g, bi
+				}
+			}
 		}
 		out = append(out, c)
 	}
@@ -300,7 +351,7 @@ func (c *Choice) String() string {
 	if c.RunnerUp > c.K {
 		verb = "makes"
 	}
-	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g, and a split is made below p = %g", c.RunnerUp, verb, c.RunnerUpP, c.Alpha)
+	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g with a BIC gain of %.1f for two modes, and a split is made below p = %g with a positive gain", c.RunnerUp, verb, c.RunnerUpP, c.RunnerUpGain, c.Alpha)
 	if c.Marginal {
 		return s + ", so the choice is marginal"
 	}

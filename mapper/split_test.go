@@ -178,8 +178,9 @@ func TestFindRegimesPersistentStates(t *testing.T) {
 	}
 }
 
-// The runner-up is the number whose deciding split's p-value lies closest
-// to Alpha on a log scale, and within a factor of ten it is marginal.
+// The runner-up is the number whose deciding test lies closest to going
+// the other way: the p-value in decades from Alpha, the BIC gain in units
+// of bicBand; within one band it is marginal.
 func TestChoiceRunnerUp(t *testing.T) {
 	tests := []struct {
 		splits   []Split
@@ -188,14 +189,23 @@ func TestChoiceRunnerUp(t *testing.T) {
 	}{
 		// The split to 3 was turned down at p = 3e-4, 0.48 decades from
 		// Alpha; the one to 2 was made 16 decades below it.
-		{[]Split{{K: 2, Segments: 50, P: 1e-20, Made: true}, {K: 3, Segments: 40, P: 3e-4}}, 3, true},
+		{[]Split{{K: 2, Segments: 50, P: 1e-20, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 3e-4}}, 3, true},
 		// The split to 3 was made at 5e-5, 0.3 decades below Alpha; the
 		// one to 4 was turned down 3.5 decades above it.
-		{[]Split{{K: 2, Segments: 50, P: 1e-20, Made: true}, {K: 3, Segments: 40, P: 5e-5, Made: true}, {K: 4, Segments: 30, P: 0.3}}, 2, true},
+		{[]Split{{K: 2, Segments: 50, P: 1e-20, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 5e-5, Gain: 50, Bimodal: true, Made: true}, {K: 4, Segments: 30, P: 0.3}}, 2, true},
 		// Nothing close: the runner-up is the split turned down at 0.2.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Made: true}, {K: 3, Segments: 40, P: 0.2}}, 3, false},
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.2}}, 3, false},
 		// An untested split (too few segments) is no runner-up.
 		{[]Split{{K: 2, Segments: 0, P: 1}}, 0, false},
+		// The split to 3 passed the normality test far below Alpha but
+		// its BIC gain was 1 short of 0 (half a band): marginal.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -1, Bimodal: true}}, 3, true},
+		// The split to 2 was made with a gain of 1 (half a band), however
+		// small its p-value: marginal, the runner-up undoes it.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 1, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.3}}, 1, true},
+		// A split turned down because the fitted mixture has one mode is
+		// never close; the runner-up undoes the split made.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -0.5}}, 1, false},
 	}
 	for i, tt := range tests {
 		ch := &Choice{Alpha: Alpha, Splits: tt.splits}

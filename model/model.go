@@ -162,7 +162,7 @@ func New(m *mapper.Map, cfg mapper.Config, t *features.Table, x *mat.Dense, sc *
 	if err := mapper.Place(t.Windows, asg); err != nil {
 		return nil, err
 	}
-	tl := mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun()}
+	tl := mapper.Timelines{Sequences: t.Sequences(), MinRun: t.WeekRun(), Slots: t.Slots()}
 	groups, choice, err := mapper.FindRegimes(m, cfg.Regimes, &mapper.Windows{X: x, Assignments: asg, Timelines: tl})
 	if err != nil {
 		return nil, err

@@ -125,6 +125,15 @@ func compareModels(t *testing.T, bm, lm *model.Model) {
 	if !reflect.DeepEqual(bm.UnitRegime, lm.UnitRegime) {
 		t.Errorf("unit regimes:\n got %v\nwant %v", bm.UnitRegime, lm.UnitRegime)
 	}
+	// The codebooks agree to rounding, not bits, so the choice is compared
+	// by its decisions: how many regimes, the fleet's common directions
+	// left out, the splits made and the runner-up.
+	if (bm.Choice == nil) != (lm.Choice == nil) {
+		t.Errorf("regime choice %v, want %v", bm.Choice, lm.Choice)
+	} else if b, l := bm.Choice, lm.Choice; b != nil && (b.K != l.K || b.Given != l.Given || b.Common != l.Common ||
+		len(b.Splits) != len(l.Splits) || b.RunnerUp != l.RunnerUp || b.Marginal != l.Marginal) {
+		t.Errorf("regime choice:\n got %+v\nwant %+v", *b, *l)
+	}
 	if len(bm.Regimes) != len(lm.Regimes) {
 		t.Fatalf("%d regimes, want %d", len(bm.Regimes), len(lm.Regimes))
 	}

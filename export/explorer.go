@@ -80,6 +80,17 @@ type exSite struct {
 	Changes    []int64   `json:"ch"`             // time, from, to, confidence in % of each switch
 	Track      [][]any   `json:"tr"`             // per track segment: regime, then lon, lat pairs
 	Rank       int       `json:"rank,omitempty"` // the work list's most urgent row naming the site (attentionRanks); 0 for none
+	Events     []exEvent `json:"ev,omitempty"`   // the run's events at the site (Run.Conditions), by start
+}
+
+// exEvent is one event of a site: start and end in minutes (end equal to
+// start for a point event), its label, and its note only when the run
+// shows notes (Event.Note is empty otherwise).
+type exEvent struct {
+	Start int64  `json:"s"`
+	End   int64  `json:"e"`
+	Label string `json:"l"`
+	Note  string `json:"n,omitempty"`
 }
 
 // exDaily describes the quantised daily summaries: for each site, channel
@@ -164,6 +175,16 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, er
 	for _, sw := range r.Switches {
 		if x := bySite[sw.Site]; x != nil {
 			x.Changes = append(x.Changes, minutes(sw.Time), int64(sw.From), int64(sw.To), int64(math.Round(100*sw.Confidence)))
+		}
+	}
+	if c := r.Conditions; c != nil {
+		for _, e := range c.Events {
+			if x := bySite[e.Site]; x != nil {
+				x.Events = append(x.Events, exEvent{Start: minutes(e.Start), End: minutes(maxTime(e.Start, e.End)), Label: e.Label, Note: e.Note})
+			}
+		}
+		for _, x := range bySite {
+			slices.SortStableFunc(x.Events, func(a, b exEvent) int { return cmp.Compare(a.Start, b.Start) })
 		}
 	}
 	for _, f := range tracks {

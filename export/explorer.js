@@ -247,16 +247,28 @@
       strip.push('<path class="switch" d="M' + x(s.ch[k]) + ' 12v38M' + x(s.ch[k]) + " 12l-5 -7h10z\"><title>switch " + s.ch[k + 1] + " → " + s.ch[k + 2] +
         " at " + when(s.ch[k]) + ", confidence " + (s.ch[k + 3] / 100).toFixed(2) + "</title></path>");
     }
+    // Events of the site (--events), below the strip: a bar for an
+    // interval, a triangle for a point; times outside the run at its edge.
+    var clamp = function (m) { return Math.min(Math.max(m, 0), D.end); };
+    var events = (s.ev || []).map(function (e) {
+      var said = when(e.s) + (e.e > e.s ? " to " + when(e.e) : "") + ": " + e.l + (e.n ? " — " + e.n : "");
+      var a = x(clamp(e.s));
+      strip.push(e.e > e.s ?
+        '<rect class="event" x="' + a + '" y="59" width="' + Math.max(2, x(clamp(e.e)) - a).toFixed(1) + '" height="6"><title>' + esc(said) + "</title></rect>" :
+        '<path class="event" d="M' + a + ' 58l-5 8h10z"><title>' + esc(said) + "</title></path>");
+      return said;
+    });
     var ticks = [];
     for (var day = 0; day * 1440 <= D.end; day += Math.max(1, Math.ceil(D.end / 1440 / 10))) {
-      ticks.push('<text x="' + x(day * 1440) + '" y="70">' + when(day * 1440).slice(5, 10) + "</text>");
+      ticks.push('<text x="' + x(day * 1440) + '" y="84">' + when(day * 1440).slice(5, 10) + "</text>");
     }
     var attrs = D.attrs.map(function (name, i) { return "<tr><th>" + esc(name) + "</th><td>" + esc(fmt(s.a ? s.a[i] : null)) + "</td></tr>"; }).join("");
     var html = "<h3>Site " + esc(s.id) + "</h3>" +
       '<p>Now in ' + swatch(s.g) + "regime " + s.g + esc(label[s.g] || "") + " (" + esc(description[s.g] || "") + "); " + s.w + " windows, " + s.sw + " switch" + (s.sw === 1 ? "" : "es") +
       ", " + s.u + " unfamiliar" + (s.m ? "; mobile, shown at its last position" : "") + ".</p>" +
       (attrs ? '<table class="facts mini">' + attrs + "</table>" : "") +
-      '<svg class="strip" viewBox="-10 0 ' + (W + 20) + ' 76" width="100%" role="img" aria-label="Regime strip">' + strip.join("") + ticks.join("") + "</svg>" +
+      '<svg class="strip" viewBox="-10 0 ' + (W + 20) + ' 90" width="100%" role="img" aria-label="Regime strip">' + strip.join("") + ticks.join("") + "</svg>" +
+      (events.length ? '<ul class="events">' + events.map(function (e) { return "<li>" + esc(e) + "</li>"; }).join("") + "</ul>" : "") +
       (changes.length ? "<p>" + changes.map(function (c) {
         return "Switch " + swatch(c.from) + c.from + " → " + swatch(c.to) + c.to + " from " + when(c.at) + " (confidence " + (c.conf / 100).toFixed(2) + ")";
       }).join("<br>") + "</p>" : "");

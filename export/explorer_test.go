@@ -219,9 +219,7 @@ func TestExplorerInChromium(t *testing.T) {
 		t.Errorf("the page of PS-01 is %+v, want %+v", p, want)
 	}
 	// An address naming a site opens its page.
-	heading, err := chromedp.Run(ctx, chromedp.Evaluate[string](`new Promise(done => {
-		addEventListener("hashchange", () => done(document.querySelector("#ex-site h3").textContent), {once: true});
-		location.hash = "#site=T-7"; })`, chromedp.EvalAwaitPromise))
+	heading, err := openSitePage(ctx, "T-7")
 	if err != nil || heading != "Site T-7" {
 		t.Errorf("after #site=T-7 the site page is %q (%v)", heading, err)
 	}

@@ -64,6 +64,9 @@ func triage(o *Options, r *Result) {
 	if r.past != nil {
 		in.Earlier = r.past.earlier
 	}
+	if r.Conditions != nil {
+		in.Labels = r.Conditions.Knowledge.Labels
+	}
 	r.Attention = attention.Rank(in, attentionConfig(o, r.Table))
 	if r.past != nil && len(r.Table.Windows) > 0 {
 		r.Against = against(r.past, r.Table.Windows)

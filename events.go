@@ -131,14 +131,14 @@ func (r *Result) exportConditions(showNotes bool) *export.Conditions {
 	return out
 }
 
-// maxPrecedentSites is how many sites get precedents: those whose last
-// window is most confidently classified as a label.
+// maxPrecedentSites is how many sites get precedents.
 const maxPrecedentSites = 10
 
-// precedents returns, for the sites whose last window is classified as a
-// label, the three most similar earlier windows of the history read for
-// the run and of the run itself, with the run's events recorded after
-// them.
+// precedents returns, for the sites of the work list in its order, then
+// for those whose last window is classified as a label, most confident
+// first, up to maxPrecedentSites in all, the three earlier windows of the
+// history read for the run and of the run itself most similar to the
+// site's last window, with the run's events recorded after them.
 func (r *Result) precedents(showNotes bool) []export.SitePrecedents {
 	c := r.Conditions
 	if len(c.Events) == 0 {
@@ -154,18 +154,34 @@ func (r *Result) precedents(showNotes bool) []export.SitePrecedents {
 			last[w.Site] = i
 		}
 	}
-	var query []int
+	var labelled []int
 	for _, i := range last {
 		if slices.Contains(c.Knowledge.Labels, r.Table.Windows[i].Condition) {
-			query = append(query, i)
+			labelled = append(labelled, i)
 		}
 	}
-	slices.SortFunc(query, func(a, b int) int {
+	slices.SortFunc(labelled, func(a, b int) int {
 		wa, wb := &r.Table.Windows[a], &r.Table.Windows[b]
 		return cmp.Or(cmp.Compare(wb.ConditionConfidence, wa.ConditionConfidence), cmp.Compare(wa.Site, wb.Site))
 	})
+	var query []int
+	add := func(i int) {
+		if len(query) < maxPrecedentSites && !slices.Contains(query, i) {
+			query = append(query, i)
+		}
+	}
+	for _, row := range r.Attention {
+		for _, site := range row.Sites {
+			if i, ok := last[site]; ok {
+				add(i)
+			}
+		}
+	}
+	for _, i := range labelled {
+		add(i)
+	}
 	var out []export.SitePrecedents
-	for _, i := range query[:min(len(query), maxPrecedentSites)] {
+	for _, i := range query {
 		w := r.Table.Windows[i]
 		sp := export.SitePrecedents{Site: w.Site, Window: w.Start}
 		for _, p := range events.Precedents(w.Scaled, w.Start, past, c.Events, c.Span, 3) {

@@ -64,7 +64,13 @@ func triage(o *Options, r *Result) {
 	if r.past != nil {
 		in.Earlier = r.past.earlier
 	}
-	r.Attention = attention.Rank(in, attentionConfig(o, r.Table))
+	cfg := attentionConfig(o, r.Table)
+	if r.Conditions != nil {
+		// A site's recent windows are those of the span an event marks
+		// before it: the week before a failure, by default.
+		in.Labels, cfg.Recent = r.Conditions.Knowledge.Labels, r.Conditions.Span
+	}
+	r.Attention = attention.Rank(in, cfg)
 	if r.past != nil && len(r.Table.Windows) > 0 {
 		r.Against = against(r.past, r.Table.Windows)
 	}

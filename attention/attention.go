@@ -12,6 +12,8 @@
 //	watch       it switched into a regime marked "watch"
 //	stay        it spent at least Config.LongStay windows in a row, up to
 //	            its last window, in a regime marked "fault" or "watch"
+//	resembles   its recent windows resemble windows that carried a label of
+//	            the user's events (see Resemblance)
 //	unfamiliar  more of its windows were unfamiliar than chance allows
 //	switch      it switched between other regimes with confidence at
 //	            least Config.MinConfidence
@@ -41,6 +43,29 @@
 // window in a month is expected somewhere in any fleet, three at one site
 // are not.
 //
+// # Resemblance
+//
+// When the run has label knowledge (Input.Labels, from an events file or
+// the model), each window carries its likely condition (package events).
+// A site resembles a label when, over its windows that end within
+// Config.Recent of its last window's end, the mean confidence of those
+// classified as the label, the others counting 0, is at least
+// Config.MinResemblance (events.Resemble). Every label counts except
+// events.Unlabelled and events.Unknown: kinmap does not guess which of the
+// user's words mean a failure, so a site that resembles "normal after
+// overhaul" is listed too, with the label in its reason, and the user
+// reads it. Recent defaults to events.DefaultBefore, the span a failure
+// record marks before it, so a week that looks like the week before a
+// failure is what flags a site; MinResemblance defaults to ½, the
+// classifier's own minimum confidence (events.DefaultConfig): the week as
+// a whole leans to the label as one window must to be classified as it.
+//
+// The level ranks below the user's own verdicts (fault, watch, stay),
+// which name the regime a site is in, and above unfamiliar windows, which
+// only say that a site is unlike training: resembling what came before a
+// recorded event is the more specific news, drawn from the user's own
+// records, but it is a vote of neighbours on the map, not a verdict.
+//
 // # Fleet-wide events
 //
 // Switches from the same regime to the same regime whose windows start on
@@ -68,6 +93,7 @@ import (
 
 	"gonum.org/v1/gonum/stat/distuv"
 
+	"github.com/kinmap/kinmap/events"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -80,12 +106,13 @@ const (
 	Fault Level = iota
 	Watch
 	Stay
+	Resembles
 	Unfamiliar
 	Switch
 	Weak
 )
 
-var levelNames = [...]string{"fault", "watch", "stay", "unfamiliar", "switch", "weak"}
+var levelNames = [...]string{"fault", "watch", "stay", "resembles", "unfamiliar", "switch", "weak"}
 
 // String is the level's name in attention.csv.
 func (l Level) String() string {
@@ -112,14 +139,18 @@ type Config struct {
 	UnfamiliarAlpha float64       // binomial tail below which a site's unfamiliar windows are flagged
 	FleetAlpha      float64       // Poisson tail below which same-day switches are one event
 	MinFleetSites   int           // fewest sites of a fleet-wide event
+	Recent          time.Duration // span before a site's last window end whose windows are scored for resemblance
+	MinResemblance  float64       // score from which a site resembles a label
 }
 
 // DefaultConfig returns the defaults: confidence ½, a long stay of 7
-// windows, nearby within 2 days, a chance rate of 0.01, both tails 0.001
-// and at least 3 sites to a fleet-wide event.
+// windows, nearby within 2 days, a chance rate of 0.01, both tails 0.001,
+// at least 3 sites to a fleet-wide event, and resemblance scored over
+// events.DefaultBefore from ½.
 func DefaultConfig() Config {
 	return Config{MinConfidence: 0.5, LongStay: 7, Nearby: 48 * time.Hour, UnfamiliarRate: 0.01,
-		UnfamiliarAlpha: 0.001, FleetAlpha: 0.001, MinFleetSites: 3}
+		UnfamiliarAlpha: 0.001, FleetAlpha: 0.001, MinFleetSites: 3,
+		Recent: events.DefaultBefore, MinResemblance: 0.5}
 }
 
 func (c Config) withDefaults() Config {
@@ -131,6 +162,8 @@ func (c Config) withDefaults() Config {
 	c.UnfamiliarAlpha = cmp.Or(c.UnfamiliarAlpha, d.UnfamiliarAlpha)
 	c.FleetAlpha = cmp.Or(c.FleetAlpha, d.FleetAlpha)
 	c.MinFleetSites = cmp.Or(c.MinFleetSites, d.MinFleetSites)
+	c.Recent = cmp.Or(c.Recent, d.Recent)
+	c.MinResemblance = cmp.Or(c.MinResemblance, d.MinResemblance)
 	return c
 }
 
@@ -148,6 +181,9 @@ type Input struct {
 	Status   map[int]string    // regime ID → status; a missing ID is unlabelled
 	Names    map[int]string    // regime ID → the user's name; optional
 	Earlier  []Earlier         // switches earlier runs reported
+	// Labels are the labels of the run's knowledge; nil without one. The
+	// windows' Condition and ConditionConfidence say which they resemble.
+	Labels []string
 }
 
 // Row is one line of the list: a site, or a fleet-wide event.
@@ -193,9 +229,10 @@ func Rank(in Input, cfg Config) []Row {
 		}
 		return fmt.Sprint(id)
 	}
-	events, inEvent := fleetEvents(in, cfg)
+	fleet, inEvent := fleetEvents(in, cfg)
+	resembling := resemblance(in, cfg)
 	var rows []Row
-	for _, e := range events {
+	for _, e := range fleet {
 		e.Reason = fmt.Sprintf("%d sites switched from regime %s to %s on %s: a fleet-wide change (weather, season or the data pipeline?)",
 			len(e.Sites), label(e.From), label(e.To), e.Time.UTC().Format(time.DateOnly))
 		if lv := statusLevel(in.Status[e.To]); lv < e.Level {
@@ -272,6 +309,14 @@ func Rank(in Input, cfg Config) []Row {
 				set(Stay, nil)
 			}
 		}
+		for _, m := range resembling[site] {
+			reasons = append(reasons, fmt.Sprintf("%d of %d recent windows resemble windows labelled %q (confidence %.2f)",
+				m.Matching, m.Windows, m.label, m.Score))
+			set(Resembles, nil)
+			if r.Level == Resembles {
+				r.Confidence = max(r.Confidence, m.Score)
+			}
+		}
 		k := 0
 		for _, e := range seq {
 			if e.Unfamiliar {
@@ -299,6 +344,38 @@ func Rank(in Input, cfg Config) []Row {
 		rows[i].Rank = i + 1
 	}
 	return rows
+}
+
+// match is a site's resemblance to one label.
+type match struct {
+	events.SiteScore
+	label string
+}
+
+// resemblance returns, by site, the labels of in.Labels its recent windows
+// resemble (see the package documentation), the closest first.
+func resemblance(in Input, cfg Config) map[string][]match {
+	ws := make([]events.Window, len(in.Windows))
+	conds := make([]events.Condition, len(in.Windows))
+	for i, w := range in.Windows {
+		ws[i] = events.Window{Site: w.Site, Start: w.Start, End: w.End}
+		conds[i] = events.Condition{Label: w.Condition, Confidence: w.ConditionConfidence}
+	}
+	out := map[string][]match{}
+	for _, label := range in.Labels {
+		if label == events.Unlabelled || label == events.Unknown || label == "" {
+			continue
+		}
+		for _, s := range events.Resemble(ws, conds, label, cfg.Recent) {
+			if s.Score >= cfg.MinResemblance {
+				out[s.Site] = append(out[s.Site], match{s, label})
+			}
+		}
+	}
+	for _, ms := range out {
+		slices.SortStableFunc(ms, func(a, b match) int { return cmp.Compare(b.Score, a.Score) })
+	}
+	return out
 }
 
 // statusLevel is the level of a switch into a regime of status st, or

@@ -14,6 +14,7 @@ import (
 	"github.com/paulmach/orb"
 
 	"github.com/kinmap/kinmap/export/picture"
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -131,10 +132,7 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, er
 		d.Attrs = r.Register.AttrNames
 	}
 	ws := r.Table.Windows
-	t0, t1 := ws[0].Start, ws[0].End
-	for _, e := range ws {
-		t0, t1 = minTime(t0, e.Start), maxTime(t1, e.End)
-	}
+	t0, t1 := features.Span(ws)
 	d.Start = t0.Unix()
 	minutes := func(t time.Time) int64 { return int64(t.Sub(t0) / time.Minute) }
 	d.End = minutes(t1)

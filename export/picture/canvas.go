@@ -55,7 +55,7 @@ func newFonts() (*fonts, error) {
 	face := func(f *opentype.Font, size float64) font.Face {
 		// NewFace never fails; its error is for the interface.
 		fc, _ := opentype.NewFace(f, &opentype.FaceOptions{Size: size, DPI: 72, Hinting: font.HintingNone})
-		return fc
+		return unkerned{fc}
 	}
 	return &fonts{
 		title: face(bold, 26),
@@ -65,6 +65,16 @@ func newFonts() (*fonts, error) {
 		label: face(bold, 15),
 	}, nil
 }
+
+// unkerned is a face without kerning. The pictures are mostly numbers
+// (axis labels, counts, levels), and the fonts' kerning pairs pull "11"
+// together until its ones touch; digits set at their own advance read as
+// in a table. Text is measured and drawn with the same face, so widths stay
+// true.
+type unkerned struct{ font.Face }
+
+// Kern reports no kerning between any two runes.
+func (unkerned) Kern(r0, r1 rune) fixed.Int26_6 { return 0 }
 
 // canvas is an opaque white RGBA image with antialiased drawing.
 type canvas struct {

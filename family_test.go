@@ -149,11 +149,11 @@ func oracle(t *testing.T, r *familyRun) score.Report {
 	t.Helper()
 	m := trueRegimeModel(t, r)
 	ws := slices.Clone(r.res.Table.Windows) // decoded anew, leaving the run's regimes
-	switches, err := timeline.Build(m, ws, timeline.DefaultConfig())
+	dec, err := timeline.Build(m, ws, timeline.DefaultConfig())
 	if err != nil {
 		t.Fatal(err)
 	}
-	return scoreTimelines(r.fleet, ws, switches)
+	return scoreTimelines(r.fleet, ws, dec.Switches)
 }
 
 // familyFleets returns the fleets of names that the environment variable

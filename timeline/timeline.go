@@ -18,6 +18,13 @@ type Switch struct {
 	Confidence float64   // in [0, 1]
 }
 
+// Result is what the decoding finds besides the regimes it records in the
+// windows.
+type Result struct {
+	Switches []Switch // sorted by site and time
+	Shared   []Shared // conditions that most sites of a regime showed together, sorted by start
+}
+
 // Prior is where a site stood before the windows being decoded, taken from
 // the timelines of earlier dumps: the regime of its last window and how many
 // consecutive windows it had spent in that regime. Decoding continues from

@@ -129,20 +129,33 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	// Shared conditions first, so that the calendar is learnt from windows
 	// already relative to the fleet.
 	ids := make([]int, len(m.Regimes))
+	centroids := make([][]float64, len(m.Regimes))
 	for k, r := range m.Regimes {
-		ids[k] = r.ID
+		ids[k], centroids[k] = r.ID, r.Centroid
 	}
 	shared := learnShared(seqs, ws, sites, ids)
 	for s := range seqs {
 		shared.apply(&seqs[s], cfg.SwitchCost)
 	}
 	cal := learnCalendar(seqs, len(m.Regimes))
+	var means []int
+	if m.Scaler != nil {
+		means = meanFeatures(m.Scaler.Names)
+	}
+	xs, odd := [][]float64{}, []bool{}
 	for s := range seqs {
 		q := &seqs[s]
 		for j, row := range q.costs {
 			q.costs[j] = substitute(row, cal[q.phases[j]])
 		}
-		q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
+		q.path, _ = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
+		xs, odd = xs[:0], odd[:0]
+		for _, i := range q.idx {
+			xs = append(xs, ws[i].Scaled)
+			odd = append(odd, ws[i].Unfamiliar)
+		}
+		refineBoundaries(q.path, xs, centroids, odd, means, cfg.MinDwell, q.from)
+		q.total = viterbi.Cost(q.costs, cfg.SwitchCost, q.initial, q.path)
 	}
 
 	var switches []Switch

@@ -133,7 +133,8 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	for k, r := range m.Regimes {
 		ids[k], centroids[k] = r.ID, r.Centroid
 	}
-	shared := learnShared(seqs, ws, sites, ids)
+	days := daysOf(seqs, ws, len(ids))
+	shared := learnShared(days, sites, ids)
 	for s := range seqs {
 		shared.apply(&seqs[s], cfg.SwitchCost)
 	}
@@ -165,13 +166,22 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 			ws[i].Regime = m.Regimes[q.path[j]].ID
 		}
 		for _, sw := range segmentSwitches(q.costs, cfg.SwitchCost, q.initial, q.from, q.path, q.total) {
-			before := q.from.State
+			before, onset := q.from.State, sw.at
 			if sw.at > 0 {
 				before = q.path[sw.at-1]
+				lo := sw.at - 1
+				for lo > 0 && q.path[lo-1] == before {
+					lo--
+				}
+				onset = lo + onsetOf(days.relative(ws, q, lo, sw.at-1, centroids[before], centroids[q.path[sw.at]], before))
+				if onset == sw.at-1 {
+					onset = sw.at
+				}
 			}
 			switches = append(switches, Switch{
 				Site:       site,
 				Time:       ws[q.idx[sw.at]].Start,
+				Onset:      ws[q.idx[onset]].Start,
 				From:       m.Regimes[before].ID,
 				To:         m.Regimes[q.path[sw.at]].ID,
 				Before:     sw.before,

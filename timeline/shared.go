@@ -71,6 +71,7 @@ type fleetDays struct {
 	homes  []int              // home regime of each site, as seqs
 	counts map[slot][]int     // windows by slot, [home*k+nearest]
 	times  map[slot]time.Time // start of the windows at each slot
+	peers  map[slot][][]int   // [home]: the rows of ws at each slot, by their site's home regime
 	k      int
 }
 
@@ -78,7 +79,7 @@ type fleetDays struct {
 // index ws, among k regimes.
 func daysOf(seqs []siteSeq, ws []features.Window, k int) fleetDays {
 	f := fleetDays{seqs: seqs, near: make([][]int, len(seqs)), homes: make([]int, len(seqs)),
-		counts: map[slot][]int{}, times: map[slot]time.Time{}, k: k}
+		counts: map[slot][]int{}, times: map[slot]time.Time{}, peers: map[slot][][]int{}, k: k}
 	home := make([]int, k)
 	for s, q := range seqs {
 		clear(home)
@@ -95,24 +96,25 @@ func daysOf(seqs []siteSeq, ws []features.Window, k int) fleetDays {
 				c = make([]int, k*k)
 				f.counts[at] = c
 				f.times[at] = ws[q.idx[j]].Start
+				f.peers[at] = make([][]int, k)
 			}
 			c[f.homes[s]*k+r]++
+			f.peers[at][f.homes[s]] = append(f.peers[at][f.homes[s]], q.idx[j])
 		}
 	}
 	return f
 }
 
 // learnShared finds the slots at which some regime has a partner other
-// than itself, by the test of partners on the windows of seqs (which index
-// ws) by their site's home regime, and returns the mixture of each such
+// than itself, by the test of partners on the fleet's windows f by their
+// site's home regime, and returns the mixture of each such
 // regime there and the shared conditions they make; sites are the
 // sequences' site names and ids the regime IDs. A condition that the
 // weekly calendar of the same windows explains (see learnCalendar), such
 // as an office's weekend, is decoded alike but not reported: it is the
 // sites' week, not an event.
-func learnShared(seqs []siteSeq, ws []features.Window, sites []string, ids []int) sharedSlots {
-	k := len(ids)
-	f := daysOf(seqs, ws, k)
+func learnShared(f fleetDays, sites []string, ids []int) sharedSlots {
+	k, seqs := len(ids), f.seqs
 	partner := partners(f.counts, k)
 	out := sharedSlots{mix: map[slot][][]float64{}}
 	for at, p := range partner {

@@ -29,7 +29,7 @@ func TestBuildSharedConditions(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := Switch{Site: "7", Time: day0.AddDate(0, 0, 2+15), From: 1, To: 3, Before: 15, After: 6}
+	want := Switch{Site: "7", Time: day0.AddDate(0, 0, 2+15), Onset: day0.AddDate(0, 0, 2+15), From: 1, To: 3, Before: 15, After: 6}
 	if len(switches) != 1 {
 		t.Fatalf("switches %v, want only %v", switches, want)
 	}
@@ -87,7 +87,7 @@ func TestBuildSharedPartial(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := Switch{Site: "s", Time: day0.AddDate(0, 0, 2+9), From: 1, To: 2, Before: 9, After: 12}
+	want := Switch{Site: "s", Time: day0.AddDate(0, 0, 2+9), Onset: day0.AddDate(0, 0, 2+9), From: 1, To: 2, Before: 9, After: 12}
 	if len(res.Switches) != 1 {
 		t.Fatalf("switches %v, want only %v", res.Switches, want)
 	}

@@ -12,6 +12,7 @@ import (
 type Switch struct {
 	Site       string
 	Time       time.Time // start of the first window in the new regime
+	Onset      time.Time // start of the first window of a drift towards the new regime that led to the switch (see Build); Time when the windows before it show none
 	From, To   int       // regime IDs
 	Before     int       // windows in the old regime before the switch
 	After      int       // windows in the new regime after it

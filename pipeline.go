@@ -301,12 +301,22 @@ func decode(o *Options, res *Result) error {
 		o.logf("history: %d sites continue from earlier dumps, %d of their windows decoded again", len(c.Priors), c.Tail())
 	}
 	ws := c.Prepend(res.Model, res.Table.Windows)
-	switches, err := timeline.BuildFrom(res.Model, ws, o.Timeline, c.Priors)
+	dec, err := timeline.BuildFrom(res.Model, ws, o.Timeline, c.Priors)
 	if err != nil {
 		return err
 	}
 	var revised int
-	res.Table.Windows, res.Switches, revised = c.Settle(ws, switches)
+	res.Table.Windows, res.Switches, revised = c.Settle(ws, dec.Switches)
+	// Conditions that began in the history's windows were reported with
+	// them.
+	res.Shared = nil
+	if first, _ := features.Span(res.Table.Windows); len(res.Table.Windows) > 0 {
+		for _, sh := range dec.Shared {
+			if !sh.Start.Before(first) {
+				res.Shared = append(res.Shared, sh)
+			}
+		}
+	}
 	o.logf("timelines: %d switches", len(res.Switches))
 	if revised > 0 {
 		o.logf("history: %d windows of earlier dumps decoded anew", revised)

@@ -80,6 +80,14 @@
 // excess of events in one cell of time, as in J. Naus, "Approximations for
 // distributions of scan statistics", JASA 77, 1982, in its simplest,
 // one-cell form.
+//
+// The decoding itself reads a change that most sites of a regime show on
+// the same days as a condition of the fleet, not as switches (package
+// timeline, Shared): a storm, a holiday, or a firmware update that most of
+// the regime's sites got at once. Each such condition is a fleet-wide row
+// too, naming the sites that showed it, from when and until when, at the
+// level of a switch into the regime they looked like, with confidence
+// 1 − the chance level of the test that found it.
 package attention
 
 import (
@@ -178,6 +186,7 @@ type Earlier struct {
 type Input struct {
 	Windows  []features.Window // the run's decoded windows, by site, then time
 	Switches []timeline.Switch // the run's switches
+	Shared   []timeline.Shared // conditions most sites of a regime showed together (timeline.Result.Shared)
 	Status   map[int]string    // regime ID → status; a missing ID is unlabelled
 	Names    map[int]string    // regime ID → the user's name; optional
 	Earlier  []Earlier         // switches earlier runs reported
@@ -229,12 +238,14 @@ func Rank(in Input, cfg Config) []Row {
 		}
 		return fmt.Sprint(id)
 	}
-	fleet, inEvent := fleetEvents(in, cfg)
+	fleet, inEvent := fleetEvents(in, cfg, label)
 	resembling := resemblance(in, cfg)
 	var rows []Row
 	for _, e := range fleet {
-		e.Reason = fmt.Sprintf("%d sites switched from regime %s to %s on %s: a fleet-wide change (weather, season or the data pipeline?)",
-			len(e.Sites), label(e.From), label(e.To), e.Time.UTC().Format(time.DateOnly))
+		if e.Reason == "" {
+			e.Reason = fmt.Sprintf("%d sites switched from regime %s to %s on %s: a fleet-wide change (weather, season or the data pipeline?)",
+				len(e.Sites), label(e.From), label(e.To), e.Time.UTC().Format(time.DateOnly))
+		}
 		if lv := statusLevel(in.Status[e.To]); lv < e.Level {
 			e.Level = lv
 		} else if e.Confidence < cfg.MinConfidence {
@@ -428,10 +439,36 @@ func eventKey(s timeline.Switch) string {
 }
 
 // fleetEvents finds the fleet-wide events of in (see the package
-// documentation) and the switches they hold, keyed by eventKey|site.
-func fleetEvents(in Input, cfg Config) ([]Row, map[string]bool) {
+// documentation) and the switches they hold, keyed by eventKey|site, and
+// adds a row, with its reason, for each shared condition the decoding
+// read (in.Shared); label names a regime.
+func fleetEvents(in Input, cfg Config, label func(int) string) ([]Row, map[string]bool) {
 	if len(in.Windows) == 0 {
 		return nil, nil
+	}
+	var rows []Row
+	held := map[string]bool{}
+	// Shared conditions first: a switch of one of their sites into the
+	// regime they looked like, while they lasted, is part of them.
+	for _, sh := range in.Shared {
+		if len(sh.Sites) == 0 {
+			continue
+		}
+		for _, s := range in.Switches {
+			if s.From == sh.Regime && s.To == sh.Like && !s.Time.Before(sh.Start) && (sh.End.IsZero() || s.Time.Before(sh.End)) &&
+				slices.Contains(sh.Sites, s.Site) {
+				held[eventKey(s)+"|"+s.Site] = true
+			}
+		}
+		until := "to the last window"
+		if !sh.End.IsZero() {
+			until = "until " + sh.End.UTC().Format(time.DateOnly)
+		}
+		// Its confidence is that of the test that found it: 1 − its
+		// chance level.
+		rows = append(rows, Row{Level: Switch, From: sh.Regime, To: sh.Like, Time: sh.Start, Sites: sh.Sites, Confidence: 1 - sh.P,
+			Reason: fmt.Sprintf("%d of %d sites of regime %s looked like regime %s from %s %s, together: read as a condition of the fleet, not as switches (weather, a holiday, a firmware or set-point change, the data pipeline?)",
+				len(sh.Sites), sh.Of, label(sh.Regime), label(sh.Like), sh.Start.UTC().Format(time.DateOnly), until)})
 	}
 	first, last := features.Span(in.Windows)
 	days := math.Max(1, last.Sub(first).Hours()/24)
@@ -439,11 +476,10 @@ func fleetEvents(in Input, cfg Config) ([]Row, map[string]bool) {
 	groups := map[string][]timeline.Switch{}
 	for _, s := range in.Switches {
 		pairs[[2]int{s.From, s.To}]++
-		k := eventKey(s)
-		groups[k] = append(groups[k], s)
+		if k := eventKey(s); !held[k+"|"+s.Site] {
+			groups[k] = append(groups[k], s)
+		}
 	}
-	var rows []Row
-	held := map[string]bool{}
 	for _, k := range slices.Sorted(maps.Keys(groups)) {
 		g := groups[k]
 		s := g[0]

@@ -180,3 +180,63 @@ func TestRankFleetEventLevel(t *testing.T) {
 		}
 	}
 }
+
+// A change that most sites of regime 1 made together on day 14 and kept
+// (timeline.Shared) is one fleet-wide row naming its sites, and the
+// switches its sites made into the regime they looked like leave their
+// own rows; a storm on days 5 and 6 is a row with its end.
+func TestRankShared(t *testing.T) {
+	var sites, pushed []string
+	after := map[string][2]int{}
+	var sw []timeline.Switch
+	for i := range 20 {
+		s := string(rune('a' + i))
+		sites = append(sites, s)
+		if i < 16 {
+			pushed = append(pushed, s)
+			if i < 10 { // the decoding carried ten of them over
+				after[s] = [2]int{14, 3}
+				sw = append(sw, timeline.Switch{Site: s, Time: at(14), From: 1, To: 3, Confidence: 0.4})
+			}
+		}
+	}
+	// A site of the change that also switched to another regime, and one
+	// that switched before the change: both keep their rows.
+	sw = append(sw, timeline.Switch{Site: "a", Time: at(3), From: 1, To: 2, Confidence: 0.9},
+		timeline.Switch{Site: "a", Time: at(8), From: 2, To: 1, Confidence: 0.9})
+	in := Input{
+		Windows:  fleetOf(sites, after, nil),
+		Switches: sw,
+		Shared: []timeline.Shared{
+			{Start: at(5), End: at(7), Regime: 1, Like: 2, Sites: sites[:15], Of: 20, P: 1e-6},
+			{Start: at(14), Regime: 1, Like: 3, Sites: pushed, Of: 20, P: 1e-9},
+		},
+		Names: map[int]string{3: "updated"},
+	}
+	rows := Rank(in, DefaultConfig())
+	var fleet []Row
+	for _, r := range rows {
+		if r.Kind() == "fleet" {
+			fleet = append(fleet, r)
+			continue
+		}
+		if r.Site != "a" {
+			t.Errorf("site row %+v: want only site a's own switches", r)
+		}
+	}
+	if len(fleet) != 2 {
+		t.Fatalf("fleet rows %+v, want the change and the storm", fleet)
+	}
+	change, storm := fleet[0], fleet[1]
+	if !change.Time.Equal(at(14)) || change.From != 1 || change.To != 3 || len(change.Sites) != 16 || change.Level != Switch {
+		t.Errorf("first fleet row %+v, want the change of 16 sites from 1 to 3 on day 14", change)
+	}
+	for _, want := range []string{"16 of 20 sites of regime 1 looked like regime 3 (updated) from 2026-11-16 to the last window"} {
+		if !strings.Contains(change.Reason, want) {
+			t.Errorf("reason %q, want it to say %q", change.Reason, want)
+		}
+	}
+	if !storm.Time.Equal(at(5)) || !strings.Contains(storm.Reason, "until 2026-11-09") || len(storm.Sites) != 15 {
+		t.Errorf("second fleet row %+v, want the storm of 15 sites from day 5 until day 7", storm)
+	}
+}

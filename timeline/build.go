@@ -26,9 +26,11 @@ import (
 // are mostly in regime a show, at one window time, another regime's windows
 // (a storm, a heat wave, a holiday), significantly more often than a's
 // sites do at other times, a window at that time is measured in regime a
-// against the other regime's centroid (see shared.go). A change that most
-// of a regime's sites make at once is then read as a shared condition, not
-// as switches; one site's change is still a switch.
+// against what a's sites show there, a mixture of the regimes in the
+// shares of a's sites nearest each (see shared.go). A change that most of
+// a regime's sites make at once is then read as a shared condition, not as
+// switches, and Result.Shared lists it with its sites; one site's change
+// is still a switch.
 //
 // Sites that run to a weekly calendar are decoded with it: when most weeks
 // of a regime's sites show, at some time of the week (local to the zone
@@ -45,14 +47,15 @@ import (
 // needs, and a gap brings none. A change across a gap is a switch at the
 // first window after it.
 //
-// It returns the switches sorted by site and time. The confidence of a
+// It returns the switches sorted by site and time, and the shared
+// conditions sorted by start. The confidence of a
 // switch is Δ / (Δ + c), c the switch cost and Δ ≥ 0 how much more the
 // decoded sequence would cost without that switch: the cheaper of
 // extending the old regime over the new segment and extending the new
 // regime back over the old one. It is 0 when removing the switch costs
 // nothing, ½ when it costs one more switch penalty, and tends to 1 as the
 // evidence grows.
-func Build(m *model.Model, ws []features.Window, cfg Config) ([]Switch, error) {
+func Build(m *model.Model, ws []features.Window, cfg Config) (Result, error) {
 	return BuildFrom(m, ws, cfg, nil)
 }
 
@@ -63,22 +66,22 @@ func Build(m *model.Model, ws []features.Window, cfg Config) ([]Switch, error) {
 // window is a switch at that window, with Before the prior's windows; its
 // confidence compares with keeping the prior regime over the new segment.
 // A prior whose regime the model does not have is ignored.
-func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[string]Prior) ([]Switch, error) {
+func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[string]Prior) (Result, error) {
 	if m == nil {
-		return nil, fmt.Errorf("timeline: Build needs a model")
+		return Result{}, fmt.Errorf("timeline: Build needs a model")
 	}
 	if len(m.Regimes) == 0 {
-		return nil, fmt.Errorf("timeline: the model has no regimes")
+		return Result{}, fmt.Errorf("timeline: the model has no regimes")
 	}
 	dim := m.Map.Dim
 	for _, r := range m.Regimes {
 		if len(r.Centroid) != dim {
-			return nil, fmt.Errorf("timeline: regime %d: centroid has %d components, the map %d", r.ID, len(r.Centroid), dim)
+			return Result{}, fmt.Errorf("timeline: regime %d: centroid has %d components, the map %d", r.ID, len(r.Centroid), dim)
 		}
 	}
 	cfg, err := resolve(cfg, m)
 	if err != nil {
-		return nil, err
+		return Result{}, err
 	}
 	threshold := m.QEThreshold(cfg.UnfamiliarQ)
 	units := m.Map.Lattice.Units()
@@ -89,9 +92,9 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 		w := &ws[i]
 		switch {
 		case len(w.Scaled) != dim:
-			return nil, fmt.Errorf("timeline: site %q, window %s: %d scaled features for a map of dimension %d", w.Site, w.Start.Format(time.RFC3339), len(w.Scaled), dim)
+			return Result{}, fmt.Errorf("timeline: site %q, window %s: %d scaled features for a map of dimension %d", w.Site, w.Start.Format(time.RFC3339), len(w.Scaled), dim)
 		case w.Unit < 0 || w.Unit >= units:
-			return nil, fmt.Errorf("timeline: site %q, window %s: unit %d outside the map's %d units", w.Site, w.Start.Format(time.RFC3339), w.Unit, units)
+			return Result{}, fmt.Errorf("timeline: site %q, window %s: unit %d outside the map's %d units", w.Site, w.Start.Format(time.RFC3339), w.Unit, units)
 		}
 		w.Unfamiliar = w.QE > threshold
 		if _, ok := bySite[w.Site]; !ok {
@@ -103,7 +106,7 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 
 	loc, err := time.LoadLocation(m.FeatureConfig.TZ)
 	if err != nil {
-		return nil, fmt.Errorf("timeline: time zone %q: %w", m.FeatureConfig.TZ, err)
+		return Result{}, fmt.Errorf("timeline: time zone %q: %w", m.FeatureConfig.TZ, err)
 	}
 	seqs := make([]siteSeq, len(sites))
 	for s, site := range sites {
@@ -115,7 +118,7 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 			for k, r := range m.Regimes {
 				q.costs[j][k] = distance(ws[i].Scaled, r.Centroid)
 				if math.IsInf(q.costs[j][k], 0) {
-					return nil, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, ws[i].Start.Format(time.RFC3339))
+					return Result{}, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, ws[i].Start.Format(time.RFC3339))
 				}
 			}
 			q.weeks[j], q.phases[j] = weekPhase(ws[i].Start, loc)
@@ -125,20 +128,35 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	}
 	// Shared conditions first, so that the calendar is learnt from windows
 	// already relative to the fleet.
-	shared := learnShared(seqs, len(m.Regimes))
+	ids := make([]int, len(m.Regimes))
+	centroids := make([][]float64, len(m.Regimes))
+	for k, r := range m.Regimes {
+		ids[k], centroids[k] = r.ID, r.Centroid
+	}
+	days := daysOf(seqs, ws, len(ids))
+	shared := learnShared(days, sites, ids)
 	for s := range seqs {
-		q := &seqs[s]
-		for j, row := range q.costs {
-			q.costs[j] = substitute(row, shared[slot{q.weeks[j], q.phases[j]}])
-		}
+		shared.apply(&seqs[s], cfg.SwitchCost)
 	}
 	cal := learnCalendar(seqs, len(m.Regimes))
+	var means []int
+	if m.Scaler != nil {
+		means = meanFeatures(m.Scaler.Names)
+	}
+	xs, odd := [][]float64{}, []bool{}
 	for s := range seqs {
 		q := &seqs[s]
 		for j, row := range q.costs {
 			q.costs[j] = substitute(row, cal[q.phases[j]])
 		}
-		q.path, q.total = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
+		q.path, _ = viterbi.Decode(q.costs, cfg.SwitchCost, q.initial, cfg.MinDwell, q.from)
+		xs, odd = xs[:0], odd[:0]
+		for _, i := range q.idx {
+			xs = append(xs, ws[i].Scaled)
+			odd = append(odd, ws[i].Unfamiliar)
+		}
+		refineBoundaries(q.path, xs, centroids, odd, means, cfg.MinDwell, q.from)
+		q.total = viterbi.Cost(q.costs, cfg.SwitchCost, q.initial, q.path)
 	}
 
 	var switches []Switch
@@ -148,13 +166,22 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 			ws[i].Regime = m.Regimes[q.path[j]].ID
 		}
 		for _, sw := range segmentSwitches(q.costs, cfg.SwitchCost, q.initial, q.from, q.path, q.total) {
-			before := q.from.State
+			before, onset := q.from.State, sw.at
 			if sw.at > 0 {
 				before = q.path[sw.at-1]
+				lo := sw.at - 1
+				for lo > 0 && q.path[lo-1] == before {
+					lo--
+				}
+				onset = lo + onsetOf(days.relative(ws, q, lo, sw.at-1, centroids[before], centroids[q.path[sw.at]], before))
+				if onset == sw.at-1 {
+					onset = sw.at
+				}
 			}
 			switches = append(switches, Switch{
 				Site:       site,
 				Time:       ws[q.idx[sw.at]].Start,
+				Onset:      ws[q.idx[onset]].Start,
 				From:       m.Regimes[before].ID,
 				To:         m.Regimes[q.path[sw.at]].ID,
 				Before:     sw.before,
@@ -166,7 +193,7 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	slices.SortStableFunc(switches, func(a, b Switch) int {
 		return cmp.Or(cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
 	})
-	return switches, nil
+	return Result{Switches: switches, Shared: shared.changes}, nil
 }
 
 // startOf returns the decoding start of a site from its prior, and the

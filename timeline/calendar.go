@@ -145,12 +145,7 @@ func learnCalendar(seqs []siteSeq, k int) map[int64][]int {
 // calendarLevel. Keys without a partner other than the regime itself are
 // left out.
 func partners[K comparable](counts map[K][]int, k int) map[K][]int {
-	total := make([]int, k*k) // over all keys
-	for _, c := range counts {
-		for i, n := range c {
-			total[i] += n
-		}
-	}
+	total := totals(counts, k)
 	var out map[K][]int
 	for key, c := range counts {
 		for a := range k {
@@ -159,18 +154,7 @@ func partners[K comparable](counts map[K][]int, k int) map[K][]int {
 			if row[b] <= row[a] || row[b] < 2 {
 				continue // not most of them, or not repeated
 			}
-			// The rate at which a shows b at the other times, by
-			// Laplace's rule of succession ((x+1)/(n+2), P.-S. Laplace,
-			// "Essai philosophique sur les probabilités", 1814), so that a
-			// regime never seen elsewhere is not a certainty.
-			n, others := 0, 0
-			for r, v := range row {
-				n += v
-				others += total[a*k+r] - v
-			}
-			rate := float64(total[a*k+b]-row[b]+1) / float64(others+2)
-			chance := distuv.Binomial{N: float64(n), P: rate}
-			if chance.Survival(float64(row[b]-1)) >= calendarLevel {
+			if chance(row, total[a*k:a*k+k], b) >= calendarLevel {
 				continue // as likely at any other time
 			}
 			if out[key] == nil {
@@ -186,6 +170,35 @@ func partners[K comparable](counts map[K][]int, k int) map[K][]int {
 		}
 	}
 	return out
+}
+
+// totals sums the k×k counts of every key of counts.
+func totals[K comparable](counts map[K][]int, k int) []int {
+	total := make([]int, k*k)
+	for _, c := range counts {
+		for i, n := range c {
+			total[i] += n
+		}
+	}
+	return total
+}
+
+// chance is the one-sided exact binomial tail of the test of partners:
+// the probability that a home regime whose windows at one time are row
+// (counts by regime) shows regime b there at least row[b] times, were it
+// to show b at the rate it does at the other times, total being its counts
+// over all times. The rate is taken by Laplace's rule of succession
+// ((x+1)/(n+2), P.-S. Laplace, "Essai philosophique sur les
+// probabilités", 1814), so that a regime never seen elsewhere is not a
+// certainty.
+func chance(row, total []int, b int) float64 {
+	n, others := 0, 0
+	for r, v := range row {
+		n += v
+		others += total[r] - v
+	}
+	rate := float64(total[b]-row[b]+1) / float64(others+2)
+	return distuv.Binomial{N: float64(n), P: rate}.Survival(float64(row[b] - 1))
 }
 
 // mostOf is the index of the greatest of c, the first on a tie.

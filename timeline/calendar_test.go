@@ -72,7 +72,7 @@ func TestBuildWeeklyCalendar(t *testing.T) {
 	t.Run("a weekly cycle is part of the regime", func(t *testing.T) {
 		seqs := map[string][]int{"o1": office, "o2": office, "o3": office, "h1": home, "h2": home}
 		decoded := inputs(sitesOf(seqs))
-		switches, err := Build(testModel(), decoded, Config{})
+		switches, err := switchesOf(Build(testModel(), decoded, Config{}))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -88,7 +88,7 @@ func TestBuildWeeklyCalendar(t *testing.T) {
 	t.Run("one week is no cycle", func(t *testing.T) {
 		seqs := map[string][]int{"o1": officeWeek(1, 2), "o2": officeWeek(1, 2), "h1": home[:7]}
 		decoded := inputs(sitesOf(seqs))
-		switches, err := Build(testModel(), decoded, Config{})
+		switches, err := switchesOf(Build(testModel(), decoded, Config{}))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -110,7 +110,7 @@ func TestBuildWeeklyCalendar(t *testing.T) {
 			seqs[name] = slices.Repeat([]int{1}, 28)
 		}
 		decoded := inputs(sitesOf(seqs))
-		switches, err := Build(testModel(), decoded, Config{})
+		switches, err := switchesOf(Build(testModel(), decoded, Config{}))
 		if err != nil {
 			t.Fatal(err)
 		}

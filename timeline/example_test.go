@@ -39,7 +39,7 @@ func ExampleBuild() {
 			Scaled: []float64{v}, Unit: unit, QE: min(math.Abs(v-m.Map.Codebook[unit]), 0.6)})
 	}
 
-	switches, err := timeline.Build(m, ws, timeline.DefaultConfig())
+	res, err := timeline.Build(m, ws, timeline.DefaultConfig())
 	if err != nil {
 		log.Fatal(err)
 	}
@@ -48,7 +48,7 @@ func ExampleBuild() {
 		regimes = append(regimes, w.Regime)
 	}
 	fmt.Println(regimes)
-	for _, s := range switches {
+	for _, s := range res.Switches {
 		fmt.Printf("%s %s: %d → %d after %d windows, for %d, confidence %.2f\n",
 			s.Site, s.Time.Format(time.DateOnly), s.From, s.To, s.Before, s.After, s.Confidence)
 	}

@@ -1,6 +1,9 @@
 package timeline
 
 import (
+	"fmt"
+	"math"
+	"reflect"
 	"slices"
 	"testing"
 	"time"
@@ -22,11 +25,11 @@ func TestBuildSharedConditions(t *testing.T) {
 		seqs[string(rune('0'+i))] = r
 	}
 	decoded := inputs(sitesOf(seqs))
-	switches, err := Build(testModel(), decoded, Config{})
+	switches, err := switchesOf(Build(testModel(), decoded, Config{}))
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := Switch{Site: "7", Time: day0.AddDate(0, 0, 2+15), From: 1, To: 3, Before: 15, After: 6}
+	want := Switch{Site: "7", Time: day0.AddDate(0, 0, 2+15), Onset: day0.AddDate(0, 0, 2+15), From: 1, To: 3, Before: 15, After: 6}
 	if len(switches) != 1 {
 		t.Fatalf("switches %v, want only %v", switches, want)
 	}
@@ -51,7 +54,7 @@ func TestBuildSharedConditions(t *testing.T) {
 		seqs[string(rune('0'+i))] = r
 	}
 	decoded = inputs(sitesOf(seqs))
-	switches, err = Build(testModel(), decoded, Config{})
+	switches, err = switchesOf(Build(testModel(), decoded, Config{}))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -61,5 +64,126 @@ func TestBuildSharedConditions(t *testing.T) {
 	}
 	if len(switches) != 6 {
 		t.Errorf("switches at %v, want 6: three sites to regime 2 and back", at)
+	}
+}
+
+func TestBuildSharedPartial(t *testing.T) {
+	// Nine sites in regime 1 for 21 days; on days 9 and 10 a storm carries
+	// six of them (not all) to regime 2's centroid. Site "s" changes to
+	// regime 2 for good on day 9. The storm days are evidence, weakened but
+	// not void, that "s" is in regime 2 there: its switch is dated day 9,
+	// not after the storm, and the storm makes no switch.
+	seqs := map[string][]int{}
+	for i := range 9 {
+		r := slices.Repeat([]int{1}, 21)
+		if i < 6 {
+			copy(r[9:11], []int{2, 2})
+		}
+		seqs[string(rune('0'+i))] = r
+	}
+	seqs["s"] = slices.Concat(slices.Repeat([]int{1}, 9), slices.Repeat([]int{2}, 12))
+	decoded := inputs(sitesOf(seqs))
+	res, err := Build(testModel(), decoded, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := Switch{Site: "s", Time: day0.AddDate(0, 0, 2+9), Onset: day0.AddDate(0, 0, 2+9), From: 1, To: 2, Before: 9, After: 12}
+	if len(res.Switches) != 1 {
+		t.Fatalf("switches %v, want only %v", res.Switches, want)
+	}
+	got := res.Switches[0]
+	got.Confidence = 0
+	if got != want {
+		t.Errorf("switch %+v, want %+v", got, want)
+	}
+	// The storm is reported: six of the nine sites of regime 1 looked
+	// like regime 2 on days 9 and 10.
+	wantShared := Shared{Start: day0.AddDate(0, 0, 2+9), End: day0.AddDate(0, 0, 2+11), Regime: 1, Like: 2,
+		Sites: []string{"0", "1", "2", "3", "4", "5"}, Of: 9}
+	if len(res.Shared) != 1 {
+		t.Fatalf("shared %+v, want %+v", res.Shared, wantShared)
+	}
+	sh := res.Shared[0]
+	if !(sh.P > 0 && sh.P < calendarLevel) {
+		t.Errorf("shared condition at chance level %g, want in (0, %g)", sh.P, calendarLevel)
+	}
+	sh.P = 0
+	if !reflect.DeepEqual(sh, wantShared) {
+		t.Errorf("shared %+v, want %+v", sh, wantShared)
+	}
+}
+
+func TestBuildSharedChange(t *testing.T) {
+	// Sites of regime 1 for 21 days, and four of regime 2. On day 14,
+	// sixteen sites of regime 1 change to regime 3 together and keep it
+	// (a firmware update). The change is reported on its day with its
+	// sites, lasting to the last window. When every site of the regime
+	// made it, the regime itself changed: no site switches. When four of
+	// the regime's sites did not, the sixteen that did look unlike their
+	// peers in part; their switches, if the evidence of the week after
+	// the change carries them, are their own, on that day.
+	for _, stayed := range []int{0, 4} {
+		seqs := map[string][]int{}
+		var pushed []string
+		for i := range 16 + stayed {
+			name := fmt.Sprintf("s%02d", i)
+			r := slices.Repeat([]int{1}, 21)
+			if i < 16 {
+				copy(r[14:], slices.Repeat([]int{3}, 7))
+				pushed = append(pushed, name)
+			}
+			seqs[name] = r
+		}
+		for i := range 4 {
+			seqs[fmt.Sprintf("x%d", i)] = slices.Repeat([]int{2}, 21)
+		}
+		decoded := inputs(sitesOf(seqs))
+		res, err := Build(testModel(), decoded, Config{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, sw := range res.Switches {
+			if stayed == 0 || !slices.Contains(pushed, sw.Site) || sw.From != 1 || sw.To != 3 || !sw.Time.Equal(day0.AddDate(0, 0, 2+14)) {
+				t.Errorf("%d sites stayed: switch %+v, want none but those of the change", stayed, sw)
+			}
+		}
+		want := Shared{Start: day0.AddDate(0, 0, 2+14), Regime: 1, Like: 3, Sites: pushed, Of: 16 + stayed}
+		if len(res.Shared) != 1 {
+			t.Fatalf("%d sites stayed: shared %+v, want %+v", stayed, res.Shared, want)
+		}
+		got := res.Shared[0]
+		got.P = 0
+		if !reflect.DeepEqual(got, want) {
+			t.Errorf("%d sites stayed: shared %+v, want %+v", stayed, got, want)
+		}
+	}
+}
+
+// The mixture against the formula written out, for weights and costs
+// where the sum can be taken directly.
+func TestMixture(t *testing.T) {
+	tests := []struct {
+		costs, w []float64
+		tau      float64
+	}{
+		{[]float64{1, 3}, []float64{0.5, 0.5}, 1},
+		{[]float64{2, 2.5, 9}, []float64{0.25, 0.75, 0}, 2},
+		{[]float64{4, 0.5}, []float64{0, 1}, 0.7},
+	}
+	for _, tc := range tests {
+		var z float64
+		for r, v := range tc.w {
+			z += v * math.Exp(-tc.costs[r]/tc.tau)
+		}
+		want := -tc.tau * math.Log(z)
+		if got := mixture(tc.costs, tc.w, tc.tau); math.Abs(got-want) > 1e-12 {
+			t.Errorf("mixture(%v, %v, %g) = %g, want %g", tc.costs, tc.w, tc.tau, got, want)
+		}
+	}
+	// Far costs: the direct sum underflows to 0, the mixture stays finite
+	// (−τ·ln(½·e^(−1000) + ½·e^(−1001)) = 1000 − ln(½ + ½e^(−1))).
+	got := mixture([]float64{1000, 1001}, []float64{0.5, 0.5}, 1)
+	if want := 1000 - math.Log(0.5+0.5*math.Exp(-1)); math.Abs(got-want) > 1e-9 {
+		t.Errorf("far costs: mixture %g, want %g", got, want)
 	}
 }

@@ -12,10 +12,18 @@ import (
 type Switch struct {
 	Site       string
 	Time       time.Time // start of the first window in the new regime
+	Onset      time.Time // start of the first window of a drift towards the new regime that led to the switch (see Build); Time when the windows before it show none
 	From, To   int       // regime IDs
 	Before     int       // windows in the old regime before the switch
 	After      int       // windows in the new regime after it
 	Confidence float64   // in [0, 1]
+}
+
+// Result is what the decoding finds besides the regimes it records in the
+// windows.
+type Result struct {
+	Switches []Switch // sorted by site and time
+	Shared   []Shared // conditions that most sites of a regime showed together, sorted by start
 }
 
 // Prior is where a site stood before the windows being decoded, taken from

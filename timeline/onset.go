@@ -1,0 +1,155 @@
+package timeline
+
+import (
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/stat"
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/kinmap/kinmap/features"
+)
+
+// Wear moves a site towards another regime by degrees: a bearing warms a
+// little more each day. The decoding switches when the windows have come
+// nearer the new regime's centroid than the old one's, about halfway, so
+// the switch is dated after the drift began. Its onset (Switch.Onset) is
+// dated on the site's own windows before the switch, leaving out the last
+// one, which may hold part of the change itself (see transition.go): each
+// is placed on the line from the old regime's centroid to the new one's
+// (0 at the old, 1 at the new), less the median of the same for the
+// windows of the old regime's sites at that time, so that a season or a
+// spell of weather that moves the regime's sites together is not taken
+// for a drift. A two-phase ("broken stick") regression, flat and then
+// rising from an onset τ,
+//
+//	z_i = μ + β · max(0, i − τ + 1),
+//
+// is fitted for every τ with at least two windows on either side by least
+// squares (D. V. Hinkley, "Inference in two-phase regression", Journal of
+// the American Statistical Association 66, 1971). The τ of least residual
+// sum of squares is the onset when its rise β is positive and significant:
+// its one-sided t test, for errors correlated from day to day (see
+// onsetOf) and multiplied by the number of onsets tried (Bonferroni),
+// below onsetLevel. A switch whose windows before it show no such rise,
+// as a step from one day to the next, keeps its onset at its own time.
+// The switch's Time is the decoding's, as before: the onset is what the
+// windows before it add.
+
+// onsetLevel is the significance level of the rise, after the Bonferroni
+// correction: 1 %, a conventional level (common practice, no source).
+const onsetLevel = 0.01
+
+// relative returns where the windows [lo, hi) of site sequence q lie on
+// the line from centroid a to centroid b (0 at a, 1 at b), less the median
+// of the same for the windows of the sites whose home is regime home at
+// the same time: relative to the fleet, so that a season or a spell of
+// weather that moves the whole regime is not a drift of the site. NaN
+// where a window's projection is.
+func (f fleetDays) relative(ws []features.Window, q siteSeq, lo, hi int, a, b []float64, home int) []float64 {
+	all := make([]int, len(a))
+	for j := range all {
+		all[j] = j
+	}
+	z := make([]float64, hi-lo)
+	var peer []float64
+	for i := range z {
+		j := lo + i
+		z[i] = projection(ws[q.idx[j]].Scaled, a, b, all)
+		peer = peer[:0]
+		for _, r := range f.peers[slot{q.weeks[j], q.phases[j]}][home] {
+			if v := projection(ws[r].Scaled, a, b, all); !math.IsNaN(v) {
+				peer = append(peer, v)
+			}
+		}
+		if len(peer) > 0 {
+			slices.Sort(peer)
+			z[i] -= (peer[(len(peer)-1)/2] + peer[len(peer)/2]) / 2
+		}
+	}
+	return z
+}
+
+// onsetOf returns the index of the first window of a rise in z (see
+// above), or len(z) when it shows none; a NaN anywhere shows none.
+func onsetOf(z []float64) int {
+	n := len(z)
+	if n < 5 || slices.ContainsFunc(z, math.IsNaN) {
+		return n // too few windows for a flat part and a rise of two each and a fit
+	}
+	best, bestRSS := -1, math.Inf(1)
+	// The rise starts at window tau, with at least two windows before it
+	// and two in it.
+	tried := n - 3
+	for tau := 2; tau <= n-2; tau++ {
+		if _, _, rss, _ := hinge(z, tau); rss < bestRSS {
+			best, bestRSS = tau, rss
+		}
+	}
+	beta, mu, rss, sxx := hinge(z, best)
+	if !(beta > 0) {
+		return n
+	}
+	// Days next to each other share weather and load, so the residuals
+	// are correlated; the standard error and the degrees of freedom are
+	// those of AR(1) errors with the residuals' lag-1 correlation ρ > 0:
+	// variance × (1+ρ)/(1−ρ), n(1−ρ)/(1+ρ) effective windows (G. V.
+	// Bayley and J. M. Hammersley, "The effective number of independent
+	// observations in an autocorrelated time series", Supplement to the
+	// Journal of the Royal Statistical Society 8(2), 1946).
+	var num, den float64
+	prev := math.NaN()
+	for i, v := range z {
+		r := v - mu - beta*math.Max(0, float64(i-best+1))
+		if i > 0 {
+			num += r * prev
+		}
+		den += r * r
+		prev = r
+	}
+	inflate := 1.0
+	if den > 0 && num > 0 {
+		rho := min(num/den, 0.99)
+		inflate = (1 + rho) / (1 - rho)
+	}
+	df := float64(n)/inflate - 2
+	if df < 1 {
+		return n
+	}
+	p := 0.0 // a rise without residuals
+	if se := math.Sqrt(inflate * rss / float64(n-2) / sxx); se > 0 {
+		p = distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Survival(beta / se)
+	}
+	if p*float64(tried) >= onsetLevel {
+		return n
+	}
+	return best
+}
+
+// hingeMean is the mean of max(0, i − tau + 1) over i in [0, n).
+func hingeMean(n, tau int) float64 {
+	m := n - tau // windows tau..n-1 carry 1..m
+	return float64(m*(m+1)/2) / float64(n)
+}
+
+// hinge fits z_i = mu + beta·max(0, i − tau + 1) by least squares and
+// returns beta, mu, the residual sum of squares and the sum of squares of
+// the centred regressor.
+func hinge(z []float64, tau int) (beta, mu, rss, sxx float64) {
+	n := len(z)
+	hbar := hingeMean(n, tau)
+	zbar := stat.Mean(z, nil)
+	var sxy float64
+	for i, v := range z {
+		h := math.Max(0, float64(i-tau+1)) - hbar
+		sxy += h * (v - zbar)
+		sxx += h * h
+	}
+	beta = sxy / sxx
+	mu = zbar - beta*hbar
+	for i, v := range z {
+		r := v - mu - beta*math.Max(0, float64(i-tau+1))
+		rss += r * r
+	}
+	return beta, mu, rss, sxx
+}

@@ -31,7 +31,8 @@ const minReadings = 20
 // stages counted (the ingest summary and the feature table), so that the
 // Beam path finds the same: sites of the register that sent nothing, sites
 // whose every window was skipped, channels of the features names missing
-// at sites, duplicates and sentinels per site, dropped readings, the
+// at sites, duplicates and drops per site and reason, readings in no window
+// used, drops without a site, the
 // window against the sampling step and the epoch unit. The history's
 // silent sites are added when it is read (silentIn).
 func healthOf(res *Result, names []string) []export.Finding {
@@ -85,20 +86,15 @@ func healthOf(res *Result, names []string) []export.Finding {
 		out = append(out, export.Finding{Kind: export.HealthDuplicates, Site: site, Count: d, Share: share, Warning: share > largeShare,
 			Detail: "readings of the same channel and time; the one read last was kept"})
 	}
-	for _, site := range slices.Sorted(maps.Keys(sum.Sentinels)) {
-		n := sum.Sentinels[site]
-		share := float64(n) / float64(n+readings[site])
-		out = append(out, export.Finding{Kind: export.HealthSentinels, Site: site, Count: n, Share: share, Warning: share > largeShare,
-			Detail: fmt.Sprintf("readings of magnitude %g or more taken for bad-quality markers", ingest.SentinelMagnitude)})
-	}
-	for _, reason := range slices.Sorted(maps.Keys(sum.Dropped)) {
-		n := sum.Dropped[reason]
-		share := 0.0
-		if sum.Rows > 0 {
-			share = float64(n) / float64(sum.Rows)
+	out = append(out, dropFindings(sum)...)
+	for _, site := range slices.Sorted(maps.Keys(t.Unused)) {
+		if windows[site] == 0 {
+			continue // listed with its skipped windows
 		}
-		out = append(out, export.Finding{Kind: export.HealthDropped, Count: n, Share: share, Warning: share > largeShare,
-			Detail: "readings dropped for " + reason})
+		n := t.Unused[site]
+		share := float64(n) / float64(max(n, readings[site]))
+		out = append(out, export.Finding{Kind: export.HealthUnused, Site: site, Count: n, Share: share, Warning: share > largeShare,
+			Detail: unusedDetail(t, site)})
 	}
 	if f, ok := stepFinding(t); ok {
 		out = append(out, f)
@@ -107,6 +103,94 @@ func healthOf(res *Result, names []string) []export.Finding {
 		out = append(out, export.Finding{Kind: export.HealthEpochUnit, Warning: true, Detail: u.Error()})
 	}
 	return out
+}
+
+// dropFindings lists the rows and readings ingest dropped: by site and
+// reason, as a share of what the site sent (kept, resolved as duplicates
+// or dropped), then, for the whole dump, those that have no site, as a
+// share of its rows.
+func dropFindings(sum *ingest.Summary) []export.Finding {
+	var out []export.Finding
+	bySite := map[string]int64{}
+	for _, site := range slices.Sorted(maps.Keys(sum.SiteDropped)) {
+		sent := sum.SiteReadings[site] + sum.SiteDuplicates[site]
+		for _, n := range sum.SiteDropped[site] {
+			sent += n
+		}
+		for _, reason := range slices.Sorted(maps.Keys(sum.SiteDropped[site])) {
+			n := sum.SiteDropped[site][reason]
+			bySite[reason] += n
+			share := float64(n) / float64(sent)
+			out = append(out, export.Finding{Kind: export.HealthDropped, Site: site, Reason: reason, Count: n, Share: share, Warning: share > largeShare,
+				Detail: dropDetail(reason)})
+		}
+	}
+	for _, reason := range slices.Sorted(maps.Keys(sum.Dropped)) {
+		n := sum.Dropped[reason] - bySite[reason]
+		if n <= 0 {
+			continue
+		}
+		share := 0.0
+		if sum.Rows > 0 {
+			share = float64(n) / float64(sum.Rows)
+		}
+		out = append(out, export.Finding{Kind: export.HealthDropped, Reason: reason, Count: n, Share: share, Warning: share > largeShare,
+			Detail: dropDetail(reason) + " (no site to count them against)"})
+	}
+	return out
+}
+
+// dropWarnings warns of each site that had sentinel values, a sensor's
+// bad-quality markers, or a large share of what it sent dropped.
+func dropWarnings(sum *ingest.Summary) []string {
+	var out []string
+	for _, site := range slices.Sorted(maps.Keys(sum.SiteDropped)) {
+		drops := sum.SiteDropped[site]
+		var n int64
+		var parts []string
+		for _, reason := range slices.Sorted(maps.Keys(drops)) {
+			n += drops[reason]
+			parts = append(parts, fmt.Sprintf("%d for %s", drops[reason], reason))
+		}
+		sent := n + sum.SiteReadings[site] + sum.SiteDuplicates[site]
+		share := float64(n) / float64(sent)
+		if share <= largeShare && drops[ingest.DropSentinel] == 0 {
+			continue
+		}
+		w := fmt.Sprintf("site %s: %d of %d rows and readings dropped (%.1f %%): %s", site, n, sent, 100*share, strings.Join(parts, ", "))
+		if drops[ingest.DropSentinel] > 0 {
+			w += fmt.Sprintf("; a sentinel value is a reading of magnitude %g or more, a bad-quality marker", ingest.SentinelMagnitude)
+		}
+		out = append(out, w)
+	}
+	return out
+}
+
+// dropDetail words a reason for dropping.
+func dropDetail(reason string) string {
+	switch reason {
+	case ingest.DropSentinel:
+		return fmt.Sprintf("readings of magnitude %g or more dropped as bad-quality markers (sentinel values)", ingest.SentinelMagnitude)
+	case ingest.DropNullSite, ingest.DropNullTime, ingest.DropTimeRange, ingest.DropNullChannel:
+		return "rows dropped: " + reason
+	}
+	return "readings dropped: " + reason
+}
+
+// unusedDetail words why a site's readings fell in no window kept.
+func unusedDetail(t *features.Table, site string) string {
+	d := "readings in no window used"
+	if skips := t.Skipped[site]; len(skips) > 0 {
+		var parts []string
+		for _, r := range slices.Sorted(maps.Keys(skips)) {
+			parts = append(parts, fmt.Sprintf("%d for %s", skips[r], r))
+		}
+		d += ": in windows skipped (" + strings.Join(parts, ", ") + ")"
+	}
+	if t.Config.Stride > t.Config.Window {
+		d += fmt.Sprintf("; the stride of %s leaves the readings between windows of %s unused", t.Config.Stride, t.Config.Window)
+	}
+	return d
 }
 
 // stepFinding says when the window is short for the sampling step (fewer

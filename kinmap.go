@@ -12,9 +12,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"maps"
 	"path/filepath"
-	"slices"
 	"time"
 
 	"gonum.org/v1/gonum/mat"
@@ -252,10 +250,7 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 	}
 	res.Ingest = ds.Summary
 	res.data = ds
-	for _, site := range slices.Sorted(maps.Keys(ds.Summary.Sentinels)) {
-		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("site %s: %d readings of magnitude %g or more dropped as sentinel values (bad-quality markers)",
-			site, ds.Summary.Sentinels[site], ingest.SentinelMagnitude))
-	}
+	res.Info.Warnings = append(res.Info.Warnings, dropWarnings(&ds.Summary)...)
 	if u := ds.Summary.EpochUnit; u != nil {
 		res.Info.Warnings = append(res.Info.Warnings, u.Error())
 	}

@@ -71,8 +71,8 @@ var healthTitles = map[string]string{
 	HealthNoWindows:      "Sites whose every window was skipped",
 	HealthMissingChannel: "Channels missing",
 	HealthDuplicates:     "Readings resolved as duplicates",
-	HealthSentinels:      "Readings dropped as sentinel values",
-	HealthDropped:        "Readings dropped",
+	HealthDropped:        "Rows and readings dropped",
+	HealthUnused:         "Readings in no window used",
 	HealthWindowStep:     "Windows and the sampling step",
 	HealthEpochUnit:      "Epoch unit of the times",
 }

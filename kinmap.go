@@ -45,6 +45,12 @@ type Options struct {
 	Log      io.Writer // progress messages; nil for none
 	Events   EventOptions
 
+	// WorkList holds the thresholds of the work list; zero fields take the
+	// defaults of attention.DefaultConfig, but LongStay, whose default is
+	// a week of windows, and Nearby and UnfamiliarRate, which follow the
+	// timeline's minimum dwell and unfamiliar quantile.
+	WorkList attention.Config
+
 	// Units are the units of channels, such as "m3/h" for flow, in which
 	// the regime descriptions give typical levels; they replace the
 	// model's for assign and update, and are recorded in the model.
@@ -111,9 +117,10 @@ type Result struct {
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
-	quality *mapper.Quality
-	past    *past            // the history before the run; nil without one
-	health  []export.Finding // the data health found before decoding
+	quality  *mapper.Quality
+	past     *past            // the history before the run; nil without one
+	health   []export.Finding // the data health found before decoding
+	workList attention.Config // the thresholds the work list was made with
 	// daily summarises the readings by site, channel and day for the
 	// report's explorer.
 	daily []export.DailySummary
@@ -184,6 +191,7 @@ type OptionsRecord struct {
 	History  string                 `json:"history,omitempty"`
 	Events   *EventOptions          `json:"events,omitempty"`
 	Units    map[string]string      `json:"units,omitempty"`
+	WorkList attention.Config       `json:"work_list"`
 }
 
 // Validate reports the first usage error in the options.
@@ -206,6 +214,9 @@ func (o *Options) Validate() error {
 		return &UsageError{err}
 	}
 	if err := o.Timeline.Validate(); err != nil {
+		return &UsageError{err}
+	}
+	if err := o.WorkList.Validate(); err != nil {
 		return &UsageError{err}
 	}
 	return nil

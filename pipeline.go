@@ -327,7 +327,7 @@ func Begin(command string, o Options) *Result {
 		Options: OptionsRecord{
 			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
 			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History, Units: o.Units,
-			Events: eventsRecord(o.Events),
+			Events: eventsRecord(o.Events), WorkList: o.WorkList,
 		},
 	}}
 }

@@ -128,6 +128,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Health:     r.Health,
 		Against:    r.Against,
 		Levels:     r.Levels,
+		WorkList:   r.workList,
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {

@@ -1,6 +1,7 @@
 package attention
 
 import (
+	"errors"
 	"math"
 	"strings"
 	"testing"
@@ -178,5 +179,82 @@ func TestRankFleetEventLevel(t *testing.T) {
 		if len(rows) != 1 || rows[0].Kind() != "fleet" || rows[0].Level != c.want {
 			t.Errorf("status %q, confidence %g: rows %+v, want one fleet row at level %s", c.status, c.conf, rows, c.want)
 		}
+	}
+}
+
+// Validate accepts zero fields (the defaults) and the ends of each range,
+// and names the first field out of range.
+func TestConfigValidate(t *testing.T) {
+	tests := []struct {
+		name  string
+		cfg   Config
+		field string // "" for valid
+	}{
+		{"zero", Config{}, ""},
+		{"defaults", DefaultConfig(), ""},
+		{"confidence 1", Config{MinConfidence: 1}, ""},
+		{"confidence above 1", Config{MinConfidence: 1.5}, "MinConfidence"},
+		{"confidence NaN", Config{MinConfidence: math.NaN()}, "MinConfidence"},
+		{"negative stay", Config{LongStay: -1}, "LongStay"},
+		{"fleet p 1", Config{FleetAlpha: 1}, "FleetAlpha"},
+		{"fleet p negative", Config{FleetAlpha: -0.01}, "FleetAlpha"},
+		{"one site a fleet", Config{MinFleetSites: 1}, "MinFleetSites"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			err := tt.cfg.Validate()
+			var ce *ConfigError
+			switch {
+			case tt.field == "" && err != nil:
+				t.Errorf("Validate() = %v, want nil", err)
+			case tt.field != "" && (!errors.As(err, &ce) || ce.Field != tt.field):
+				t.Errorf("Validate() = %v, want a ConfigError for %s", err, tt.field)
+			}
+		})
+	}
+}
+
+// A long stay an earlier run reported, in the same regime and unbroken
+// since, is not news: the sites fold into one still row per regime, below
+// the switches. A stay is news again when the regime differs, when the
+// earlier stay was too short to be reported, or when the site switched
+// in this run.
+func TestRankStillStay(t *testing.T) {
+	status := map[int]string{1: StatusNormal, 3: StatusWatch, 4: StatusFault}
+	after := map[string][2]int{"old": {0, 4}, "old2": {0, 4}, "watch": {0, 3}, "other": {0, 4}, "short": {0, 4}, "back": {10, 4}, "busy": {0, 4}}
+	sites := []string{"old", "old2", "watch", "other", "short", "back", "busy"}
+	in := Input{
+		Windows:  fleetOf(sites, after, map[string]int{"busy": 5}),
+		Status:   status,
+		Switches: []timeline.Switch{{Site: "back", Time: at(10), From: 1, To: 4, Confidence: 0.9}},
+		Standing: map[string]Standing{
+			"old": {4, 9}, "old2": {4, 30}, "watch": {3, 7}, "busy": {4, 12},
+			"other": {3, 20}, // it was in another regime
+			"short": {4, 6},  // too short to have been reported
+			"back":  {4, 20}, // it left and came back in this run
+		},
+	}
+	rows := Rank(in, DefaultConfig())
+	type want struct {
+		kind  string
+		level Level
+		sites string
+	}
+	wants := []want{{"site", Fault, "back"}, {"site", Stay, "other"}, {"site", Stay, "short"}, {"site", Unfamiliar, "busy"},
+		{"regime", Still, "busy,old,old2"}, {"regime", Still, "watch"}}
+	if len(rows) != len(wants) {
+		t.Fatalf("%d rows, want %d: %+v", len(rows), len(wants), rows)
+	}
+	for i, w := range wants {
+		r := rows[i]
+		if r.Kind() != w.kind || r.Level != w.level || strings.Join(r.Sites, ",") != w.sites {
+			t.Errorf("row %d: %s %s %v, want %s %s %s", i, r.Kind(), r.Level, r.Sites, w.kind, w.level, w.sites)
+		}
+	}
+	if r := rows[4]; r.To != 4 || !containsAll(r.Reason, "3 site(s) still in fault regime 4", "busy, old, old2") {
+		t.Errorf("still row: regime %d, reason %q", r.To, r.Reason)
+	}
+	if r := rows[3]; !containsAll(r.Reason, "unfamiliar", "still in fault regime 4, as an earlier run reported") {
+		t.Errorf("busy's row does not say its stay goes on: %q", r.Reason)
 	}
 }

@@ -6,13 +6,15 @@ import (
 	"strings"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
 )
 
 // flagNames are the options of the commands that set the Config fields the
 // library's errors name.
-var flagNames = map[string]string{"Window": "--window", "Stride": "--stride"}
+var flagNames = map[string]string{"Window": "--window", "Stride": "--stride",
+	"MinConfidence": "--top-confidence", "LongStay": "--long-stay", "FleetAlpha": "--fleet-p"}
 
 // fieldFlags words the settings that library warnings name by their
 // fields with the options that set them.
@@ -31,6 +33,7 @@ func Words(err error) string {
 		limit *features.WindowLimitError
 		grid  *mapper.LimitError
 		none  *kinmap.NoWindowError
+		list  *attention.ConfigError
 	)
 	switch {
 	case errors.As(err, &step):
@@ -44,6 +47,8 @@ func Words(err error) string {
 			strings.TrimPrefix(grid.What, "lattice "), grid.Value, grid.Unit, grid.Limit)
 	case errors.As(err, &none) && none.Unit != nil:
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s): %v", none.Reasons, none.Unit)
+	case errors.As(err, &list) && flagNames[list.Field] != "":
+		return fmt.Sprintf("%s %g: want a value %s", flagNames[list.Field], list.Value, list.Want)
 	case errors.As(err, &none):
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", none.Reasons)
 	}

@@ -197,7 +197,7 @@ type OptionsRecord struct {
 // Validate reports the first usage error in the options.
 func (o *Options) Validate() error {
 	if len(o.Data) == 0 {
-		return usage("kinmap: no dump given: name one or more files with --data")
+		return usage("kinmap: no dump given: name one or more files (kinmap.Options.Data)")
 	}
 	if err := o.Ingest.Validate(); err != nil {
 		return err

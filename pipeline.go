@@ -387,7 +387,7 @@ func finish(res *Result, sw *stopwatch) {
 func regimeChoice(c *mapper.Choice) *RegimeChoice {
 	note := c.String()
 	if c.Marginal {
-		note += fmt.Sprintf(": re-run with --regimes %d to see the other", c.RunnerUp)
+		note += fmt.Sprintf(": re-run with %d regimes (mapper.Config.Regimes) to see the other", c.RunnerUp)
 	}
 	return &RegimeChoice{Choice: *c, Note: note}
 }

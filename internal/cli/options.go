@@ -244,7 +244,7 @@ func within(path, dir string) bool {
 //
 // They are written together or not at all (kinmap.Result.Save).
 func Write(res *kinmap.Result, o *kinmap.Options, out *Outputs) error {
-	err := res.Save(kinmap.Targets{Out: out.Out, Model: out.Model, History: o.History})
+	err := res.Save(kinmap.Targets{Out: out.Out, Model: out.Model, History: o.History, Word: WordWarning})
 	var busy *atomicfile.ErrBusy
 	var changed *history.ChangedError
 	switch {

@@ -17,11 +17,19 @@ var flagNames = map[string]string{"Window": "--window", "Stride": "--stride",
 	"MinConfidence": "--top-confidence", "LongStay": "--long-stay", "FleetAlpha": "--fleet-p"}
 
 // fieldFlags words the settings that library warnings name by their
-// fields with the options that set them.
-var fieldFlags = strings.NewReplacer("(Config.Sigma0)", "(--sigma0)")
+// fields, in parentheses and qualified by package, with the options that
+// set them: the one rule of every warning that names a setting.
+var fieldFlags = strings.NewReplacer(
+	"(mapper.Config.Sigma0)", "(--sigma0)",
+	"(mapper.Config.Regimes)", "(--regimes)",
+	"(export.Run.Register)", "(--sites)",
+	"(kinmap.Options.Data)", "(--data)",
+	"(scaleout.Options.Work)", "(--work)", // kinmap-beam
+)
 
 // WordWarning returns a warning of the library in the words of the
-// command's options.
+// command's options; Write words the warnings of run.json and the report
+// with it too.
 func WordWarning(w string) string { return fieldFlags.Replace(w) }
 
 // Words returns the message of err in the words of the run command's
@@ -52,5 +60,5 @@ func Words(err error) string {
 	case errors.As(err, &none):
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", none.Reasons)
 	}
-	return err.Error()
+	return fieldFlags.Replace(err.Error())
 }

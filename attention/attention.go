@@ -378,8 +378,15 @@ func Rank(in Input, cfg Config) []Row {
 			Reason: fmt.Sprintf("%d site(s) still in %s regime %s, unchanged since an earlier run reported their stay: %s",
 				len(ss), in.Status[id], label(id), strings.Join(ss, ", "))})
 	}
+	// Still rows of fault regimes come before those of watch regimes.
+	stillRank := func(r Row) Level {
+		if r.Level == Still {
+			return statusLevel(in.Status[r.To])
+		}
+		return 0
+	}
 	slices.SortStableFunc(rows, func(a, b Row) int {
-		return cmp.Or(cmp.Compare(a.Level, b.Level), compareBool(a.Revision, b.Revision),
+		return cmp.Or(cmp.Compare(a.Level, b.Level), cmp.Compare(stillRank(a), stillRank(b)), compareBool(a.Revision, b.Revision),
 			cmp.Compare(len(b.Sites), len(a.Sites)), cmp.Compare(b.Confidence, a.Confidence),
 			cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
 	})

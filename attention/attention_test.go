@@ -221,18 +221,22 @@ func TestConfigValidate(t *testing.T) {
 // in this run.
 func TestRankStillStay(t *testing.T) {
 	status := map[int]string{1: StatusNormal, 3: StatusWatch, 4: StatusFault}
-	after := map[string][2]int{"old": {0, 4}, "old2": {0, 4}, "watch": {0, 3}, "other": {0, 4}, "short": {0, 4}, "back": {10, 4}, "busy": {0, 4}}
-	sites := []string{"old", "old2", "watch", "other", "short", "back", "busy"}
+	after := map[string][2]int{"old": {0, 4}, "old2": {0, 4}, "other": {0, 4}, "short": {0, 4}, "back": {10, 4}, "busy": {0, 4}}
+	sites := []string{"old", "old2", "other", "short", "back", "busy"}
+	standing := map[string]Standing{
+		"old": {4, 9}, "old2": {4, 30}, "busy": {4, 12},
+		"other": {3, 20}, // it was in another regime
+		"short": {4, 6},  // too short to have been reported
+		"back":  {4, 20}, // it left and came back in this run
+	}
+	for _, w := range []string{"w1", "w2", "w3", "w4"} {
+		sites, after[w], standing[w] = append(sites, w), [2]int{0, 3}, Standing{3, 7}
+	}
 	in := Input{
 		Windows:  fleetOf(sites, after, map[string]int{"busy": 5}),
 		Status:   status,
 		Switches: []timeline.Switch{{Site: "back", Time: at(10), From: 1, To: 4, Confidence: 0.9}},
-		Standing: map[string]Standing{
-			"old": {4, 9}, "old2": {4, 30}, "watch": {3, 7}, "busy": {4, 12},
-			"other": {3, 20}, // it was in another regime
-			"short": {4, 6},  // too short to have been reported
-			"back":  {4, 20}, // it left and came back in this run
-		},
+		Standing: standing,
 	}
 	rows := Rank(in, DefaultConfig())
 	type want struct {
@@ -240,8 +244,10 @@ func TestRankStillStay(t *testing.T) {
 		level Level
 		sites string
 	}
+	// The still row of the watch regime has fewer sites, but the fault
+	// regime's comes first.
 	wants := []want{{"site", Fault, "back"}, {"site", Stay, "other"}, {"site", Stay, "short"}, {"site", Unfamiliar, "busy"},
-		{"regime", Still, "busy,old,old2"}, {"regime", Still, "watch"}}
+		{"regime", Still, "busy,old,old2"}, {"regime", Still, "w1,w2,w3,w4"}}
 	if len(rows) != len(wants) {
 		t.Fatalf("%d rows, want %d: %+v", len(rows), len(wants), rows)
 	}

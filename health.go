@@ -56,15 +56,9 @@ func healthOf(res *Result, names []string) []export.Finding {
 		if windows[site] > 0 {
 			continue
 		}
-		skips := t.Skipped[site]
-		var n int
-		var parts []string
-		for _, r := range slices.Sorted(maps.Keys(skips)) {
-			n += skips[r]
-			parts = append(parts, fmt.Sprintf("%d for %s", skips[r], r))
-		}
+		n, reasons := byReason(t.Skipped[site])
 		out = append(out, export.Finding{Kind: export.HealthNoWindows, Site: site, Count: int64(n), Warning: true,
-			Detail: "every window skipped: " + strings.Join(parts, ", ") + "; lower the minimum coverage or lengthen the window if its readings are sparse"})
+			Detail: "every window skipped: " + reasons + "; lower the minimum coverage or lengthen the window if its readings are sparse"})
 	}
 	for _, ch := range sum.Absent {
 		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(t.Windows)), Warning: true,
@@ -146,24 +140,30 @@ func dropWarnings(sum *ingest.Summary) []string {
 	var out []string
 	for _, site := range slices.Sorted(maps.Keys(sum.SiteDropped)) {
 		drops := sum.SiteDropped[site]
-		var n int64
-		var parts []string
-		for _, reason := range slices.Sorted(maps.Keys(drops)) {
-			n += drops[reason]
-			parts = append(parts, fmt.Sprintf("%d for %s", drops[reason], reason))
-		}
+		n, reasons := byReason(drops)
 		sent := n + sum.SiteReadings[site] + sum.SiteDuplicates[site]
 		share := float64(n) / float64(sent)
 		if share <= largeShare && drops[ingest.DropSentinel] == 0 {
 			continue
 		}
-		w := fmt.Sprintf("site %s: %d of %d rows and readings dropped (%.1f %%): %s", site, n, sent, 100*share, strings.Join(parts, ", "))
+		w := fmt.Sprintf("site %s: %d of %d rows and readings dropped (%.1f %%): %s", site, n, sent, 100*share, reasons)
 		if drops[ingest.DropSentinel] > 0 {
 			w += fmt.Sprintf("; a sentinel value is a reading of magnitude %g or more, a bad-quality marker", ingest.SentinelMagnitude)
 		}
 		out = append(out, w)
 	}
 	return out
+}
+
+// byReason totals counts by reason and words them, "3 for coverage, 1 for
+// empty", reasons in order.
+func byReason[N int | int64](counts map[string]N) (total N, words string) {
+	var parts []string
+	for _, r := range slices.Sorted(maps.Keys(counts)) {
+		total += counts[r]
+		parts = append(parts, fmt.Sprintf("%d for %s", counts[r], r))
+	}
+	return total, strings.Join(parts, ", ")
 }
 
 // dropDetail words a reason for dropping.
@@ -181,11 +181,8 @@ func dropDetail(reason string) string {
 func unusedDetail(t *features.Table, site string) string {
 	d := "readings in no window used"
 	if skips := t.Skipped[site]; len(skips) > 0 {
-		var parts []string
-		for _, r := range slices.Sorted(maps.Keys(skips)) {
-			parts = append(parts, fmt.Sprintf("%d for %s", skips[r], r))
-		}
-		d += ": in windows skipped (" + strings.Join(parts, ", ") + ")"
+		_, reasons := byReason(skips)
+		d += ": in windows skipped (" + reasons + ")"
 	}
 	if t.Config.Stride > t.Config.Window {
 		d += fmt.Sprintf("; the stride of %s leaves the readings between windows of %s unused", t.Config.Stride, t.Config.Window)

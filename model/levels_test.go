@@ -2,9 +2,7 @@ package model
 
 import (
 	"bytes"
-	"crypto/sha256"
 	"encoding/json"
-	"fmt"
 	"reflect"
 	"strings"
 	"testing"
@@ -77,8 +75,7 @@ func TestModelReadsVersion5(t *testing.T) {
 	if bytes.Contains(payload, []byte(`"Levels"`)) {
 		t.Fatal("a version 5 payload has no Levels field")
 	}
-	sum := sha256.Sum256(payload)
-	file := fmt.Appendf(nil, "%s 5\n%d %x\n%s", magic, len(payload), sum, payload)
+	file := fileAs(5, payload)
 	back, err := Read(bytes.NewReader(file))
 	if err != nil {
 		t.Fatal(err)

@@ -107,16 +107,15 @@ func dropFindings(sum *ingest.Summary) []export.Finding {
 	var out []export.Finding
 	bySite := map[string]int64{}
 	for _, site := range slices.Sorted(maps.Keys(sum.SiteDropped)) {
-		sent := sum.SiteReadings[site] + sum.SiteDuplicates[site]
-		for _, n := range sum.SiteDropped[site] {
-			sent += n
-		}
+		dropped, sent, _ := siteLoss(sum, site)
+		// Every reason of a site that lost much is a warning: it is the
+		// site's results that are in doubt.
+		large := float64(dropped) > largeShare*float64(sent)
 		for _, reason := range slices.Sorted(maps.Keys(sum.SiteDropped[site])) {
 			n := sum.SiteDropped[site][reason]
 			bySite[reason] += n
-			share := float64(n) / float64(sent)
-			out = append(out, export.Finding{Kind: export.HealthDropped, Site: site, Reason: reason, Count: n, Share: share, Warning: share > largeShare,
-				Detail: dropDetail(reason)})
+			out = append(out, export.Finding{Kind: export.HealthDropped, Site: site, Reason: reason, Count: n, Share: float64(n) / float64(sent),
+				Warning: large, Detail: dropDetail(reason)})
 		}
 	}
 	for _, reason := range slices.Sorted(maps.Keys(sum.Dropped)) {
@@ -139,20 +138,26 @@ func dropFindings(sum *ingest.Summary) []export.Finding {
 func dropWarnings(sum *ingest.Summary) []string {
 	var out []string
 	for _, site := range slices.Sorted(maps.Keys(sum.SiteDropped)) {
-		drops := sum.SiteDropped[site]
-		n, reasons := byReason(drops)
-		sent := n + sum.SiteReadings[site] + sum.SiteDuplicates[site]
+		n, sent, reasons := siteLoss(sum, site)
 		share := float64(n) / float64(sent)
-		if share <= largeShare && drops[ingest.DropSentinel] == 0 {
+		if share <= largeShare && sum.SiteDropped[site][ingest.DropSentinel] == 0 {
 			continue
 		}
 		w := fmt.Sprintf("site %s: %d of %d rows and readings dropped (%.1f %%): %s", site, n, sent, 100*share, reasons)
-		if drops[ingest.DropSentinel] > 0 {
+		if sum.SiteDropped[site][ingest.DropSentinel] > 0 {
 			w += fmt.Sprintf("; a sentinel value is a reading of magnitude %g or more, a bad-quality marker", ingest.SentinelMagnitude)
 		}
 		out = append(out, w)
 	}
 	return out
+}
+
+// siteLoss returns what ingest dropped of a site, what the site sent
+// (kept, resolved as duplicates or dropped) and the drops by reason in
+// words.
+func siteLoss(sum *ingest.Summary, site string) (dropped, sent int64, reasons string) {
+	dropped, reasons = byReason(sum.SiteDropped[site])
+	return dropped, dropped + sum.SiteReadings[site] + sum.SiteDuplicates[site], reasons
 }
 
 // byReason totals counts by reason and words them, "3 for coverage, 1 for

@@ -22,11 +22,12 @@
 //	            left it since (Input.Standing)
 //	weak        its only switches have a lower confidence
 //
-// A long stay is news once: when the history shows that the site ended
-// the previous period in the same regime for at least Config.LongStay
-// windows, and it has not left it in this run, the stay is no longer news
-// and folds into its regime's still row; a site with other reasons keeps
-// its own row for them.
+// A long stay counts the windows of the history before the run's windows
+// when the site has not left the regime since (Input.Standing), and it is
+// news once: when the site ended the previous period in the same regime
+// for at least Config.LongStay windows, an earlier run reported it, and
+// the site folds into its regime's still row; a site with other reasons
+// keeps its own row for them.
 //
 // Within a level, new events come before revisions of events an earlier run
 // reported, then fleet-wide events by their number of sites, then higher
@@ -331,12 +332,21 @@ func Rank(in Input, cfg Config) []Row {
 			for i := len(seq) - 1; i >= 0 && seq[i].Regime == last; i-- {
 				n++
 			}
-			before, ok := in.Standing[site]
+			// A stay that began before the run's windows counts the
+			// history's windows too, so that runs of a few windows each
+			// still see it.
+			earlier := 0
+			if before, ok := in.Standing[site]; ok && n == len(seq) && before.Regime == last {
+				earlier = before.Windows
+			}
 			switch {
-			case n < cfg.LongStay:
-			case ok && n == len(seq) && before.Regime == last && before.Windows >= cfg.LongStay:
+			case n+earlier < cfg.LongStay:
+			case earlier >= cfg.LongStay:
 				still[last] = append(still[last], site)
-				held = fmt.Sprintf("still in %s regime %s, as an earlier run reported (%d windows then, %d more now)", st, label(last), before.Windows, n)
+				held = fmt.Sprintf("still in %s regime %s, as an earlier run reported (%d windows then, %d more now)", st, label(last), earlier, n)
+			case earlier > 0:
+				reasons = append(reasons, fmt.Sprintf("%d windows in a row in %s regime %s, up to its last window (%d of them before this dump)", n+earlier, st, label(last), earlier))
+				set(Stay, nil)
 			default:
 				reasons = append(reasons, fmt.Sprintf("%d windows in a row in %s regime %s, up to its last window", n, st, label(last)))
 				set(Stay, nil)

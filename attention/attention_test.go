@@ -238,6 +238,12 @@ func TestRankStillStay(t *testing.T) {
 		Switches: []timeline.Switch{{Site: "back", Time: at(10), From: 1, To: 4, Confidence: 0.9}},
 		Standing: standing,
 	}
+	// A site with two windows in this dump, both in the fault regime it
+	// held for six windows before: a stay of eight windows, news now.
+	standing["brief"] = Standing{4, 6}
+	for d := 26; d < 28; d++ {
+		in.Windows = append(in.Windows, features.Window{Site: "brief", Start: at(d), End: at(d + 1), Regime: 4})
+	}
 	rows := Rank(in, DefaultConfig())
 	type want struct {
 		kind  string
@@ -246,7 +252,7 @@ func TestRankStillStay(t *testing.T) {
 	}
 	// The still row of the watch regime has fewer sites, but the fault
 	// regime's comes first.
-	wants := []want{{"site", Fault, "back"}, {"site", Stay, "other"}, {"site", Stay, "short"}, {"site", Unfamiliar, "busy"},
+	wants := []want{{"site", Fault, "back"}, {"site", Stay, "brief"}, {"site", Stay, "other"}, {"site", Stay, "short"}, {"site", Unfamiliar, "busy"},
 		{"regime", Still, "busy,old,old2"}, {"regime", Still, "w1,w2,w3,w4"}}
 	if len(rows) != len(wants) {
 		t.Fatalf("%d rows, want %d: %+v", len(rows), len(wants), rows)
@@ -257,10 +263,13 @@ func TestRankStillStay(t *testing.T) {
 			t.Errorf("row %d: %s %s %v, want %s %s %s", i, r.Kind(), r.Level, r.Sites, w.kind, w.level, w.sites)
 		}
 	}
-	if r := rows[4]; r.To != 4 || !containsAll(r.Reason, "3 site(s) still in fault regime 4", "busy, old, old2") {
+	if r := rows[1]; !containsAll(r.Reason, "8 windows in a row in fault regime 4", "6 of them before this dump") {
+		t.Errorf("brief's reason %q", r.Reason)
+	}
+	if r := rows[5]; r.To != 4 || !containsAll(r.Reason, "3 site(s) still in fault regime 4", "busy, old, old2") {
 		t.Errorf("still row: regime %d, reason %q", r.To, r.Reason)
 	}
-	if r := rows[3]; !containsAll(r.Reason, "unfamiliar", "still in fault regime 4, as an earlier run reported") {
+	if r := rows[4]; !containsAll(r.Reason, "unfamiliar", "still in fault regime 4, as an earlier run reported") {
 		t.Errorf("busy's row does not say its stay goes on: %q", r.Reason)
 	}
 }

@@ -25,7 +25,7 @@ type Targets struct {
 	// Word rewrites each warning as run.json and the report give it: the
 	// library names a setting by its field, such as "(mapper.Config.Sigma0)",
 	// and a command words it with its option. Nil leaves them as they are.
-	Word func(string) string
+	Word func(string) string `json:"-"`
 }
 
 // Save writes the run's files to every target together: the output

@@ -7,17 +7,18 @@ import (
 	"github.com/kinmap/kinmap/mapper"
 )
 
-// A marginal choice names the option that tries the runner-up; a clear
-// one and a given K do not.
+// A marginal choice names the setting that tries the runner-up, by its
+// field (the command words it with its option); a clear one and a given K
+// do not.
 func TestRegimeChoiceNote(t *testing.T) {
 	tests := []struct {
 		c    mapper.Choice
 		want string
 		not  string
 	}{
-		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 6, RunnerUpP: 4e-4, Marginal: true}, "re-run with --regimes 6 to see the other", ""},
-		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 4, RunnerUpP: 1e-20}, "a clear choice", "--regimes"},
-		{mapper.Choice{K: 3, Given: true}, "3 regimes, as set", "--regimes"},
+		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 6, RunnerUpP: 4e-4, Marginal: true}, "re-run with 6 regimes (mapper.Config.Regimes) to see the other", ""},
+		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 4, RunnerUpP: 1e-20}, "a clear choice", "Regimes)"},
+		{mapper.Choice{K: 3, Given: true}, "3 regimes, as set", "Regimes)"},
 	}
 	for _, tt := range tests {
 		got := regimeChoice(&tt.c)

@@ -31,7 +31,8 @@ const minReadings = 20
 // stages counted (the ingest summary and the feature table), so that the
 // Beam path finds the same: sites of the register that sent nothing, sites
 // whose every window was skipped, channels of the features names missing
-// at sites, duplicates and sentinels per site, dropped readings, the
+// at sites, duplicates and drops per site and reason, readings in no window
+// used, drops without a site, the
 // window against the sampling step and the epoch unit. The history's
 // silent sites are added when it is read (silentIn).
 func healthOf(res *Result, names []string) []export.Finding {
@@ -55,15 +56,9 @@ func healthOf(res *Result, names []string) []export.Finding {
 		if windows[site] > 0 {
 			continue
 		}
-		skips := t.Skipped[site]
-		var n int
-		var parts []string
-		for _, r := range slices.Sorted(maps.Keys(skips)) {
-			n += skips[r]
-			parts = append(parts, fmt.Sprintf("%d for %s", skips[r], r))
-		}
+		n, reasons := byReason(t.Skipped[site])
 		out = append(out, export.Finding{Kind: export.HealthNoWindows, Site: site, Count: int64(n), Warning: true,
-			Detail: "every window skipped: " + strings.Join(parts, ", ") + "; lower the minimum coverage or lengthen the window if its readings are sparse"})
+			Detail: "every window skipped: " + reasons + "; lower the minimum coverage or lengthen the window if its readings are sparse"})
 	}
 	for _, ch := range sum.Absent {
 		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(t.Windows)), Warning: true,
@@ -85,20 +80,15 @@ func healthOf(res *Result, names []string) []export.Finding {
 		out = append(out, export.Finding{Kind: export.HealthDuplicates, Site: site, Count: d, Share: share, Warning: share > largeShare,
 			Detail: "readings of the same channel and time; the one read last was kept"})
 	}
-	for _, site := range slices.Sorted(maps.Keys(sum.Sentinels)) {
-		n := sum.Sentinels[site]
-		share := float64(n) / float64(n+readings[site])
-		out = append(out, export.Finding{Kind: export.HealthSentinels, Site: site, Count: n, Share: share, Warning: share > largeShare,
-			Detail: fmt.Sprintf("readings of magnitude %g or more taken for bad-quality markers", ingest.SentinelMagnitude)})
-	}
-	for _, reason := range slices.Sorted(maps.Keys(sum.Dropped)) {
-		n := sum.Dropped[reason]
-		share := 0.0
-		if sum.Rows > 0 {
-			share = float64(n) / float64(sum.Rows)
+	out = append(out, dropFindings(sum)...)
+	for _, site := range slices.Sorted(maps.Keys(t.Unused)) {
+		if windows[site] == 0 {
+			continue // listed with its skipped windows
 		}
-		out = append(out, export.Finding{Kind: export.HealthDropped, Count: n, Share: share, Warning: share > largeShare,
-			Detail: "readings dropped for " + reason})
+		n := t.Unused[site]
+		share := float64(n) / float64(max(n, readings[site]))
+		out = append(out, export.Finding{Kind: export.HealthUnused, Site: site, Count: n, Share: share, Warning: share > largeShare,
+			Detail: unusedDetail(t, site)})
 	}
 	if f, ok := stepFinding(t); ok {
 		out = append(out, f)
@@ -107,6 +97,102 @@ func healthOf(res *Result, names []string) []export.Finding {
 		out = append(out, export.Finding{Kind: export.HealthEpochUnit, Warning: true, Detail: u.Error()})
 	}
 	return out
+}
+
+// dropFindings lists the rows and readings ingest dropped: by site and
+// reason, as a share of what the site sent (kept, resolved as duplicates
+// or dropped), then, for the whole dump, those that have no site, as a
+// share of its rows.
+func dropFindings(sum *ingest.Summary) []export.Finding {
+	var out []export.Finding
+	bySite := map[string]int64{}
+	for _, site := range slices.Sorted(maps.Keys(sum.SiteDropped)) {
+		dropped, sent, _ := siteLoss(sum, site)
+		// Every reason of a site that lost much is a warning: it is the
+		// site's results that are in doubt.
+		large := float64(dropped) > largeShare*float64(sent)
+		for _, reason := range slices.Sorted(maps.Keys(sum.SiteDropped[site])) {
+			n := sum.SiteDropped[site][reason]
+			bySite[reason] += n
+			out = append(out, export.Finding{Kind: export.HealthDropped, Site: site, Reason: reason, Count: n, Share: float64(n) / float64(sent),
+				Warning: large, Detail: dropDetail(reason)})
+		}
+	}
+	for _, reason := range slices.Sorted(maps.Keys(sum.Dropped)) {
+		n := sum.Dropped[reason] - bySite[reason]
+		if n <= 0 {
+			continue
+		}
+		share := 0.0
+		if sum.Rows > 0 {
+			share = float64(n) / float64(sum.Rows)
+		}
+		out = append(out, export.Finding{Kind: export.HealthDropped, Reason: reason, Count: n, Share: share, Warning: share > largeShare,
+			Detail: dropDetail(reason) + " (no site to count them against)"})
+	}
+	return out
+}
+
+// dropWarnings warns of each site that had sentinel values, a sensor's
+// bad-quality markers, or a large share of what it sent dropped.
+func dropWarnings(sum *ingest.Summary) []string {
+	var out []string
+	for _, site := range slices.Sorted(maps.Keys(sum.SiteDropped)) {
+		n, sent, reasons := siteLoss(sum, site)
+		share := float64(n) / float64(sent)
+		if share <= largeShare && sum.SiteDropped[site][ingest.DropSentinel] == 0 {
+			continue
+		}
+		w := fmt.Sprintf("site %s: %d of %d rows and readings dropped (%.1f %%): %s", site, n, sent, 100*share, reasons)
+		if sum.SiteDropped[site][ingest.DropSentinel] > 0 {
+			w += fmt.Sprintf("; a sentinel value is a reading of magnitude %g or more, a bad-quality marker", ingest.SentinelMagnitude)
+		}
+		out = append(out, w)
+	}
+	return out
+}
+
+// siteLoss returns what ingest dropped of a site, what the site sent
+// (kept, resolved as duplicates or dropped) and the drops by reason in
+// words.
+func siteLoss(sum *ingest.Summary, site string) (dropped, sent int64, reasons string) {
+	dropped, reasons = byReason(sum.SiteDropped[site])
+	return dropped, dropped + sum.SiteReadings[site] + sum.SiteDuplicates[site], reasons
+}
+
+// byReason totals counts by reason and words them, "3 for coverage, 1 for
+// empty", reasons in order.
+func byReason[N int | int64](counts map[string]N) (total N, words string) {
+	var parts []string
+	for _, r := range slices.Sorted(maps.Keys(counts)) {
+		total += counts[r]
+		parts = append(parts, fmt.Sprintf("%d for %s", counts[r], r))
+	}
+	return total, strings.Join(parts, ", ")
+}
+
+// dropDetail words a reason for dropping.
+func dropDetail(reason string) string {
+	switch reason {
+	case ingest.DropSentinel:
+		return fmt.Sprintf("readings of magnitude %g or more dropped as bad-quality markers (sentinel values)", ingest.SentinelMagnitude)
+	case ingest.DropNullSite, ingest.DropNullTime, ingest.DropTimeRange, ingest.DropNullChannel:
+		return "rows dropped: " + reason
+	}
+	return "readings dropped: " + reason
+}
+
+// unusedDetail words why a site's readings fell in no window kept.
+func unusedDetail(t *features.Table, site string) string {
+	d := "readings in no window used"
+	if skips := t.Skipped[site]; len(skips) > 0 {
+		_, reasons := byReason(skips)
+		d += ": in windows skipped (" + reasons + ")"
+	}
+	if t.Config.Stride > t.Config.Window {
+		d += fmt.Sprintf("; the stride of %s leaves the readings between windows of %s unused", t.Config.Stride, t.Config.Window)
+	}
+	return d
 }
 
 // stepFinding says when the window is short for the sampling step (fewer

@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/ingest"
 )
 
 // One sensor writing a historian's bad-quality marker (the largest
@@ -49,7 +50,7 @@ func TestSentinelKeepsFeatureSet(t *testing.T) {
 			if !slices.ContainsFunc(res.Info.Warnings, func(w string) bool { return strings.HasPrefix(w, want) && strings.Contains(w, "sentinel") }) {
 				t.Errorf("no warning naming %s and its sentinels: %q", bad.ID, res.Info.Warnings)
 			}
-			if got := res.Ingest.Sentinels[bad.ID]; got != int64(marked) {
+			if got := res.Ingest.SiteDropped[bad.ID][ingest.DropSentinel]; got != int64(marked) {
 				t.Errorf("%d sentinels counted for %s, %d written", got, bad.ID, marked)
 			}
 		}

@@ -12,9 +12,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"maps"
 	"path/filepath"
-	"slices"
 	"time"
 
 	"gonum.org/v1/gonum/mat"
@@ -46,6 +44,12 @@ type Options struct {
 	History  string    // folder of earlier timelines; "" for none
 	Log      io.Writer // progress messages; nil for none
 	Events   EventOptions
+
+	// WorkList holds the thresholds of the work list; zero fields take the
+	// defaults of attention.DefaultConfig, but LongStay, whose default is
+	// a week of windows, and Nearby and UnfamiliarRate, which follow the
+	// timeline's minimum dwell and unfamiliar quantile.
+	WorkList attention.Config
 
 	// Units are the units of channels, such as "m3/h" for flow, in which
 	// the regime descriptions give typical levels; they replace the
@@ -114,9 +118,10 @@ type Result struct {
 	wrap    func(string, io.Writer) io.Writer // wraps every output writer; set by fault-injection tests
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
-	quality *mapper.Quality
-	past    *past            // the history before the run; nil without one
-	health  []export.Finding // the data health found before decoding
+	quality  *mapper.Quality
+	past     *past            // the history before the run; nil without one
+	health   []export.Finding // the data health found before decoding
+	workList attention.Config // the thresholds the work list was made with
 	// daily summarises the readings by site, channel and day for the
 	// report's explorer.
 	daily []export.DailySummary
@@ -187,12 +192,13 @@ type OptionsRecord struct {
 	History  string                 `json:"history,omitempty"`
 	Events   *EventOptions          `json:"events,omitempty"`
 	Units    map[string]string      `json:"units,omitempty"`
+	WorkList attention.Config       `json:"work_list"`
 }
 
 // Validate reports the first usage error in the options.
 func (o *Options) Validate() error {
 	if len(o.Data) == 0 {
-		return usage("kinmap: no dump given: name one or more files with --data")
+		return usage("kinmap: no dump given: name one or more files (kinmap.Options.Data)")
 	}
 	if err := o.Ingest.Validate(); err != nil {
 		return err
@@ -209,6 +215,9 @@ func (o *Options) Validate() error {
 		return &UsageError{err}
 	}
 	if err := o.Timeline.Validate(); err != nil {
+		return &UsageError{err}
+	}
+	if err := o.WorkList.Validate(); err != nil {
 		return &UsageError{err}
 	}
 	return nil
@@ -253,10 +262,7 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 	}
 	res.Ingest = ds.Summary
 	res.data = ds
-	for _, site := range slices.Sorted(maps.Keys(ds.Summary.Sentinels)) {
-		res.Info.Warnings = append(res.Info.Warnings, fmt.Sprintf("site %s: %d readings of magnitude %g or more dropped as sentinel values (bad-quality markers)",
-			site, ds.Summary.Sentinels[site], ingest.SentinelMagnitude))
-	}
+	res.Info.Warnings = append(res.Info.Warnings, dropWarnings(&ds.Summary)...)
 	if u := ds.Summary.EpochUnit; u != nil {
 		res.Info.Warnings = append(res.Info.Warnings, u.Error())
 	}

@@ -44,15 +44,33 @@ func (r *Result) LevelGroups() (group []int, k int) {
 func (r *Result) SetLevels(o *Options, byGroup [][]features.Level, fleet []features.Level) {
 	channels := features.Channels(r.Model.FeatureNames)
 	lv := &export.Levels{Regimes: make(map[int][]features.Level, len(r.Model.Regimes)), Fleet: fleet, Units: channelUnits(r.Model, r.Ingest.Units, o.Units)}
+	kept := &model.Levels{Regimes: make(map[int][]features.Level, len(r.Model.Regimes)), Fleet: withReadings(fleet)}
 	for g, reg := range r.Model.Regimes {
 		lv.Regimes[reg.ID] = byGroup[g]
+		kept.Regimes[reg.ID] = withReadings(byGroup[g])
 	}
+	// The model keeps them, so that "kinmap label" describes the regimes
+	// as the outputs do; a copy, as the caller may hold the model.
+	m := *r.Model
+	m.Levels = kept
+	r.Model = &m
 	for _, ch := range slices.Sorted(maps.Keys(o.Units)) {
 		if !slices.Contains(channels, ch) {
 			r.Info.Warnings = append(r.Info.Warnings, fmt.Sprintf("a unit is given for channel %q, which the model does not use (its channels: %v)", ch, channels))
 		}
 	}
 	r.Levels = lv
+}
+
+// withReadings returns the levels of the channels with readings.
+func withReadings(ls []features.Level) []features.Level {
+	var out []features.Level
+	for _, l := range ls {
+		if l.Readings > 0 {
+			out = append(out, l)
+		}
+	}
+	return out
 }
 
 // channelUnits returns the units of the channels: those model m records,

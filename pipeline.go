@@ -337,7 +337,7 @@ func Begin(command string, o Options) *Result {
 		Options: OptionsRecord{
 			Ingest: o.Ingest, Register: o.Register, Features: o.Features, Scaling: o.Scaling,
 			Weights: o.Weights, Map: o.Map, Timeline: o.Timeline, History: o.History, Units: o.Units,
-			Events: eventsRecord(o.Events),
+			Events: eventsRecord(o.Events), WorkList: o.WorkList,
 		},
 	}}
 }
@@ -397,7 +397,7 @@ func finish(res *Result, sw *stopwatch) {
 func regimeChoice(c *mapper.Choice) *RegimeChoice {
 	note := c.String()
 	if c.Marginal {
-		note += fmt.Sprintf(": re-run with --regimes %d to see the other", c.RunnerUp)
+		note += fmt.Sprintf(": re-run with %d regimes (mapper.Config.Regimes) to see the other", c.RunnerUp)
 	}
 	return &RegimeChoice{Choice: *c, Note: note}
 }

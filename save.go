@@ -22,6 +22,10 @@ type Targets struct {
 	Model   string        // another copy of the model file
 	History string        // history folder
 	Wait    time.Duration // the longest wait for another run writing one of them; 0 means a minute
+	// Word rewrites each warning as run.json and the report give it: the
+	// library names a setting by its field, such as "(mapper.Config.Sigma0)",
+	// and a command words it with its option. Nil leaves them as they are.
+	Word func(string) string `json:"-"`
 }
 
 // Save writes the run's files to every target together: the output
@@ -77,7 +81,7 @@ func (r *Result) Save(to Targets) error {
 		}
 	}
 	if to.Out != "" {
-		if err := r.stageOutputs(tx, to.Out); err != nil {
+		if err := r.stageOutputs(tx, to.Out, to.Word); err != nil {
 			return err
 		}
 	}
@@ -112,8 +116,9 @@ func (r *Result) stageHistory(tx *atomicfile.Tx, dir string) error {
 	return h.Stage(tx, r.Model.LineageOrDerived(), history.Windows(r.Table.Windows))
 }
 
-// stageOutputs adds the output folder dir to tx.
-func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
+// stageOutputs adds the output folder dir to tx, its warnings worded by
+// word (Targets.Word).
+func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string, word func(string) string) error {
 	run := &export.Run{
 		Model:      r.Model,
 		Table:      r.Table,
@@ -128,6 +133,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Health:     r.Health,
 		Against:    r.Against,
 		Levels:     r.Levels,
+		WorkList:   r.workList,
 	}
 	ws, err := export.Warnings(run)
 	if err != nil {
@@ -135,7 +141,19 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 	}
 	r.Info.Warnings = appendNew(r.Info.Warnings, ws...)
 	// The report shows each warning once, those it finds itself included.
-	run.Warnings, run.Info = r.Info.Warnings, r.Info
+	info := r.Info
+	if word != nil {
+		info.Warnings = make([]string, len(r.Info.Warnings))
+		for i, w := range r.Info.Warnings {
+			info.Warnings[i] = word(w)
+		}
+		if c := r.Info.Regimes; c != nil {
+			worded := *c
+			worded.Note = word(c.Note)
+			info.Regimes = &worded
+		}
+	}
+	run.Warnings, run.Info = info.Warnings, info
 	return export.Stage(tx, dir, run)
 }
 

@@ -41,13 +41,13 @@ func pastOf(h *history.History, lineage string) *past {
 	return p
 }
 
-// attentionConfig is the work list's settings for a run: a long stay is a
-// week of windows (the run a regime is held for, as in finding regimes),
-// an earlier switch is nearby within the dwell, and the chance rate of an
-// unfamiliar window is one less the unfamiliar quantile.
+// attentionConfig is the work list's settings for a run: those of o, a
+// long stay by default a week of windows (the run a regime is held for, as
+// in finding regimes), an earlier switch nearby within the dwell, and the
+// chance rate of an unfamiliar window one less the unfamiliar quantile.
 func attentionConfig(o *Options, t *features.Table) attention.Config {
-	c := attention.DefaultConfig()
-	c.LongStay = t.WeekRun()
+	c := o.WorkList
+	c.LongStay = cmp.Or(c.LongStay, t.WeekRun())
 	stride := cmp.Or(t.Config.Stride, t.Config.Window)
 	c.Nearby = time.Duration(cmp.Or(o.Timeline.MinDwell, timeline.DefaultConfig().MinDwell)) * stride
 	c.UnfamiliarRate = 1 - cmp.Or(o.Timeline.UnfamiliarQ, timeline.DefaultConfig().UnfamiliarQ)
@@ -63,6 +63,7 @@ func triage(o *Options, r *Result) {
 	}
 	if r.past != nil {
 		in.Earlier = r.past.earlier
+		in.Standing = standing(r.past.windows, r.Table.Windows)
 	}
 	cfg := attentionConfig(o, r.Table)
 	if r.Conditions != nil {
@@ -70,10 +71,37 @@ func triage(o *Options, r *Result) {
 		// before it: the week before a failure, by default.
 		in.Labels, cfg.Recent = r.Conditions.Knowledge.Labels, r.Conditions.Span
 	}
-	r.Attention = attention.Rank(in, cfg)
+	r.Attention, r.workList = attention.Rank(in, cfg), cfg
 	if r.past != nil && len(r.Table.Windows) > 0 {
 		r.Against = against(r.past, r.Table.Windows)
 	}
+}
+
+// standing returns, by site, the run of windows in one regime that ended
+// the site's record in the history before its first window of the run:
+// the stay an earlier run saw last. past and ws are sorted by site, then
+// start.
+func standing(past []history.Window, ws []features.Window) map[string]attention.Standing {
+	first := map[string]time.Time{}
+	for _, w := range ws {
+		if _, ok := first[w.Site]; !ok {
+			first[w.Site] = w.Start
+		}
+	}
+	out := map[string]attention.Standing{}
+	for _, w := range past {
+		f, ok := first[w.Site]
+		if !ok || !w.Start.Before(f) {
+			continue
+		}
+		if s, ok := out[w.Site]; ok && s.Regime == w.Regime {
+			s.Windows++
+			out[w.Site] = s
+		} else {
+			out[w.Site] = attention.Standing{Regime: w.Regime, Windows: 1}
+		}
+	}
+	return out
 }
 
 // against compares the run's windows with those of the previous period in

@@ -17,7 +17,17 @@
 //	unfamiliar  more of its windows were unfamiliar than chance allows
 //	switch      it switched between other regimes with confidence at
 //	            least Config.MinConfidence
+//	still       one row per regime, not per site: the sites whose long stay
+//	            in it an earlier run already reported and that have not
+//	            left it since (Input.Standing)
 //	weak        its only switches have a lower confidence
+//
+// A long stay counts the windows of the history before the run's windows
+// when the site has not left the regime since (Input.Standing), and it is
+// news once: when the site ended the previous period in the same regime
+// for at least Config.LongStay windows, an earlier run reported it, and
+// the site folds into its regime's still row; a site with other reasons
+// keeps its own row for them.
 //
 // Within a level, new events come before revisions of events an earlier run
 // reported, then fleet-wide events by their number of sites, then higher
@@ -117,10 +127,11 @@ const (
 	Resembles
 	Unfamiliar
 	Switch
+	Still
 	Weak
 )
 
-var levelNames = [...]string{"fault", "watch", "stay", "resembles", "unfamiliar", "switch", "weak"}
+var levelNames = [...]string{"fault", "watch", "stay", "resembles", "unfamiliar", "switch", "still", "weak"}
 
 // String is the level's name in attention.csv.
 func (l Level) String() string {
@@ -140,15 +151,15 @@ const (
 // Config holds the thresholds of the list. Zero fields take the defaults
 // of DefaultConfig.
 type Config struct {
-	MinConfidence   float64       // switches below it rank last (Weak)
-	LongStay        int           // windows in a row in a watch or fault regime that make a long stay
-	Nearby          time.Duration // an earlier switch of the site this close makes a switch a revision
-	UnfamiliarRate  float64       // chance rate of an unfamiliar window, 1 − the unfamiliar quantile
-	UnfamiliarAlpha float64       // binomial tail below which a site's unfamiliar windows are flagged
-	FleetAlpha      float64       // Poisson tail below which same-day switches are one event
-	MinFleetSites   int           // fewest sites of a fleet-wide event
-	Recent          time.Duration // span before a site's last window end whose windows are scored for resemblance
-	MinResemblance  float64       // score from which a site resembles a label
+	MinConfidence   float64       `json:"min_confidence"`   // switches below it rank last (Weak)
+	LongStay        int           `json:"long_stay"`        // windows in a row in a watch or fault regime that make a long stay
+	Nearby          time.Duration `json:"nearby_ns"`        // an earlier switch of the site this close makes a switch a revision
+	UnfamiliarRate  float64       `json:"unfamiliar_rate"`  // chance rate of an unfamiliar window, 1 − the unfamiliar quantile
+	UnfamiliarAlpha float64       `json:"unfamiliar_alpha"` // binomial tail below which a site's unfamiliar windows are flagged
+	FleetAlpha      float64       `json:"fleet_alpha"`      // Poisson tail below which same-day switches are one event
+	MinFleetSites   int           `json:"min_fleet_sites"`  // fewest sites of a fleet-wide event
+	Recent          time.Duration `json:"recent_ns"`        // span before a site's last window end whose windows are scored for resemblance
+	MinResemblance  float64       `json:"min_resemblance"`  // score from which a site resembles a label
 }
 
 // DefaultConfig returns the defaults: confidence ½, a long stay of 7
@@ -182,6 +193,12 @@ type Earlier struct {
 	From, To int
 }
 
+// Standing is a site's last run of windows in one regime.
+type Standing struct {
+	Regime  int
+	Windows int
+}
+
 // Input is what the list is made from.
 type Input struct {
 	Windows  []features.Window // the run's decoded windows, by site, then time
@@ -190,12 +207,17 @@ type Input struct {
 	Status   map[int]string    // regime ID → status; a missing ID is unlabelled
 	Names    map[int]string    // regime ID → the user's name; optional
 	Earlier  []Earlier         // switches earlier runs reported
+	// Standing is, by site, the run of windows in one regime that ended
+	// the site's record in the history before the run's windows; nil
+	// without a history.
+	Standing map[string]Standing
 	// Labels are the labels of the run's knowledge; nil without one. The
 	// windows' Condition and ConditionConfidence say which they resemble.
 	Labels []string
 }
 
-// Row is one line of the list: a site, or a fleet-wide event.
+// Row is one line of the list: a site, a fleet-wide event, or the sites
+// still in a regime (level Still, the regime in To).
 type Row struct {
 	Rank   int
 	Level  Level
@@ -210,12 +232,16 @@ type Row struct {
 	Revision   bool // the switch revises one an earlier run reported
 }
 
-// Kind is "site" or "fleet".
+// Kind is "site", "fleet" for a fleet-wide event, or "regime" for the
+// sites still in a regime.
 func (r *Row) Kind() string {
-	if r.Site == "" {
-		return "fleet"
+	switch {
+	case r.Site != "":
+		return "site"
+	case r.Level == Still:
+		return "regime"
 	}
-	return "site"
+	return "fleet"
 }
 
 // News is "new" or "revision" for a row set by a switch, "" otherwise.
@@ -271,10 +297,12 @@ func Rank(in Input, cfg Config) []Row {
 		}
 		return false
 	}
+	still := map[int][]string{} // regime → sites whose reported stay goes on
 	for _, seq := range sites(in.Windows) {
 		site := seq[0].Site
 		r := Row{Site: site, Sites: []string{site}, Level: Weak + 1}
 		var reasons []string
+		held := "" // the stay of a site in still, in words
 		set := func(lv Level, s *timeline.Switch) {
 			better := lv < r.Level
 			if s != nil && lv == r.Level && !r.Time.IsZero() {
@@ -315,7 +343,22 @@ func Rank(in Input, cfg Config) []Row {
 			for i := len(seq) - 1; i >= 0 && seq[i].Regime == last; i-- {
 				n++
 			}
-			if n >= cfg.LongStay {
+			// A stay that began before the run's windows counts the
+			// history's windows too, so that runs of a few windows each
+			// still see it.
+			earlier := 0
+			if before, ok := in.Standing[site]; ok && n == len(seq) && before.Regime == last {
+				earlier = before.Windows
+			}
+			switch {
+			case n+earlier < cfg.LongStay:
+			case earlier >= cfg.LongStay:
+				still[last] = append(still[last], site)
+				held = fmt.Sprintf("still in %s regime %s, as an earlier run reported (%d windows then, %d more now)", st, label(last), earlier, n)
+			case earlier > 0:
+				reasons = append(reasons, fmt.Sprintf("%d windows in a row in %s regime %s, up to its last window (%d of them before this dump)", n+earlier, st, label(last), earlier))
+				set(Stay, nil)
+			default:
 				reasons = append(reasons, fmt.Sprintf("%d windows in a row in %s regime %s, up to its last window", n, st, label(last)))
 				set(Stay, nil)
 			}
@@ -343,11 +386,28 @@ func Rank(in Input, cfg Config) []Row {
 		if len(reasons) == 0 {
 			continue
 		}
+		if held != "" {
+			reasons = append(reasons, held)
+		}
 		r.Reason = strings.Join(reasons, "; ")
 		rows = append(rows, r)
 	}
+	for _, id := range slices.Sorted(maps.Keys(still)) {
+		ss := still[id]
+		slices.Sort(ss)
+		rows = append(rows, Row{Level: Still, Sites: ss, To: id,
+			Reason: fmt.Sprintf("%d site(s) still in %s regime %s, unchanged since an earlier run reported their stay: %s",
+				len(ss), in.Status[id], label(id), strings.Join(ss, ", "))})
+	}
+	// Still rows of fault regimes come before those of watch regimes.
+	stillRank := func(r Row) Level {
+		if r.Level == Still {
+			return statusLevel(in.Status[r.To])
+		}
+		return 0
+	}
 	slices.SortStableFunc(rows, func(a, b Row) int {
-		return cmp.Or(cmp.Compare(a.Level, b.Level), compareBool(a.Revision, b.Revision),
+		return cmp.Or(cmp.Compare(a.Level, b.Level), cmp.Compare(stillRank(a), stillRank(b)), compareBool(a.Revision, b.Revision),
 			cmp.Compare(len(b.Sites), len(a.Sites)), cmp.Compare(b.Confidence, a.Confidence),
 			cmp.Compare(a.Site, b.Site), a.Time.Compare(b.Time))
 	})

@@ -1,6 +1,7 @@
 package attention
 
 import (
+	"errors"
 	"math"
 	"strings"
 	"testing"
@@ -238,5 +239,97 @@ func TestRankShared(t *testing.T) {
 	}
 	if !storm.Time.Equal(at(5)) || !strings.Contains(storm.Reason, "until 2026-11-09") || len(storm.Sites) != 15 {
 		t.Errorf("second fleet row %+v, want the storm of 15 sites from day 5 until day 7", storm)
+	}
+}
+
+// Validate accepts zero fields (the defaults) and the ends of each range,
+// and names the first field out of range.
+func TestConfigValidate(t *testing.T) {
+	tests := []struct {
+		name  string
+		cfg   Config
+		field string // "" for valid
+	}{
+		{"zero", Config{}, ""},
+		{"defaults", DefaultConfig(), ""},
+		{"confidence 1", Config{MinConfidence: 1}, ""},
+		{"confidence above 1", Config{MinConfidence: 1.5}, "MinConfidence"},
+		{"confidence NaN", Config{MinConfidence: math.NaN()}, "MinConfidence"},
+		{"negative stay", Config{LongStay: -1}, "LongStay"},
+		{"fleet p 1", Config{FleetAlpha: 1}, "FleetAlpha"},
+		{"fleet p negative", Config{FleetAlpha: -0.01}, "FleetAlpha"},
+		{"one site a fleet", Config{MinFleetSites: 1}, "MinFleetSites"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			err := tt.cfg.Validate()
+			var ce *ConfigError
+			switch {
+			case tt.field == "" && err != nil:
+				t.Errorf("Validate() = %v, want nil", err)
+			case tt.field != "" && (!errors.As(err, &ce) || ce.Field != tt.field):
+				t.Errorf("Validate() = %v, want a ConfigError for %s", err, tt.field)
+			}
+		})
+	}
+}
+
+// A long stay an earlier run reported, in the same regime and unbroken
+// since, is not news: the sites fold into one still row per regime, below
+// the switches. A stay is news again when the regime differs, when the
+// earlier stay was too short to be reported, or when the site switched
+// in this run.
+func TestRankStillStay(t *testing.T) {
+	status := map[int]string{1: StatusNormal, 3: StatusWatch, 4: StatusFault}
+	after := map[string][2]int{"old": {0, 4}, "old2": {0, 4}, "other": {0, 4}, "short": {0, 4}, "back": {10, 4}, "busy": {0, 4}}
+	sites := []string{"old", "old2", "other", "short", "back", "busy"}
+	standing := map[string]Standing{
+		"old": {4, 9}, "old2": {4, 30}, "busy": {4, 12},
+		"other": {3, 20}, // it was in another regime
+		"short": {4, 6},  // too short to have been reported
+		"back":  {4, 20}, // it left and came back in this run
+	}
+	for _, w := range []string{"w1", "w2", "w3", "w4"} {
+		sites, after[w], standing[w] = append(sites, w), [2]int{0, 3}, Standing{3, 7}
+	}
+	in := Input{
+		Windows:  fleetOf(sites, after, map[string]int{"busy": 5}),
+		Status:   status,
+		Switches: []timeline.Switch{{Site: "back", Time: at(10), From: 1, To: 4, Confidence: 0.9}},
+		Standing: standing,
+	}
+	// A site with two windows in this dump, both in the fault regime it
+	// held for six windows before: a stay of eight windows, news now.
+	standing["brief"] = Standing{4, 6}
+	for d := 26; d < 28; d++ {
+		in.Windows = append(in.Windows, features.Window{Site: "brief", Start: at(d), End: at(d + 1), Regime: 4})
+	}
+	rows := Rank(in, DefaultConfig())
+	type want struct {
+		kind  string
+		level Level
+		sites string
+	}
+	// The still row of the watch regime has fewer sites, but the fault
+	// regime's comes first.
+	wants := []want{{"site", Fault, "back"}, {"site", Stay, "brief"}, {"site", Stay, "other"}, {"site", Stay, "short"}, {"site", Unfamiliar, "busy"},
+		{"regime", Still, "busy,old,old2"}, {"regime", Still, "w1,w2,w3,w4"}}
+	if len(rows) != len(wants) {
+		t.Fatalf("%d rows, want %d: %+v", len(rows), len(wants), rows)
+	}
+	for i, w := range wants {
+		r := rows[i]
+		if r.Kind() != w.kind || r.Level != w.level || strings.Join(r.Sites, ",") != w.sites {
+			t.Errorf("row %d: %s %s %v, want %s %s %s", i, r.Kind(), r.Level, r.Sites, w.kind, w.level, w.sites)
+		}
+	}
+	if r := rows[1]; !containsAll(r.Reason, "8 windows in a row in fault regime 4", "6 of them before this dump") {
+		t.Errorf("brief's reason %q", r.Reason)
+	}
+	if r := rows[5]; r.To != 4 || !containsAll(r.Reason, "3 site(s) still in fault regime 4", "busy, old, old2") {
+		t.Errorf("still row: regime %d, reason %q", r.To, r.Reason)
+	}
+	if r := rows[4]; !containsAll(r.Reason, "unfamiliar", "still in fault regime 4, as an earlier run reported") {
+		t.Errorf("busy's row does not say its stay goes on: %q", r.Reason)
 	}
 }

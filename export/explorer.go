@@ -9,6 +9,7 @@ import (
 	"math"
 	"slices"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/paulmach/orb"
@@ -129,7 +130,7 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, er
 		d.Regimes = append(d.Regimes, g)
 	}
 	if r.Register != nil {
-		d.Attrs = r.Register.AttrNames
+		d.Attrs = explorerAttrs(r.Register.AttrNames)
 	}
 	ws := r.Table.Windows
 	t0, t1 := features.Span(ws)
@@ -361,4 +362,25 @@ func maxTime(a, b time.Time) time.Time {
 		return b
 	}
 	return a
+}
+
+// explorerColumns are the headings of the explorer's sites table that
+// kinmap sets itself, in lower case (explorer.js).
+var explorerColumns = []string{"site", "rank", "regime", "switches", "last switch", "unfamiliar windows"}
+
+// explorerAttrs names the register attributes for the explorer's table and
+// site pages: as in sites.geojson (attrName), and prefixed by "register_"
+// as well when a name reads, in any case, as a heading of kinmap's own,
+// so that a register column "Regime" is not taken for the regime kinmap
+// found.
+func explorerAttrs(names []string) []string {
+	taken := reserved()
+	out := make([]string, len(names))
+	for i, n := range names {
+		out[i] = attrName(n, taken)
+		if out[i] == n && slices.Contains(explorerColumns, strings.ToLower(n)) {
+			out[i] = "register_" + n
+		}
+	}
+	return out
 }

@@ -2,6 +2,7 @@ package export
 
 import (
 	"encoding/json"
+	"slices"
 	"testing"
 )
 
@@ -35,5 +36,16 @@ func TestExplorerRegimeLabels(t *testing.T) {
 	}
 	if got[2][0] == "" {
 		t.Error("the fixture's labelled regime 2 has no name in the explorer")
+	}
+}
+
+// A register attribute whose name reads as one of kinmap's own columns,
+// in any case, is shown prefixed in the explorer, as sites.geojson
+// prefixes the names it uses itself; other names are shown as they are.
+func TestExplorerAttrs(t *testing.T) {
+	got := explorerAttrs([]string{"regime", "Regime", "RANK", "owner", "switches", "Last switch", "district"})
+	want := []string{"register_regime", "register_Regime", "register_RANK", "owner", "register_switches", "register_Last switch", "district"}
+	if !slices.Equal(got, want) {
+		t.Errorf("explorerAttrs = %q, want %q", got, want)
 	}
 }

@@ -65,6 +65,9 @@ type Run struct {
 	Attention []attention.Row
 	Health    []Finding
 	Against   *Comparison
+	// WorkList holds the thresholds the work list was made with, which
+	// the report states; zero fields read as attention.DefaultConfig's.
+	WorkList attention.Config
 
 	// Levels are the typical raw levels of the channels by regime, which
 	// the regime descriptions give in the channels' units; nil for the

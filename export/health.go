@@ -6,16 +6,16 @@ const (
 	HealthNoWindows      = "no_windows"      // every window of the site was skipped
 	HealthMissingChannel = "missing_channel" // a channel the model or the fleet uses is absent at the site
 	HealthDuplicates     = "duplicates"      // readings of the site resolved as duplicates
-	HealthSentinels      = "sentinels"       // readings of the site dropped as sentinel values
-	HealthDropped        = "dropped"         // readings of the dump dropped, by reason
+	HealthDropped        = "dropped"         // rows or readings of the site (or of no site) dropped, one reason a finding
+	HealthUnused         = "unused"          // readings of the site in no window used
 	HealthWindowStep     = "window_step"     // the window is short or long for the sampling step
 	HealthEpochUnit      = "epoch_unit"      // integer times look like another epoch unit
 )
 
 // HealthKinds lists the kinds of finding in the report's order.
 func HealthKinds() []string {
-	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthDuplicates, HealthSentinels,
-		HealthDropped, HealthWindowStep, HealthEpochUnit}
+	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthDuplicates, HealthDropped,
+		HealthUnused, HealthWindowStep, HealthEpochUnit}
 }
 
 // Finding is one line of the data health of a run: a site (or the whole
@@ -24,21 +24,22 @@ type Finding struct {
 	Kind    string  `json:"kind"`
 	Site    string  `json:"site,omitempty"`
 	Channel string  `json:"channel,omitempty"`
-	Count   int64   `json:"count"`           // readings, windows or sites concerned
-	Share   float64 `json:"share,omitempty"` // of the site's (or the dump's) readings, when a share applies
-	Warning bool    `json:"warning"`         // large enough to distrust the site's results
-	Detail  string  `json:"detail"`          // in words
+	Reason  string  `json:"reason,omitempty"` // why rows or readings were dropped (kind dropped), as ingest names it
+	Count   int64   `json:"count"`            // readings, windows or sites concerned
+	Share   float64 `json:"share,omitempty"`  // of the site's (or the dump's) readings, when a share applies
+	Warning bool    `json:"warning"`          // large enough to distrust the site's results
+	Detail  string  `json:"detail"`           // in words
 }
 
 // healthRow is one row of health.csv.
 type healthRow struct{ Finding }
 
 // healthColumns are the columns of health.csv.
-var healthColumns = []gpkgColumn{{"kind", "TEXT"}, {"site", "TEXT"}, {"channel", "TEXT"}, {"count", "INTEGER"},
+var healthColumns = []gpkgColumn{{"kind", "TEXT"}, {"site", "TEXT"}, {"channel", "TEXT"}, {"reason", "TEXT"}, {"count", "INTEGER"},
 	{"share", "REAL"}, {"warning", "BOOLEAN"}, {"detail", "TEXT"}}
 
 func (r healthRow) values() []any {
-	return []any{r.Kind, r.Site, r.Channel, r.Count, r.Share, r.Warning, r.Detail}
+	return []any{r.Kind, r.Site, r.Channel, r.Reason, r.Count, r.Share, r.Warning, r.Detail}
 }
 
 func healthRows(fs []Finding) []healthRow {

@@ -38,6 +38,22 @@ func described(r *Run) *Run {
 	return &c
 }
 
+// Described returns the regimes of m described as the outputs describe
+// them, from the levels the model keeps (model.Levels) in the units it
+// records; without levels, a model written before format version 6, the
+// standardised differences alone. m is not changed.
+func Described(m *model.Model) []mapper.Regime {
+	out := slices.Clone(m.Regimes)
+	if m.Levels == nil {
+		return out
+	}
+	lv := &Levels{Regimes: m.Levels.Regimes, Fleet: m.Levels.Fleet, Units: m.Units}
+	for i := range out {
+		out[i].Description = describe(lv, out[i])
+	}
+	return out
+}
+
 // describe writes a regime as the typical levels of its channels beside
 // the fleet's, then the standardised differences that set it apart:
 // "vibration median 7.1 mm/s (fleet 2.3), flow median 12 m3/h (fleet 48);

@@ -263,7 +263,7 @@ func mapFacts(m *model.Model) []fact {
 		for i, sc := range m.Scores {
 			parts[i] = fmt.Sprintf("%d: %.2f", sc.K, sc.DaviesBouldin)
 		}
-		facts = append(facts, fact{"Regimes chosen by the Davies–Bouldin index (lower is better; set --regimes to choose)", strings.Join(parts, " · ")})
+		facts = append(facts, fact{"Regimes chosen by the Davies–Bouldin index (lower is better; a number of regimes given is used as it is)", strings.Join(parts, " · ")})
 	}
 	return facts
 }

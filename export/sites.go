@@ -134,7 +134,7 @@ func positionWarnings(ids []string) []string {
 		}
 		return w
 	}
-	return []string{fmt.Sprintf("%d sites have no position (%q, %q, %q and %d more); their features in %s have no geometry: give a site register with --sites",
+	return []string{fmt.Sprintf("%d sites have no position (%q, %q, %q and %d more); their features in %s have no geometry: give a site register (export.Run.Register)",
 		len(ids), ids[0], ids[1], ids[2], len(ids)-maxNamedSites, SitesFile)}
 }
 

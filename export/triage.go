@@ -2,6 +2,7 @@ package export
 
 import (
 	"cmp"
+	"fmt"
 	"maps"
 	"slices"
 	"strconv"
@@ -23,8 +24,11 @@ const maxHealthRows = 20
 type triageData struct {
 	Attention      []attentionItem
 	AttentionTotal int
-	Health         []healthGroup
-	Against        *againstData
+	// The thresholds of the list, as the report states them.
+	MinConfidence, UnfamiliarAlpha, FleetAlpha string
+	LongStay                                   int
+	Health                                     []healthGroup
+	Against                                    *againstData
 }
 
 type attentionItem struct {
@@ -71,18 +75,29 @@ var healthTitles = map[string]string{
 	HealthNoWindows:      "Sites whose every window was skipped",
 	HealthMissingChannel: "Channels missing",
 	HealthDuplicates:     "Readings resolved as duplicates",
-	HealthSentinels:      "Readings dropped as sentinel values",
-	HealthDropped:        "Readings dropped",
+	HealthDropped:        "Rows and readings dropped",
+	HealthUnused:         "Readings in no window used",
 	HealthWindowStep:     "Windows and the sampling step",
 	HealthEpochUnit:      "Epoch unit of the times",
 }
 
 // triageOf builds the sections' data of r.
 func triageOf(r *Run) triageData {
-	d := triageData{AttentionTotal: len(r.Attention)}
+	def := attention.DefaultConfig()
+	c := r.WorkList
+	d := triageData{AttentionTotal: len(r.Attention), LongStay: cmp.Or(c.LongStay, def.LongStay),
+		MinConfidence:   strconv.FormatFloat(cmp.Or(c.MinConfidence, def.MinConfidence), 'f', -1, 64),
+		UnfamiliarAlpha: strconv.FormatFloat(cmp.Or(c.UnfamiliarAlpha, def.UnfamiliarAlpha), 'g', -1, 64),
+		FleetAlpha:      strconv.FormatFloat(cmp.Or(c.FleetAlpha, def.FleetAlpha), 'g', -1, 64)}
 	for _, a := range r.Attention[:min(len(r.Attention), maxAttentionRows)] {
-		it := attentionItem{Rank: a.Rank, Level: a.Level.String(), Site: cmp.Or(a.Site, "fleet-wide"), Reason: a.Reason,
+		it := attentionItem{Rank: a.Rank, Level: a.Level.String(), Site: a.Site, Reason: a.Reason,
 			Sites: len(a.Sites), News: a.News(), HasSwitch: !a.Time.IsZero()}
+		switch a.Kind() {
+		case "fleet":
+			it.Site = "fleet-wide"
+		case "regime":
+			it.Site = fmt.Sprintf("regime %d", a.To)
+		}
 		if it.HasSwitch {
 			it.Time, it.From, it.To, it.Confidence = readable(a.Time), a.From, a.To, strconv.FormatFloat(a.Confidence, 'f', 2, 64)
 		}

@@ -184,13 +184,14 @@ func TestWarnings(t *testing.T) {
 }
 
 // A few sites without a position are named one by one; many are summed up
-// in one warning that says how to give them positions.
+// in one warning that names the setting that gives them positions, by its
+// field (the command words it with its option).
 func TestPositionWarnings(t *testing.T) {
 	if w := positionWarnings([]string{"A", "B"}); len(w) != 2 || !strings.Contains(w[1], `site "B" has no position`) {
 		t.Errorf("two sites: %q", w)
 	}
 	w := positionWarnings([]string{"A", "B", "C", "D", "E"})
-	if len(w) != 1 || !strings.HasPrefix(w[0], `5 sites have no position ("A", "B", "C" and 2 more)`) || !strings.Contains(w[0], "--sites") {
+	if len(w) != 1 || !strings.HasPrefix(w[0], `5 sites have no position ("A", "B", "C" and 2 more)`) || !strings.Contains(w[0], "(export.Run.Register)") {
 		t.Errorf("five sites: %q", w)
 	}
 }

@@ -68,6 +68,7 @@ type siteResult struct {
 	windows []Window
 	skips   Skips
 	path    []Fix
+	unused  int64 // readings in no kept window
 }
 
 // Extract cuts every site of ds into windows and computes the features
@@ -91,7 +92,7 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 	if err != nil {
 		return nil, err
 	}
-	step, err := checkData(ds, p, cfg)
+	steps, err := checkData(ds, p, cfg)
 	if err != nil {
 		return nil, err
 	}
@@ -112,7 +113,7 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 		return w.site(order[i], p, cfg, clk)
 	})
 
-	t := &Table{Names: p.names, Config: cfg, Skipped: map[string]Skips{}, Step: step}
+	t := &Table{Names: p.names, Config: cfg, Skipped: map[string]Skips{}, Steps: steps, Step: MedianStep(steps)}
 	total := 0
 	for _, r := range results {
 		total += len(r.windows)
@@ -122,6 +123,12 @@ func Extract(ds *ingest.Dataset, cfg Config) (*Table, error) {
 		t.Windows = append(t.Windows, r.windows...)
 		if len(r.skips) > 0 {
 			t.Skipped[order[i].ID] = r.skips
+		}
+		if r.unused > 0 {
+			if t.Unused == nil {
+				t.Unused = map[string]int64{}
+			}
+			t.Unused[order[i].ID] = r.unused
 		}
 		if len(r.path) > 0 {
 			if t.Paths == nil {
@@ -151,7 +158,7 @@ func (w *worker) site(sd *ingest.SiteData, p *plan, cfg Config, clk clock) siteR
 		first = min(first, s.Times[0])
 		last = max(last, s.Times[s.Len()-1])
 	}
-	res := siteResult{skips: Skips{}}
+	res := siteResult{skips: Skips{}, unused: int64(readings)}
 	if first > last {
 		return res
 	}
@@ -178,6 +185,7 @@ func (w *worker) site(sd *ingest.SiteData, p *plan, cfg Config, clk clock) siteR
 	res.windows = make([]Window, 0, est)
 	slab := make([]float64, 0, est*nfeat)
 	lo, hi := make([]int, nch), make([]int, nch)
+	covered := make([]int, nch) // readings before it are in a kept window
 	var posLo, posHi int
 	track := sd.Track
 	for ; ; k++ {
@@ -214,6 +222,10 @@ func (w *worker) site(sd *ingest.SiteData, p *plan, cfg Config, clk clock) siteR
 			continue
 		}
 
+		for i := range series {
+			res.unused -= int64(max(0, hi[i]-max(lo[i], covered[i])))
+			covered[i] = max(covered[i], hi[i])
+		}
 		off, steady := clk.steadyOffset(start, end)
 		for i, s := range series {
 			if p.stats[i] == 0 {

@@ -157,10 +157,18 @@ type Table struct {
 	Config  Config
 	Windows []Window         // sorted by site, then start
 	Skipped map[string]Skips // windows not used, by site; sites that skipped none are absent
+	// Unused counts, by site, the readings of the channels the features
+	// use that fall in no window kept: in skipped windows, or between
+	// windows when the stride is longer than the window. Sites that use
+	// every reading are absent.
+	Unused map[string]int64
 
 	// Step is the typical sampling step of the data: the median over series
 	// of the median interval between readings; 0 when unknown.
 	Step time.Duration
+	// Steps are the sampling steps of the series with two readings or
+	// more, sorted: Step is their median (MedianStep).
+	Steps []time.Duration
 
 	// Paths holds the track of each site whose dump reported positions
 	// and that has windows, at PathStep (see Fix); nil when none did.

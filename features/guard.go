@@ -56,9 +56,9 @@ func (e *TimeRangeError) Error() string {
 // checkData checks, before any window is cut, that the windows of cfg
 // suit the data: no shorter than the typical sampling step (the median over
 // series of the median interval between readings), at most MaxWindows of
-// them, and with every bound representable. It returns that step, 0 when
-// no series has two readings.
-func checkData(ds *ingest.Dataset, p *plan, cfg Config) (time.Duration, error) {
+// them, and with every bound representable. It returns the step of every
+// series of two readings or more, sorted.
+func checkData(ds *ingest.Dataset, p *plan, cfg Config) ([]time.Duration, error) {
 	size, stride := int64(cfg.Window), int64(cfg.Stride)
 	if stride == 0 {
 		stride = size
@@ -66,7 +66,7 @@ func checkData(ds *ingest.Dataset, p *plan, cfg Config) (time.Duration, error) {
 	// Window bounds reach a window and a stride beyond the readings, and
 	// zone offsets (under 15 h) and the origin (4 days) on top.
 	margin := 2*(size+stride) + 6*dayNs
-	var steps []int64
+	var steps []time.Duration
 	windows := 0.0
 	for _, sd := range ds.Sites {
 		if sd == nil {
@@ -80,7 +80,7 @@ func checkData(ds *ingest.Dataset, p *plan, cfg Config) (time.Duration, error) {
 			}
 			first, last = min(first, s.Times[0]), max(last, s.Times[s.Len()-1])
 			if s.Len() > 1 {
-				steps = append(steps, sampleStep(s.Times[:min(s.Len(), stepSample+1)]))
+				steps = append(steps, time.Duration(sampleStep(s.Times[:min(s.Len(), stepSample+1)])))
 			}
 		}
 		if first > last {
@@ -88,26 +88,35 @@ func checkData(ds *ingest.Dataset, p *plan, cfg Config) (time.Duration, error) {
 		}
 		for _, t := range []int64{first, last} {
 			if t < math.MinInt64+margin || t > math.MaxInt64-margin {
-				return 0, &TimeRangeError{Site: sd.ID, Time: time.Unix(0, t).UTC()}
+				return nil, &TimeRangeError{Site: sd.ID, Time: time.Unix(0, t).UTC()}
 			}
 		}
 		windows += (float64(last)-float64(first))/float64(stride) + 1
 	}
-	var step int64
-	if len(steps) > 0 {
-		slices.Sort(steps)
-		step = steps[len(steps)/2]
-		if size < step {
-			return 0, &StepError{Field: "Window", Value: cfg.Window, Step: time.Duration(step)}
+	slices.Sort(steps)
+	if step := MedianStep(steps); step > 0 {
+		if size < int64(step) {
+			return nil, &StepError{Field: "Window", Value: cfg.Window, Step: step}
 		}
-		if stride < step {
-			return 0, &StepError{Field: "Stride", Value: time.Duration(stride), Step: time.Duration(step)}
+		if stride < int64(step) {
+			return nil, &StepError{Field: "Stride", Value: time.Duration(stride), Step: step}
 		}
 	}
 	if windows > MaxWindows {
-		return 0, &WindowLimitError{Windows: windows, Stride: time.Duration(stride)}
+		return nil, &WindowLimitError{Windows: windows, Stride: time.Duration(stride)}
 	}
-	return time.Duration(step), nil
+	return steps, nil
+}
+
+// MedianStep is the typical sampling step of data whose series have the
+// sorted steps: their median (the upper middle one of an even number), as
+// Table.Step; 0 for none. A runner that cuts sites apart, as the Beam path
+// does, joins the Table.Steps of its sites and takes this.
+func MedianStep(steps []time.Duration) time.Duration {
+	if len(steps) == 0 {
+		return 0
+	}
+	return steps[len(steps)/2]
 }
 
 // sampleStep is the median interval between the sorted times.

@@ -235,13 +235,37 @@ func TestWideSentinelsBySite(t *testing.T) {
 		"B,2024-01-01T00:01:00Z,-1e30,2\n"+
 		"B,2024-01-01T00:02:00Z,-9.99e29,2\n"))
 	ds := mustRead(t, []string{path}, nil)
-	if want := map[string]int64{"A": 1, "B": 2}; !reflect.DeepEqual(ds.Summary.Sentinels, want) {
-		t.Errorf("sentinels by site %v, want %v", ds.Summary.Sentinels, want)
+	if want := map[string]map[string]int64{"A": {DropSentinel: 1}, "B": {DropSentinel: 2}}; !reflect.DeepEqual(ds.Summary.SiteDropped, want) {
+		t.Errorf("drops by site %v, want %v", ds.Summary.SiteDropped, want)
 	}
 	if got := ds.Summary.Dropped[DropSentinel]; got != 3 {
 		t.Errorf("%d sentinels dropped, want 3", got)
 	}
 	if got := seriesOf(t, ds, "B", "flow"); len(got.Values) != 1 || got.Values[0] != -9.99e29 {
 		t.Errorf("B flow = %v, want the one value below the rule", got.Values)
+	}
+}
+
+// Rows dropped for their time or channel count against their site, as
+// values do; a row without a site counts against none.
+func TestDropsBySite(t *testing.T) {
+	path := writeFile(t, "long.csv", []byte("site,time,channel,value\n"+
+		"A,2024-01-01T00:00:00Z,flow,1\n"+
+		"A,,flow,2\n"+ // null time
+		"A,2024-01-01T00:02:00Z,,3\n"+ // null channel
+		"B,2024-01-01T00:00:00Z,flow,1\n"+
+		"B,2300-01-01T00:00:00Z,flow,2\n"+ // beyond the int64 nanoseconds
+		"B,2024-01-01T00:03:00Z,flow,NaN\n"+
+		",2024-01-01T00:04:00Z,flow,5\n")) // null site
+	ds := mustRead(t, []string{path}, nil)
+	want := map[string]map[string]int64{
+		"A": {DropNullTime: 1, DropNullChannel: 1},
+		"B": {DropTimeRange: 1, DropNaN: 1},
+	}
+	if !reflect.DeepEqual(ds.Summary.SiteDropped, want) {
+		t.Errorf("drops by site %v, want %v", ds.Summary.SiteDropped, want)
+	}
+	if got := ds.Summary.Dropped[DropNullSite]; got != 1 {
+		t.Errorf("%d rows dropped without a site, want 1", got)
 	}
 }

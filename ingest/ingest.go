@@ -176,7 +176,10 @@ type Summary struct {
 	Channels   []string
 	Start, End time.Time        // earliest and latest reading kept
 	Dropped    map[string]int64 // readings dropped, by reason
-	Sentinels  map[string]int64 // readings dropped as sentinels (DropSentinel), by site
+	// SiteDropped counts the drops of Dropped that have a site, by site,
+	// then reason: every reason but DropNullSite, and but the blank cells
+	// of a wide CSV column that no earlier batch showed to be numeric.
+	SiteDropped map[string]map[string]int64 `json:",omitempty"`
 	// EpochUnit is set when integer epoch times look like another unit
 	// than Options.TimeUnit.
 	EpochUnit      *UnitError `json:",omitempty"`

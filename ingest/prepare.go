@@ -15,9 +15,9 @@ type prepared struct {
 	siteDict  []string // the sites of the batch, by local code
 	chanDict  []string // long: the channels of the batch; wide: the candidate columns
 	naive     bool
-	drops     [nDrops]int64 // row drops, and value drops of a long batch
-	sentinel  []int64       // long: sentinels dropped, by local site code
-	epoch     int64         // the batch's first integer epoch time, if epochSeen
+	drops     [nDrops]int64   // row drops, and value drops of a long batch
+	siteDrops [][nDrops]int64 // the drops of drops that have a site, by local site code
+	epoch     int64           // the batch's first integer epoch time, if epochSeen
 	epochSeen bool
 	cols      []wideColumn // wide: by candidate column
 	arena     arena
@@ -92,8 +92,8 @@ type wideColumn struct {
 	bad    int  // first row that is not a number, -1 for none
 	filled int  // rows with a cell that is not blank
 	drops  [nDrops]int64
-	// sentinels dropped, by local site code
-	sentinel []int64
+	// the drops of drops, by local site code
+	siteDrops [][nDrops]int64
 }
 
 // positions are the rows with a position, by local site code.
@@ -132,9 +132,11 @@ func (r *reader) prepare(b *batch, ro roles) (*prepared, error) {
 			case c < 0:
 			case state[i] == timeNull:
 				p.drops[dNullTime]++
+				p.siteDrops = countDrop(p.siteDrops, c, dNullTime, len(dict))
 				c = -1
 			case state[i] == timeRange:
 				p.drops[dTimeRange]++
+				p.siteDrops = countDrop(p.siteDrops, c, dTimeRange, len(dict))
 				c = -1
 			}
 			sites[i] = c
@@ -238,12 +240,11 @@ func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []in
 			case s < 0:
 			case codes[i] < 0:
 				p.drops[dNullChannel]++
+				p.siteDrops = countDrop(p.siteDrops, s, dNullChannel, len(p.siteDict))
 			case ch >= 0:
 				d := dropOf(v, valid != nil && !valid[lo+i])
 				p.drops[d]++
-				if d == dSentinel {
-					p.sentinel = countSite(p.sentinel, s, len(p.siteDict))
-				}
+				p.siteDrops = countDrop(p.siteDrops, s, d, len(p.siteDict))
 			}
 		}
 	})
@@ -277,9 +278,7 @@ func (p *prepared) wide(b *batch, c *column, j, nKeys int, sites []int32, ns []i
 			r := lo + i
 			if d := dropOf(vals[r], valid != nil && !valid[r]); d >= 0 {
 				wc.drops[d]++
-				if d == dSentinel {
-					wc.sentinel = countSite(wc.sentinel, s, len(p.siteDict))
-				}
+				wc.siteDrops = countDrop(wc.siteDrops, s, d, len(p.siteDict))
 				continue
 			}
 			t.put(i, p.key(int64(s)*nch+int64(j)))
@@ -303,13 +302,13 @@ func dropOf(v float64, null bool) int {
 	return -1
 }
 
-// countSite adds one to the count of site s in counts, made for n sites
-// when nil.
-func countSite(counts []int64, s int32, n int) []int64 {
+// countDrop adds one to the count of drop reason d of site s in counts,
+// made for n sites when nil.
+func countDrop(counts [][nDrops]int64, s int32, d, n int) [][nDrops]int64 {
 	if counts == nil {
-		counts = make([]int64, n)
+		counts = make([][nDrops]int64, n)
 	}
-	counts[s]++
+	counts[s][d]++
 	return counts
 }
 
@@ -423,7 +422,7 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 	for j, id := range p.siteDict {
 		sites[j] = r.siteIndex(id)
 	}
-	r.addSentinels(p.sentinel, sites)
+	r.addDrops(p.siteDrops, sites)
 	chans := make([]int32, len(p.chanDict))
 	for j, name := range p.chanDict {
 		if ro.channel >= 0 {
@@ -434,11 +433,9 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 		if err != nil {
 			return err
 		}
-		if keep {
-			r.addSentinels(p.cols[j].sentinel, sites)
-		}
 		chans[j] = -1
 		if keep {
+			r.addDrops(p.cols[j].siteDrops, sites)
 			chans[j] = r.channelIndex(name)
 		}
 	}
@@ -517,12 +514,12 @@ func (r *reader) wideColumn(b *batch, c *column, wc *wideColumn) (keep bool, err
 	return true, nil
 }
 
-// addSentinels adds the sentinels of a batch, by local site code, to the
-// sites they belong to (sites maps local codes to global ones).
-func (r *reader) addSentinels(counts []int64, sites []int32) {
-	for j, n := range counts {
-		if n > 0 {
-			r.sites[sites[j]].sentinels += n
+// addDrops adds the drops of a batch, by local site code, to the sites
+// they belong to (sites maps local codes to global ones).
+func (r *reader) addDrops(counts [][nDrops]int64, sites []int32) {
+	for j := range counts {
+		for d, n := range counts[j] {
+			r.sites[sites[j]].drops[d] += n
 		}
 	}
 }

@@ -44,7 +44,7 @@ import (
 // numeric column is an error). Null sites, null or out-of-range times, null
 // channels, and null, NaN or infinite values are dropped and counted in
 // Summary.Dropped; so are values of magnitude SentinelMagnitude or more,
-// bad-quality markers, which Summary.Sentinels also counts by site.
+// bad-quality markers. Summary.SiteDropped counts the drops by site.
 //
 // Duplicates: of several readings of the same site, channel and time, the
 // one read last wins (files in the order given, rows in file order); the
@@ -177,9 +177,9 @@ type reader struct {
 
 // siteAcc collects the positions of one site.
 type siteAcc struct {
-	id        string
-	track     builder[[2]float64]
-	sentinels int64 // readings dropped as sentinels
+	id    string
+	track builder[[2]float64]
+	drops [nDrops]int64 // rows and readings of the site dropped, by reason
 }
 
 func newReader(opt Options) *reader {
@@ -501,11 +501,17 @@ func (r *reader) finish() (*Dataset, error) {
 	sum.Sites = len(ds.Sites)
 	sum.Dropped = make(map[string]int64)
 	for _, sa := range r.sites {
-		if sa.sentinels > 0 {
-			if sum.Sentinels == nil {
-				sum.Sentinels = make(map[string]int64)
+		for d, n := range sa.drops {
+			if n == 0 {
+				continue
 			}
-			sum.Sentinels[sa.id] += sa.sentinels
+			if sum.SiteDropped[sa.id] == nil {
+				if sum.SiteDropped == nil {
+					sum.SiteDropped = make(map[string]map[string]int64)
+				}
+				sum.SiteDropped[sa.id] = make(map[string]int64)
+			}
+			sum.SiteDropped[sa.id][dropNames[d]] += n
 		}
 	}
 	for i, n := range r.drops {

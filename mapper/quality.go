@@ -50,7 +50,7 @@ func (m *Map) Quality(asg []Assignment) Quality {
 	q.Unused = float64(unused) / float64(len(hits))
 	if q.Unused > unusedWarning {
 		q.Warnings = append(q.Warnings, fmt.Sprintf(
-			"mapper: %.0f%% of the %d units win no window, so the winners form thin lines across the map: use a smaller grid or a larger initial neighbourhood width (Config.Sigma0)",
+			"mapper: %.0f%% of the %d units win no window, so the winners form thin lines across the map: use a smaller grid or a larger initial neighbourhood width (mapper.Config.Sigma0)",
 			100*q.Unused, len(hits)))
 	}
 	return q

@@ -2,9 +2,7 @@ package model
 
 import (
 	"bytes"
-	"crypto/sha256"
 	"encoding/json"
-	"fmt"
 	"testing"
 
 	"github.com/kinmap/kinmap/mapper"
@@ -49,8 +47,7 @@ func TestModelReadsVersion4(t *testing.T) {
 	if _, ok := doc["Units"]; ok {
 		t.Fatal("a version 4 payload has no Units field")
 	}
-	sum := sha256.Sum256(payload)
-	file := fmt.Appendf(nil, "%s 4\n%d %x\n%s", magic, len(payload), sum, payload)
+	file := fileAs(4, payload)
 	back, err := Read(bytes.NewReader(file))
 	if err != nil {
 		t.Fatal(err)

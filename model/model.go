@@ -37,7 +37,12 @@ import (
 // surface) instead of the booleans Hex and Flat; older files read as before.
 // Version 5 adds the channels' units (Units), which an older build would
 // refuse as an unknown field; older files read as before, without units.
-const FormatVersion = 5
+// Version 6 adds the channels' levels by regime (Levels) and marks the
+// label knowledge (Conditions), which version 5 files written by later
+// builds also carry; an older build says a version 6 file is newer instead
+// of refusing an unknown field. Files of versions 1 to 5 read as before,
+// without levels.
+const FormatVersion = 6
 
 // Score is the Davies–Bouldin index of one number of regimes K, as model
 // files before format version 3 recorded it: lower was better.
@@ -84,6 +89,20 @@ type Model struct {
 	// records) said about the windows each unit won; nil when no run of
 	// the model was given events. Files without it read as before.
 	Conditions *Conditions `json:",omitempty"`
+
+	// Levels are the typical raw levels of the channels in each regime and
+	// over all windows, as the run that wrote the model found them; nil
+	// in files before format version 6 and in a model not yet run.
+	Levels *Levels `json:",omitempty"`
+}
+
+// Levels are the typical raw levels of the channels (features.Levels:
+// the median and p95 of the readings in the windows) of each regime, by
+// regime ID, and of the fleet, over every window. Channels without a
+// reading are left out, as JSON holds no NaN.
+type Levels struct {
+	Regimes map[int][]features.Level
+	Fleet   []features.Level
 }
 
 // Train trains a new map on the training windows of t, scaled by sc into
@@ -229,7 +248,8 @@ func (m *Model) QEThreshold(q float64) float64 {
 }
 
 // Renumber gives regime i the number ids[i] (as from MatchRegimes) and
-// updates UnitRegime to match. The numbers must be positive and distinct.
+// updates UnitRegime and the levels to match. The numbers must be positive
+// and distinct.
 func (m *Model) Renumber(ids []int) error {
 	if len(ids) != len(m.Regimes) {
 		return fmt.Errorf("model: %d numbers for %d regimes", len(ids), len(m.Regimes))
@@ -248,6 +268,13 @@ func (m *Model) Renumber(ids []int) error {
 	}
 	for u, id := range m.UnitRegime {
 		m.UnitRegime[u] = old[id]
+	}
+	if lv := m.Levels; lv != nil {
+		by := make(map[int][]features.Level, len(lv.Regimes))
+		for id, l := range lv.Regimes {
+			by[old[id]] = l
+		}
+		m.Levels = &Levels{Regimes: by, Fleet: lv.Fleet}
 	}
 	return nil
 }
@@ -432,6 +459,13 @@ func (m *Model) check() error {
 	}
 	if err := m.Conditions.check(u); err != nil {
 		return err
+	}
+	if lv := m.Levels; lv != nil {
+		for id := range lv.Regimes {
+			if !slices.ContainsFunc(m.Regimes, func(r mapper.Regime) bool { return r.ID == id }) {
+				return fmt.Errorf("levels of regime %d, which the model does not have", id)
+			}
+		}
 	}
 	ids := make(map[int]bool)
 	listed := 0

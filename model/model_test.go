@@ -155,6 +155,12 @@ func TestModelRoundTrip(t *testing.T) {
 	}
 }
 
+// fileAs is a model file of the given format version around payload, as
+// Write frames one.
+func fileAs(version int, payload []byte) []byte {
+	return fmt.Appendf(nil, "%s %d\n%d %x\n%s", magic, version, len(payload), sha256.Sum256(payload), payload)
+}
+
 // TestModelReadsVersion1 reads a file as version 1 wrote it, before models
 // had a lineage: the header and payload say 1 and the payload has no
 // Lineage field.
@@ -169,8 +175,7 @@ func TestModelReadsVersion1(t *testing.T) {
 	if bytes.Contains(payload, []byte("Lineage")) {
 		t.Fatal("a version 1 payload has no Lineage field")
 	}
-	sum := sha256.Sum256(payload)
-	file := fmt.Appendf(nil, "%s 1\n%d %x\n%s", magic, len(payload), sum, payload)
+	file := fileAs(1, payload)
 	back, err := Read(bytes.NewReader(file))
 	if err != nil {
 		t.Fatal(err)
@@ -212,8 +217,7 @@ func TestModelReadsVersion3(t *testing.T) {
 		if bytes.Contains(bytes.ToLower(payload), []byte(`"cells"`)) || bytes.Contains(bytes.ToLower(payload), []byte(`"surface"`)) {
 			t.Fatal("a version 3 payload names no cells or surface")
 		}
-		sum := sha256.Sum256(payload)
-		file := fmt.Appendf(nil, "%s 3\n%d %x\n%s", magic, len(payload), sum, payload)
+		file := fileAs(3, payload)
 		back, err := Read(bytes.NewReader(file))
 		if err != nil {
 			t.Fatalf("%+v: %v", shape, err)

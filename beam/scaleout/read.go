@@ -67,7 +67,9 @@ type siteResult struct {
 	Windows     []windowRec
 	SkipReasons []string
 	SkipCounts  []int
-	PathTimes   []int64 // features.Table.Paths as Unix nanoseconds and degrees
+	Unused      int64           // features.Table.Unused of the site
+	Steps       []time.Duration // features.Table.Steps of the site
+	PathTimes   []int64         // features.Table.Paths as Unix nanoseconds and degrees
 	PathLat     []float64
 	PathLon     []float64
 	Err         string
@@ -231,6 +233,7 @@ func (f *siteFn) ProcessElement(site string, chunks func(*siteChunk) bool, chann
 			res.PathTimes = append(res.PathTimes, f.Time.UnixNano())
 			res.PathLat, res.PathLon = append(res.PathLat, f.Lat), append(res.PathLon, f.Lon)
 		}
+		res.Unused, res.Steps = t.Unused[site], t.Steps
 		for _, reason := range sortedKeys(t.Skipped[site]) {
 			res.SkipReasons = append(res.SkipReasons, reason)
 			res.SkipCounts = append(res.SkipCounts, t.Skipped[site][reason])
@@ -387,6 +390,17 @@ func mergeSummary(outcomes []fileOutcome, sites []siteResult, reg *ingest.Regist
 		for site, n := range s.SiteDuplicates {
 			addTo(&sum.SiteDuplicates, site, n)
 		}
+		for site, drops := range s.SiteDropped {
+			if sum.SiteDropped == nil {
+				sum.SiteDropped = map[string]map[string]int64{}
+			}
+			if sum.SiteDropped[site] == nil {
+				sum.SiteDropped[site] = map[string]int64{}
+			}
+			for r, n := range drops {
+				sum.SiteDropped[site][r] += n
+			}
+		}
 		sum.NaiveTime = sum.NaiveTime || s.NaiveTime
 		for r, n := range s.Dropped {
 			sum.Dropped[r] += n
@@ -434,6 +448,13 @@ func addTo(m *map[string]int64, key string, n int64) {
 func table(names []string, cfg features.Config, sites []siteResult) *features.Table {
 	t := &features.Table{Names: names, Config: cfg, Skipped: map[string]features.Skips{}}
 	for _, s := range sites {
+		t.Steps = append(t.Steps, s.Steps...)
+		if s.Unused > 0 {
+			if t.Unused == nil {
+				t.Unused = map[string]int64{}
+			}
+			t.Unused[s.Site] = s.Unused
+		}
 		for _, w := range s.Windows {
 			t.Windows = append(t.Windows, features.Window{
 				Site: s.Site, Start: time.Unix(0, w.Start).UTC(), End: time.Unix(0, w.End).UTC(),
@@ -458,5 +479,7 @@ func table(names []string, cfg features.Config, sites []siteResult) *features.Ta
 			t.Paths[s.Site] = path
 		}
 	}
+	slices.Sort(t.Steps)
+	t.Step = features.MedianStep(t.Steps)
 	return t
 }

@@ -93,7 +93,7 @@ func (o *Options) validate() error {
 	}
 	switch {
 	case o.Work == "":
-		return usage("scaleout: no scratch folder: name one that every worker can reach with --work")
+		return usage("scaleout: no scratch folder: name one that every worker can reach (scaleout.Options.Work)")
 	case o.Map.Rule != "" && o.Map.Rule != mapper.RuleBatch:
 		return usage("scaleout: training rule %q: only the batch map runs on Beam", o.Map.Rule)
 	case o.Shards < 0:

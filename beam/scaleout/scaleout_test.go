@@ -105,6 +105,11 @@ func compareTables(t *testing.T, beam, local *kinmap.Result) {
 	if !reflect.DeepEqual(bt.Paths, lt.Paths) {
 		t.Errorf("paths of %d sites, want %d, or they differ", len(bt.Paths), len(lt.Paths))
 	}
+	// The sampling step and the readings in no window, which the data
+	// health reports, are the local run's.
+	if lt.Step <= 0 || bt.Step != lt.Step || !reflect.DeepEqual(bt.Steps, lt.Steps) || !reflect.DeepEqual(bt.Unused, lt.Unused) {
+		t.Errorf("step %v of %d series, unused %v; want %v of %d, %v", bt.Step, len(bt.Steps), bt.Unused, lt.Step, len(lt.Steps), lt.Unused)
+	}
 	if len(bt.Windows) != len(lt.Windows) {
 		t.Fatalf("%d windows, want %d", len(bt.Windows), len(lt.Windows))
 	}

@@ -46,6 +46,7 @@ func runFlags(o *kinmap.Options, out *cli.Outputs) *cli.Flags {
 	f.Features(o)
 	f.Map(o, true)
 	f.Timeline(o)
+	f.WorkList(o)
 	f.Events(o)
 	f.Output(o, out, "also write the model to `FILE` (it is always written to DIR/model)")
 	return f
@@ -69,9 +70,15 @@ func applyModel(name string, args []string, e *env, apply func(kinmap.Options, *
 		f.Map(&o, false)
 	}
 	f.Timeline(&o)
+	f.WorkList(&o)
 	f.Events(&o)
 	f.Output(&o, &out, "model `FILE` of an earlier run")
 	if err := parse(f, args, e, &o, &out, true); err != nil {
+		return err
+	}
+	// Options are checked before the model is read: a wrong option says
+	// so even when the model is wrong too.
+	if err := o.Validate(); err != nil {
 		return err
 	}
 	m, err := model.ReadFile(out.Model)

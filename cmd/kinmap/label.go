@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"time"
 
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/internal/atomicfile"
 	"github.com/kinmap/kinmap/internal/cli"
@@ -36,7 +37,10 @@ func labelCmd(args []string, e *env) error {
 		if err != nil {
 			return err
 		}
-		return labels.Write(e.stdout, m.Regimes)
+		if m.Levels == nil {
+			fmt.Fprintf(e.stderr, "note: %s keeps no channel levels (format version %d), so the descriptions give standardised differences alone; the model that update or assign writes keeps them\n", modelFile, m.Version)
+		}
+		return labels.Write(e.stdout, export.Described(m))
 	}
 	ls, err := labels.ReadFile(file)
 	if err != nil {

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/csv"
+	"encoding/json"
 	"os"
 	"path/filepath"
 	"strings"
@@ -29,6 +30,28 @@ func TestLabelCommand(t *testing.T) {
 	recs, err := csv.NewReader(strings.NewReader(stdout)).ReadAll()
 	if err != nil || len(recs) != 3 || strings.Join(recs[0], ",") != "regime,name,status,description" || recs[1][0] != "1" || recs[2][0] != "2" {
 		t.Fatalf("label printed %q (%v), want a header and regimes 1 and 2", stdout, err)
+	}
+	// The descriptions are those of the run's outputs: levels first.
+	b, err := os.ReadFile(filepath.Join(dir, "train", "regimes.geojson"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fc struct {
+		Features []struct {
+			Properties struct {
+				Regime      int
+				Description string
+			}
+		}
+	}
+	if err := json.Unmarshal(b, &fc); err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range fc.Features {
+		p := f.Properties
+		if got := recs[p.Regime][3]; got != p.Description || !strings.Contains(got, "median") || !strings.Contains(got, "m3/h") {
+			t.Errorf("label describes regime %d as %q, the outputs as %q", p.Regime, got, p.Description)
+		}
 	}
 
 	before, err := os.ReadFile(modelFile)

@@ -57,6 +57,10 @@ func TestUsageErrors(t *testing.T) {
 		{"learning rate above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--rule", "online", "--eta0", "2"}, "Eta0"},
 		{"negative dwell", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-dwell", "-1"}, "dwell"},
 		{"quantile above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--unfamiliar-q", "1.5"}, "quantile"},
+		// The work list's thresholds are worded with their options.
+		{"confidence above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--top-confidence", "1.5"}, "--top-confidence 1.5: want a value in (0, 1]"},
+		{"negative stay", []string{"assign", "--model", "m", "--data", dump, "--out", t.TempDir(), "--long-stay", "-2"}, "--long-stay -2: want a value of 1 window or more"},
+		{"fleet p of 1", []string{"update", "--model", "m", "--data", dump, "--out", t.TempDir(), "--fleet-p", "1"}, "--fleet-p 1: want a value in (0, 1)"},
 		{"unknown time zone", []string{"run", "--data", dump, "--out", t.TempDir(), "--tz", "Mars/Olympus"}, "Mars/Olympus"},
 		{"bad scaling", []string{"run", "--data", dump, "--out", t.TempDir(), "--scale", "minmax"}, "minmax"},
 		{"assign without model", []string{"assign", "--data", dump, "--out", t.TempDir()}, "--model FILE"},

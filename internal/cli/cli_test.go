@@ -92,8 +92,12 @@ func TestPrintUsageDefaults(t *testing.T) {
 // with its options.
 func TestWordWarning(t *testing.T) {
 	for _, tt := range []struct{ in, want string }{
-		{"mapper: 57% of the 56 units win no window, so the winners form thin lines across the map: use a smaller grid or a larger initial neighbourhood width (Config.Sigma0)",
+		{"mapper: 57% of the 56 units win no window, so the winners form thin lines across the map: use a smaller grid or a larger initial neighbourhood width (mapper.Config.Sigma0)",
 			"use a smaller grid or a larger initial neighbourhood width (--sigma0)"},
+		{"3 and 4 regimes fit about as well: re-run with 4 regimes (mapper.Config.Regimes) to see the other",
+			"re-run with 4 regimes (--regimes) to see the other"},
+		{`12 sites have no position ("a", "b", "c" and 9 more); their features in sites.geojson have no geometry: give a site register (export.Run.Register)`,
+			"give a site register (--sites)"},
 	} {
 		if got := WordWarning(tt.in); !strings.HasSuffix(got, tt.want) {
 			t.Errorf("WordWarning(%q) = %q, want it to end %q", tt.in, got, tt.want)

@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
@@ -123,6 +124,15 @@ func (f *Flags) Timeline(o *kinmap.Options) {
 	f.Num(&o.Timeline.UnfamiliarQ, "unfamiliar-q", o.Timeline.UnfamiliarQ, "a window is unfamiliar above this `QUANTILE` of the training quantization errors")
 }
 
+// WorkList registers the flags of the work list's thresholds.
+func (f *Flags) WorkList(o *kinmap.Options) {
+	d := attention.DefaultConfig()
+	f.Section("Work list")
+	f.Num(&o.WorkList.MinConfidence, "top-confidence", d.MinConfidence, "switches below this `CONFIDENCE` (up to 1) leave the top of the work list; they stay in switches.csv")
+	f.Int(&o.WorkList.LongStay, "long-stay", 0, "`WINDOWS` in a row in a watch or fault regime that list a site; 0 is a week of windows")
+	f.Num(&o.WorkList.FleetAlpha, "fleet-p", d.FleetAlpha, "same-day switches are one fleet-wide event when chance gives as many with a probability below `P` (under 1)")
+}
+
 // Output registers the output flags, with modelHelp for --model.
 func (f *Flags) Output(o *kinmap.Options, out *Outputs, modelHelp string) {
 	f.Section("Output")
@@ -234,7 +244,7 @@ func within(path, dir string) bool {
 //
 // They are written together or not at all (kinmap.Result.Save).
 func Write(res *kinmap.Result, o *kinmap.Options, out *Outputs) error {
-	err := res.Save(kinmap.Targets{Out: out.Out, Model: out.Model, History: o.History})
+	err := res.Save(kinmap.Targets{Out: out.Out, Model: out.Model, History: o.History, Word: WordWarning})
 	var busy *atomicfile.ErrBusy
 	var changed *history.ChangedError
 	switch {

@@ -6,20 +6,30 @@ import (
 	"strings"
 
 	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
 )
 
 // flagNames are the options of the commands that set the Config fields the
 // library's errors name.
-var flagNames = map[string]string{"Window": "--window", "Stride": "--stride"}
+var flagNames = map[string]string{"Window": "--window", "Stride": "--stride",
+	"MinConfidence": "--top-confidence", "LongStay": "--long-stay", "FleetAlpha": "--fleet-p"}
 
 // fieldFlags words the settings that library warnings name by their
-// fields with the options that set them.
-var fieldFlags = strings.NewReplacer("(Config.Sigma0)", "(--sigma0)")
+// fields, in parentheses and qualified by package, with the options that
+// set them: the one rule of every warning that names a setting.
+var fieldFlags = strings.NewReplacer(
+	"(mapper.Config.Sigma0)", "(--sigma0)",
+	"(mapper.Config.Regimes)", "(--regimes)",
+	"(export.Run.Register)", "(--sites)",
+	"(kinmap.Options.Data)", "(--data)",
+	"(scaleout.Options.Work)", "(--work)", // kinmap-beam
+)
 
 // WordWarning returns a warning of the library in the words of the
-// command's options.
+// command's options; Write words the warnings of run.json and the report
+// with it too.
 func WordWarning(w string) string { return fieldFlags.Replace(w) }
 
 // Words returns the message of err in the words of the run command's
@@ -31,6 +41,7 @@ func Words(err error) string {
 		limit *features.WindowLimitError
 		grid  *mapper.LimitError
 		none  *kinmap.NoWindowError
+		list  *attention.ConfigError
 	)
 	switch {
 	case errors.As(err, &step):
@@ -44,8 +55,10 @@ func Words(err error) string {
 			strings.TrimPrefix(grid.What, "lattice "), grid.Value, grid.Unit, grid.Limit)
 	case errors.As(err, &none) && none.Unit != nil:
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s): %v", none.Reasons, none.Unit)
+	case errors.As(err, &list) && flagNames[list.Field] != "":
+		return fmt.Sprintf("%s %g: want a value %s", flagNames[list.Field], list.Value, list.Want)
 	case errors.As(err, &none):
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", none.Reasons)
 	}
-	return err.Error()
+	return fieldFlags.Replace(err.Error())
 }

@@ -35,6 +35,7 @@ func newCLI(fs *flag.FlagSet) *cmdline {
 	f.Features(o)
 	f.Map(o, true)
 	f.Timeline(o)
+	f.WorkList(o)
 	f.Output(o, &c.out, "also write the model to `FILE` (it is always written to DIR/model)")
 	f.Section("Beam")
 	f.Str(&c.o.Work, "work", "", "scratch `DIR` every worker and the driver can reach (gs://…, s3://… or a shared folder); default a local temporary folder, for Prism in this process only")

@@ -93,8 +93,8 @@ type Result struct {
 	X          *mat.Dense      // scaled features, one row per window of Table (each window's Scaled is a view of its row)
 	Model      *model.Model
 	Switches   []timeline.Switch
-	Changes    []mapper.RegimeChange // regime renumbering by Update
-	Conditions *Conditions           // what labelled events say of the windows; nil without events or label knowledge
+	Changes    []model.RegimeChange // regime renumbering by Update
+	Conditions *Conditions          // what labelled events say of the windows; nil without events or label knowledge
 	Info       RunInfo
 
 	// The work list, the data health and, with a history, the comparison

@@ -14,7 +14,6 @@ import (
 
 	"github.com/kinmap/kinmap"
 	khistory "github.com/kinmap/kinmap/history"
-	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/timeline"
@@ -154,7 +153,7 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 		}
 	}
 	for _, c := range second.Changes {
-		if c.Kind != mapper.ChangeRenumbered {
+		if c.Kind != model.ChangeRenumbered {
 			t.Errorf("change %+v after an update on the same behaviour", c)
 		}
 	}

@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"github.com/kinmap/kinmap/lattice"
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
@@ -16,7 +17,7 @@ import (
 func TestAssignPartialBruteForce(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 1))
 	const dim, n = 9, 400
-	m := &Map{Lattice: Lattice{Cols: 8, Rows: 6, Hex: true}, Dim: dim}
+	m := &Map{Lattice: lattice.Lattice{Cols: 8, Rows: 6, Hex: true}, Dim: dim}
 	m.Codebook = make([]float64, m.Units()*dim)
 	for i := range m.Codebook {
 		m.Codebook[i] = rng.NormFloat64()
@@ -83,7 +84,7 @@ func TestAssignPartialBruteForce(t *testing.T) {
 // A window whose every component is missing cannot be placed by its
 // features; it is placed as a window at the centre, never at a NaN unit.
 func TestAssignPartialNothingPresent(t *testing.T) {
-	m := &Map{Lattice: Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0.1, 0.1, 3, 3}}
+	m := &Map{Lattice: lattice.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0.1, 0.1, 3, 3}}
 	x := mat.NewDense(1, 2, []float64{math.NaN(), math.NaN()})
 	a := m.AssignPartial(x, 1)[0]
 	if a.BMU != 0 || math.IsNaN(a.QE) {

@@ -2,6 +2,7 @@ package mapper
 
 import (
 	"fmt"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -30,12 +31,15 @@ func (m *Map) Quality(asg []Assignment) Quality {
 	if len(asg) == 0 {
 		return q
 	}
-	nb := m.Lattice.neighbourTable()
+	nb := make([][]int, m.Units())
+	for u := range nb {
+		nb[u] = m.Lattice.Neighbours(u)
+	}
 	hits := m.hits(asg)
 	var broken int
 	for _, a := range asg {
 		q.QE += a.QE
-		if a.Second >= 0 && !contains(nb[a.BMU], a.Second) {
+		if a.Second >= 0 && !slices.Contains(nb[a.BMU], a.Second) {
 			broken++
 		}
 	}

@@ -19,11 +19,11 @@ func TestDetectFormat(t *testing.T) {
 		{"PAR1\x15\x04", FormatParquet},
 		{"ARROW1\x00\x00", FormatArrowFile},
 		{"\xff\xff\xff\xff\x10\x01\x00\x00", FormatArrowStream},
-		{"\x1f\x8b\x08\x00", FormatGzip},
+		{"\x1f\x8b\x08\x00", formatGzip},
 		{"site,time,value\n", FormatCSV},
 		{"\xef\xbb\xbfsite;time\n", FormatCSV},
 		{"PAR", FormatCSV}, // too short for the magic: text
-		{"  \n{\"type\": \"FeatureCollection\"", FormatGeoJSON},
+		{"  \n{\"type\": \"FeatureCollection\"", formatGeoJSON},
 		{"Zürich,1\n", FormatCSV},
 		{"site,name\nA,Z\xc3", FormatCSV}, // a rune cut by the end of the head
 		{"", ""},
@@ -34,31 +34,31 @@ func TestDetectFormat(t *testing.T) {
 		{"a,\xff,b", ""},
 	}
 	for _, tt := range tests {
-		if got := DetectFormat([]byte(tt.head)); got != tt.want {
-			t.Errorf("DetectFormat(%q) = %q, want %q", tt.head, got, tt.want)
+		if got := detectFormat([]byte(tt.head)); got != tt.want {
+			t.Errorf("detectFormat(%q) = %q, want %q", tt.head, got, tt.want)
 		}
 	}
 }
 
 var formats = map[string]bool{"": true, FormatParquet: true, FormatArrowFile: true, FormatArrowStream: true,
-	FormatCSV: true, FormatGeoJSON: true, FormatGzip: true}
+	FormatCSV: true, formatGeoJSON: true, formatGzip: true}
 
 func FuzzDetectFormat(f *testing.F) {
 	f.Add([]byte("PAR1"))
 	f.Add([]byte("site,time\n"))
 	f.Fuzz(func(t *testing.T, head []byte) {
-		got := DetectFormat(head)
+		got := detectFormat(head)
 		if !formats[got] {
-			t.Fatalf("DetectFormat(%q) = %q, not a format", head, got)
+			t.Fatalf("detectFormat(%q) = %q, not a format", head, got)
 		}
 		// Binary formats are told by their first bytes alone.
 		for _, magic := range []string{"PAR1", "ARROW1", "\xff\xff\xff\xff", "\x1f\x8b"} {
-			if bytes.HasPrefix(head, []byte(magic)) && DetectFormat([]byte(magic)) != got {
-				t.Fatalf("DetectFormat(%q) = %q, but its magic says %q", head, got, DetectFormat([]byte(magic)))
+			if bytes.HasPrefix(head, []byte(magic)) && detectFormat([]byte(magic)) != got {
+				t.Fatalf("detectFormat(%q) = %q, but its magic says %q", head, got, detectFormat([]byte(magic)))
 			}
 		}
-		if (got == FormatCSV || got == FormatGeoJSON) && bytes.IndexByte(head, 0) >= 0 {
-			t.Fatalf("DetectFormat(%q) = %q for data with a NUL byte", head, got)
+		if (got == FormatCSV || got == formatGeoJSON) && bytes.IndexByte(head, 0) >= 0 {
+			t.Fatalf("detectFormat(%q) = %q for data with a NUL byte", head, got)
 		}
 	})
 }

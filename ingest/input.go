@@ -44,8 +44,8 @@ func openInput(path string) (*input, error) {
 		}
 		return nil, errors.New("empty file")
 	}
-	in.format = DetectFormat(head)
-	if in.format == FormatGzip {
+	in.format = detectFormat(head)
+	if in.format == formatGzip {
 		if in.gz, err = gzip.NewReader(in.r); err != nil {
 			in.close()
 			return nil, fmt.Errorf("gzip: %w", err)
@@ -59,8 +59,8 @@ func openInput(path string) (*input, error) {
 			}
 			return nil, errors.New("empty file (gzip)")
 		}
-		switch in.format = DetectFormat(head); in.format {
-		case FormatParquet, FormatArrowFile, FormatGzip:
+		switch in.format = detectFormat(head); in.format {
+		case FormatParquet, FormatArrowFile, formatGzip:
 			in.close()
 			return nil, fmt.Errorf("gzip-compressed %s is not supported; decompress the file first", in.format)
 		}

@@ -16,7 +16,7 @@ import (
 // unit that is too long to be one is passed over, and a long dump's value
 // column names no channel's unit.
 func TestUnitsFromFieldMetadata(t *testing.T) {
-	unit := func(u string) arrow.Metadata { return arrow.NewMetadata([]string{UnitKey}, []string{u}) }
+	unit := func(u string) arrow.Metadata { return arrow.NewMetadata([]string{unitKey}, []string{u}) }
 	schema := arrow.NewSchema([]arrow.Field{
 		{Name: "site", Type: arrow.BinaryTypes.String},
 		{Name: "time", Type: &arrow.TimestampType{Unit: arrow.Second, TimeZone: "UTC"}},

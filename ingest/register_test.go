@@ -105,7 +105,7 @@ func TestReadRegisterParquetAndArrow(t *testing.T) {
 	}
 	opt := RegisterOptions{Key: "id", LatCol: "y", LonCol: "x"}
 	for _, path := range []string{
-		writePQArrow(t, "sites.parquet", rec, 1, true),
+		writeArrowParquet(t, "sites.parquet", rec, 1, true),
 		writeArrowIPC(t, "sites.arrow", false, rec),
 		writeArrowIPC(t, "sites.arrows", true, rec),
 	} {

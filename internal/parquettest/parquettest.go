@@ -155,45 +155,37 @@ func repeatedDef(n schema.Node) int16 {
 
 // readBatch reads up to len(def) levels and the values among them.
 func readBatch(cr file.ColumnChunkReader, def, rep []int16) (vals any, n int, err error) {
-	size := int64(len(def))
-	var total int64
 	switch r := cr.(type) {
 	case *file.BooleanColumnChunkReader:
-		v := make([]bool, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
+		return readAs(r, def, rep)
 	case *file.Int32ColumnChunkReader:
-		v := make([]int32, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
+		return readAs(r, def, rep)
 	case *file.Int64ColumnChunkReader:
-		v := make([]int64, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
+		return readAs(r, def, rep)
 	case *file.Int96ColumnChunkReader:
-		v := make([]parquet.Int96, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
+		return readAs(r, def, rep)
 	case *file.Float32ColumnChunkReader:
-		v := make([]float32, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
+		return readAs(r, def, rep)
 	case *file.Float64ColumnChunkReader:
-		v := make([]float64, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
+		return readAs(r, def, rep)
 	case *file.ByteArrayColumnChunkReader:
-		v := make([]parquet.ByteArray, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
+		return readAs(r, def, rep)
 	case *file.FixedLenByteArrayColumnChunkReader:
-		v := make([]parquet.FixedLenByteArray, size)
-		total, _, err = r.ReadBatch(size, v, def, rep)
-		vals = v
-	default:
-		return nil, 0, fmt.Errorf("no reader for %T", cr)
+		return readAs(r, def, rep)
 	}
-	return vals, int(total), err
+	return nil, 0, fmt.Errorf("no reader for %T", cr)
+}
+
+// batchReader is a column reader of values of type T.
+type batchReader[T any] interface {
+	ReadBatch(batchSize int64, values []T, defLvls, repLvls []int16) (total int64, valuesRead int, err error)
+}
+
+// readAs reads up to len(def) levels of r and the values among them.
+func readAs[T any](r batchReader[T], def, rep []int16) (any, int, error) {
+	v := make([]T, len(def))
+	total, _, err := r.ReadBatch(int64(len(def)), v, def, rep)
+	return v, int(total), err
 }
 
 // convert returns value k of vals as Column.Values holds it.

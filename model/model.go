@@ -3,6 +3,11 @@
 // settings, the normalisation, the map, its regimes, the training settings
 // and the lineage of its regime numbers), built complete by one
 // constructor, Train, Update or, for a map trained elsewhere, New.
+//
+// Update keeps regime numbers from one model to the next, pairing the new
+// regimes with the previous ones (RegimeChange reports how they moved),
+// and carries the user's labels with the numbers; CheckLabel and Statuses
+// are the rules of those labels.
 package model
 
 import (

@@ -6,19 +6,12 @@ import (
 	"testing"
 )
 
-// Training settings name the lattice's shape in kinmap's words and read
-// back as they were.
+// Training settings record the lattice's shape by its names (those of
+// package lattice, checked there) in place of Hex and Flat, and read back
+// as they were.
 func TestShapeRecordedByName(t *testing.T) {
-	for _, tc := range []struct {
-		hex, flat      bool
-		cells, surface string
-	}{
-		{true, false, "hex", "torus"},
-		{false, false, "square", "torus"},
-		{true, true, "hex", "plane"},
-		{false, true, "square", "plane"},
-	} {
-		c := Config{Cols: 6, Rows: 4, Hex: tc.hex, Flat: tc.flat, Rule: RuleOnline, Seed: 7, Workers: 3}
+	for _, tc := range [][2]bool{{true, false}, {false, false}, {true, true}, {false, true}} {
+		c := Config{Cols: 6, Rows: 4, Hex: tc[0], Flat: tc[1], Rule: RuleOnline, Seed: 7, Workers: 3}
 		b, err := json.Marshal(c)
 		if err != nil {
 			t.Fatal(err)
@@ -27,7 +20,7 @@ func TestShapeRecordedByName(t *testing.T) {
 		if err := json.Unmarshal(b, &keys); err != nil {
 			t.Fatal(err)
 		}
-		if keys["cells"] != tc.cells || keys["surface"] != tc.surface || keys["hex"] != nil || keys["flat"] != nil || keys["rule"] != RuleOnline {
+		if l := c.Lattice(); keys["cells"] != l.Cells() || keys["surface"] != l.Surface() || keys["hex"] != nil || keys["flat"] != nil || keys["rule"] != RuleOnline {
 			t.Errorf("settings %+v recorded as %s", c, b)
 		}
 		var cb Config

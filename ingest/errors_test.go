@@ -170,7 +170,7 @@ func TestBadInput(t *testing.T) {
 // content decides.
 func TestDetectionOverName(t *testing.T) {
 	ds := mustRead(t, []string{writeFile(t, "dump.parquet", []byte(goodCSV))}, nil)
-	if ds.Summary.Files[0].Format != FormatCSV || ds.Summary.Readings != 1 {
+	if ds.Summary.Files[0].Format != formatCSV || ds.Summary.Readings != 1 {
 		t.Errorf("summary %+v", ds.Summary)
 	}
 }

@@ -6,19 +6,16 @@ import (
 	"unicode/utf8"
 )
 
-// Formats of dump files, as FileSummary.Format reports them.
+// The formats detectFormat names: those of dumps, as FileSummary.Format
+// reports them, a register, and a compressed file whose content is another
+// format.
 const (
-	FormatParquet     = "parquet"
-	FormatArrowFile   = "arrow-file"
-	FormatArrowStream = "arrow-stream"
-	FormatCSV         = "csv"
-)
-
-// Formats detectFormat also names: a register, and a compressed file whose
-// content is another format.
-const (
-	formatGeoJSON = "geojson"
-	formatGzip    = "gzip"
+	formatParquet     = "parquet"
+	formatArrowFile   = "arrow-file"
+	formatArrowStream = "arrow-stream"
+	formatCSV         = "csv"
+	formatGeoJSON     = "geojson"
+	formatGzip        = "gzip"
 )
 
 // headSize is how much of a file detectFormat is given.
@@ -37,11 +34,11 @@ var utf8BOM = []byte("\xef\xbb\xbf")
 func detectFormat(head []byte) string {
 	switch {
 	case bytes.HasPrefix(head, []byte("PAR1")):
-		return FormatParquet
+		return formatParquet
 	case bytes.HasPrefix(head, []byte("ARROW1")):
-		return FormatArrowFile
+		return formatArrowFile
 	case bytes.HasPrefix(head, []byte{0xff, 0xff, 0xff, 0xff}):
-		return FormatArrowStream
+		return formatArrowStream
 	case bytes.HasPrefix(head, []byte{0x1f, 0x8b}):
 		return formatGzip
 	}
@@ -53,7 +50,7 @@ func detectFormat(head []byte) string {
 	if trimmed[0] == '{' {
 		return formatGeoJSON
 	}
-	return FormatCSV
+	return formatCSV
 }
 
 // isText reports whether b is UTF-8 without control characters other than

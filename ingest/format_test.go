@@ -16,16 +16,16 @@ func TestDetectFormat(t *testing.T) {
 		// continuation marker 0xFFFFFFFF (Arrow columnar format, "IPC File
 		// Format" and "Encapsulated message format"); gzip members with
 		// 0x1f 0x8b (RFC 1952 §2.3.1).
-		{"PAR1\x15\x04", FormatParquet},
-		{"ARROW1\x00\x00", FormatArrowFile},
-		{"\xff\xff\xff\xff\x10\x01\x00\x00", FormatArrowStream},
+		{"PAR1\x15\x04", formatParquet},
+		{"ARROW1\x00\x00", formatArrowFile},
+		{"\xff\xff\xff\xff\x10\x01\x00\x00", formatArrowStream},
 		{"\x1f\x8b\x08\x00", formatGzip},
-		{"site,time,value\n", FormatCSV},
-		{"\xef\xbb\xbfsite;time\n", FormatCSV},
-		{"PAR", FormatCSV}, // too short for the magic: text
+		{"site,time,value\n", formatCSV},
+		{"\xef\xbb\xbfsite;time\n", formatCSV},
+		{"PAR", formatCSV}, // too short for the magic: text
 		{"  \n{\"type\": \"FeatureCollection\"", formatGeoJSON},
-		{"Zürich,1\n", FormatCSV},
-		{"site,name\nA,Z\xc3", FormatCSV}, // a rune cut by the end of the head
+		{"Zürich,1\n", formatCSV},
+		{"site,name\nA,Z\xc3", formatCSV}, // a rune cut by the end of the head
 		{"", ""},
 		{" \r\n\t", ""},
 		{"\xef\xbb\xbf", ""},
@@ -40,8 +40,8 @@ func TestDetectFormat(t *testing.T) {
 	}
 }
 
-var formats = map[string]bool{"": true, FormatParquet: true, FormatArrowFile: true, FormatArrowStream: true,
-	FormatCSV: true, formatGeoJSON: true, formatGzip: true}
+var formats = map[string]bool{"": true, formatParquet: true, formatArrowFile: true, formatArrowStream: true,
+	formatCSV: true, formatGeoJSON: true, formatGzip: true}
 
 func FuzzDetectFormat(f *testing.F) {
 	f.Add([]byte("PAR1"))
@@ -57,7 +57,7 @@ func FuzzDetectFormat(f *testing.F) {
 				t.Fatalf("detectFormat(%q) = %q, but its magic says %q", head, got, detectFormat([]byte(magic)))
 			}
 		}
-		if (got == FormatCSV || got == formatGeoJSON) && bytes.IndexByte(head, 0) >= 0 {
+		if (got == formatCSV || got == formatGeoJSON) && bytes.IndexByte(head, 0) >= 0 {
 			t.Fatalf("detectFormat(%q) = %q for data with a NUL byte", head, got)
 		}
 	})

@@ -145,9 +145,9 @@ func TestSameSeriesAcrossFormats(t *testing.T) {
 		"csv gzip":                     writeFile(t, "dump.csv.gz", gzipped(t, referenceCSV(t, rows))),
 	}
 	formats := map[string]string{
-		"arrow-go parquet, dictionary": FormatParquet, "arrow-go parquet, plain": FormatParquet,
-		"arrow ipc file": FormatArrowFile, "arrow ipc stream": FormatArrowStream,
-		"csv": FormatCSV, "csv gzip": FormatCSV,
+		"arrow-go parquet, dictionary": formatParquet, "arrow-go parquet, plain": formatParquet,
+		"arrow ipc file": formatArrowFile, "arrow ipc stream": formatArrowStream,
+		"csv": formatCSV, "csv gzip": formatCSV,
 	}
 	for name, path := range files {
 		t.Run(name, func(t *testing.T) {

@@ -33,7 +33,7 @@ func DefaultEventOptions() EventOptions {
 // Conditions is what a run learnt and concluded from labelled events.
 type Conditions struct {
 	Events    []ingest.EventRow
-	Marks     events.Marks      // the run's windows marked by Events, in the order of Result.Table.Windows
+	Marks     events.Marks      // how Events marked the run's windows (their Marked labels)
 	Knowledge *model.Conditions // the label counts the windows were classified with: the model's and the run's
 	Span      time.Duration     // span a point event marks before it; also how far after a precedent its outcome is looked for
 }
@@ -51,14 +51,14 @@ func (r *Result) classify(o *Options) error {
 	if eo.Classify.K == 0 {
 		eo.Classify = events.DefaultConfig()
 	}
-	ws := r.eventWindows()
+	ws := r.Table.Windows
 	units := make([]int, len(ws))
 	for i, w := range ws {
 		units[i] = w.Unit
 	}
 	r.showNotes = eo.ShowNotes
 	c := &Conditions{Span: eo.Span}
-	var own []string
+	var own []string // the windows' labels when they count in the run's knowledge
 	var mine *model.Conditions
 	if eo.File != "" {
 		evs, err := ingest.ReadEvents(eo.File, eo.Columns)
@@ -67,7 +67,10 @@ func (r *Result) classify(o *Options) error {
 		}
 		c.Events = evs
 		c.Marks = events.Mark(ws, evs, events.Span{Before: eo.Span})
-		own = c.Marks.Labels
+		own = make([]string, len(ws))
+		for i, w := range ws {
+			own[i] = w.Marked
+		}
 		mine = events.Count(r.Model.Map.Units(), units, own)
 		mine.Span, mine.Events = events.Span{Before: eo.Span}.String(), c.Marks.Used
 		if len(c.Marks.Unknown) > 0 {
@@ -91,15 +94,6 @@ func (r *Result) classify(o *Options) error {
 	}
 	r.Conditions = c
 	return nil
-}
-
-// eventWindows returns the run's windows as package events sees them.
-func (r *Result) eventWindows() []events.Window {
-	ws := make([]events.Window, len(r.Table.Windows))
-	for i, w := range r.Table.Windows {
-		ws[i] = events.Window{Site: w.Site, Start: w.Start, End: w.End, Unit: w.Unit}
-	}
-	return ws
 }
 
 // list joins up to n items, saying how many more there are.

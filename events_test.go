@@ -73,9 +73,8 @@ func failureFleet(t *testing.T, seed int64, sites, weeks int, split bool) (kinma
 // precisionRecall scores the windows classified as label against the
 // windows the events marked with it.
 func precisionRecall(res *kinmap.Result, label string) (p, r float64, tp, fp, fn int) {
-	c := res.Conditions
-	for i, w := range res.Table.Windows {
-		truth, said := c.Marks.Labels[i] == label, w.Condition == label
+	for _, w := range res.Table.Windows {
+		truth, said := w.Marked == label, w.Condition == label
 		switch {
 		case truth && said:
 			tp++
@@ -175,11 +174,7 @@ func TestAssignWithLastWeeksKnowledge(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		ws := make([]events.Window, len(next.Table.Windows))
-		for i, w := range next.Table.Windows {
-			ws[i] = events.Window{Site: w.Site, Start: w.Start, End: w.End}
-		}
-		next.Conditions.Marks = events.Mark(ws, recs, events.Span{Before: events.DefaultBefore})
+		next.Conditions.Marks = events.Mark(next.Table.Windows, recs, events.Span{Before: events.DefaultBefore})
 		p, r, tp, fp, fn := precisionRecall(next, scenarios.LabelFailure)
 		t.Logf("seed %d: weeks 4-6 with the knowledge of weeks 1-3 (%d events): %q precision %.3f recall %.3f (tp %d, fp %d, fn %d)",
 			seed, m.Conditions.Events, scenarios.LabelFailure, p, r, tp, fp, fn)

@@ -97,9 +97,9 @@ type Result struct {
 	X          *mat.Dense      // scaled features, one row per window of Table (each window's Scaled is a view of its row)
 	Model      *model.Model
 	Switches   []timeline.Switch
-	Shared     []timeline.Shared     // conditions most sites of a regime showed together, read as such and not as switches
-	Changes    []mapper.RegimeChange // regime renumbering by Update
-	Conditions *Conditions           // what labelled events say of the windows; nil without events or label knowledge
+	Shared     []timeline.Shared    // conditions most sites of a regime showed together, read as such and not as switches
+	Changes    []model.RegimeChange // regime renumbering by Update
+	Conditions *Conditions          // what labelled events say of the windows; nil without events or label knowledge
 	Info       RunInfo
 
 	// The work list, the data health and, with a history, the comparison

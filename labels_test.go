@@ -12,7 +12,6 @@ import (
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/labels"
-	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -75,7 +74,7 @@ func TestLabelsSurviveUpdate(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	split := slices.ContainsFunc(updated.Changes, func(c mapper.RegimeChange) bool { return c.Kind == mapper.ChangeSplit })
+	split := slices.ContainsFunc(updated.Changes, func(c model.RegimeChange) bool { return c.Kind == model.ChangeSplit })
 	if !split {
 		t.Fatalf("the update from 2 to 4 regimes split none: changes %+v", updated.Changes)
 	}

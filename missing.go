@@ -91,7 +91,7 @@ func conform(t *features.Table, names []string) {
 
 // maskAbsent sets to NaN, in the scaled matrix x of table t, the features
 // of the channels each site lacks (absent), so that the map places its
-// windows by the features they have (mapper.Map.AssignPartial) and the
+// windows by the features they have (mapper.Map.Assign) and the
 // decoding leaves them out. It returns the number of windows concerned.
 func maskAbsent(t *features.Table, x *mat.Dense, scaled []string, absent map[string][]string) int {
 	if len(absent) == 0 {

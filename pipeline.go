@@ -63,7 +63,7 @@ func Assign(o Options, m *model.Model) (*Result, error) {
 		return nil, err
 	}
 	res.Model = m
-	asg := m.Map.AssignPartial(res.X, o.Map.Workers)
+	asg := m.Map.Assign(res.X, o.Map.Workers)
 	if err := mapper.Place(res.Table.Windows, asg); err != nil {
 		return nil, err
 	}
@@ -123,7 +123,7 @@ func progress(o *Options) func(int, float64) {
 // project reads the dumps and turns them into the model's scaled feature
 // space. With partial set (assign), channels of the model missing from the
 // dump, or from a site, leave their features NaN in res.X instead of
-// failing, for mapper.Map.AssignPartial.
+// failing, for mapper.Map.Assign.
 func project(o *Options, res *Result, m *model.Model, sw *stopwatch, partial bool) error {
 	// Only the model's channels are read unless the options choose: a
 	// model trained on some channels of a dump applies to the whole dump.

@@ -40,8 +40,8 @@ func TestAttentionResemblesFailure(t *testing.T) {
 			t.Fatalf("seed %d: no conditions from a run with events", seed)
 		}
 		planted := map[string]bool{} // sites with windows before a failure
-		for i, w := range res.Table.Windows {
-			if res.Conditions.Marks.Labels[i] == scenarios.LabelFailure {
+		for _, w := range res.Table.Windows {
+			if w.Marked == scenarios.LabelFailure {
 				planted[w.Site] = true
 			}
 		}

@@ -1,20 +1,16 @@
 package kinmap_test
 
 import (
-	"encoding/csv"
 	"fmt"
 	"math"
-	"math/rand/v2"
-	"os"
 	"path/filepath"
 	"slices"
-	"strconv"
 	"testing"
 	"time"
 
 	"github.com/kinmap/kinmap"
 	khistory "github.com/kinmap/kinmap/history"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/internal/dumptest"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/scenarios"
 	"github.com/kinmap/kinmap/timeline"
@@ -24,35 +20,7 @@ import (
 // with times moved by shift and values multiplied by 1 + noise·N(0, 1).
 func writeDump(t *testing.T, path string, fleet *scenarios.Fleet, from, to time.Time, shift time.Duration, noise float64, seed uint64) {
 	t.Helper()
-	f, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	w := csv.NewWriter(f)
-	w.Write([]string{"site", "time", "channel", "value"})
-	rng := rand.New(rand.NewPCG(seed, 1))
-	for _, s := range fleet.Sites {
-		r := s.Readings
-		for i, ns := range r.Times {
-			at := time.Unix(0, ns).UTC()
-			if at.Before(from) || !at.Before(to) {
-				continue
-			}
-			for c, ch := range fleet.Channels {
-				v := r.Values[c][i]
-				if math.IsNaN(v) {
-					continue
-				}
-				v *= 1 + noise*rng.NormFloat64()
-				w.Write([]string{s.ID, at.Add(shift).Format(time.RFC3339), ch.Name, strconv.FormatFloat(v, 'g', -1, 64)})
-			}
-		}
-	}
-	w.Flush()
-	if err := w.Error(); err != nil {
-		t.Fatal(err)
-	}
+	dumptest.WriteCSV(t, path, fleet, dumptest.CSV{From: from, To: to, Shift: shift, Noise: noise, Seed: seed})
 }
 
 // fleetT generates the pumping fleet of an end-to-end run. Every such run
@@ -154,7 +122,7 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 		}
 	}
 	for _, c := range second.Changes {
-		if c.Kind != mapper.ChangeRenumbered {
+		if c.Kind != model.ChangeRenumbered {
 			t.Errorf("change %+v after an update on the same behaviour", c)
 		}
 	}

@@ -4,7 +4,7 @@ import (
 	"cmp"
 	"slices"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -64,7 +64,7 @@ type Condition struct {
 // counted under in c ("" for unmarked), and that one count is taken out
 // of the vote of the window itself. own is nil when the windows are not
 // part of c (a dump classified with an earlier model's knowledge).
-func Classify(l mapper.Lattice, c *model.Conditions, units []int, own []string, cfg Config) []Condition {
+func Classify(l lattice.Lattice, c *model.Conditions, units []int, own []string, cfg Config) []Condition {
 	out := make([]Condition, len(units))
 	if c == nil {
 		for i := range out {
@@ -129,7 +129,7 @@ func decide(c *model.Conditions, votes []int, total int, radius float64, cfg Con
 
 // byDistance returns the units of l ordered by lattice distance from u,
 // u first, then by unit number.
-func byDistance(l mapper.Lattice, u int) []int {
+func byDistance(l lattice.Lattice, u int) []int {
 	units := make([]int, l.Units())
 	for i := range units {
 		units[i] = i

@@ -5,7 +5,7 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -16,7 +16,7 @@ import (
 func TestClassifyNoLeak(t *testing.T) {
 	for _, seed := range []uint64{1, 2} {
 		rng := rand.New(rand.NewPCG(seed, 7))
-		l := mapper.Lattice{Cols: 6, Rows: 6, Hex: true}
+		l := lattice.Lattice{Cols: 6, Rows: 6, Hex: true}
 		names := []string{"", "", "bearing", "blocked", "recalibrated"}
 		n := 120
 		bmu, labels := make([]int, n), make([]string, n)
@@ -40,7 +40,7 @@ func TestClassifyNoLeak(t *testing.T) {
 // lone labelled window among windows of another label is classified by
 // its neighbours, not by itself.
 func TestClassifyOwnLabelIsNotEvidence(t *testing.T) {
-	l := mapper.Lattice{Cols: 4, Rows: 4}
+	l := lattice.Lattice{Cols: 4, Rows: 4}
 	bmu := []int{5, 5, 5, 5, 5, 5, 6}
 	labels := []string{"lone", "pump", "pump", "pump", "pump", "pump", "pump"}
 	got := Classify(l, Count(l.Units(), bmu, labels), bmu, labels, DefaultConfig())
@@ -50,7 +50,7 @@ func TestClassifyOwnLabelIsNotEvidence(t *testing.T) {
 }
 
 func TestClassifyThinEvidence(t *testing.T) {
-	l := mapper.Lattice{Cols: 4, Rows: 4}
+	l := lattice.Lattice{Cols: 4, Rows: 4}
 	tests := []struct {
 		name   string
 		bmu    []int
@@ -75,7 +75,7 @@ func TestClassifyThinEvidence(t *testing.T) {
 // TestClassifyFewVotes: one vote among four classes has a confidence of
 // (1+1)/(1+4) = 0.4 by the rule of succession, below one half.
 func TestClassifyFewVotes(t *testing.T) {
-	l := mapper.Lattice{Cols: 2, Rows: 2, Flat: true}
+	l := lattice.Lattice{Cols: 2, Rows: 2, Flat: true}
 	c := &model.Conditions{Labels: []string{"a", "b", "c"}, Counts: [][]int{{1, 0, 0, 0}, {0, 0, 0, 0}, {0, 0, 0, 0}, {0, 0, 0, 0}}}
 	got := Classify(l, c, []int{3}, nil, DefaultConfig())[0]
 	if got.Label != Unknown || got.Votes != 1 || got.Confidence != 0.4 {

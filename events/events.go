@@ -22,17 +22,17 @@ import (
 	"slices"
 	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 )
 
 // DefaultBefore is the span before a point event that it marks.
 const DefaultBefore = 7 * 24 * time.Hour
 
-// Window is a window on the map, as this package sees it.
+// Window is a window as Resemble sees it.
 type Window struct {
 	Site       string
 	Start, End time.Time
-	Unit       int // best-matching unit
 }
 
 // Span is the rule by which an event marks windows (see the package
@@ -50,22 +50,22 @@ func (s Span) String() string {
 	return fmt.Sprintf("Point events mark the windows overlapping the %s before them; intervals the windows overlapping them", before)
 }
 
-// Marks is the outcome of Mark.
+// Marks is the outcome of Mark beside the labels it sets.
 type Marks struct {
-	Labels  []string // per window; "" when no event marks it
-	Events  []int    // per window, the index of the event that gave its label; -1 when none
 	Used    int      // events that marked at least one window
 	Unknown []string // sites of events that have no window, sorted, each once
 	Unused  []int    // events of known sites that marked no window (outside the dump's time)
 }
 
-// Mark marks the windows ws with the events evs by the rule sp.
-func Mark(ws []Window, evs []ingest.EventRow, sp Span) Marks {
-	m := Marks{Labels: make([]string, len(ws)), Events: make([]int, len(ws))}
+// Mark sets the Marked label of every window of ws by the events evs and
+// the rule sp: the label of the event that marks it, "" when none does.
+func Mark(ws []features.Window, evs []ingest.EventRow, sp Span) Marks {
+	var m Marks
 	bySite := make(map[string][]int)
+	from := make([]int, len(ws)) // the event that gave window i its label; -1 when none
 	for i, w := range ws {
 		bySite[w.Site] = append(bySite[w.Site], i)
-		m.Events[i] = -1
+		ws[i].Marked, from[i] = "", -1
 	}
 	best := make([]time.Duration, len(ws))
 	for j, e := range evs {
@@ -82,16 +82,16 @@ func Mark(ws []Window, evs []ingest.EventRow, sp Span) Marks {
 		}
 		used := false
 		for _, i := range idx {
-			w := ws[i]
-			if !overlaps(w, lo, hi) {
+			w := &ws[i]
+			if !overlaps(w.Start, w.End, lo, hi) {
 				continue
 			}
 			used = true
 			d := w.End.Sub(e.Start).Abs()
-			if k := m.Events[i]; k >= 0 && (d > best[i] || d == best[i] && !earlier(e, evs[k])) {
+			if k := from[i]; k >= 0 && (d > best[i] || d == best[i] && !earlier(e, evs[k])) {
 				continue
 			}
-			m.Labels[i], m.Events[i], best[i] = e.Label, j, d
+			w.Marked, from[i], best[i] = e.Label, j, d
 		}
 		if used {
 			m.Used++
@@ -112,11 +112,12 @@ func earlier(a, b ingest.EventRow) bool {
 	return cmp.Less(a.Label, b.Label)
 }
 
-// overlaps reports whether w overlaps [lo, hi), or holds lo when the span
-// is an instant (an interval event whose start and end are the same).
-func overlaps(w Window, lo, hi time.Time) bool {
+// overlaps reports whether the window [start, end) overlaps [lo, hi), or
+// holds lo when the span is an instant (an interval event whose start and
+// end are the same).
+func overlaps(start, end, lo, hi time.Time) bool {
 	if lo.Equal(hi) {
-		return !w.Start.After(lo) && w.End.After(lo)
+		return !start.After(lo) && end.After(lo)
 	}
-	return w.Start.Before(hi) && w.End.After(lo)
+	return start.Before(hi) && end.After(lo)
 }

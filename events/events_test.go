@@ -5,6 +5,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 )
 
@@ -12,14 +13,14 @@ import (
 func day(d int) time.Time { return time.Date(2026, 3, d, 0, 0, 0, 0, time.UTC) }
 
 func TestMark(t *testing.T) {
-	var ws []Window
+	var ws []features.Window
 	for _, site := range []string{"a", "b"} {
 		for d := 1; d <= 20; d++ {
-			ws = append(ws, Window{Site: site, Start: day(d), End: day(d + 1)})
+			ws = append(ws, features.Window{Site: site, Start: day(d), End: day(d + 1), Marked: "stale"})
 		}
 	}
 	at := func(site string, d int) int {
-		return slices.IndexFunc(ws, func(w Window) bool { return w.Site == site && w.Start.Equal(day(d)) })
+		return slices.IndexFunc(ws, func(w features.Window) bool { return w.Site == site && w.Start.Equal(day(d)) })
 	}
 	sp := Span{Before: 3 * 24 * time.Hour}
 	tests := []struct {
@@ -68,9 +69,9 @@ func TestMark(t *testing.T) {
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			m := Mark(ws, tc.evs, sp)
-			for i, l := range m.Labels {
-				if l != tc.marked[i] {
-					t.Errorf("window %s %s: label %q, want %q", ws[i].Site, ws[i].Start.Format(time.DateOnly), l, tc.marked[i])
+			for i, w := range ws {
+				if w.Marked != tc.marked[i] {
+					t.Errorf("window %s %s: label %q, want %q", w.Site, w.Start.Format(time.DateOnly), w.Marked, tc.marked[i])
 				}
 			}
 			if !slices.Equal(m.Unknown, tc.unknown) {

@@ -2,17 +2,12 @@ package export
 
 import (
 	"bytes"
-	"context"
 	"encoding/json"
 	"testing"
 	"time"
 
-	"github.com/apache/arrow-go/v18/arrow"
-	"github.com/apache/arrow-go/v18/arrow/array"
-	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
-
 	"github.com/kinmap/kinmap/attention"
+	"github.com/kinmap/kinmap/internal/parquettest"
 )
 
 // attention.parquet, read with arrow-go's own reader, holds the rows of
@@ -34,35 +29,34 @@ func TestAttentionTables(t *testing.T) {
 		t.Fatal(err)
 	}
 	header, records := readCSV(t, cs.Bytes())
-	tbl, err := pqarrow.ReadTable(context.Background(), bytes.NewReader(pq.Bytes()), nil, pqarrow.ArrowReadProperties{}, memory.DefaultAllocator)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer tbl.Release()
-	if int(tbl.NumCols()) != len(header) || int(tbl.NumRows()) != len(list) || len(records) != len(list) {
-		t.Fatalf("Parquet %d×%d, CSV %d×%d, want %d×%d", tbl.NumRows(), tbl.NumCols(), len(records), len(header), len(list), len(header))
+	cols := parquetColumns(t, pq.Bytes())
+	if len(cols) != len(header) || len(records) != len(list) {
+		t.Fatalf("Parquet %d columns, CSV %d×%d, want %d×%d", len(cols), len(records), len(header), len(list), len(header))
 	}
 	for i, name := range header {
-		if got := tbl.Schema().Field(i).Name; got != name {
+		if got := cols[i].Name; got != name {
 			t.Errorf("column %d: Parquet %q, CSV %q", i, got, name)
 		}
+		if len(cols[i].Values) != len(list) {
+			t.Errorf("column %s: %d Parquet rows, want %d", name, len(cols[i].Values), len(list))
+		}
 	}
-	col := func(name string) *arrow.Chunked {
-		return tbl.Column(tbl.Schema().FieldIndices(name)[0]).Data()
+	col := func(name string) []any {
+		c, _ := parquettest.ByName(cols, name)
+		return c.Values
 	}
 	for _, name := range []string{"time", "from_regime", "to_regime", "confidence"} {
-		c := col(name).Chunk(0)
-		if c.IsNull(0) || c.IsNull(1) || !c.IsNull(2) {
-			t.Errorf("column %s: nulls %v %v %v, want only the third", name, c.IsNull(0), c.IsNull(1), c.IsNull(2))
+		c := col(name)
+		if c[0] == nil || c[1] == nil || c[2] != nil {
+			t.Errorf("column %s: %v, want nulls in the third row only", name, c)
 		}
 	}
 	if got := records[2][7:11]; got[0] != "" || got[1] != "" || got[2] != "" || got[3] != "" {
 		t.Errorf("CSV switch fields of a row no switch set: %q, want empty", got)
 	}
-	kinds := col("kind").Chunk(0).(*array.String)
-	ids := col("site_ids").Chunk(0).(*array.String)
-	if kinds.Value(1) != "fleet" || ids.Value(1) != "PS-2,PS-3,PS-4" || records[1][2] != "fleet" || records[1][5] != "PS-2,PS-3,PS-4" {
-		t.Errorf("fleet row: kind %q site_ids %q in Parquet, %q %q in CSV", kinds.Value(1), ids.Value(1), records[1][2], records[1][5])
+	kinds, ids := col("kind"), col("site_ids")
+	if kinds[1] != "fleet" || ids[1] != "PS-2,PS-3,PS-4" || records[1][2] != "fleet" || records[1][5] != "PS-2,PS-3,PS-4" {
+		t.Errorf("fleet row: kind %v site_ids %v in Parquet, %q %q in CSV", kinds[1], ids[1], records[1][2], records[1][5])
 	}
 	if records[0][11] != "new" || records[2][11] != "" || records[0][1] != "fault" || records[0][7] != "2026-11-09T00:00:00Z" {
 		t.Errorf("CSV rows %q", records)

@@ -10,6 +10,7 @@ import (
 
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
@@ -18,7 +19,7 @@ func ExampleWrite() {
 	// A map of two units, one regime each, and one site seen for three days.
 	m := &model.Model{
 		FeatureNames: []string{"flow.mean"},
-		Map:          mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
+		Map:          mapper.Map{Lattice: lattice.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
 		Regimes: []mapper.Regime{
 			{ID: 1, Units: []int{0}, Centroid: []float64{-1}, Description: "flow.mean −1.0σ"},
 			{ID: 2, Units: []int{1}, Centroid: []float64{1}, Description: "flow.mean +1.0σ"},

@@ -22,7 +22,6 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/internal/atomicfile"
-	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -49,13 +48,13 @@ type Run struct {
 	Model    *model.Model
 	Table    *features.Table // the windows, placed, classified by events and decoded (timeline.Build), and mobile sites' paths
 	Switches []timeline.Switch
-	Register *ingest.Register      // nil when there is none
-	Summary  *ingest.Summary       // what was read; nil when unknown
-	Info     any                   // machine-readable run summary, written as run.json
-	Changes  []mapper.RegimeChange // regime renumbering by an update, listed in the report
-	Warnings []string              // from earlier stages, shown in the report, each warning once
-	Daily    []DailySummary        // the readings by site, channel and UTC day (DailySummaries), drawn by the report; nil for none
-	Title    string                // heading of the report; "" means "kinmap run"
+	Register *ingest.Register     // nil when there is none
+	Summary  *ingest.Summary      // what was read; nil when unknown
+	Info     any                  // machine-readable run summary, written as run.json
+	Changes  []model.RegimeChange // regime renumbering by an update, listed in the report
+	Warnings []string             // from earlier stages, shown in the report, each warning once
+	Daily    []DailySummary       // the readings by site, channel and UTC day (DailySummaries), drawn by the report; nil for none
+	Title    string               // heading of the report; "" means "kinmap run"
 	// Conditions is the label knowledge from events; nil when there is
 	// none. Each window's likely condition is on the window.
 	Conditions *Conditions

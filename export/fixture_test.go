@@ -6,6 +6,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
@@ -46,7 +47,7 @@ func fixtureModel() *model.Model {
 		FeatureNames: []string{"flow.mean", "vibration.p95"},
 		Scaler: &features.Scaler{Method: "zscore", Names: []string{"flow.mean", "vibration.p95"},
 			Center: []float64{10, 1}, Scale: []float64{2, 0.5}, Weight: []float64{1, 1}},
-		Map:         mapper.Map{Lattice: mapper.Lattice{Cols: cols, Rows: rows}, Dim: 2},
+		Map:         mapper.Map{Lattice: lattice.Lattice{Cols: cols, Rows: rows}, Dim: 2},
 		UnitRegime:  make([]int, cols*rows),
 		Quality:     mapper.Quality{QE: 0.31, TE: 0.04, Unused: 0.125},
 		QEQuantiles: []float64{0, 0.5, 1},
@@ -54,7 +55,7 @@ func fixtureModel() *model.Model {
 	}
 	m.Regimes = []mapper.Regime{
 		{ID: 1, Description: "flow.mean +1.2σ"},
-		{ID: 2, Description: "vibration.p95 +2.1σ, flow.mean −1.4σ", Name: "worn bearing, \"B\"", Status: mapper.StatusFault},
+		{ID: 2, Description: "vibration.p95 +2.1σ, flow.mean −1.4σ", Name: "worn bearing, \"B\"", Status: model.StatusFault},
 		{ID: 3, Description: "low load <idle> & quiet"},
 	}
 	for u := range cols * rows {

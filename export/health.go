@@ -12,8 +12,8 @@ const (
 	HealthEpochUnit      = "epoch_unit"      // integer times look like another epoch unit
 )
 
-// HealthKinds lists the kinds of finding in the report's order.
-func HealthKinds() []string {
+// healthKinds lists the kinds of finding in the report's order.
+func healthKinds() []string {
 	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthDuplicates, HealthDropped,
 		HealthUnused, HealthWindowStep, HealthEpochUnit}
 }

@@ -15,7 +15,6 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/export/picture"
-	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -293,7 +292,7 @@ func swatch(id int) template.CSS {
 }
 
 // describeChange writes one change of regime numbers as a sentence.
-func describeChange(c mapper.RegimeChange) string {
+func describeChange(c model.RegimeChange) string {
 	list := func(ids []int) string {
 		parts := make([]string, len(ids))
 		for i, id := range ids {
@@ -302,15 +301,15 @@ func describeChange(c mapper.RegimeChange) string {
 		return strings.Join(parts, " and ")
 	}
 	switch c.Kind {
-	case mapper.ChangeRenumbered:
+	case model.ChangeRenumbered:
 		return fmt.Sprintf("The regime found as number %s matches earlier regime %s and takes its number.", list(c.From), list(c.To))
-	case mapper.ChangeNew:
+	case model.ChangeNew:
 		return fmt.Sprintf("Regime %s is new: it matches no earlier regime.", list(c.To))
-	case mapper.ChangeGone:
+	case model.ChangeGone:
 		return fmt.Sprintf("Earlier regime %s matches no regime of the updated map.", list(c.From))
-	case mapper.ChangeSplit:
+	case model.ChangeSplit:
 		return fmt.Sprintf("Earlier regime %s split into regimes %s.", list(c.From), list(c.To))
-	case mapper.ChangeMerged:
+	case model.ChangeMerged:
 		return fmt.Sprintf("Earlier regimes %s merged into regime %s.", list(c.From), list(c.To))
 	}
 	return fmt.Sprintf("%s: %v → %v", c.Kind, c.From, c.To)

@@ -5,7 +5,7 @@ import (
 	"slices"
 
 	"github.com/kinmap/kinmap/features"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/model"
 )
 
 // labelsSection is the report's section on the regimes in engineering
@@ -26,7 +26,7 @@ type labelledRegime struct {
 // labelsData builds the section from the model of r, whose descriptions
 // have been written (described).
 func labelsData(r *Run) *labelsSection {
-	s := &labelsSection{Labelled: mapper.Labelled(r.Model.Regimes)}
+	s := &labelsSection{Labelled: model.Labelled(r.Model.Regimes)}
 	used := map[string]bool{}
 	for _, g := range r.Model.Regimes {
 		lr := labelledRegime{ID: g.ID, Name: g.Name, Status: g.Status}

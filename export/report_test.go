@@ -273,10 +273,10 @@ func diff(a, b uint32) uint32 {
 // After an update the report lists how regime numbers were kept.
 func TestReportListsRegimeChanges(t *testing.T) {
 	r := fixtureRun()
-	r.Changes = []mapper.RegimeChange{
-		{Kind: mapper.ChangeRenumbered, From: []int{3}, To: []int{1}},
-		{Kind: mapper.ChangeSplit, From: []int{2}, To: []int{2, 4}},
-		{Kind: mapper.ChangeNew, To: []int{4}},
+	r.Changes = []model.RegimeChange{
+		{Kind: model.ChangeRenumbered, From: []int{3}, To: []int{1}},
+		{Kind: model.ChangeSplit, From: []int{2}, To: []int{2, 4}},
+		{Kind: model.ChangeNew, To: []int{4}},
 	}
 	dir := t.TempDir()
 	if err := Write(dir, r); err != nil {

@@ -10,7 +10,7 @@ import (
 	"github.com/parquet-go/parquet-go"
 
 	"github.com/kinmap/kinmap/features"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // timelineRow is one row of timeline.parquet and timeline.csv.
@@ -107,7 +107,7 @@ func timelineRows(r *Run, ss []*site) []timelineRow {
 }
 
 // rowOf is the timeline row of one window, its unit a cell of l.
-func rowOf(l mapper.Lattice, w *features.Window) timelineRow {
+func rowOf(l lattice.Lattice, w *features.Window) timelineRow {
 	col, row := l.Cell(w.Unit)
 	return timelineRow{
 		Site: w.Site, WindowStart: micro(w.Start), WindowEnd: micro(w.End),

@@ -2,7 +2,6 @@ package export
 
 import (
 	"bytes"
-	"context"
 	"encoding/csv"
 	"fmt"
 	"strconv"
@@ -10,10 +9,8 @@ import (
 	"testing"
 	"time"
 
-	"github.com/apache/arrow-go/v18/arrow"
-	"github.com/apache/arrow-go/v18/arrow/array"
-	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/apache/arrow-go/v18/parquet/schema"
+	"github.com/kinmap/kinmap/internal/parquettest"
 )
 
 // readCSV reads a CSV file with its header, checking RFC 4180: CRLF line
@@ -31,39 +28,15 @@ func readCSV(t *testing.T, b []byte) ([]string, [][]string) {
 	return rows[0], rows[1:]
 }
 
-// arrowColumns reads a Parquet file with arrow-go's own Parquet reader
-// (pqarrow.ReadTable), an implementation independent of the writer.
-func arrowColumns(t *testing.T, b []byte) (*arrow.Schema, [][]any) {
+// parquetColumns reads a Parquet file with arrow-go's own Parquet reader
+// (package parquettest), an implementation independent of the writer.
+func parquetColumns(t *testing.T, b []byte) []parquettest.Column {
 	t.Helper()
-	tbl, err := pqarrow.ReadTable(context.Background(), bytes.NewReader(b), nil, pqarrow.ArrowReadProperties{}, memory.DefaultAllocator)
+	cols, err := parquettest.Read(b)
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer tbl.Release()
-	cols := make([][]any, tbl.NumCols())
-	for i := range cols {
-		col := tbl.Column(i)
-		for _, chunk := range col.Data().Chunks() {
-			for j := 0; j < chunk.Len(); j++ {
-				switch a := chunk.(type) {
-				case *array.String:
-					cols[i] = append(cols[i], a.Value(j))
-				case *array.Int32:
-					cols[i] = append(cols[i], int64(a.Value(j)))
-				case *array.Float64:
-					cols[i] = append(cols[i], a.Value(j))
-				case *array.Boolean:
-					cols[i] = append(cols[i], a.Value(j))
-				case *array.Timestamp:
-					unit := col.DataType().(*arrow.TimestampType).Unit
-					cols[i] = append(cols[i], a.Value(j).ToTime(unit))
-				default:
-					t.Fatalf("column %s: unexpected Arrow type %s", col.Name(), col.DataType())
-				}
-			}
-		}
-	}
-	return tbl.Schema(), cols
+	return cols
 }
 
 // parseCSVValue reads a CSV field as the type of the Parquet value, with
@@ -112,30 +85,32 @@ func TestParquetEqualsCSV(t *testing.T) {
 			if strings.Join(header, ",") != strings.Join(tc.header, ",") {
 				t.Errorf("CSV header %v, want %v", header, tc.header)
 			}
-			schema, cols := arrowColumns(t, read(t, dir, tc.parquet))
-			for i, f := range schema.Fields() {
-				if i >= len(tc.header) || f.Name != tc.header[i] {
-					t.Errorf("Parquet column %d is %q, want %q", i, f.Name, tc.header[min(i, len(tc.header)-1)])
+			cols := parquetColumns(t, read(t, dir, tc.parquet))
+			for i, c := range cols {
+				if i >= len(tc.header) || c.Name != tc.header[i] {
+					t.Errorf("Parquet column %d is %q, want %q", i, c.Name, tc.header[min(i, len(tc.header)-1)])
 				}
 			}
 			for _, name := range tc.times {
-				idx := schema.FieldIndices(name)
-				if len(idx) != 1 {
+				c, ok := parquettest.ByName(cols, name)
+				if !ok {
 					t.Fatalf("no column %s", name)
 				}
-				ts, ok := schema.Field(idx[0]).Type.(*arrow.TimestampType)
-				if !ok || ts.Unit != arrow.Microsecond || ts.TimeZone != "UTC" {
-					t.Errorf("column %s is %s, want timestamp[us, tz=UTC]", name, schema.Field(idx[0]).Type)
+				// TIMESTAMP(isAdjustedToUTC=true, unit=MICROS) (Parquet
+				// format, LogicalTypes.md).
+				ts, ok := c.Logical.(schema.TimestampLogicalType)
+				if !ok || ts.TimeUnit() != schema.TimeUnitMicros || !ts.IsAdjustedToUTC() {
+					t.Errorf("column %s is %s, want TIMESTAMP(MICROS, UTC)", name, c.Logical)
 				}
 			}
 			if len(cols) != len(header) {
 				t.Fatalf("%d Parquet columns, %d CSV columns", len(cols), len(header))
 			}
 			for c := range cols {
-				if len(cols[c]) != len(rows) {
-					t.Fatalf("column %s: %d Parquet rows, %d CSV rows", header[c], len(cols[c]), len(rows))
+				if len(cols[c].Values) != len(rows) {
+					t.Fatalf("column %s: %d Parquet rows, %d CSV rows", header[c], len(cols[c].Values), len(rows))
 				}
-				for r, pv := range cols[c] {
+				for r, pv := range cols[c].Values {
 					cv, err := parseCSVValue(rows[r][c], pv)
 					if err != nil || !equalValues(cv, pv) {
 						t.Errorf("row %d, %s: CSV %q (%v), Parquet %v", r, header[c], rows[r][c], err, pv)

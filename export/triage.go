@@ -103,7 +103,7 @@ func triageOf(r *Run) triageData {
 		}
 		d.Attention = append(d.Attention, it)
 	}
-	for _, kind := range HealthKinds() {
+	for _, kind := range healthKinds() {
 		var g healthGroup
 		for _, f := range r.Health {
 			if f.Kind != kind {

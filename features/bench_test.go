@@ -8,6 +8,7 @@ import (
 	"runtime"
 	"slices"
 	"strconv"
+	"strings"
 	"testing"
 	"time"
 
@@ -166,4 +167,60 @@ func BenchmarkReadSameDump(b *testing.B) {
 	}
 	b.ReportMetric(float64(benchReadings)*float64(b.N)/b.Elapsed().Seconds(), "readings/s")
 	b.ReportMetric(float64(runtime.GOMAXPROCS(0)), "cores")
+}
+
+// BenchmarkSortWindows measures what sorting a table's windows by site and
+// start costs when the sort moves the records themselves (216 bytes each),
+// pointers to them, or their indices, on the benchmark fleet's count of
+// daily windows, in table order (already sorted, as the stages hold them)
+// and shuffled. Each way includes the copy a caller makes so as not to
+// reorder the table.
+func BenchmarkSortWindows(b *testing.B) {
+	ws := make([]Window, 0, benchSites*benchWeeks*7)
+	for s := range benchSites {
+		for d := range benchWeeks * 7 {
+			start := benchStart.AddDate(0, 0, d)
+			ws = append(ws, Window{Site: benchSiteID(s), Start: start, End: start.AddDate(0, 0, 1), Values: make([]float64, 40)})
+		}
+	}
+	shuffled := slices.Clone(ws)
+	rand.New(rand.NewPCG(1, 2)).Shuffle(len(shuffled), func(i, j int) { shuffled[i], shuffled[j] = shuffled[j], shuffled[i] })
+	less := func(a, b *Window) int {
+		if c := strings.Compare(a.Site, b.Site); c != 0 {
+			return c
+		}
+		return a.Start.Compare(b.Start)
+	}
+	for _, in := range []struct {
+		name string
+		ws   []Window
+	}{{"sorted", ws}, {"shuffled", shuffled}} {
+		b.Run(in.name+"/records", func(b *testing.B) {
+			for b.Loop() {
+				out := slices.Clone(in.ws)
+				slices.SortFunc(out, func(a, b Window) int { return less(&a, &b) })
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*len(in.ws)), "ns/window")
+		})
+		b.Run(in.name+"/pointers", func(b *testing.B) {
+			for b.Loop() {
+				out := make([]*Window, len(in.ws))
+				for i := range in.ws {
+					out[i] = &in.ws[i]
+				}
+				slices.SortFunc(out, less)
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*len(in.ws)), "ns/window")
+		})
+		b.Run(in.name+"/indices", func(b *testing.B) {
+			for b.Loop() {
+				out := make([]int, len(in.ws))
+				for i := range out {
+					out[i] = i
+				}
+				slices.SortFunc(out, func(i, j int) int { return less(&in.ws[i], &in.ws[j]) })
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*len(in.ws)), "ns/window")
+		})
+	}
 }

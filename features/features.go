@@ -144,6 +144,11 @@ type Window struct {
 	Regime     int  // decoded regime ID
 	Unfamiliar bool // QE above the training windows' threshold quantile
 
+	// Set by package events (events.Mark) when the run has an events
+	// file: the label of the event that marks the window, "" when none
+	// does.
+	Marked string
+
 	// Set by the run when it has label knowledge from events (package
 	// events, Classify): the window's likely condition ("" without
 	// knowledge) and its confidence in [0, 1].

@@ -29,7 +29,7 @@ type field struct {
 	unsigned bool   // kindInt: the values are unsigned (64-bit ones held as bit patterns)
 	unit     int64  // kindTime: nanoseconds per unit
 	naive    bool   // kindTime: not adjusted to UTC
-	chanUnit string // the unit its field metadata gives (UnitKey), "" for none
+	chanUnit string // the unit its field metadata gives (unitKey), "" for none
 }
 
 // numeric reports whether the values of the field can become float64

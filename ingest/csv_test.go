@@ -159,7 +159,7 @@ func TestNaiveTimeAndDrops(t *testing.T) {
 }
 
 func TestSummaryString(t *testing.T) {
-	reg, err := NewRegister("site", nil, []*Site{{ID: "X"}})
+	reg, err := buildRegister("site", nil, []*Site{{ID: "X"}})
 	if err != nil {
 		t.Fatal(err)
 	}

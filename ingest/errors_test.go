@@ -7,7 +7,7 @@ import (
 	"testing"
 
 	"github.com/apache/arrow-go/v18/arrow"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/kinmap/kinmap/internal/parquettest"
 )
 
 const goodCSV = "site,time,channel,value\nA,2024-01-01T00:00:00Z,flow,1\n"
@@ -37,7 +37,7 @@ func truncated(t *testing.T, path, name string) string {
 func TestBadInput(t *testing.T) {
 	rec := smallRecord(t)
 	defer rec.Release()
-	goodParquet := writePQArrow(t, "good.parquet", rec, 10, true)
+	goodParquet := writeArrowParquet(t, "good.parquet", rec, 10, true)
 	int96Rec := record(t, arrow.NewSchema([]arrow.Field{
 		{Name: "site", Type: arrow.BinaryTypes.String},
 		{Name: "time", Type: &arrow.TimestampType{Unit: arrow.Nanosecond, TimeZone: "UTC"}},
@@ -90,12 +90,12 @@ func TestBadInput(t *testing.T) {
 		{"text in the value column", func() []string {
 			return []string{writeFile(t, "v.csv", []byte(goodCSV+"A,2024-01-01T00:01:00Z,flow,high\n"))}
 		}, nil, false, []string{`v.csv: line 3: column "value": "high" is not a number`}},
-		{"string value column", func() []string { return []string{writePQArrow(t, "s.parquet", stringValues, 10, true)} },
+		{"string value column", func() []string { return []string{writeArrowParquet(t, "s.parquet", stringValues, 10, true)} },
 			nil, false, []string{`s.parquet: column "value": `, "cannot be readings"}},
 		{"float site ids", func() []string { return []string{writeArrowIPC(t, "f.arrow", false, floatSites)} },
 			nil, false, []string{`f.arrow: column "site": float64 values cannot be ids`}},
 		{"int96 timestamps", func() []string {
-			return []string{writePQArrow(t, "i96.parquet", int96Rec, 10, false, pqarrow.WithDeprecatedInt96Timestamps(true))}
+			return []string{writeArrowParquetWith(t, "i96.parquet", int96Rec, parquettest.WriteOptions{RowGroup: 10, Int96: true})}
 		}, nil, false, []string{`i96.parquet: column "time": int96 timestamps are not supported`}},
 		{"unreadable time", func() []string {
 			return []string{writeFile(t, "t.csv", []byte("site,time,v\nA,yesterday,1\n"))}
@@ -170,7 +170,7 @@ func TestBadInput(t *testing.T) {
 // content decides.
 func TestDetectionOverName(t *testing.T) {
 	ds := mustRead(t, []string{writeFile(t, "dump.parquet", []byte(goodCSV))}, nil)
-	if ds.Summary.Files[0].Format != FormatCSV || ds.Summary.Readings != 1 {
+	if ds.Summary.Files[0].Format != formatCSV || ds.Summary.Readings != 1 {
 		t.Errorf("summary %+v", ds.Summary)
 	}
 }

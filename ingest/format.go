@@ -6,23 +6,24 @@ import (
 	"unicode/utf8"
 )
 
-// File formats, as DetectFormat names them and FileSummary.Format reports
-// them.
+// The formats detectFormat names: those of dumps, as FileSummary.Format
+// reports them, a register, and a compressed file whose content is another
+// format.
 const (
-	FormatParquet     = "parquet"
-	FormatArrowFile   = "arrow-file"
-	FormatArrowStream = "arrow-stream"
-	FormatCSV         = "csv"
-	FormatGeoJSON     = "geojson"
-	FormatGzip        = "gzip" // the content is another format, compressed
+	formatParquet     = "parquet"
+	formatArrowFile   = "arrow-file"
+	formatArrowStream = "arrow-stream"
+	formatCSV         = "csv"
+	formatGeoJSON     = "geojson"
+	formatGzip        = "gzip"
 )
 
-// headSize is how much of a file DetectFormat is given.
+// headSize is how much of a file detectFormat is given.
 const headSize = 4096
 
 var utf8BOM = []byte("\xef\xbb\xbf")
 
-// DetectFormat names the format of a file from its first bytes (a few
+// detectFormat names the format of a file from its first bytes (a few
 // kilobytes are best: text formats are told apart by their content). It
 // returns "" for an empty head and for binary data of no known format.
 //
@@ -30,16 +31,16 @@ var utf8BOM = []byte("\xef\xbb\xbf")
 // continuation marker 0xFFFFFFFF (Arrow IPC stream), 0x1F 0x8B (gzip).
 // Other content that is UTF-8 text is GeoJSON when it starts with '{',
 // otherwise CSV.
-func DetectFormat(head []byte) string {
+func detectFormat(head []byte) string {
 	switch {
 	case bytes.HasPrefix(head, []byte("PAR1")):
-		return FormatParquet
+		return formatParquet
 	case bytes.HasPrefix(head, []byte("ARROW1")):
-		return FormatArrowFile
+		return formatArrowFile
 	case bytes.HasPrefix(head, []byte{0xff, 0xff, 0xff, 0xff}):
-		return FormatArrowStream
+		return formatArrowStream
 	case bytes.HasPrefix(head, []byte{0x1f, 0x8b}):
-		return FormatGzip
+		return formatGzip
 	}
 	text := bytes.TrimPrefix(head, utf8BOM)
 	trimmed := bytes.TrimLeft(text, " \t\r\n")
@@ -47,9 +48,9 @@ func DetectFormat(head []byte) string {
 		return ""
 	}
 	if trimmed[0] == '{' {
-		return FormatGeoJSON
+		return formatGeoJSON
 	}
-	return FormatCSV
+	return formatCSV
 }
 
 // isText reports whether b is UTF-8 without control characters other than
@@ -68,7 +69,7 @@ func isText(b []byte) bool {
 	return true
 }
 
-// notUTF8 explains a head that DetectFormat refused although it reads as
+// notUTF8 explains a head that detectFormat refused although it reads as
 // text but for bytes that are not UTF-8, such as Latin-1 letters: an
 // encoding problem, not a file of an unknown format. It returns nil for
 // binary data.

@@ -16,16 +16,16 @@ func TestDetectFormat(t *testing.T) {
 		// continuation marker 0xFFFFFFFF (Arrow columnar format, "IPC File
 		// Format" and "Encapsulated message format"); gzip members with
 		// 0x1f 0x8b (RFC 1952 §2.3.1).
-		{"PAR1\x15\x04", FormatParquet},
-		{"ARROW1\x00\x00", FormatArrowFile},
-		{"\xff\xff\xff\xff\x10\x01\x00\x00", FormatArrowStream},
-		{"\x1f\x8b\x08\x00", FormatGzip},
-		{"site,time,value\n", FormatCSV},
-		{"\xef\xbb\xbfsite;time\n", FormatCSV},
-		{"PAR", FormatCSV}, // too short for the magic: text
-		{"  \n{\"type\": \"FeatureCollection\"", FormatGeoJSON},
-		{"Zürich,1\n", FormatCSV},
-		{"site,name\nA,Z\xc3", FormatCSV}, // a rune cut by the end of the head
+		{"PAR1\x15\x04", formatParquet},
+		{"ARROW1\x00\x00", formatArrowFile},
+		{"\xff\xff\xff\xff\x10\x01\x00\x00", formatArrowStream},
+		{"\x1f\x8b\x08\x00", formatGzip},
+		{"site,time,value\n", formatCSV},
+		{"\xef\xbb\xbfsite;time\n", formatCSV},
+		{"PAR", formatCSV}, // too short for the magic: text
+		{"  \n{\"type\": \"FeatureCollection\"", formatGeoJSON},
+		{"Zürich,1\n", formatCSV},
+		{"site,name\nA,Z\xc3", formatCSV}, // a rune cut by the end of the head
 		{"", ""},
 		{" \r\n\t", ""},
 		{"\xef\xbb\xbf", ""},
@@ -34,31 +34,31 @@ func TestDetectFormat(t *testing.T) {
 		{"a,\xff,b", ""},
 	}
 	for _, tt := range tests {
-		if got := DetectFormat([]byte(tt.head)); got != tt.want {
-			t.Errorf("DetectFormat(%q) = %q, want %q", tt.head, got, tt.want)
+		if got := detectFormat([]byte(tt.head)); got != tt.want {
+			t.Errorf("detectFormat(%q) = %q, want %q", tt.head, got, tt.want)
 		}
 	}
 }
 
-var formats = map[string]bool{"": true, FormatParquet: true, FormatArrowFile: true, FormatArrowStream: true,
-	FormatCSV: true, FormatGeoJSON: true, FormatGzip: true}
+var formats = map[string]bool{"": true, formatParquet: true, formatArrowFile: true, formatArrowStream: true,
+	formatCSV: true, formatGeoJSON: true, formatGzip: true}
 
 func FuzzDetectFormat(f *testing.F) {
 	f.Add([]byte("PAR1"))
 	f.Add([]byte("site,time\n"))
 	f.Fuzz(func(t *testing.T, head []byte) {
-		got := DetectFormat(head)
+		got := detectFormat(head)
 		if !formats[got] {
-			t.Fatalf("DetectFormat(%q) = %q, not a format", head, got)
+			t.Fatalf("detectFormat(%q) = %q, not a format", head, got)
 		}
 		// Binary formats are told by their first bytes alone.
 		for _, magic := range []string{"PAR1", "ARROW1", "\xff\xff\xff\xff", "\x1f\x8b"} {
-			if bytes.HasPrefix(head, []byte(magic)) && DetectFormat([]byte(magic)) != got {
-				t.Fatalf("DetectFormat(%q) = %q, but its magic says %q", head, got, DetectFormat([]byte(magic)))
+			if bytes.HasPrefix(head, []byte(magic)) && detectFormat([]byte(magic)) != got {
+				t.Fatalf("detectFormat(%q) = %q, but its magic says %q", head, got, detectFormat([]byte(magic)))
 			}
 		}
-		if (got == FormatCSV || got == FormatGeoJSON) && bytes.IndexByte(head, 0) >= 0 {
-			t.Fatalf("DetectFormat(%q) = %q for data with a NUL byte", head, got)
+		if (got == formatCSV || got == formatGeoJSON) && bytes.IndexByte(head, 0) >= 0 {
+			t.Fatalf("detectFormat(%q) = %q for data with a NUL byte", head, got)
 		}
 	})
 }

@@ -66,7 +66,7 @@ func FuzzReadArrowStream(f *testing.F) {
 func FuzzParquetFooter(f *testing.F) {
 	rec := smallRecord(f)
 	defer rec.Release()
-	file := seedFile(f, func() string { return writePQArrow(f, "seed.parquet", rec, 10, true) })
+	file := seedFile(f, func() string { return writeArrowParquet(f, "seed.parquet", rec, 10, true) })
 	n := int(binary.LittleEndian.Uint32(file[len(file)-8:]))
 	body := file[:len(file)-8-n]
 	f.Add(file[len(file)-8-n : len(file)-8])

@@ -12,9 +12,7 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet"
-	"github.com/apache/arrow-go/v18/parquet/compress"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/kinmap/kinmap/internal/parquettest"
 )
 
 // writeFile writes content to a new file of the test's temporary directory.
@@ -103,22 +101,21 @@ func toInt64(v any) int64 {
 	panic("not an integer")
 }
 
-// writePQArrow writes a record batch as Parquet with arrow-go's own Parquet
-// implementation (pqarrow), independent of parquet-go, in row groups of at
-// most rowGroup rows.
-func writePQArrow(t testing.TB, name string, rec arrow.RecordBatch, rowGroup int64, dict bool, opts ...pqarrow.WriterOption) string {
+// writeArrowParquet writes a record batch as Parquet with arrow-go's own
+// Parquet implementation (package parquettest), independent of
+// parquet-go, in row groups of at most rowGroup rows, dictionary-encoded
+// when dict.
+func writeArrowParquet(t testing.TB, name string, rec arrow.RecordBatch, rowGroup int64, dict bool) string {
+	t.Helper()
+	return writeArrowParquetWith(t, name, rec, parquettest.WriteOptions{RowGroup: rowGroup, Dictionary: dict})
+}
+
+// writeArrowParquetWith is writeArrowParquet with all of parquettest's
+// options.
+func writeArrowParquetWith(t testing.TB, name string, rec arrow.RecordBatch, o parquettest.WriteOptions) string {
 	t.Helper()
 	var b bytes.Buffer
-	props := parquet.NewWriterProperties(parquet.WithMaxRowGroupLength(rowGroup),
-		parquet.WithDictionaryDefault(dict), parquet.WithCompression(compress.Codecs.Snappy))
-	w, err := pqarrow.NewFileWriter(rec.Schema(), &b, props, pqarrow.NewArrowWriterProperties(opts...))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Write(rec); err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Close(); err != nil {
+	if err := parquettest.WriteRecord(&b, rec, o); err != nil {
 		t.Fatal(err)
 	}
 	return writeFile(t, name, b.Bytes())

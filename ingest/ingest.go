@@ -193,7 +193,7 @@ type Summary struct {
 	SiteDuplicates map[string]int64
 	SiteReadings   map[string]int64
 	// Units are the units of a wide dump's channels that the field
-	// metadata of its Parquet or Arrow columns gives (UnitKey), by channel.
+	// metadata of its Parquet or Arrow columns gives (unitKey), by channel.
 	Units map[string]string `json:",omitempty"`
 }
 

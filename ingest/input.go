@@ -44,8 +44,8 @@ func openInput(path string) (*input, error) {
 		}
 		return nil, errors.New("empty file")
 	}
-	in.format = DetectFormat(head)
-	if in.format == FormatGzip {
+	in.format = detectFormat(head)
+	if in.format == formatGzip {
 		if in.gz, err = gzip.NewReader(in.r); err != nil {
 			in.close()
 			return nil, fmt.Errorf("gzip: %w", err)
@@ -59,8 +59,8 @@ func openInput(path string) (*input, error) {
 			}
 			return nil, errors.New("empty file (gzip)")
 		}
-		switch in.format = DetectFormat(head); in.format {
-		case FormatParquet, FormatArrowFile, FormatGzip:
+		switch in.format = detectFormat(head); in.format {
+		case formatParquet, formatArrowFile, formatGzip:
 			in.close()
 			return nil, fmt.Errorf("gzip-compressed %s is not supported; decompress the file first", in.format)
 		}
@@ -97,13 +97,13 @@ func (in *input) size() int64 {
 // source opens the columnar reader of the input; GeoJSON has none.
 func (in *input) source() (source, error) {
 	switch in.format {
-	case FormatParquet:
+	case formatParquet:
 		return openParquet(in.f)
-	case FormatArrowFile:
+	case formatArrowFile:
 		return openArrowFile(in.f)
-	case FormatArrowStream:
+	case formatArrowStream:
 		return openArrowStream(in.r, in.size())
-	case FormatCSV:
+	case formatCSV:
 		return openCSV(in.r)
 	}
 	return nil, fmt.Errorf("%s is read as a site register only, not as a dump", in.format)

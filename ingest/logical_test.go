@@ -35,10 +35,10 @@ func wantAnnotation(t *testing.T, got map[string]string, column, want string) {
 }
 
 // TestParquetIntegerAndStringTypes reads INT(bitWidth, isSigned) and STRING
-// columns written by pqarrow as LogicalTypes.md defines them: INT(32,
-// false) and INT(64, false) hold unsigned values in the bits of int32 and
-// int64 ("Integer types", unsigned values must not be read as negative);
-// STRING is UTF-8.
+// columns written by arrow-go (package parquettest) as LogicalTypes.md
+// defines them: INT(32, false) and INT(64, false) hold unsigned values in
+// the bits of int32 and int64 ("Integer types", unsigned values must not be
+// read as negative); STRING is UTF-8.
 func TestParquetIntegerAndStringTypes(t *testing.T) {
 	schema := arrow.NewSchema([]arrow.Field{
 		{Name: "site", Type: arrow.BinaryTypes.String},
@@ -56,7 +56,7 @@ func TestParquetIntegerAndStringTypes(t *testing.T) {
 	rec := record(t, schema, rows)
 	defer rec.Release()
 	for _, dict := range []bool{false, true} {
-		path := writePQArrow(t, "ints.parquet", rec, 10, dict)
+		path := writeArrowParquet(t, "ints.parquet", rec, 10, dict)
 		ann := annotations(t, path)
 		wantAnnotation(t, ann, "site", "String")
 		wantAnnotation(t, ann, "i8", "Int(bitWidth=8, isSigned=true)")
@@ -99,7 +99,7 @@ func TestParquetIntegerSiteIDs(t *testing.T) {
 			{Name: "v", Type: arrow.PrimitiveTypes.Float64},
 		}, nil)
 		rec := record(t, schema, [][]any{{tt.id, 1, 1.0}})
-		ds := mustRead(t, []string{writePQArrow(t, "ids.parquet", rec, 10, true)}, nil)
+		ds := mustRead(t, []string{writeArrowParquet(t, "ids.parquet", rec, 10, true)}, nil)
 		rec.Release()
 		if len(ds.Sites) != 1 || ds.Sites[0].ID != tt.want {
 			t.Errorf("%s site id %v read as %q, want %q", tt.typ, tt.id, ds.Sites[0].ID, tt.want)
@@ -144,7 +144,7 @@ func TestParquetTimeTypes(t *testing.T) {
 			rows = append(rows, []any{"S", raw, float64(i)})
 		}
 		rec := record(t, schema, rows)
-		path := writePQArrow(t, "times.parquet", rec, 10, false)
+		path := writeArrowParquet(t, "times.parquet", rec, 10, false)
 		rec.Release()
 		wantAnnotation(t, annotations(t, path), "time", tt.annotation)
 		ds := mustRead(t, []string{path}, nil)

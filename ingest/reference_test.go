@@ -159,25 +159,26 @@ func referenceRecord(t *testing.T, rows []reading) arrow.RecordBatch {
 }
 
 // TestSameSeriesAcrossFormats checks the Parquet reader against a file
-// written by arrow-go's own Parquet implementation (pqarrow, independent of
-// parquet-go), and the CSV and Arrow IPC readers against the same data.
+// written by arrow-go's own Parquet implementation (package parquettest,
+// independent of parquet-go), and the CSV and Arrow IPC readers against
+// the same data.
 func TestSameSeriesAcrossFormats(t *testing.T) {
 	rows := referenceRows()
 	want := expectedSeries(rows)
 	rec := referenceRecord(t, rows)
 	defer rec.Release()
 	files := map[string]string{
-		"pqarrow parquet, dictionary": writePQArrow(t, "dict.parquet", rec, 20, true),
-		"pqarrow parquet, plain":      writePQArrow(t, "plain.parquet", rec, 1000, false),
-		"arrow ipc file":              writeArrowIPC(t, "dump.arrow", false, rec.NewSlice(0, 20), rec.NewSlice(20, rec.NumRows())),
-		"arrow ipc stream":            writeArrowIPC(t, "dump.arrows", true, rec.NewSlice(0, 7), rec.NewSlice(7, rec.NumRows())),
-		"csv":                         writeFile(t, "dump.csv", referenceCSV(t, rows)),
-		"csv gzip":                    writeFile(t, "dump.csv.gz", gzipped(t, referenceCSV(t, rows))),
+		"arrow-go parquet, dictionary": writeArrowParquet(t, "dict.parquet", rec, 20, true),
+		"arrow-go parquet, plain":      writeArrowParquet(t, "plain.parquet", rec, 1000, false),
+		"arrow ipc file":               writeArrowIPC(t, "dump.arrow", false, rec.NewSlice(0, 20), rec.NewSlice(20, rec.NumRows())),
+		"arrow ipc stream":             writeArrowIPC(t, "dump.arrows", true, rec.NewSlice(0, 7), rec.NewSlice(7, rec.NumRows())),
+		"csv":                          writeFile(t, "dump.csv", referenceCSV(t, rows)),
+		"csv gzip":                     writeFile(t, "dump.csv.gz", gzipped(t, referenceCSV(t, rows))),
 	}
 	formats := map[string]string{
-		"pqarrow parquet, dictionary": FormatParquet, "pqarrow parquet, plain": FormatParquet,
-		"arrow ipc file": FormatArrowFile, "arrow ipc stream": FormatArrowStream,
-		"csv": FormatCSV, "csv gzip": FormatCSV,
+		"arrow-go parquet, dictionary": formatParquet, "arrow-go parquet, plain": formatParquet,
+		"arrow ipc file": formatArrowFile, "arrow ipc stream": formatArrowStream,
+		"csv": formatCSV, "csv gzip": formatCSV,
 	}
 	for name, path := range files {
 		t.Run(name, func(t *testing.T) {
@@ -205,7 +206,7 @@ func TestSameSeriesAcrossFormats(t *testing.T) {
 }
 
 // TestWideSameAcrossFormats reads one wide dump with a text column and
-// positions from pqarrow Parquet, Arrow IPC and CSV.
+// positions from arrow-go Parquet, Arrow IPC and CSV.
 func TestWideSameAcrossFormats(t *testing.T) {
 	schema := arrow.NewSchema([]arrow.Field{
 		{Name: "site", Type: arrow.PrimitiveTypes.Int32},
@@ -230,7 +231,7 @@ func TestWideSameAcrossFormats(t *testing.T) {
 	rec := record(t, schema, rows)
 	defer rec.Release()
 	paths := []string{
-		writePQArrow(t, "wide.parquet", rec, 2, true),
+		writeArrowParquet(t, "wide.parquet", rec, 2, true),
 		writeArrowIPC(t, "wide.arrow", false, rec),
 		writeFile(t, "wide.csv", []byte(csvText)),
 	}

@@ -68,7 +68,7 @@ func readRegister(path string, opt RegisterOptions) (*Register, error) {
 	}
 	defer in.close()
 	var t *regTable
-	if in.format == FormatGeoJSON {
+	if in.format == formatGeoJSON {
 		t, err = geoJSONTable(in.r, opt)
 	} else {
 		t, err = columnarTable(in, opt)
@@ -498,18 +498,10 @@ func swappable(lat, lon float64) bool {
 	return lon >= -90 && lon <= 90 && lat >= -180 && lat <= 180
 }
 
-// NewRegister builds a register from sites made in code: it sorts them by
-// ID, checks that ids are unique and not empty, that each site has the
-// attributes attrNames in that order and that positions are in range.
-// The register keeps the sites, not copies.
-func NewRegister(key string, attrNames []string, sites []*Site) (*Register, error) {
-	r, err := buildRegister(key, attrNames, sites)
-	if err != nil {
-		return nil, fmt.Errorf("ingest: register: %w", err)
-	}
-	return r, nil
-}
-
+// buildRegister builds a register of sites: it sorts them by ID, checks
+// that ids are unique and not empty, that each site has the attributes
+// attrNames in that order and that positions are in range. The register
+// keeps the sites, not copies.
 func buildRegister(key string, attrNames []string, sites []*Site) (*Register, error) {
 	r := &Register{Key: key, AttrNames: slices.Clone(attrNames), Sites: slices.Clone(sites),
 		index: make(map[string]*Site, len(sites))}

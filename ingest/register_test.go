@@ -105,7 +105,7 @@ func TestReadRegisterParquetAndArrow(t *testing.T) {
 	}
 	opt := RegisterOptions{Key: "id", LatCol: "y", LonCol: "x"}
 	for _, path := range []string{
-		writePQArrow(t, "sites.parquet", rec, 1, true),
+		writeArrowParquet(t, "sites.parquet", rec, 1, true),
 		writeArrowIPC(t, "sites.arrow", false, rec),
 		writeArrowIPC(t, "sites.arrows", true, rec),
 	} {
@@ -163,10 +163,10 @@ func TestBadRegister(t *testing.T) {
 	}
 }
 
-func TestNewRegister(t *testing.T) {
+func TestBuildRegister(t *testing.T) {
 	a := &Site{ID: "b", Lat: 1, Lon: 2, Located: true, Attrs: []Attr{{"zone", "n"}}}
 	b := &Site{ID: "a", Attrs: []Attr{{"zone", nil}}}
-	reg, err := NewRegister("site", []string{"zone"}, []*Site{a, b})
+	reg, err := buildRegister("site", []string{"zone"}, []*Site{a, b})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -184,13 +184,13 @@ func TestNewRegister(t *testing.T) {
 		sites []*Site
 		want  string
 	}{
-		{[]*Site{a, {ID: "b", Attrs: []Attr{{"zone", 1}}}}, `ingest: register: site id "b" appears more than once`},
+		{[]*Site{a, {ID: "b", Attrs: []Attr{{"zone", 1}}}}, `site id "b" appears more than once`},
 		{[]*Site{{ID: "", Attrs: []Attr{{"zone", 1}}}}, "empty site id"},
 		{[]*Site{{ID: "c"}}, `site "c" has 0 attributes, want 1`},
 		{[]*Site{{ID: "c", Attrs: []Attr{{"area", 1}}}}, `attribute 1 is "area", want "zone"`},
 		{[]*Site{{ID: "c", Lat: -91, Lon: 0, Located: true, Attrs: []Attr{{"zone", 1}}}}, "latitude -91"},
 	} {
-		if _, err := NewRegister("site", []string{"zone"}, tt.sites); err == nil || !strings.Contains(err.Error(), tt.want) {
+		if _, err := buildRegister("site", []string{"zone"}, tt.sites); err == nil || !strings.Contains(err.Error(), tt.want) {
 			t.Errorf("error %v, want one with %q", err, tt.want)
 		}
 	}

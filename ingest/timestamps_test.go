@@ -78,8 +78,8 @@ func TestTimestampUnits(t *testing.T) {
 		ep := record(t, epochSchema, epochRows)
 		files := map[string]string{
 			"arrow timestamp":     writeArrowIPC(t, "ts.arrow", false, ts),
-			"parquet timestamp":   writePQArrow(t, "ts.parquet", ts, 100, false),
-			"parquet int64 epoch": writePQArrow(t, "epoch.parquet", ep, 100, true),
+			"parquet timestamp":   writeArrowParquet(t, "ts.parquet", ts, 100, false),
+			"parquet int64 epoch": writeArrowParquet(t, "epoch.parquet", ep, 100, true),
 			"arrow int64 epoch":   writeArrowIPC(t, "epoch.arrows", true, ep),
 			"csv integer epoch":   writeFile(t, "epoch.csv", []byte(csvEpochs.String())),
 			"csv rfc 3339":        writeFile(t, "rfc.csv", []byte(csvStrings.String())),

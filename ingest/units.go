@@ -11,10 +11,10 @@ import (
 	"github.com/parquet-go/parquet-go/format"
 )
 
-// UnitKey is the key of the field metadata of a Parquet or Arrow column
+// unitKey is the key of the field metadata of a Parquet or Arrow column
 // that gives the unit of its readings, such as "m3/h". A wide dump's
 // channels take it (Summary.Units).
-const UnitKey = "unit"
+const unitKey = "unit"
 
 // maxUnitLen bounds a unit read from a file: a unit is a few characters,
 // and a longer entry is something else.
@@ -23,7 +23,7 @@ const maxUnitLen = 32
 // fieldUnit returns the unit in Arrow field metadata, "" when there is none
 // or it does not look like a unit (too long, not text).
 func fieldUnit(md arrow.Metadata) string {
-	i := md.FindKey(UnitKey)
+	i := md.FindKey(unitKey)
 	if i < 0 {
 		return ""
 	}

@@ -6,7 +6,7 @@ import (
 	"testing"
 
 	"github.com/apache/arrow-go/v18/arrow"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/kinmap/kinmap/internal/parquettest"
 )
 
 // A wide dump's channels take the "unit" entry of their field metadata,
@@ -16,7 +16,7 @@ import (
 // unit that is too long to be one is passed over, and a long dump's value
 // column names no channel's unit.
 func TestUnitsFromFieldMetadata(t *testing.T) {
-	unit := func(u string) arrow.Metadata { return arrow.NewMetadata([]string{UnitKey}, []string{u}) }
+	unit := func(u string) arrow.Metadata { return arrow.NewMetadata([]string{unitKey}, []string{u}) }
 	schema := arrow.NewSchema([]arrow.Field{
 		{Name: "site", Type: arrow.BinaryTypes.String},
 		{Name: "time", Type: &arrow.TimestampType{Unit: arrow.Second, TimeZone: "UTC"}},
@@ -32,7 +32,7 @@ func TestUnitsFromFieldMetadata(t *testing.T) {
 		writeArrowIPC(t, "wide.arrow", false, rec),
 		writeArrowIPC(t, "wide.arrows", true, rec),
 		// pyarrow stores the schema by default, arrow-go when asked.
-		writePQArrow(t, "wide.parquet", rec, 10, false, pqarrow.WithStoreSchema()),
+		writeArrowParquetWith(t, "wide.parquet", rec, parquettest.WriteOptions{RowGroup: 10, StoreSchema: true}),
 	} {
 		ds := mustRead(t, []string{path}, nil)
 		if got := fmt.Sprint(ds.Summary.Units); got != want {
@@ -48,7 +48,7 @@ func TestUnitsFromFieldMetadata(t *testing.T) {
 	}, nil)
 	lrec := record(t, long, [][]any{{"a", int64(1_780_000_000), "pressure", 2.0}})
 	defer lrec.Release()
-	if ds := mustRead(t, []string{writePQArrow(t, "long.parquet", lrec, 10, false, pqarrow.WithStoreSchema())}, nil); ds.Summary.Units != nil {
+	if ds := mustRead(t, []string{writeArrowParquetWith(t, "long.parquet", lrec, parquettest.WriteOptions{RowGroup: 10, StoreSchema: true})}, nil); ds.Summary.Units != nil {
 		t.Errorf("long dump: units %v, want none", ds.Summary.Units)
 	}
 }

@@ -40,7 +40,7 @@ func TestReadSameForAnyWorkers(t *testing.T) {
 	defer rec.Release()
 	paths := map[string]string{
 		"csv":     writeFile(t, "dump.csv", []byte(csv.String())),
-		"parquet": writePQArrow(t, "dump.parquet", rec, 97, false),
+		"parquet": writeArrowParquet(t, "dump.parquet", rec, 97, false),
 	}
 	for format, path := range paths {
 		var ref *Dataset

@@ -9,7 +9,7 @@
 //	4,worn bearing,fault,...
 //
 // regime is the regime number; name is free text (at most
-// mapper.MaxNameLen characters); status is normal, watch, fault or empty.
+// model.MaxNameLen characters); status is normal, watch, fault or empty.
 // Columns are found by their header, in any order; description is
 // written by Write for orientation and ignored on reading; any other column
 // is refused, so that a misspelt header cannot pass unnoticed. A row with
@@ -47,7 +47,7 @@ const MaxBytes = 1 << 20
 type Label struct {
 	Regime int    // regime number
 	Name   string // "" for none
-	Status string // one of mapper.Statuses, or "" for none
+	Status string // one of model.Statuses, or "" for none
 	Row    int    // line of the file, from 1 for the header
 }
 
@@ -81,7 +81,7 @@ func (e *Error) Unwrap() error { return e.Err }
 // Read reads a labels file. It refuses, naming the row and column, a
 // missing header or regime column, an unknown or repeated column, a regime
 // number that is not a positive integer, a regime given twice, an unknown
-// status and a name mapper.CheckLabel refuses. Names and statuses are
+// status and a name model.CheckLabel refuses. Names and statuses are
 // trimmed of surrounding spaces and statuses read in any case; rows with
 // every field empty, as spreadsheets leave, are skipped.
 func Read(r io.Reader) ([]Label, error) {
@@ -150,10 +150,10 @@ func Read(r io.Reader) ([]Label, error) {
 			return nil, &Error{Row: row, Column: ColRegime, Err: fmt.Errorf("regime %d is labelled again (first on row %d)", l.Regime, first)}
 		}
 		rowOf[l.Regime] = row
-		if err := mapper.CheckLabel(l.Name, ""); err != nil {
+		if err := model.CheckLabel(l.Name, ""); err != nil {
 			return nil, &Error{Row: row, Column: ColName, Err: err}
 		}
-		if err := mapper.CheckLabel("", l.Status); err != nil {
+		if err := model.CheckLabel("", l.Status); err != nil {
 			return nil, &Error{Row: row, Column: ColStatus, Err: err}
 		}
 		out = append(out, l)
@@ -218,7 +218,7 @@ func Apply(m *model.Model, ls []Label) ([]string, error) {
 		if _, ok := at[l.Regime]; !ok {
 			return nil, &Error{Row: l.Row, Column: ColRegime, Err: fmt.Errorf("the model has no regime %d (it has %s)", l.Regime, idList(m.Regimes))}
 		}
-		if err := mapper.CheckLabel(l.Name, l.Status); err != nil {
+		if err := model.CheckLabel(l.Name, l.Status); err != nil {
 			return nil, &Error{Row: l.Row, Err: err}
 		}
 	}

@@ -42,9 +42,9 @@ func TestRead(t *testing.T) {
 		{name: "regime zero", in: "regime,name,status\n0,a,normal\n", err: "not a regime number", row: 2, column: "regime"},
 		{name: "regime twice", in: "regime,name,status\n1,a,normal\n2,b,\n1,c,fault\n", err: "first on row 2", row: 4, column: "regime"},
 		{name: "too few fields", in: "regime,name,status\n1,a\n", err: "wrong number of fields", row: 2},
-		{name: "name too long", in: "regime,name\n1," + strings.Repeat("é", mapper.MaxNameLen+1) + "\n", err: "longer than", row: 2, column: "name"},
-		{name: "name of the longest length", in: "regime,name\n1," + strings.Repeat("é", mapper.MaxNameLen) + "\n",
-			want: []Label{{1, strings.Repeat("é", mapper.MaxNameLen), "", 2}}},
+		{name: "name too long", in: "regime,name\n1," + strings.Repeat("é", model.MaxNameLen+1) + "\n", err: "longer than", row: 2, column: "name"},
+		{name: "name of the longest length", in: "regime,name\n1," + strings.Repeat("é", model.MaxNameLen) + "\n",
+			want: []Label{{1, strings.Repeat("é", model.MaxNameLen), "", 2}}},
 		{name: "invalid UTF-8", in: "regime,name\n1,a\xffb\n", err: "UTF-8", row: 2, column: "name"},
 		{name: "bare quote", in: "regime,name\n1,a\"b\n", err: "bare", row: 2},
 	} {
@@ -80,7 +80,7 @@ func TestReadTooLarge(t *testing.T) {
 func labelledModel() *model.Model {
 	return &model.Model{Regimes: []mapper.Regime{
 		{ID: 1, Description: "flow.std −0.7σ"},
-		{ID: 2, Description: "vibration.p95 +2.6σ", Name: "old", Status: mapper.StatusWatch},
+		{ID: 2, Description: "vibration.p95 +2.6σ", Name: "old", Status: model.StatusWatch},
 		{ID: 5, Description: "flow.flat +2.4σ"},
 	}}
 }
@@ -89,7 +89,7 @@ func labelledModel() *model.Model {
 // changes nothing.
 func TestWriteReadsBack(t *testing.T) {
 	m := labelledModel()
-	m.Regimes[0].Name, m.Regimes[0].Status = `baseline, "A"`, mapper.StatusNormal
+	m.Regimes[0].Name, m.Regimes[0].Status = `baseline, "A"`, model.StatusNormal
 	var b bytes.Buffer
 	if err := Write(&b, m.Regimes); err != nil {
 		t.Fatal(err)
@@ -156,7 +156,7 @@ func FuzzRead(f *testing.F) {
 				t.Fatalf("regime %d accepted twice or not positive", l.Regime)
 			}
 			seen[l.Regime] = true
-			if err := mapper.CheckLabel(l.Name, l.Status); err != nil {
+			if err := model.CheckLabel(l.Name, l.Status); err != nil {
 				t.Fatalf("accepted label %+v: %v", l, err)
 			}
 			regs[i] = mapper.Regime{ID: l.Regime, Name: l.Name, Status: l.Status}

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/kinmap/kinmap/internal/parallel"
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // Accumulator holds the per-unit statistics of one batch epoch: how many
@@ -112,44 +113,15 @@ func (m *Map) Smooth(acc *Accumulator, sigma float64) {
 }
 
 // neighbourhood returns the Units × Units Gaussian weights of the lattice
-// for width sigma. The weight of a pair depends only on their offset on the
-// lattice (and the parity of the first unit's row), so it is tabulated by
-// offset: a few exponentials per unit instead of one per pair.
-func neighbourhood(l Lattice, sigma float64) []float64 {
-	parities := 1
-	if l.Hex {
-		parities = 2
-	}
-	w, hgt := 2*l.Cols-1, 2*l.Rows-1
-	table := make([]float64, parities*hgt*w)
-	for p := range parities {
-		for dr := range hgt {
-			for dc := range w {
-				table[(p*hgt+dr)*w+dc] = kernel(l.offsetDist2(p, dc-l.Cols+1, dr-l.Rows+1), sigma)
-			}
-		}
-	}
-	u := l.Units()
-	h := make([]float64, u*u)
-	for j := range u {
-		cj, rj := l.Cell(j)
-		p := 0
-		if l.Hex {
-			p = rj % 2
-		}
-		row := h[j*u : (j+1)*u]
-		for i := range row {
-			ci, ri := l.Cell(i)
-			row[i] = table[(p*hgt+ri-rj+l.Rows-1)*w+ci-cj+l.Cols-1]
-		}
-	}
-	return h
+// for width sigma.
+func neighbourhood(l lattice.Lattice, sigma float64) []float64 {
+	return l.Pairwise(func(d2 float64) float64 { return kernel(d2, sigma) })
 }
 
 // neighbourhoodRow fills the weights of unit j for width sigma.
-func neighbourhoodRow(l Lattice, sigma float64, j int, h []float64) {
+func neighbourhoodRow(l lattice.Lattice, sigma float64, j int, h []float64) {
 	for i := range h {
-		h[i] = kernel(l.dist2(j, i), sigma)
+		h[i] = kernel(l.Dist2(j, i), sigma)
 	}
 }
 

@@ -5,6 +5,8 @@ import (
 	"math"
 	"slices"
 	"testing"
+
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // batchMapStep is one step of Kohonen's batch map written plainly: every
@@ -38,7 +40,7 @@ func batchMapStep(m *Map, rows [][]float64, sigma float64) [][]float64 {
 		num := make([]float64, m.Dim)
 		var den float64
 		for i := range u {
-			h := math.Exp(-refDist2(m.Lattice, i, j) / (2 * sigma * sigma))
+			h := math.Exp(-m.Lattice.Dist2(i, j) / (2 * sigma * sigma))
 			den += h * counts[i]
 			for k, v := range sums[i] {
 				num[k] += h * v
@@ -55,8 +57,9 @@ func batchMapStep(m *Map, rows [][]float64, sigma float64) [][]float64 {
 }
 
 // One Accumulate and Smooth at σ > 0 is one step of the batch map, on
-// lattices that wrap and on planes, with the lattice distance
-// computed apart from the package (refDist2).
+// lattices that wrap and on planes, with the lattice distance taken
+// from package lattice (checked there against cube coordinates), apart
+// from mapper's tabulated neighbourhood.
 func TestSmoothIsBatchMapStep(t *testing.T) {
 	x, _ := clusterData(600, 3, 4, 5, 0.8, 31)
 	n, _ := x.Dims()
@@ -64,7 +67,7 @@ func TestSmoothIsBatchMapStep(t *testing.T) {
 	for i := range rows {
 		rows[i] = x.RawRowView(i)
 	}
-	for _, l := range []Lattice{
+	for _, l := range []lattice.Lattice{
 		{Cols: 6, Rows: 4, Hex: true},
 		{Cols: 5, Rows: 6, Hex: true},
 		{Cols: 7, Rows: 5, Flat: true},

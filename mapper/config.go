@@ -3,6 +3,8 @@ package mapper
 import (
 	"fmt"
 	"math"
+
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // Training rules and initialisations accepted in Config.
@@ -18,14 +20,14 @@ const (
 const minSide = 4
 
 // defaultGrid proposes a lattice for n training windows: about 5·√n units
-// (common practice, no source), at most MaxUnits, at least 4 along each side. Its aspect
-// ratio cols/rows follows sv1/sv2, the two leading singular values of the
+// (common practice, no source), at most lattice.MaxUnits, at least 4 along
+// each side. Its aspect ratio cols/rows follows sv1/sv2, the two leading singular values of the
 // centred data, which are proportional to the spread of the data along its
 // first two principal axes, so the lattice is stretched like the data. On a
 // hexagonal lattice the ratio is taken in the plane (rows are √3/2 apart) and
 // rows is rounded to an even number, as a hexagonal torus requires.
 func defaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
-	units := math.Min(5*math.Sqrt(float64(max(n, 1))), MaxUnits)
+	units := math.Min(5*math.Sqrt(float64(max(n, 1))), lattice.MaxUnits)
 	ratio := 1.0
 	if sv1 > 0 && sv2 > 0 && !math.IsInf(sv1, 0) {
 		ratio = math.Max(sv1, sv2) / math.Min(sv1, sv2)
@@ -34,7 +36,7 @@ func defaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
 	}
 	pitch := 1.0
 	if hex {
-		pitch = rowPitch
+		pitch = lattice.RowPitch
 	}
 	// cols·rows = units and cols / (rows·pitch) = ratio.
 	r := math.Sqrt(units / (ratio * pitch))
@@ -43,7 +45,7 @@ func defaultGrid(n int, sv1, sv2 float64, hex bool) (cols, rows int) {
 		rows++
 	}
 	cols = max(minSide, int(math.Round(units/float64(rows))))
-	for cols*rows > MaxUnits { // a very stretched grid rounds up past the limit
+	for cols*rows > lattice.MaxUnits { // a very stretched grid rounds up past the limit
 		cols--
 	}
 	return cols, rows
@@ -93,8 +95,8 @@ func (c Config) WithDefaults(n int, sv1, sv2 float64) Config {
 }
 
 // Lattice returns the lattice the settings describe.
-func (c Config) Lattice() Lattice {
-	return Lattice{Cols: c.Cols, Rows: c.Rows, Hex: c.Hex, Flat: c.Flat}
+func (c Config) Lattice() lattice.Lattice {
+	return lattice.Lattice{Cols: c.Cols, Rows: c.Rows, Hex: c.Hex, Flat: c.Flat}
 }
 
 // Validate reports whether complete settings (after WithDefaults) can train
@@ -117,7 +119,7 @@ func (c Config) Validate() error {
 		return fmt.Errorf("mapper: unknown initialisation %q (want %q or %q)", c.Init, InitPCA, InitRandom)
 	}
 	if err := c.Lattice().Validate(); err != nil {
-		return err
+		return fmt.Errorf("mapper: %w", err)
 	}
 	if c.Epochs < 1 {
 		return fmt.Errorf("mapper: epochs must be at least 1, not %d", c.Epochs)

@@ -7,6 +7,7 @@ import (
 	"slices"
 	"testing"
 
+	"github.com/kinmap/kinmap/lattice"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -123,7 +124,7 @@ func bruteAssign(m *Map, x []float64) Assignment {
 
 // components counts the connected components of a set of units on the
 // lattice.
-func components(l Lattice, set []bool) int {
+func components(l lattice.Lattice, set []bool) int {
 	seen := make([]bool, len(set))
 	var count int
 	for u := range set {
@@ -145,52 +146,6 @@ func components(l Lattice, set []bool) int {
 		}
 	}
 	return count
-}
-
-// refDist2 is the squared planar distance between units a and b, computed
-// apart from the package's geometry, with neighbours one unit apart. Unit u
-// sits at column u % Cols and row u / Cols; on a hexagonal lattice odd rows
-// are shifted right by half a unit ("odd-r" offset coordinates). Those
-// become axial coordinates q = col − (row − row mod 2)/2, r = row, and cube
-// coordinates (q, −q−r, r) (A. Patel, "Hexagonal Grids", Red Blob Games,
-// 2013; from memory). With the neighbour steps e₁ = (1, 0) and
-// e₂ = (1/2, √3/2), the offset q·e₁ + r·e₂ has squared length
-// q² + qr + r², half the sum of the squared cube coordinates. A torus is
-// the quotient by its periods, Cols columns and Rows rows (in axial
-// coordinates (Cols, 0) and (−Rows/2, Rows), Rows being even); the distance
-// on it is the shortest over the images.
-func refDist2(l Lattice, a, b int) float64 {
-	axial := func(u int) (q, r int) {
-		c, r := u%l.Cols, u/l.Cols
-		if l.Hex {
-			return c - (r-r%2)/2, r
-		}
-		return c, r
-	}
-	norm2 := func(q, r int) float64 {
-		if l.Hex {
-			x, y, z := q, -q-r, r
-			return float64(x*x+y*y+z*z) / 2
-		}
-		return float64(q*q + r*r)
-	}
-	qa, ra := axial(a)
-	qb, rb := axial(b)
-	dq, dr := qb-qa, rb-ra
-	best := norm2(dq, dr)
-	if l.Flat {
-		return best
-	}
-	shear := 0 // axial q change of moving Rows rows down
-	if l.Hex {
-		shear = -l.Rows / 2
-	}
-	for k := -2; k <= 2; k++ {
-		for m := -2; m <= 2; m++ {
-			best = math.Min(best, norm2(dq+k*l.Cols+m*shear, dr+m*l.Rows))
-		}
-	}
-	return best
 }
 
 // cloneMap returns a copy of m with its own codebook.

@@ -1,12 +1,12 @@
-// Package mapper trains Kohonen's self-organising map on a lattice that wraps
-// both ways (a torus), measures its quality, and groups its units into
-// operating regimes.
+// Package mapper trains Kohonen's self-organising map on a lattice (package
+// lattice; by default one that wraps both ways, a torus), measures its
+// quality, and groups its units into operating regimes.
 //
 // The stage is Train (or InitMap and one Accumulate and Smooth per epoch,
 // for a runner that spreads the data over machines), Assign, Quality,
-// FindRegimes and Describe; TrainFrom continues a map on a later dump and
-// MatchRegimes keeps its regime numbers. Package model puts them together
-// into the saved model.
+// FindRegimes and Describe; TrainFrom continues a map on a later dump.
+// Package model puts them together into the saved model, keeps regime
+// numbers and labels from one model to the next.
 //
 // Regimes are states that sites hold for days, relative to the fleet.
 // FindRegimes leaves out the directions the whole fleet moves in together
@@ -26,13 +26,7 @@
 // batch map is deterministic for any number of workers.
 package mapper
 
-// Lattice is the arrangement of the map's units. Unit u sits at column
-// u % Cols and row u / Cols.
-type Lattice struct {
-	Cols, Rows int
-	Hex        bool // hexagonal cells (6 neighbours); otherwise square (4)
-	Flat       bool // a plane with edges; otherwise a torus wrapping both ways
-}
+import "github.com/kinmap/kinmap/lattice"
 
 // Config holds the training settings. It is recorded in the model. Zero
 // fields mean the defaults of WithDefaults.
@@ -56,7 +50,7 @@ type Config struct {
 
 // Map is a trained self-organising map.
 type Map struct {
-	Lattice  Lattice
+	Lattice  lattice.Lattice
 	Dim      int
 	Codebook []float64 // Units × Dim, row-major
 }

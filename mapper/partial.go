@@ -2,14 +2,38 @@ package mapper
 
 import (
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 )
 
-// AssignPartial is Assign for windows whose scaled vectors may lack some
-// features (NaN components), as when a channel the map was trained on is
-// missing from a later dump. Rows without NaN are assigned exactly as by
-// Assign. A row with some is placed by the components it has: the
+// fillMissing returns x with every NaN component set to zero (a copy, when
+// there is one) and the rows that had one.
+func fillMissing(x *mat.Dense) (*mat.Dense, []int) {
+	n, _ := x.Dims()
+	var partial []int
+	for i := range n {
+		if slices.ContainsFunc(x.RawRowView(i), math.IsNaN) {
+			partial = append(partial, i)
+		}
+	}
+	if len(partial) == 0 {
+		return x, nil
+	}
+	filled := mat.DenseCopyOf(x)
+	for _, i := range partial {
+		row := filled.RawRowView(i)
+		for j, v := range row {
+			if math.IsNaN(v) {
+				row[j] = 0
+			}
+		}
+	}
+	return filled, partial
+}
+
+// placePartial places the rows of x that lack some features (NaN
+// components), listed in partial, by the components they have: the
 // squared distance to each unit is summed over the present components and
 // multiplied by D/P, P of the D components being present, so that it
 // estimates the full distance and its square root, the quantization
@@ -18,39 +42,16 @@ import (
 // and S. A. Harp, "Self-organization with partial data", Network:
 // Computation in Neural Systems 3(2), 1992 (and of M. Cottrell and P.
 // Letrémy, "Missing values: processing with the Kohonen algorithm", 2005).
-// Ties go to the lower unit, as in Assign. A row with no component at all
-// is assigned as if every component were at the centre (zero).
-func (m *Map) AssignPartial(x *mat.Dense, workers int) []Assignment {
-	n, dim := x.Dims()
-	var partial []int
-	filled := x
-	for i := range n {
-		row := x.RawRowView(i)
-		for _, v := range row {
-			if math.IsNaN(v) {
-				partial = append(partial, i)
-				break
-			}
-		}
-	}
-	if len(partial) > 0 {
-		filled = mat.DenseCopyOf(x)
-		for _, i := range partial {
-			row := filled.RawRowView(i)
-			for j, v := range row {
-				if math.IsNaN(v) {
-					row[j] = 0
-				}
-			}
-		}
-	}
-	out := m.Assign(filled, workers)
+// Ties go to the lower unit, as in the full search. A row with no
+// component at all keeps the place out already has for it, that of the
+// centre (zero).
+func (m *Map) placePartial(x *mat.Dense, partial []int, out []Assignment) {
+	_, dim := x.Dims()
 	for _, i := range partial {
 		if a, ok := m.partialWinner(x.RawRowView(i)[:dim]); ok {
 			out[i] = a
 		}
 	}
-	return out
 }
 
 // partialWinner is the best and second-best unit of x over its present

@@ -5,18 +5,20 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"github.com/kinmap/kinmap/lattice"
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
-// AssignPartial agrees with a brute-force search that measures, with
-// gonum's floats.Distance, the distance of each window's present
-// components to the same components of every unit, rescaled by √(D/P)
-// (Samad and Harp 1992); complete windows get exactly Assign's winners.
-func TestAssignPartialBruteForce(t *testing.T) {
+// Assign places a window lacking some features as a brute-force search
+// does that measures, with gonum's floats.Distance, the distance of its
+// present components to the same components of every unit, rescaled by
+// √(D/P) (Samad and Harp 1992); complete windows beside them get exactly
+// the winners they get without such neighbours.
+func TestAssignMissingBruteForce(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 1))
 	const dim, n = 9, 400
-	m := &Map{Lattice: Lattice{Cols: 8, Rows: 6, Hex: true}, Dim: dim}
+	m := &Map{Lattice: lattice.Lattice{Cols: 8, Rows: 6, Hex: true}, Dim: dim}
 	m.Codebook = make([]float64, m.Units()*dim)
 	for i := range m.Codebook {
 		m.Codebook[i] = rng.NormFloat64()
@@ -32,7 +34,7 @@ func TestAssignPartialBruteForce(t *testing.T) {
 			}
 		}
 	}
-	got := m.AssignPartial(x, 2)
+	got := m.Assign(x, 2)
 	filled := mat.DenseCopyOf(x)
 	filled.Apply(func(_, _ int, v float64) float64 {
 		if math.IsNaN(v) {
@@ -40,7 +42,7 @@ func TestAssignPartialBruteForce(t *testing.T) {
 		}
 		return v
 	}, filled)
-	full := m.Assign(filled, 2) // only its complete rows are compared
+	full := m.Assign(filled, 2) // no NaN; only its complete rows are compared
 	for i := range n {
 		row := x.RawRowView(i)
 		var keep []int
@@ -51,7 +53,7 @@ func TestAssignPartialBruteForce(t *testing.T) {
 		}
 		if len(keep) == dim {
 			if got[i] != full[i] {
-				t.Fatalf("complete row %d: AssignPartial %+v, Assign %+v", i, got[i], full[i])
+				t.Fatalf("complete row %d: %+v beside incomplete rows, %+v without them", i, got[i], full[i])
 			}
 			continue
 		}
@@ -82,10 +84,10 @@ func TestAssignPartialBruteForce(t *testing.T) {
 
 // A window whose every component is missing cannot be placed by its
 // features; it is placed as a window at the centre, never at a NaN unit.
-func TestAssignPartialNothingPresent(t *testing.T) {
-	m := &Map{Lattice: Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0.1, 0.1, 3, 3}}
+func TestAssignNothingPresent(t *testing.T) {
+	m := &Map{Lattice: lattice.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0.1, 0.1, 3, 3}}
 	x := mat.NewDense(1, 2, []float64{math.NaN(), math.NaN()})
-	a := m.AssignPartial(x, 1)[0]
+	a := m.Assign(x, 1)[0]
 	if a.BMU != 0 || math.IsNaN(a.QE) {
 		t.Fatalf("got %+v, want unit 0 with a finite error", a)
 	}

@@ -2,6 +2,7 @@ package mapper
 
 import (
 	"fmt"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -12,11 +13,16 @@ const unusedWarning = 0.5
 
 // Assign maps every row of x onto m on up to workers goroutines (0 means all
 // cores): its best and second-best units, ties going to the lower unit, and
-// its quantization error.
+// its quantization error. A row that lacks some features (NaN components,
+// as when a channel the map was trained on is missing from a later dump) is
+// placed by the features it has (placePartial); the other rows are placed
+// as if it were not there.
 func (m *Map) Assign(x *mat.Dense, workers int) []Assignment {
+	filled, partial := fillMissing(x)
 	n, _ := x.Dims()
 	out := make([]Assignment, n)
-	newSearcher(m).run(x, runOptions{workers: workers, out: out})
+	newSearcher(m).run(filled, runOptions{workers: workers, out: out})
+	m.placePartial(x, partial, out)
 	return out
 }
 
@@ -30,12 +36,15 @@ func (m *Map) Quality(asg []Assignment) Quality {
 	if len(asg) == 0 {
 		return q
 	}
-	nb := m.Lattice.neighbourTable()
+	nb := make([][]int, m.Units())
+	for u := range nb {
+		nb[u] = m.Lattice.Neighbours(u)
+	}
 	hits := m.hits(asg)
 	var broken int
 	for _, a := range asg {
 		q.QE += a.QE
-		if a.Second >= 0 && !contains(nb[a.BMU], a.Second) {
+		if a.Second >= 0 && !slices.Contains(nb[a.BMU], a.Second) {
 			broken++
 		}
 	}

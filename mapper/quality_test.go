@@ -12,7 +12,7 @@ import (
 // "Self-Organizing Maps", 3rd ed., 2001), the share of windows whose two
 // nearest units are not lattice neighbours (K. Kiviluoto, "Topology
 // preservation in self-organizing maps", ICNN 1996), with the lattice's
-// geometry from refDist2, and the share of units nearest to no window.
+// geometry from package lattice, and the share of units nearest to no window.
 func TestQualityByBruteForce(t *testing.T) {
 	x, _ := clusterData(600, 4, 3, 6, 0.5, 31)
 	m, _, err := Train(x, Config{Cols: 8, Rows: 6, Epochs: 6})
@@ -29,8 +29,8 @@ func TestQualityByBruteForce(t *testing.T) {
 
 // bruteQuality returns the mean distance of the rows of x to their nearest
 // unit of m, the number of rows whose nearest and second-nearest units are
-// not neighbours by refDist2, and the share of units nearest to no row, by
-// comparing every row with every unit.
+// not neighbours by package lattice, and the share of units nearest to no
+// row, by comparing every row with every unit.
 func bruteQuality(m Map, x *mat.Dense) (qe float64, broken int, unused float64) {
 	n, d := x.Dims()
 	won := make([]bool, m.Units())
@@ -53,7 +53,7 @@ func bruteQuality(m Map, x *mat.Dense) (qe float64, broken int, unused float64) 
 		}
 		qe += math.Sqrt(db)
 		won[best] = true
-		if math.Abs(refDist2(m.Lattice, best, second)-1) > 1e-9 {
+		if math.Abs(m.Lattice.Dist2(best, second)-1) > 1e-9 {
 			broken++
 		}
 	}

@@ -6,12 +6,13 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/kinmap/kinmap/lattice"
 	"gonum.org/v1/gonum/mat"
 )
 
 // chainMap returns a flat chain whose units hold the given values.
 func chainMap(values ...float64) *Map {
-	return &Map{Lattice: Lattice{Cols: len(values), Rows: 1, Flat: true}, Dim: 1, Codebook: values}
+	return &Map{Lattice: lattice.Lattice{Cols: len(values), Rows: 1, Flat: true}, Dim: 1, Codebook: values}
 }
 
 // A worked example of Ward's criterion (J. H. Ward, JASA 58, 1963), done by
@@ -115,7 +116,7 @@ func lanceWilliams(m *Map) []float64 {
 }
 
 func TestWardAgreesWithLanceWilliams(t *testing.T) {
-	for _, l := range []Lattice{{Cols: 5, Rows: 4}, {Cols: 4, Rows: 4, Hex: true}, {Cols: 6, Rows: 3, Flat: true}} {
+	for _, l := range []lattice.Lattice{{Cols: 5, Rows: 4}, {Cols: 4, Rows: 4, Hex: true}, {Cols: 6, Rows: 3, Flat: true}} {
 		m := randomMap(t, noiseData(200, 3, 8), l, 3)
 		want := lanceWilliams(m)
 		tree := wardTree(m, unitWeights(m.Units(), nil))

@@ -5,12 +5,13 @@ import (
 	"slices"
 	"testing"
 
+	"github.com/kinmap/kinmap/lattice"
 	"gonum.org/v1/gonum/mat"
 )
 
 // randomMap returns a map of the lattice with codebook vectors drawn from
 // the rows of x.
-func randomMap(t testing.TB, x *mat.Dense, l Lattice, seed int64) *Map {
+func randomMap(t testing.TB, x *mat.Dense, l lattice.Lattice, seed int64) *Map {
 	t.Helper()
 	m, _, err := InitMap(x, Config{Cols: l.Cols, Rows: l.Rows, Hex: l.Hex, Flat: l.Flat, Init: InitRandom, Seed: seed})
 	if err != nil {
@@ -24,12 +25,12 @@ func TestAssignMatchesPlainLoop(t *testing.T) {
 	for _, tc := range []struct {
 		name string
 		x    *mat.Dense
-		l    Lattice
+		l    lattice.Lattice
 	}{
-		{"noise", noiseData(700, 13, 1), Lattice{Cols: 9, Rows: 7}},
-		{"offset", offsetData(noiseData(500, 5, 2), 1e4), Lattice{Cols: 6, Rows: 6, Hex: true}},
-		{"one feature", uniformData(300, 1, 3), Lattice{Cols: 12, Rows: 1, Flat: true}},
-		{"two units", uniformData(50, 3, 4), Lattice{Cols: 2, Rows: 1, Flat: true}},
+		{"noise", noiseData(700, 13, 1), lattice.Lattice{Cols: 9, Rows: 7}},
+		{"offset", offsetData(noiseData(500, 5, 2), 1e4), lattice.Lattice{Cols: 6, Rows: 6, Hex: true}},
+		{"one feature", uniformData(300, 1, 3), lattice.Lattice{Cols: 12, Rows: 1, Flat: true}},
+		{"two units", uniformData(50, 3, 4), lattice.Lattice{Cols: 2, Rows: 1, Flat: true}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			m := randomMap(t, tc.x, tc.l, 5)
@@ -62,7 +63,7 @@ func offsetData(x *mat.Dense, c float64) *mat.Dense {
 
 // Exact ties go to the lower unit, for both the best and the second best.
 func TestAssignTies(t *testing.T) {
-	l := Lattice{Cols: 5, Rows: 1, Flat: true}
+	l := lattice.Lattice{Cols: 5, Rows: 1, Flat: true}
 	m := &Map{Lattice: l, Dim: 2, Codebook: []float64{
 		3, 3, // unit 0
 		1, 0, // unit 1
@@ -133,7 +134,7 @@ func TestShortcutMatchesFullSearch(t *testing.T) {
 // Rows exactly halfway between two units are ties that the shortcut must
 // settle as the full search does, towards the lower unit.
 func TestShortcutTies(t *testing.T) {
-	l := Lattice{Cols: 4, Rows: 1, Flat: true}
+	l := lattice.Lattice{Cols: 4, Rows: 1, Flat: true}
 	m := &Map{Lattice: l, Dim: 1, Codebook: []float64{0, 2, 4, 6}}
 	x := mat.NewDense(4, 1, []float64{1, 3, 5, 3})
 	full := m.Assign(x, 1)
@@ -255,14 +256,14 @@ func TestAccumulatorMerge(t *testing.T) {
 // The neighbourhood weights tabulated by lattice offset equal the weights
 // computed pair by pair.
 func TestNeighbourhoodTable(t *testing.T) {
-	for _, l := range []Lattice{{Cols: 7, Rows: 5}, {Cols: 6, Rows: 4, Hex: true}, {Cols: 5, Rows: 3, Hex: true, Flat: true}, {Cols: 6, Rows: 1, Flat: true}} {
+	for _, l := range []lattice.Lattice{{Cols: 7, Rows: 5}, {Cols: 6, Rows: 4, Hex: true}, {Cols: 5, Rows: 3, Hex: true, Flat: true}, {Cols: 6, Rows: 1, Flat: true}} {
 		for _, sigma := range []float64{0, 0.3, 2} {
 			h := neighbourhood(l, sigma)
 			row := make([]float64, l.Units())
 			for j := range l.Units() {
 				neighbourhoodRow(l, sigma, j, row)
 				for i, v := range row {
-					if want := math.Exp(-l.dist2(j, i) / (2 * sigma * sigma)); sigma > 0 && math.Abs(v-want) > 1e-15 {
+					if want := math.Exp(-l.Dist2(j, i) / (2 * sigma * sigma)); sigma > 0 && math.Abs(v-want) > 1e-15 {
 						t.Fatalf("%+v σ %g: weight %d–%d is %g, want %g", l, sigma, j, i, v, want)
 					}
 					if h[j*l.Units()+i] != v {

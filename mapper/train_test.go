@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/kinmap/kinmap/lattice"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
 )
@@ -105,7 +106,7 @@ func lloydStep(x *mat.Dense, centres [][]float64) [][]float64 {
 func TestTinySigmaIsLloydStep(t *testing.T) {
 	x, _ := clusterData(800, 3, 5, 5, 0.8, 13)
 	for _, sigma := range []float64{1e-3, 0} {
-		m := randomMap(t, x, Lattice{Cols: 4, Rows: 3, Flat: true}, 2)
+		m := randomMap(t, x, lattice.Lattice{Cols: 4, Rows: 3, Flat: true}, 2)
 		copy(m.Vector(5), []float64{1e3, 1e3, 1e3}) // wins nothing: must stay
 		var centres [][]float64
 		for u := range m.Units() {
@@ -233,7 +234,7 @@ func TestQualityHonoursWrap(t *testing.T) {
 		{false, 1.0 / 3, 24.0 / 25},
 		{true, 1, 24.0 / 25},
 	} {
-		m := &Map{Lattice: Lattice{Cols: 5, Rows: 5, Flat: tc.flat}, Dim: 1, Codebook: make([]float64, 25)}
+		m := &Map{Lattice: lattice.Lattice{Cols: 5, Rows: 5, Flat: tc.flat}, Dim: 1, Codebook: make([]float64, 25)}
 		q := m.Quality(asg)
 		if q.QE != 2 || math.Abs(q.TE-tc.te) > 1e-15 || math.Abs(q.Unused-tc.unused) > 1e-15 {
 			t.Errorf("flat %v: %+v, want QE 2, TE %g, unused %g", tc.flat, q, tc.te, tc.unused)
@@ -313,7 +314,7 @@ func TestDefaultGrid(t *testing.T) {
 		ratio := math.Max(tc.sv1, tc.sv2) / math.Min(tc.sv1, tc.sv2)
 		planar := float64(cols) / float64(rows)
 		if tc.hex {
-			planar /= rowPitch
+			planar /= lattice.RowPitch
 		}
 		if math.Abs(float64(cols*rows)/units-1) > 0.1 || math.Abs(planar/ratio-1) > 0.15 {
 			t.Errorf("%+v: %dx%d (%d units, planar ratio %.2f), want about %.0f units, ratio %.2f", tc, cols, rows, cols*rows, planar, units, ratio)
@@ -321,13 +322,22 @@ func TestDefaultGrid(t *testing.T) {
 		if tc.hex && rows%2 != 0 {
 			t.Errorf("%+v: %d rows on a hexagonal lattice", tc, rows)
 		}
-		if _, err := newLattice(cols, rows, tc.hex, false); err != nil {
+		if err := (lattice.Lattice{Cols: cols, Rows: rows, Hex: tc.hex}).Validate(); err != nil {
 			t.Errorf("%+v: %v", tc, err)
 		}
 	}
 	for _, tc := range [][2]float64{{1, 1}, {1, 0}, {0, 0}} {
 		if c, r := defaultGrid(3, tc[0], tc[1], true); c < minSide || r < minSide || r%2 != 0 {
 			t.Errorf("3 windows, singular values %v: %dx%d", tc, c, r)
+		}
+	}
+	// The default grid stays within lattice.MaxUnits for any data size.
+	for _, n := range []int{1, 1000, 1e6, 1e9} {
+		for _, ratio := range []float64{1, 50, 1e6} {
+			c, r := defaultGrid(n, ratio, 1, true)
+			if c*r > lattice.MaxUnits {
+				t.Errorf("defaultGrid(%d, ratio %g) = %dx%d, beyond %d units", n, ratio, c, r, lattice.MaxUnits)
+			}
 		}
 	}
 }
@@ -413,7 +423,7 @@ func TestOnlineSeeded(t *testing.T) {
 //
 // (T. Kohonen, Self-Organizing Maps, Springer, 3rd ed. 2001, the basic SOM
 // algorithm with a Gaussian neighbourhood; from memory), with d_cj from
-// refDist2 and the rates decaying exponentially from their start a₀ to
+// lattice.Dist2 and the rates decaying exponentially from their start a₀ to
 // their end a₁ as a(t) = a₀·(a₁/a₀)^(t/(T−1)) (H. Ritter, T. Martinetz and
 // K. Schulten, Neural Computation and Self-Organizing Maps,
 // Addison-Wesley 1992, ε(t) = ε_i(ε_f/ε_i)^(t/t_max); from memory).
@@ -431,7 +441,7 @@ func onlineReference(m *Map, x *mat.Dense, cfg Config) *Map {
 			t++
 			c := bruteAssign(out, xi).BMU
 			for j := range out.Units() {
-				f := eta * math.Exp(-refDist2(out.Lattice, c, j)/(2*sigma*sigma))
+				f := eta * math.Exp(-out.Lattice.Dist2(c, j)/(2*sigma*sigma))
 				w := out.Vector(j)
 				for k, v := range xi {
 					w[k] += f * (v - w[k])

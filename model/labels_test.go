@@ -4,14 +4,12 @@ import (
 	"bytes"
 	"encoding/json"
 	"testing"
-
-	"github.com/kinmap/kinmap/mapper"
 )
 
 // A labelled model with channel units reads back with its labels and units.
 func TestModelKeepsLabels(t *testing.T) {
 	mdl, _, _ := fitted(t)
-	mdl.Regimes[0].Name, mdl.Regimes[0].Status = "baseline, \"A\"", mapper.StatusNormal
+	mdl.Regimes[0].Name, mdl.Regimes[0].Status = "baseline, \"A\"", StatusNormal
 	mdl.Units = map[string]string{"flow": "m³/h"}
 	var buf bytes.Buffer
 	if err := mdl.Write(&buf); err != nil {
@@ -21,7 +19,7 @@ func TestModelKeepsLabels(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if g := back.Regimes[0]; g.Name != mdl.Regimes[0].Name || g.Status != mapper.StatusNormal {
+	if g := back.Regimes[0]; g.Name != mdl.Regimes[0].Name || g.Status != StatusNormal {
 		t.Errorf("read back %q %q", g.Name, g.Status)
 	}
 	if back.Units["flow"] != "m³/h" || len(back.Units) != 1 {

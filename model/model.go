@@ -3,6 +3,11 @@
 // settings, the normalisation, the map, its regimes, the training settings
 // and the lineage of its regime numbers), built complete by one
 // constructor, Train, Update or, for a map trained elsewhere, New.
+//
+// Update keeps regime numbers from one model to the next, pairing the new
+// regimes with the previous ones (RegimeChange reports how they moved),
+// and carries the user's labels with the numbers; CheckLabel and Statuses
+// are the rules of those labels.
 package model
 
 import (
@@ -122,11 +127,11 @@ func Train(t *features.Table, x *mat.Dense, sc *features.Scaler, cfg mapper.Conf
 // Update continues training prev's map on the windows of t, scaled by
 // prev's normalisation into x (see mapper.TrainFrom), derives the regimes
 // again with cfg.Regimes, and numbers them after prev's regimes with
-// mapper.MatchRegimes. The model returned keeps prev's feature schema,
+// matchRegimes. The model returned keeps prev's feature schema,
 // feature settings, normalisation and lineage; the changes list every
 // renumbering, split and merge; names and statuses follow the regime
-// numbers (mapper.CarryLabels). The windows of t are placed on the new map.
-func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*Model, []mapper.RegimeChange, error) {
+// numbers (carryLabels). The windows of t are placed on the new map.
+func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*Model, []RegimeChange, error) {
 	if err := checkNames(x, prev.Scaler); err != nil {
 		return nil, nil, err
 	}
@@ -138,14 +143,14 @@ func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*M
 	if err != nil {
 		return nil, nil, err
 	}
-	ids, changes, err := mapper.MatchRegimes(prev.Regimes, next.Regimes)
+	ids, changes, err := matchRegimes(prev.Regimes, next.Regimes)
 	if err != nil {
 		return nil, nil, err
 	}
 	if err := next.Renumber(ids); err != nil {
 		return nil, nil, err
 	}
-	mapper.CarryLabels(prev.Regimes, next.Regimes)
+	carryLabels(prev.Regimes, next.Regimes)
 	next.FeatureNames = slices.Clone(prev.FeatureNames)
 	next.FeatureConfig = prev.FeatureConfig
 	// The update keeps the regime numbers, hence the lineage.
@@ -247,7 +252,7 @@ func (m *Model) QEThreshold(q float64) float64 {
 	return quantile.Sorted(m.QEQuantiles, math.Min(1, math.Max(0, q)))
 }
 
-// Renumber gives regime i the number ids[i] (as from MatchRegimes) and
+// Renumber gives regime i the number ids[i] (as Update derives them) and
 // updates UnitRegime and the levels to match. The numbers must be positive
 // and distinct.
 func (m *Model) Renumber(ids []int) error {
@@ -473,7 +478,7 @@ func (m *Model) check() error {
 		if ids[r.ID] {
 			return fmt.Errorf("regime %d appears twice", r.ID)
 		}
-		if err := mapper.CheckLabel(r.Name, r.Status); err != nil {
+		if err := CheckLabel(r.Name, r.Status); err != nil {
 			return fmt.Errorf("regime %d: %w", r.ID, err)
 		}
 		if len(r.Centroid) != m.Map.Dim {

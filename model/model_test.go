@@ -437,7 +437,7 @@ func TestUpdateKeepsNumbers(t *testing.T) {
 		}
 	}
 	for _, c := range changes {
-		if c.Kind != mapper.ChangeRenumbered {
+		if c.Kind != ChangeRenumbered {
 			t.Errorf("unexpected change %+v", c)
 		}
 	}

@@ -1,7 +1,6 @@
 package scenarios
 
 import (
-	"context"
 	"encoding/csv"
 	"errors"
 	"io"
@@ -18,8 +17,8 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/ipc"
 	"github.com/apache/arrow-go/v18/arrow/memory"
-	pqfile "github.com/apache/arrow-go/v18/parquet"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"github.com/apache/arrow-go/v18/parquet/schema"
+	"github.com/kinmap/kinmap/internal/parquettest"
 	"github.com/parquet-go/parquet-go"
 	"github.com/parquet-go/parquet-go/format"
 )
@@ -241,48 +240,44 @@ func optionalDouble(v parquet.Value) float64 {
 }
 
 // TestParquetWithArrowReader reads the Parquet files with arrow-go's own
-// Parquet implementation (pqarrow.ReadTable), independent of the writer's.
-// A UTC-adjusted timestamp maps to an Arrow timestamp with time zone "UTC"
-// (Arrow's Parquet schema conversion, pqarrow).
+// Parquet implementation (package parquettest), independent of the
+// writer's: the time is INT64 TIMESTAMP(isAdjustedToUTC=true, MILLIS)
+// (Parquet format, LogicalTypes.md).
 func TestParquetWithArrowReader(t *testing.T) {
 	for name, w := range writeSmall(t) {
 		f := w.fleet
 		for _, file := range []string{FileLongParquet, FileWideParquet} {
-			fh, err := os.Open(filepath.Join(w.dir, file))
+			b, err := os.ReadFile(filepath.Join(w.dir, file))
 			if err != nil {
 				t.Fatal(err)
 			}
-			tbl, err := pqarrow.ReadTable(context.Background(), fh, pqfile.NewReaderProperties(memory.DefaultAllocator),
-				pqarrow.ArrowReadProperties{}, memory.DefaultAllocator)
-			fh.Close()
+			cols, err := parquettest.Read(b)
 			if err != nil {
 				t.Fatalf("%s %s: %v", name, file, err)
 			}
-			rec := tableRecord(t, tbl)
-			tbl.Release()
-			checkArrowTime(t, name+" "+file, rec.Schema())
-			if file == FileLongParquet {
-				compareLong(t, name+" "+file+" (pqarrow)", flatsOf(f, rec), expectLong(f))
-			} else {
-				checkWideRecord(t, name+" "+file, f, rec)
+			what := name + " " + file
+			tc, ok := parquettest.ByName(cols, "time")
+			ts, isTS := tc.Logical.(schema.TimestampLogicalType)
+			if !ok || !isTS || ts.TimeUnit() != schema.TimeUnitMillis || !ts.IsAdjustedToUTC() {
+				t.Errorf("%s: time is %v, want TIMESTAMP(MILLIS, UTC)", what, tc.Logical)
 			}
-			rec.Release()
+			v := values{cols: map[string][]any{}}
+			for _, c := range cols {
+				v.names = append(v.names, c.Name)
+				for _, x := range c.Values {
+					if tm, ok := x.(time.Time); ok {
+						x = tm.UnixMilli()
+					}
+					v.cols[c.Name] = append(v.cols[c.Name], x)
+				}
+			}
+			if file == FileLongParquet {
+				compareLong(t, what+" (arrow-go)", v.flats(f), expectLong(f))
+			} else {
+				v.checkWide(t, what, f)
+			}
 		}
 	}
-}
-
-// tableRecord concatenates a table into one record.
-func tableRecord(t *testing.T, tbl arrow.Table) arrow.RecordBatch {
-	t.Helper()
-	r := array.NewTableReader(tbl, -1)
-	defer r.Release()
-	var recs []arrow.RecordBatch
-	for r.Next() {
-		rec := r.RecordBatch()
-		rec.Retain()
-		recs = append(recs, rec)
-	}
-	return concatRecords(t, tbl.Schema(), recs)
 }
 
 func concatRecords(t *testing.T, schema *arrow.Schema, recs []arrow.RecordBatch) arrow.RecordBatch {
@@ -317,74 +312,97 @@ func checkArrowTime(t *testing.T, what string, schema *arrow.Schema) {
 	}
 }
 
-func column[T arrow.Array](t *testing.T, rec arrow.RecordBatch, name string) T {
+// values holds a file's columns as a reader gave them: strings, times as
+// int64 milliseconds since the epoch, float64 values and nil for a null.
+type values struct {
+	names []string
+	cols  map[string][]any
+}
+
+// recordValues returns the values of an Arrow record whose times are in
+// milliseconds.
+func recordValues(t *testing.T, rec arrow.RecordBatch) values {
 	t.Helper()
-	i := rec.Schema().FieldIndices(name)
-	if len(i) != 1 {
-		t.Fatalf("no column %s", name)
+	v := values{cols: map[string][]any{}}
+	for c, fl := range rec.Schema().Fields() {
+		v.names = append(v.names, fl.Name)
+		col := rec.Column(c)
+		for i := range col.Len() {
+			var x any
+			switch a := col.(type) {
+			case *array.String:
+				x = a.Value(i)
+			case *array.Timestamp:
+				x = int64(a.Value(i))
+			case *array.Float64:
+				x = a.Value(i)
+			default:
+				t.Fatalf("column %s is %T", fl.Name, col)
+			}
+			if col.IsNull(i) {
+				x = nil
+			}
+			v.cols[fl.Name] = append(v.cols[fl.Name], x)
+		}
 	}
-	col, ok := rec.Column(i[0]).(T)
-	if !ok {
-		t.Fatalf("column %s is %T", name, rec.Column(i[0]))
-	}
-	return col
+	return v
 }
 
-func nullableAt(a *array.Float64, i int) float64 {
-	if a.IsNull(i) {
-		return math.NaN()
-	}
-	return a.Value(i)
+func (v values) str(name string, i int) string {
+	s, _ := v.cols[name][i].(string)
+	return s
 }
 
-// flatsOf lists a long record's values.
-func flatsOf(f *Fleet, rec arrow.RecordBatch) []flat {
-	var names []string
-	for _, fl := range rec.Schema().Fields() {
-		names = append(names, fl.Name)
+func (v values) millis(name string, i int) int64 {
+	ms, _ := v.cols[name][i].(int64)
+	return ms
+}
+
+// num returns a number, NaN for a null.
+func (v values) num(name string, i int) float64 {
+	if f, ok := v.cols[name][i].(float64); ok {
+		return f
 	}
-	if !slices.Equal(names, columnNames(f, true)) {
+	return math.NaN()
+}
+
+// flats lists the values of a long file.
+func (v values) flats(f *Fleet) []flat {
+	if !slices.Equal(v.names, columnNames(f, true)) {
 		return nil
 	}
-	site, tm := rec.Column(0).(*array.String), rec.Column(1).(*array.Timestamp)
-	ch, val := rec.Column(2).(*array.String), rec.Column(3).(*array.Float64)
-	out := make([]flat, rec.NumRows())
+	out := make([]flat, len(v.cols["site"]))
 	for i := range out {
-		out[i] = flat{site.Value(i), int64(tm.Value(i)), ch.Value(i), val.Value(i), math.NaN(), math.NaN()}
+		out[i] = flat{v.str("site", i), v.millis("time", i), v.str("channel", i), v.num("value", i), math.NaN(), math.NaN()}
 		if f.Mobile {
-			out[i].lat = nullableAt(rec.Column(4).(*array.Float64), i)
-			out[i].lon = nullableAt(rec.Column(5).(*array.Float64), i)
+			out[i].lat, out[i].lon = v.num("lat", i), v.num("lon", i)
 		}
 	}
 	return out
 }
 
-func checkWideRecord(t *testing.T, what string, f *Fleet, rec arrow.RecordBatch) {
+// checkWide checks the values of a wide file against the fleet.
+func (v values) checkWide(t *testing.T, what string, f *Fleet) {
 	t.Helper()
-	var names []string
-	for _, fl := range rec.Schema().Fields() {
-		names = append(names, fl.Name)
+	if want := columnNames(f, false); !slices.Equal(v.names, want) {
+		t.Fatalf("%s: columns %v, want %v", what, v.names, want)
 	}
-	if want := columnNames(f, false); !slices.Equal(names, want) {
-		t.Fatalf("%s: columns %v, want %v", what, names, want)
-	}
-	site, tm := column[*array.String](t, rec, "site"), column[*array.Timestamp](t, rec, "time")
 	i := 0
 	for _, s := range f.Sites {
 		for k, ns := range s.Readings.Times {
-			if site.Value(i) != s.ID || int64(tm.Value(i)) != ns/1e6 {
-				t.Fatalf("%s: row %d is %s at %v", what, i, site.Value(i), tm.Value(i))
+			if i >= len(v.cols["site"]) || v.str("site", i) != s.ID || v.millis("time", i) != ns/1e6 {
+				t.Fatalf("%s: row %d is not %s at %d ms", what, i, s.ID, ns/1e6)
 			}
 			for ch, c := range f.Channels {
-				if got := nullableAt(column[*array.Float64](t, rec, c.Name), i); !sameFloat(got, s.Readings.Values[ch][k]) {
+				if got := v.num(c.Name, i); !sameFloat(got, s.Readings.Values[ch][k]) {
 					t.Fatalf("%s: row %d %s is %v, want %v", what, i, c.Name, got, s.Readings.Values[ch][k])
 				}
 			}
 			i++
 		}
 	}
-	if int64(i) != rec.NumRows() {
-		t.Errorf("%s: %d rows, want %d", what, rec.NumRows(), i)
+	if n := len(v.cols["site"]); n != i {
+		t.Errorf("%s: %d rows, want %d", what, n, i)
 	}
 }
 
@@ -414,7 +432,7 @@ func TestArrowFile(t *testing.T) {
 		}
 		checkArrowTime(t, name, r.Schema())
 		rec := concatRecords(t, r.Schema(), recs)
-		compareLong(t, name+" arrow", flatsOf(w.fleet, rec), want)
+		compareLong(t, name+" arrow", recordValues(t, rec).flats(w.fleet), want)
 		rec.Release()
 		r.Close()
 		fh.Close()

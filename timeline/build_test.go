@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
@@ -24,7 +25,7 @@ func testModel() *model.Model {
 		q[i] = float64(i) / 1000
 	}
 	return &model.Model{
-		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 3, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0, 0, 10, 0, 0, 10}},
+		Map: mapper.Map{Lattice: lattice.Lattice{Cols: 3, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0, 0, 10, 0, 0, 10}},
 		Regimes: []mapper.Regime{
 			{ID: 1, Units: []int{0}, Centroid: []float64{0, 0}},
 			{ID: 2, Units: []int{1}, Centroid: []float64{10, 0}},

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
@@ -17,7 +18,7 @@ func ExampleBuild() {
 	// windows' quantization errors run from 0 to 0.5 (median 0.25), so the
 	// automatic switch cost is 0.5.
 	m := &model.Model{
-		Map: mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
+		Map: mapper.Map{Lattice: lattice.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 1, Codebook: []float64{-1, 1}},
 		Regimes: []mapper.Regime{
 			{ID: 1, Units: []int{0}, Centroid: []float64{-1}},
 			{ID: 2, Units: []int{1}, Centroid: []float64{1}},

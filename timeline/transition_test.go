@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
@@ -15,7 +16,7 @@ import (
 // (switch cost 1, unfamiliar above 0.99).
 func spreadModel() *model.Model {
 	m := testModel()
-	m.Map = mapper.Map{Lattice: mapper.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0, 4, 10, 0}}
+	m.Map = mapper.Map{Lattice: lattice.Lattice{Cols: 2, Rows: 1, Flat: true}, Dim: 2, Codebook: []float64{0, 4, 10, 0}}
 	m.Regimes = []mapper.Regime{{ID: 1, Units: []int{0}, Centroid: []float64{0, 4}}, {ID: 2, Units: []int{1}, Centroid: []float64{10, 0}}}
 	m.UnitRegime = []int{1, 2}
 	m.Scaler = &features.Scaler{Method: "zscore", Names: []string{"x.mean", "x.std"}, Center: []float64{0, 0}, Scale: []float64{1, 1}, Weight: []float64{1, 1}}

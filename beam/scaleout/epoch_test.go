@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 )
 
@@ -43,7 +44,7 @@ func TestEpochCombine(t *testing.T) {
 	}
 	names := []string{"a", "b", "c"}
 	identity := &features.Scaler{Method: "zscore", Names: names, Center: make([]float64, dim), Scale: []float64{1, 1, 1}, Weight: []float64{1, 1, 1}}
-	m := &mapper.Map{Lattice: mapper.Lattice{Cols: 4, Rows: 3}, Dim: dim, Codebook: make([]float64, 12*dim)}
+	m := &mapper.Map{Lattice: lattice.Lattice{Cols: 4, Rows: 3}, Dim: dim, Codebook: make([]float64, 12*dim)}
 	for i := range m.Codebook {
 		m.Codebook[i] = rng.NormFloat64()
 	}

@@ -13,6 +13,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/internal/cli"
+	"github.com/kinmap/kinmap/internal/dumptest"
 	"github.com/kinmap/kinmap/scenarios"
 )
 
@@ -22,33 +23,9 @@ import (
 // below the default coverage of 0.6).
 func writeWeek(t *testing.T, path string, fleet *scenarios.Fleet, from, to time.Time, skip, drop, sparse []string) {
 	t.Helper()
-	f, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	w := csv.NewWriter(f)
-	w.Write([]string{"site", "time", "channel", "value"})
-	for _, s := range fleet.Sites {
-		if slices.Contains(skip, s.ID) {
-			continue
-		}
-		for i, ns := range s.Readings.Times {
-			at := time.Unix(0, ns).UTC()
-			if at.Before(from) || !at.Before(to) || slices.Contains(sparse, s.ID) && at.Hour() >= 6 {
-				continue
-			}
-			for c, ch := range fleet.Channels {
-				if v := s.Readings.Values[c][i]; !math.IsNaN(v) && !slices.Contains(drop, ch.Name) {
-					w.Write([]string{s.ID, at.Format(time.RFC3339), ch.Name, strconv.FormatFloat(v, 'g', -1, 64)})
-				}
-			}
-		}
-	}
-	w.Flush()
-	if err := w.Error(); err != nil {
-		t.Fatal(err)
-	}
+	dumptest.WriteCSV(t, path, fleet, dumptest.CSV{From: from, To: to, Keep: func(site, channel string, at time.Time) bool {
+		return !slices.Contains(skip, site) && !slices.Contains(drop, channel) && (!slices.Contains(sparse, site) || at.Hour() < 6)
+	}})
 }
 
 // A later dump that lost a channel everywhere, two sites altogether, and

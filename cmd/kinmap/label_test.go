@@ -9,7 +9,6 @@ import (
 	"testing"
 
 	"github.com/kinmap/kinmap/internal/cli"
-	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -96,7 +95,7 @@ func TestLabelCommand(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if g := m.Regimes; g[0].Name != "baseline" || g[1].Status != mapper.StatusWatch || m.Units["flow"] != "m3/h" {
+	if g := m.Regimes; g[0].Name != "baseline" || g[1].Status != model.StatusWatch || m.Units["flow"] != "m3/h" {
 		t.Errorf("model regimes %+v, units %v", g, m.Units)
 	}
 

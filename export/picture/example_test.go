@@ -6,6 +6,7 @@ import (
 
 	"github.com/kinmap/kinmap/export/picture"
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 )
@@ -29,7 +30,7 @@ func ExampleRegimeColour() {
 func ExampleAll() {
 	// A 6 × 4 hexagonal torus with two regimes, its left half and its
 	// right half, and one feature rising from left to right.
-	l := mapper.Lattice{Cols: 6, Rows: 4, Hex: true}
+	l := lattice.Lattice{Cols: 6, Rows: 4, Hex: true}
 	m := &model.Model{
 		FeatureNames: []string{"flow.mean"},
 		Map:          mapper.Map{Lattice: l, Dim: 1, Codebook: make([]float64, l.Units())},

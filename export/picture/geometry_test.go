@@ -6,7 +6,7 @@ import (
 	"math"
 	"testing"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/model"
 	"github.com/paulmach/orb"
 	"github.com/paulmach/orb/geo"
@@ -55,7 +55,7 @@ func nearAny(p pt, ps []pt, r float64) bool {
 
 // step returns the planar step from unit u to its neighbour v, the short
 // way round a torus, and whether it crosses the seam.
-func step(l mapper.Lattice, u, v int) (d pt, wrapped bool) {
+func step(l lattice.Lattice, u, v int) (d pt, wrapped bool) {
 	ux, uy := l.Position(u)
 	vx, vy := l.Position(v)
 	d = pt{vx - ux, vy - uy}
@@ -80,14 +80,14 @@ func tileColour(m *model.Model, v int, wrapped bool) color.RGBA {
 // regimeMapOf draws the regime map of a demonstration run of five regimes
 // on l, and returns the model, the image, its sheet and the centres of the
 // regime numbers, which cover their tiles.
-func regimeMapOf(t *testing.T, l mapper.Lattice) (*model.Model, *image.RGBA, sheet, []pt) {
+func regimeMapOf(t *testing.T, l lattice.Lattice) (*model.Model, *image.RGBA, sheet, []pt) {
 	in := demoInput(l, 5, 20)
 	sh := pageSheet(l)
 	return in.Model, drawn(t, in, regimeMap), sh, badges(sh, in.Model)
 }
 
 // Lattices of up to seven regimes, whose colours carry no hatch.
-var geometryLattices = []mapper.Lattice{
+var geometryLattices = []lattice.Lattice{
 	{Cols: 20, Rows: 16, Hex: true},
 	{Cols: 9, Rows: 7, Hex: true, Flat: true},
 	{Cols: 10, Rows: 8},
@@ -111,7 +111,7 @@ func TestRegimeMapTileCentres(t *testing.T) {
 
 func TestRegimeMapNeighboursAdjacent(t *testing.T) {
 	// Three quarters of the way from a unit's centre toward each lattice
-	// neighbour (mapper.Lattice.Neighbours, placed by Lattice.Position, the
+	// neighbour (lattice.Lattice.Neighbours, placed by Lattice.Position, the
 	// short way round a torus) lies inside the neighbour's tile, which must
 	// show the neighbour's regime: a wrapped copy, faded, where the step
 	// crosses the seam.
@@ -141,7 +141,7 @@ func TestTorusMarginRepeatsOppositeEdge(t *testing.T) {
 	// Beyond each edge of a torus lies a faded copy of the opposite edge:
 	// column 0 again right of the last column, the last row again above
 	// row 0, and so on, in the regime map and in the U-matrix alike.
-	for _, l := range []mapper.Lattice{{Cols: 20, Rows: 16, Hex: true}, {Cols: 10, Rows: 8}} {
+	for _, l := range []lattice.Lattice{{Cols: 20, Rows: 16, Hex: true}, {Cols: 10, Rows: 8}} {
 		in := demoInput(l, 5, 20)
 		sh := pageSheet(l)
 		um := in.Model.Map.UMatrix()
@@ -187,7 +187,7 @@ func TestTorusMarginRepeatsOppositeEdge(t *testing.T) {
 }
 
 func TestPlaneHasNoCopies(t *testing.T) {
-	l := mapper.Lattice{Cols: 9, Rows: 7, Hex: true, Flat: true}
+	l := lattice.Lattice{Cols: 9, Rows: 7, Hex: true, Flat: true}
 	_, img, sh, _ := regimeMapOf(t, l)
 	for r := range l.Rows {
 		for _, c := range []int{0, l.Cols - 1} {
@@ -206,7 +206,7 @@ func TestPlaneHasNoCopies(t *testing.T) {
 func TestSquaresOnSquareCells(t *testing.T) {
 	// Near the corner of a square tile the tile's own colour shows; on a
 	// hexagonal lattice that point would lie in a neighbour.
-	l := mapper.Lattice{Cols: 10, Rows: 8}
+	l := lattice.Lattice{Cols: 10, Rows: 8}
 	m, img, sh, skip := regimeMapOf(t, l)
 	for u := range l.Units() {
 		c := sh.px(l.Position(u))
@@ -224,7 +224,7 @@ func TestHexagonsOnHexLattice(t *testing.T) {
 	// A point 0.45 tile widths across and up from a hexagon's centre lies
 	// beyond its slanted side, in the neighbour half a unit across and a
 	// row up (Lattice.Position's offsets); inside a square it would not.
-	l := mapper.Lattice{Cols: 20, Rows: 16, Hex: true}
+	l := lattice.Lattice{Cols: 20, Rows: 16, Hex: true}
 	m, img, sh, skip := regimeMapOf(t, l)
 	for u := range l.Units() {
 		for _, v := range l.Neighbours(u) {
@@ -290,7 +290,7 @@ func TestSiteMapScale(t *testing.T) {
 		{ID: "ne", Lon: 12.5, Lat: 48.9, Located: true, Regime: 3},
 		{ID: "lost", Located: false, Regime: 4},
 	}
-	in := demoInput(mapper.Lattice{Cols: 6, Rows: 6, Hex: true}, 3, 0)
+	in := demoInput(lattice.Lattice{Cols: 6, Rows: 6, Hex: true}, 3, 0)
 	in.Sites = sites
 	img := drawn(t, in, siteMap)
 	var located []SitePoint

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
@@ -20,7 +21,7 @@ var demoFeatures = []string{"flow.mean", "flow.p95", "pressure.mean", "pressure.
 // smooth field over the lattice, regimes grown around k seed units, windows
 // landing unevenly on the units, and a fleet of sites spread along a river
 // basin around latitude 48°N, a few of which switch regime.
-func demoInput(l mapper.Lattice, k, sites int) Input {
+func demoInput(l lattice.Lattice, k, sites int) Input {
 	rng := rand.New(rand.NewPCG(7, 11))
 	n, dim := l.Units(), len(demoFeatures)
 	seeds := make([]int, k)

@@ -8,7 +8,7 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // regimeMap draws each unit in its regime's colour, the borders between
@@ -152,7 +152,7 @@ func labelUnit(sh sheet, group []int, id int) (int, bool) {
 // centre returns the mean planar position of units: on a torus the
 // circular mean along each period, so that a group across the seam has its
 // centre inside it.
-func centre(l mapper.Lattice, units []int) (x, y float64) {
+func centre(l lattice.Lattice, units []int) (x, y float64) {
 	px, py := l.Period()
 	var mx, my float64         // plain sums
 	var cx, sx, cy, sy float64 // sums of cosines and sines of the phases
@@ -172,7 +172,7 @@ func centre(l mapper.Lattice, units []int) (x, y float64) {
 
 // planarDist returns the length of a planar step, the short way round on a
 // torus.
-func planarDist(l mapper.Lattice, dx, dy float64) float64 {
+func planarDist(l lattice.Lattice, dx, dy float64) float64 {
 	if !l.Flat {
 		px, py := l.Period()
 		dx -= px * math.Round(dx/px)

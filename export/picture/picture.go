@@ -18,7 +18,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
 )
@@ -160,7 +160,7 @@ func heading(c *canvas, title, subtitle string) {
 // sheet with its axis numbers on the left and a legend column of legendW ×
 // legendH on the right, and under the sheet a note on how it wraps. It
 // returns the canvas, the sheet and the top left corner of the legend.
-func latticePage(ft *fonts, l mapper.Lattice, title, subtitle string, legendW, legendH float64) (*canvas, sheet, pt) {
+func latticePage(ft *fonts, l lattice.Lattice, title, subtitle string, legendW, legendH float64) (*canvas, sheet, pt) {
 	sh := pageSheet(l)
 	lx := float64(sh.clip.Max.X + legendGap)
 	w := int(lx+legendW) + padSide
@@ -174,17 +174,17 @@ func latticePage(ft *fonts, l mapper.Lattice, title, subtitle string, legendW, l
 
 // pageSheet places a lattice on a lattice picture, with 1.6 units of
 // wrapped copies around a torus.
-func pageSheet(l mapper.Lattice) sheet {
+func pageSheet(l lattice.Lattice) sheet {
 	return newSheet(l, latticeLeft, latticeTop, 900, 760, 1.6, 64)
 }
 
 // shapeName describes a lattice in words.
-func shapeName(l mapper.Lattice) string {
+func shapeName(l lattice.Lattice) string {
 	return fmt.Sprintf("%d × %d %s cells on a %s", l.Cols, l.Rows, l.Cells(), l.Surface())
 }
 
 // wrapNote says how to read the edges of the drawn lattice.
-func wrapNote(l mapper.Lattice) string {
+func wrapNote(l lattice.Lattice) string {
 	if l.Flat {
 		return "Plane: the map ends at its edges."
 	}

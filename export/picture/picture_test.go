@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/mapper"
 	"github.com/kinmap/kinmap/model"
 	"github.com/kinmap/kinmap/timeline"
@@ -62,13 +63,13 @@ func TestAllPictures(t *testing.T) {
 	}
 	for _, tc := range []struct {
 		name string
-		l    mapper.Lattice
+		l    lattice.Lattice
 		k    int
 	}{
-		{"hex-torus", mapper.Lattice{Cols: 20, Rows: 16, Hex: true}, 5},
-		{"square-plane", mapper.Lattice{Cols: 12, Rows: 9, Flat: true}, 9},
-		{"hex-plane", mapper.Lattice{Cols: 30, Rows: 24, Hex: true, Flat: true}, 12},
-		{"square-torus", mapper.Lattice{Cols: 8, Rows: 6}, 3},
+		{"hex-torus", lattice.Lattice{Cols: 20, Rows: 16, Hex: true}, 5},
+		{"square-plane", lattice.Lattice{Cols: 12, Rows: 9, Flat: true}, 9},
+		{"hex-plane", lattice.Lattice{Cols: 30, Rows: 24, Hex: true, Flat: true}, 12},
+		{"square-torus", lattice.Lattice{Cols: 8, Rows: 6}, 3},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			ps, err := All(demoInput(tc.l, tc.k, 300))
@@ -109,7 +110,7 @@ func TestAllPictures(t *testing.T) {
 }
 
 func TestAllLeavesOutEmptyPictures(t *testing.T) {
-	in := demoInput(mapper.Lattice{Cols: 6, Rows: 4, Hex: true}, 2, 10)
+	in := demoInput(lattice.Lattice{Cols: 6, Rows: 4, Hex: true}, 2, 10)
 	in.Switches = nil
 	in.Conditions = nil
 	for i := range in.Sites {
@@ -130,7 +131,7 @@ func TestAllLeavesOutEmptyPictures(t *testing.T) {
 
 func TestAllSmallAndOddInputs(t *testing.T) {
 	// Degenerate but valid runs draw without failing.
-	for _, l := range []mapper.Lattice{{Cols: 1, Rows: 1, Flat: true}, {Cols: 5, Rows: 1, Hex: true, Flat: true}, {Cols: 3, Rows: 4, Hex: true}} {
+	for _, l := range []lattice.Lattice{{Cols: 1, Rows: 1, Flat: true}, {Cols: 5, Rows: 1, Hex: true, Flat: true}, {Cols: 3, Rows: 4, Hex: true}} {
 		in := demoInput(l, 1, 3)
 		in.Windows = nil
 		in.Model.Scaler = nil
@@ -142,7 +143,7 @@ func TestAllSmallAndOddInputs(t *testing.T) {
 }
 
 func TestAllRejectsBadInput(t *testing.T) {
-	good := func() Input { return demoInput(mapper.Lattice{Cols: 4, Rows: 4, Hex: true}, 2, 3) }
+	good := func() Input { return demoInput(lattice.Lattice{Cols: 4, Rows: 4, Hex: true}, 2, 3) }
 	for _, tc := range []struct {
 		name  string
 		spoil func(*Input)
@@ -229,7 +230,7 @@ func TestComponentPlanesLimit(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	l := mapper.Lattice{Cols: 8, Rows: 6, Hex: true}
+	l := lattice.Lattice{Cols: 8, Rows: 6, Hex: true}
 	const dim = 5000
 	rng := rand.New(rand.NewPCG(3, 5))
 	names := make([]string, dim)

@@ -7,7 +7,7 @@ import (
 	"slices"
 	"strconv"
 
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // copyFade is how far the wrapped copies around a torus are faded toward
@@ -18,7 +18,7 @@ const copyFade = 0.55
 // wrapped copies of the opposite edges around the map, faded, and the seam
 // between map and copies dashed; a plane is drawn alone with its edge.
 type sheet struct {
-	lat    mapper.Lattice
+	lat    lattice.Lattice
 	s      float64         // pixels per lattice unit (distance of neighbours)
 	origin pt              // pixel position of the planar origin
 	clip   image.Rectangle // the panel: the map and its margin
@@ -35,7 +35,7 @@ type tile struct {
 // newSheet fits a lattice, with margin lattice units of wrapped copies on
 // each side of a torus, into a box of at most maxW × maxH pixels whose top
 // left corner is at x, y. The scale is at most maxS pixels per unit.
-func newSheet(l mapper.Lattice, x, y int, maxW, maxH, margin, maxS float64) sheet {
+func newSheet(l lattice.Lattice, x, y int, maxW, maxH, margin, maxS float64) sheet {
 	sh := sheet{lat: l, pitch: 1}
 	if l.Hex {
 		sh.pitch = math.Sqrt(3) / 2

@@ -63,7 +63,7 @@ func timelines(ft *fonts, in Input) (*canvas, Picture) {
 		return nil, Picture{}
 	}
 	shown, omitted := switchedSites(in.Switches)
-	entries := make(map[string][]features.Window)
+	entries := make(map[string][]*features.Window) // pointers: a window is 216 bytes to copy
 	for _, s := range shown {
 		entries[s.id] = nil
 	}
@@ -77,7 +77,8 @@ func timelines(ft *fonts, in Input) (*canvas, Picture) {
 		}
 	}
 	regimes := make(map[int]bool)
-	for _, e := range in.Windows {
+	for i := range in.Windows {
+		e := &in.Windows[i]
 		if _, ok := entries[e.Site]; ok {
 			entries[e.Site] = append(entries[e.Site], e)
 			widen(e.Start, e.End)
@@ -141,11 +142,10 @@ type run struct {
 	regime     int
 }
 
-// runs joins a site's windows into runs of one regime; windows that
-// overlap or touch join.
-func runs(es []features.Window) []run {
-	es = slices.Clone(es)
-	slices.SortFunc(es, func(a, b features.Window) int { return a.Start.Compare(b.Start) })
+// runs joins a site's windows, which it sorts by start, into runs of one
+// regime; windows that overlap or touch join.
+func runs(es []*features.Window) []run {
+	slices.SortFunc(es, func(a, b *features.Window) int { return a.Start.Compare(b.Start) })
 	var out []run
 	for _, e := range es {
 		if n := len(out); n > 0 && out[n-1].regime == e.Regime && !e.Start.After(out[n-1].end) {

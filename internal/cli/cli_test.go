@@ -13,7 +13,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 )
 
 func TestSpreadMulti(t *testing.T) {
@@ -40,7 +40,7 @@ func TestStatus(t *testing.T) {
 			"kinmap run: --window 10ms is shorter than the sampling step found in the data (5s): give at least 5s\n"},
 		{&kinmap.UsageError{Err: &features.StepError{Field: "Stride", Value: time.Millisecond, Step: time.Minute}}, ExitUsage, "--stride 1ms is shorter"},
 		{&kinmap.UsageError{Err: &features.WindowLimitError{Windows: 6e8, Stride: time.Millisecond}}, ExitUsage, "about 600000000 windows, beyond the limit of 5000000: give a longer --stride"},
-		{&kinmap.UsageError{Err: &mapper.LimitError{What: "lattice 1000x1000", Value: 1e6, Limit: 4096, Unit: "units"}}, ExitUsage, "--grid: 1000x1000: 1000000 units, beyond the limit of 4096"},
+		{&kinmap.UsageError{Err: &lattice.LimitError{What: "1000x1000", Value: 1e6, Limit: 4096, Unit: "units"}}, ExitUsage, "--grid: 1000x1000: 1000000 units, beyond the limit of 4096"},
 		{fmt.Errorf("decoding: %w", &kinmap.NoWindowError{Reasons: "3 for low coverage"}), ExitData, "(3 for low coverage); try a lower --min-coverage or a longer --window\n"},
 		{&kinmap.NoWindowError{Reasons: "5 for coverage", Unit: &ingest.UnitError{Sample: 1780000000, Given: "ms", Likely: "s"}}, ExitData,
 			"(5 for coverage): integer times such as 1780000000 look like epochs in seconds, not milliseconds; read them with --time-unit s\n"},

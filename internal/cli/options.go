@@ -15,7 +15,7 @@ import (
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/internal/atomicfile"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // Exit statuses of the commands.
@@ -95,9 +95,9 @@ func (f *Flags) Map(o *kinmap.Options, training bool) {
 		f.Value(gridValue{&o.Map.Cols, &o.Map.Rows}, "grid", "lattice `SIZE`, COLSxROWS such as 30x20 (default: about 5·√N units for N windows)")
 		l := o.Map.Lattice()
 		cells, surface := l.Cells(), l.Surface()
-		f.Value(choiceValue{&cells, []string{mapper.CellsHex, mapper.CellsSquare}}, "cells", "cell `SHAPE`: hex (6 neighbours) or square (4)")
-		f.Value(choiceValue{&surface, []string{mapper.SurfaceTorus, mapper.SurfacePlane}}, "surface", "map `SURFACE`: torus (wraps both ways) or plane (ends at its edges)")
-		f.After(func() { o.Map.Hex, o.Map.Flat = cells == mapper.CellsHex, surface == mapper.SurfacePlane })
+		f.Value(choiceValue{&cells, []string{lattice.CellsHex, lattice.CellsSquare}}, "cells", "cell `SHAPE`: hex (6 neighbours) or square (4)")
+		f.Value(choiceValue{&surface, []string{lattice.SurfaceTorus, lattice.SurfacePlane}}, "surface", "map `SURFACE`: torus (wraps both ways) or plane (ends at its edges)")
+		f.After(func() { o.Map.Hex, o.Map.Flat = cells == lattice.CellsHex, surface == lattice.SurfacePlane })
 		f.Renamed("lattice", "cells (hex or square)")
 		f.Renamed("sheet", "surface plane")
 		f.Value(choiceValue{&o.Map.Rule, []string{"batch", "online"}}, "rule", "training `RULE`: batch or online")

@@ -8,7 +8,7 @@ import (
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/features"
-	"github.com/kinmap/kinmap/mapper"
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // flagNames are the options of the commands that set the Config fields the
@@ -39,7 +39,7 @@ func Words(err error) string {
 	var (
 		step  *features.StepError
 		limit *features.WindowLimitError
-		grid  *mapper.LimitError
+		grid  *lattice.LimitError
 		none  *kinmap.NoWindowError
 		list  *attention.ConfigError
 	)
@@ -52,7 +52,7 @@ func Words(err error) string {
 			limit.Stride, limit.Windows, features.MaxWindows)
 	case errors.As(err, &grid):
 		return fmt.Sprintf("--grid: %s: %.0f %s, beyond the limit of %.0f: give a smaller grid, or none to let the data choose",
-			strings.TrimPrefix(grid.What, "lattice "), grid.Value, grid.Unit, grid.Limit)
+			grid.What, grid.Value, grid.Unit, grid.Limit)
 	case errors.As(err, &none) && none.Unit != nil:
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s): %v", none.Reasons, none.Unit)
 	case errors.As(err, &list) && flagNames[list.Field] != "":

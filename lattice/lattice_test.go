@@ -1,9 +1,10 @@
-package mapper
+package lattice
 
 import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -37,7 +38,7 @@ func TestNeighbourCounts(t *testing.T) {
 					t.Errorf("unit %d has %d neighbours, want %d", u, len(nb), tc.each)
 				}
 				for _, v := range nb {
-					if !tc.l.adjacent(v, u) {
+					if !adjacent(tc.l, v, u) {
 						t.Errorf("unit %d lists %d, which does not list it back", u, v)
 					}
 				}
@@ -67,8 +68,8 @@ func TestNeighboursAtUnitDistance(t *testing.T) {
 			for b := range l.Units() {
 				d := l.Dist(a, b)
 				near := math.Abs(d-1) < 1e-12
-				if near != l.adjacent(a, b) {
-					t.Errorf("%+v: units %d and %d at distance %g, adjacent %v", l, a, b, d, l.adjacent(a, b))
+				if near != adjacent(l, a, b) {
+					t.Errorf("%+v: units %d and %d at distance %g, adjacent %v", l, a, b, d, adjacent(l, a, b))
 				}
 				if math.Abs(d-l.Dist(b, a)) > 0 {
 					t.Errorf("%+v: distance %d–%d not symmetric", l, a, b)
@@ -87,8 +88,29 @@ func TestDistMatchesCubeCoordinates(t *testing.T) {
 	} {
 		for a := range l.Units() {
 			for b := range l.Units() {
-				if got, want := l.dist2(a, b), refDist2(l, a, b); math.Abs(got-want) > 1e-12*(1+want) {
+				if got, want := l.Dist2(a, b), refDist2(l, a, b); math.Abs(got-want) > 1e-12*(1+want) {
 					t.Errorf("%+v: units %d and %d at squared distance %g, cube coordinates give %g", l, a, b, got, want)
+				}
+			}
+		}
+	}
+}
+
+// Pairwise tabulates by offset what Dist2 gives for each pair.
+func TestPairwiseMatchesDist2(t *testing.T) {
+	for _, l := range []Lattice{
+		{Cols: 6, Rows: 4, Hex: true}, {Cols: 5, Rows: 3, Hex: true, Flat: true},
+		{Cols: 7, Rows: 5}, {Cols: 6, Rows: 4, Flat: true}, {Cols: 1, Rows: 1},
+	} {
+		got := l.Pairwise(func(d2 float64) float64 { return d2 })
+		n := l.Units()
+		if len(got) != n*n {
+			t.Fatalf("%+v: %d entries, want %d", l, len(got), n*n)
+		}
+		for a := range n {
+			for b := range n {
+				if want := l.Dist2(a, b); got[a*n+b] != want {
+					t.Errorf("%+v: pair %d–%d tabulated %g, Dist2 gives %g", l, a, b, got[a*n+b], want)
 				}
 			}
 		}
@@ -113,8 +135,8 @@ func TestWrapDistances(t *testing.T) {
 		// Row 7 is odd, shifted right by half a unit: across the seam
 		// (0, 0) and (9, 7) are half a unit apart sideways and one row
 		// apart, so neighbours.
-		{hex, 0, 0, 9, 7, 1, math.Hypot(9.5, 7*rowPitch)},
-		{hex, 0, 0, 0, 4, 4 * rowPitch, 4 * rowPitch},
+		{hex, 0, 0, 9, 7, 1, math.Hypot(9.5, 7*RowPitch)},
+		{hex, 0, 0, 0, 4, 4 * RowPitch, 4 * RowPitch},
 	} {
 		a, b := tc.l.Unit(tc.c1, tc.r1), tc.l.Unit(tc.c2, tc.r2)
 		if got := tc.l.Dist(a, b); math.Abs(got-tc.want) > 1e-12 {
@@ -147,7 +169,7 @@ func TestLatticeValidate(t *testing.T) {
 		{Lattice{Cols: 20, Rows: 1, Flat: true}, ""},
 		{Lattice{Cols: 0, Rows: 3}, "at least 1"},
 	} {
-		_, err := newLattice(tc.l.Cols, tc.l.Rows, tc.l.Hex, tc.l.Flat)
+		err := tc.l.Validate()
 		switch {
 		case tc.want == "" && err != nil:
 			t.Errorf("%+v: %v", tc.l, err)
@@ -158,12 +180,9 @@ func TestLatticeValidate(t *testing.T) {
 }
 
 func ExampleLattice_Neighbours() {
-	l, err := newLattice(4, 4, false, false)
-	if err != nil {
-		panic(err)
-	}
+	l := Lattice{Cols: 4, Rows: 4}
 	fmt.Println(l.Neighbours(0)) // right, left across the seam, below, above across the seam
-	h, _ := newLattice(4, 4, true, false)
+	h := Lattice{Cols: 4, Rows: 4, Hex: true}
 	fmt.Println(h.Neighbours(5)) // an odd row, shifted right
 	// Output:
 	// [1 3 4 12]
@@ -183,19 +202,59 @@ func TestLatticeLimit(t *testing.T) {
 		{MaxUnits + 1, 1, false},
 		{1 << 31, 1 << 31, false}, // the product overflows int32
 	} {
-		_, err := newLattice(tc.cols, tc.rows, false, true)
+		err := Lattice{Cols: tc.cols, Rows: tc.rows, Flat: true}.Validate()
 		var le *LimitError
 		if got := errors.As(err, &le); got == tc.ok {
 			t.Errorf("%dx%d: err = %v, want a LimitError: %v", tc.cols, tc.rows, err, !tc.ok)
 		}
 	}
-	// The default grid stays within the limit for any data size.
-	for _, n := range []int{1, 1000, 1e6, 1e9} {
-		for _, ratio := range []float64{1, 50, 1e6} {
-			c, r := defaultGrid(n, ratio, 1, true)
-			if c*r > MaxUnits {
-				t.Errorf("defaultGrid(%d, ratio %g) = %dx%d, beyond %d units", n, ratio, c, r, MaxUnits)
-			}
+}
+
+// adjacent reports whether b is among the neighbours of a.
+func adjacent(l Lattice, a, b int) bool { return slices.Contains(l.Neighbours(a), b) }
+
+// refDist2 is the squared planar distance between units a and b, computed
+// apart from the package's geometry, with neighbours one unit apart. Unit u
+// sits at column u % Cols and row u / Cols; on a hexagonal lattice odd rows
+// are shifted right by half a unit ("odd-r" offset coordinates). Those
+// become axial coordinates q = col − (row − row mod 2)/2, r = row, and cube
+// coordinates (q, −q−r, r) (A. Patel, "Hexagonal Grids", Red Blob Games,
+// 2013; from memory). With the neighbour steps e₁ = (1, 0) and
+// e₂ = (1/2, √3/2), the offset q·e₁ + r·e₂ has squared length
+// q² + qr + r², half the sum of the squared cube coordinates. A torus is
+// the quotient by its periods, Cols columns and Rows rows (in axial
+// coordinates (Cols, 0) and (−Rows/2, Rows), Rows being even); the distance
+// on it is the shortest over the images.
+func refDist2(l Lattice, a, b int) float64 {
+	axial := func(u int) (q, r int) {
+		c, r := u%l.Cols, u/l.Cols
+		if l.Hex {
+			return c - (r-r%2)/2, r
+		}
+		return c, r
+	}
+	norm2 := func(q, r int) float64 {
+		if l.Hex {
+			x, y, z := q, -q-r, r
+			return float64(x*x+y*y+z*z) / 2
+		}
+		return float64(q*q + r*r)
+	}
+	qa, ra := axial(a)
+	qb, rb := axial(b)
+	dq, dr := qb-qa, rb-ra
+	best := norm2(dq, dr)
+	if l.Flat {
+		return best
+	}
+	shear := 0 // axial q change of moving Rows rows down
+	if l.Hex {
+		shear = -l.Rows / 2
+	}
+	for k := -2; k <= 2; k++ {
+		for m := -2; m <= 2; m++ {
+			best = math.Min(best, norm2(dq+k*l.Cols+m*shear, dr+m*l.Rows))
 		}
 	}
+	return best
 }

@@ -1,13 +1,15 @@
-package mapper
+package model
 
 import (
 	"fmt"
 	"slices"
 	"unicode"
 	"unicode/utf8"
+
+	"github.com/kinmap/kinmap/mapper"
 )
 
-// The statuses a user gives a regime (Regime.Status); "" means none given.
+// The statuses a user gives a regime (mapper.Regime.Status); "" means none given.
 const (
 	StatusNormal = "normal" // the plant as it should run
 	StatusWatch  = "watch"  // worth a look, not yet a fault
@@ -44,16 +46,16 @@ func CheckLabel(name, status string) error {
 	return nil
 }
 
-// CarryLabels gives every regime of next the name and status of the regime
-// of prev with the same ID. Called after MatchRegimes and Renumber, it
+// carryLabels gives every regime of next the name and status of the regime
+// of prev with the same ID. Called after matchRegimes and Renumber, it
 // makes a label follow its regime: a regime matched to a previous one
 // carries that one's number, hence its label, whether it was renumbered,
 // is the matched part of a split or is what a merge left; a new regime
 // (the other parts of a split among them) has a number no previous regime
 // had and starts unlabelled; a regime that is gone takes its label with
 // it.
-func CarryLabels(prev, next []Regime) {
-	byID := make(map[int]*Regime, len(prev))
+func carryLabels(prev, next []mapper.Regime) {
+	byID := make(map[int]*mapper.Regime, len(prev))
 	for i := range prev {
 		byID[prev[i].ID] = &prev[i]
 	}
@@ -66,6 +68,6 @@ func CarryLabels(prev, next []Regime) {
 }
 
 // Labelled reports whether some regime has a name or a status.
-func Labelled(regs []Regime) bool {
-	return slices.ContainsFunc(regs, func(r Regime) bool { return r.Name != "" || r.Status != "" })
+func Labelled(regs []mapper.Regime) bool {
+	return slices.ContainsFunc(regs, func(r mapper.Regime) bool { return r.Name != "" || r.Status != "" })
 }

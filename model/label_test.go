@@ -1,9 +1,11 @@
-package mapper
+package model
 
 import (
 	"fmt"
 	"strings"
 	"testing"
+
+	"github.com/kinmap/kinmap/mapper"
 )
 
 func TestCheckLabel(t *testing.T) {
@@ -31,29 +33,29 @@ func TestCheckLabel(t *testing.T) {
 	}
 }
 
-// Labels follow the regime numbers that MatchRegimes gives: the new
+// Labels follow the regime numbers that matchRegimes gives: the new
 // regime nearest to a labelled one takes its number and its label, the
 // other part of the split gets a new number and no label.
 func TestCarryLabelsThroughSplit(t *testing.T) {
-	prev := []Regime{
+	prev := []mapper.Regime{
 		{ID: 1, Centroid: []float64{0, 0}, Name: "baseline", Status: StatusNormal},
 		{ID: 2, Centroid: []float64{10, 0}, Name: "standby", Status: StatusWatch},
 	}
 	// Regime 2 splits into two near (10, 0); the numbers from derivation
 	// are scrambled, as they are after a fresh grouping.
-	next := []Regime{
+	next := []mapper.Regime{
 		{ID: 1, Centroid: []float64{10.2, 0}, Name: "stale"},
 		{ID: 2, Centroid: []float64{0.1, 0}},
 		{ID: 3, Centroid: []float64{11, 3}},
 	}
-	ids, changes, err := MatchRegimes(prev, next)
+	ids, changes, err := matchRegimes(prev, next)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for i := range next {
 		next[i].ID = ids[i]
 	}
-	CarryLabels(prev, next)
+	carryLabels(prev, next)
 	got := map[int]string{}
 	for _, g := range next {
 		got[g.ID] = g.Name + "/" + g.Status

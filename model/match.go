@@ -1,9 +1,12 @@
-package mapper
+package model
 
 import (
 	"fmt"
 	"math"
 	"slices"
+
+	"github.com/kinmap/kinmap/mapper"
+	"gonum.org/v1/gonum/floats"
 )
 
 // Kinds of RegimeChange.
@@ -15,7 +18,7 @@ const (
 	ChangeMerged     = "merged"     // a new regime is the nearest of several previous ones
 )
 
-// RegimeChange is one line of the report of MatchRegimes. From holds
+// RegimeChange is one line of the report of Update. From holds
 // previous regime numbers, To the numbers after matching; for "renumbered",
 // From holds the number the new regime was derived with.
 type RegimeChange struct {
@@ -24,7 +27,7 @@ type RegimeChange struct {
 	To   []int
 }
 
-// MatchRegimes keeps regime numbers stable from one map to the next. It
+// matchRegimes keeps regime numbers stable from one map to the next. It
 // pairs the regimes of next with those of prev so that the total distance
 // between paired centroids is least (the Hungarian algorithm: H. W. Kuhn,
 // "The Hungarian method for the assignment problem", Naval Research
@@ -34,12 +37,12 @@ type RegimeChange struct {
 // every renumbering, new and vanished regime, and the splits and merges
 // seen through nearest centroids: a previous regime nearest to several new
 // ones split, a new regime nearest to several previous ones merged them.
-func MatchRegimes(prev, next []Regime) ([]int, []RegimeChange, error) {
+func matchRegimes(prev, next []mapper.Regime) ([]int, []RegimeChange, error) {
 	dim := -1
-	for _, rs := range [][]Regime{prev, next} {
+	for _, rs := range [][]mapper.Regime{prev, next} {
 		for _, r := range rs {
 			if dim >= 0 && len(r.Centroid) != dim {
-				return nil, nil, fmt.Errorf("mapper: regime %d has a centroid of dimension %d, others %d", r.ID, len(r.Centroid), dim)
+				return nil, nil, fmt.Errorf("model: regime %d has a centroid of dimension %d, others %d", r.ID, len(r.Centroid), dim)
 			}
 			dim = len(r.Centroid)
 		}
@@ -48,7 +51,7 @@ func MatchRegimes(prev, next []Regime) ([]int, []RegimeChange, error) {
 	for i, r := range next {
 		cost[i] = make([]float64, len(prev))
 		for j, p := range prev {
-			cost[i][j] = math.Sqrt(sqdist(r.Centroid, p.Centroid))
+			cost[i][j] = floats.Distance(r.Centroid, p.Centroid, 2)
 		}
 	}
 	partner := hungarian(cost, len(prev))

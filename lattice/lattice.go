@@ -1,20 +1,28 @@
-package mapper
+// Package lattice is the arrangement of a self-organising map's units:
+// columns and rows of square or hexagonal cells on a torus that wraps both
+// ways or on a plane with edges. It gives each unit's cell, planar position,
+// neighbours and distances (the shortest way round on a torus), names the
+// shape as files and flags give it, and bounds the number of units
+// (MaxUnits).
+package lattice
 
 import (
 	"fmt"
 	"math"
+	"slices"
 )
 
-// rowPitch is the vertical distance between hexagonal rows when neighbouring
-// units are one unit apart: √3/2.
-const rowPitch = 0.86602540378443864676372317075294
-
-// newLattice returns a lattice of cols × rows units. A hexagonal torus needs
-// an even number of rows, or the row offsets would not match across the seam.
-func newLattice(cols, rows int, hex, flat bool) (Lattice, error) {
-	l := Lattice{Cols: cols, Rows: rows, Hex: hex, Flat: flat}
-	return l, l.Validate()
+// Lattice is the arrangement of the map's units. Unit u sits at column
+// u % Cols and row u / Cols.
+type Lattice struct {
+	Cols, Rows int
+	Hex        bool // hexagonal cells (6 neighbours); otherwise square (4)
+	Flat       bool // a plane with edges; otherwise a torus wrapping both ways
 }
+
+// RowPitch is the distance between the rows of a hexagonal lattice, whose
+// neighbouring units are one unit apart: √3/2.
+const RowPitch = 0.86602540378443864676372317075294
 
 // MaxUnits is the largest lattice a map may have. The batch rule and the
 // BMU search each keep a units × units table of float64 (128 MiB at this
@@ -22,17 +30,20 @@ func newLattice(cols, rows int, hex, flat bool) (Lattice, error) {
 // default grid reaches it only beyond about 670,000 training windows.
 const MaxUnits = 4096
 
-// Validate reports whether the lattice can be built.
+// Validate reports whether the lattice can be built: at least one unit
+// along each side and at most MaxUnits in all; a torus needs at least 3
+// along each side, and a hexagonal torus an even number of rows, or the row
+// offsets would not match across the seam.
 func (l Lattice) Validate() error {
 	switch {
 	case l.Cols < 1 || l.Rows < 1:
-		return fmt.Errorf("mapper: lattice %dx%d: both sides must be at least 1", l.Cols, l.Rows)
+		return fmt.Errorf("lattice: %dx%d: both sides must be at least 1", l.Cols, l.Rows)
 	case l.Cols > MaxUnits || l.Rows > MaxUnits || l.Cols*l.Rows > MaxUnits:
-		return &LimitError{What: fmt.Sprintf("lattice %dx%d", l.Cols, l.Rows), Value: float64(l.Cols) * float64(l.Rows), Limit: MaxUnits, Unit: "units"}
+		return &LimitError{What: fmt.Sprintf("%dx%d", l.Cols, l.Rows), Value: float64(l.Cols) * float64(l.Rows), Limit: MaxUnits, Unit: "units"}
 	case l.Hex && !l.Flat && l.Rows%2 != 0:
-		return fmt.Errorf("mapper: lattice %dx%d: a hexagonal torus needs an even number of rows, not %d", l.Cols, l.Rows, l.Rows)
+		return fmt.Errorf("lattice: %dx%d: a hexagonal torus needs an even number of rows, not %d", l.Cols, l.Rows, l.Rows)
 	case !l.Flat && (l.Cols < 3 || l.Rows < 3) && l.Cols*l.Rows > 1:
-		return fmt.Errorf("mapper: lattice %dx%d: a torus needs at least 3 units along each side; use a plane for a chain", l.Cols, l.Rows)
+		return fmt.Errorf("lattice: %dx%d: a torus needs at least 3 units along each side; use a plane for a chain", l.Cols, l.Rows)
 	}
 	return nil
 }
@@ -69,21 +80,21 @@ func (l Lattice) Position(u int) (x, y float64) {
 	if r%2 == 1 {
 		x += 0.5
 	}
-	return x, float64(r) * rowPitch
+	return x, float64(r) * RowPitch
 }
 
 // Period returns the planar size of the torus along x and y, the translations
 // under which it repeats. It is meaningless for a plane.
 func (l Lattice) Period() (px, py float64) {
 	if l.Hex {
-		return float64(l.Cols), float64(l.Rows) * rowPitch
+		return float64(l.Cols), float64(l.Rows) * RowPitch
 	}
 	return float64(l.Cols), float64(l.Rows)
 }
 
-// dist2 returns the squared planar distance between units a and b, the
+// Dist2 returns the squared planar distance between units a and b, the
 // shortest way round on a torus.
-func (l Lattice) dist2(a, b int) float64 {
+func (l Lattice) Dist2(a, b int) float64 {
 	ca, ra := l.Cell(a)
 	cb, rb := l.Cell(b)
 	return l.offsetDist2(ra%2, cb-ca, rb-ra)
@@ -92,12 +103,12 @@ func (l Lattice) dist2(a, b int) float64 {
 // offsetDist2 returns the squared planar distance from a unit in a row of
 // parity p to the unit dc columns and dr rows away (|dc| < Cols,
 // |dr| < Rows), the shortest way round on a torus. It depends on nothing
-// else, which lets the neighbourhood weights be tabulated by offset.
+// else, which lets Pairwise tabulate by offset.
 func (l Lattice) offsetDist2(p, dc, dr int) float64 {
 	dx, dy := float64(dc), float64(dr)
 	if l.Hex {
 		dx += 0.5 * float64(mod(p+dr, 2)-p) // odd rows are shifted right
-		dy *= rowPitch
+		dy *= RowPitch
 	}
 	dx, dy = math.Abs(dx), math.Abs(dy)
 	if !l.Flat {
@@ -109,7 +120,7 @@ func (l Lattice) offsetDist2(p, dc, dr int) float64 {
 }
 
 // Dist returns the planar distance between units a and b.
-func (l Lattice) Dist(a, b int) float64 { return math.Sqrt(l.dist2(a, b)) }
+func (l Lattice) Dist(a, b int) float64 { return math.Sqrt(l.Dist2(a, b)) }
 
 // Neighbours returns the distinct units adjacent to u: up to 4 on a
 // square lattice, up to 6 on a hexagonal one, fewer at the edge of a
@@ -128,7 +139,7 @@ func (l Lattice) Neighbours(u int) []int {
 	out := make([]int, 0, len(steps))
 	for _, s := range steps {
 		v := l.Unit(c+s[0], r+s[1])
-		if v < 0 || v == u || contains(out, v) {
+		if v < 0 || v == u || slices.Contains(out, v) {
 			continue
 		}
 		out = append(out, v)
@@ -136,25 +147,39 @@ func (l Lattice) Neighbours(u int) []int {
 	return out
 }
 
-// adjacent reports whether units a and b are lattice neighbours.
-func (l Lattice) adjacent(a, b int) bool { return contains(l.Neighbours(a), b) }
-
-// neighbourTable returns the neighbours of every unit.
-func (l Lattice) neighbourTable() [][]int {
-	t := make([][]int, l.Units())
-	for u := range t {
-		t[u] = l.Neighbours(u)
+// Pairwise returns the Units × Units matrix, row-major, of f applied to
+// the squared planar distance of every pair of units. That distance
+// depends only on the pair's offset on the lattice (and the parity of the
+// first unit's row), so f is called once per offset, not once per pair.
+func (l Lattice) Pairwise(f func(d2 float64) float64) []float64 {
+	parities := 1
+	if l.Hex {
+		parities = 2
 	}
-	return t
-}
-
-func contains(s []int, v int) bool {
-	for _, x := range s {
-		if x == v {
-			return true
+	w, hgt := 2*l.Cols-1, 2*l.Rows-1
+	table := make([]float64, parities*hgt*w)
+	for p := range parities {
+		for dr := range hgt {
+			for dc := range w {
+				table[(p*hgt+dr)*w+dc] = f(l.offsetDist2(p, dc-l.Cols+1, dr-l.Rows+1))
+			}
 		}
 	}
-	return false
+	u := l.Units()
+	h := make([]float64, u*u)
+	for j := range u {
+		cj, rj := l.Cell(j)
+		p := 0
+		if l.Hex {
+			p = rj % 2
+		}
+		row := h[j*u : (j+1)*u]
+		for i := range row {
+			ci, ri := l.Cell(i)
+			row[i] = table[(p*hgt+ri-rj+l.Rows-1)*w+ci-cj+l.Cols-1]
+		}
+	}
+	return h
 }
 
 func mod(a, n int) int {

@@ -1,9 +1,12 @@
-package mapper
+package model
 
 import (
 	"math"
+	"math/rand/v2"
 	"slices"
 	"testing"
+
+	"github.com/kinmap/kinmap/mapper"
 )
 
 // bruteAssignment returns the least total cost of pairing every row of
@@ -42,7 +45,7 @@ func bruteAssignment(cost [][]float64, cols int) float64 {
 // The Hungarian assignment is as cheap as the best of all assignments,
 // found by brute force, on random square and rectangular matrices.
 func TestHungarianMatchesBruteForce(t *testing.T) {
-	rng := testRand(21)
+	rng := rand.New(rand.NewPCG(21, 7))
 	for trial := range 300 {
 		rows, cols := 1+rng.IntN(6), 1+rng.IntN(6)
 		cost := make([][]float64, rows)
@@ -81,10 +84,10 @@ func TestHungarianMatchesBruteForce(t *testing.T) {
 
 // regimesAt returns regimes with the given IDs and one-dimensional
 // centroids.
-func regimesAt(ids []int, centroids ...float64) []Regime {
-	r := make([]Regime, len(ids))
+func regimesAt(ids []int, centroids ...float64) []mapper.Regime {
+	r := make([]mapper.Regime, len(ids))
 	for i := range r {
-		r[i] = Regime{ID: ids[i], Centroid: []float64{centroids[i], 0}}
+		r[i] = mapper.Regime{ID: ids[i], Centroid: []float64{centroids[i], 0}}
 	}
 	return r
 }
@@ -93,7 +96,7 @@ func TestMatchRegimes(t *testing.T) {
 	prev := regimesAt([]int{1, 2, 3}, 0, 10, 20)
 	for _, tc := range []struct {
 		name    string
-		next    []Regime
+		next    []mapper.Regime
 		ids     []int
 		changes []RegimeChange
 	}{
@@ -119,7 +122,7 @@ func TestMatchRegimes(t *testing.T) {
 		}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			ids, changes, err := MatchRegimes(prev, tc.next)
+			ids, changes, err := matchRegimes(prev, tc.next)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -133,11 +136,11 @@ func TestMatchRegimes(t *testing.T) {
 			}
 		})
 	}
-	ids, _, err := MatchRegimes(nil, regimesAt([]int{1, 2}, 0, 1))
+	ids, _, err := matchRegimes(nil, regimesAt([]int{1, 2}, 0, 1))
 	if err != nil || !slices.Equal(ids, []int{1, 2}) {
 		t.Errorf("no previous regimes: %v, %v", ids, err)
 	}
-	if _, _, err := MatchRegimes(prev, []Regime{{ID: 1, Centroid: []float64{1}}}); err == nil {
+	if _, _, err := matchRegimes(prev, []mapper.Regime{{ID: 1, Centroid: []float64{1}}}); err == nil {
 		t.Error("centroids of another dimension accepted")
 	}
 }

@@ -44,7 +44,10 @@
 // timeline); ½ means Δ = c, so a switch below it would disappear if the
 // switch cost, itself a rule of thumb (twice the median quantization
 // error), were doubled. Such a switch stays in switches.csv but ranks
-// last.
+// last, unless it enters a regime marked fault or watch: a possible move
+// into such a regime keeps that level, where it ranks after the more
+// confident ones and its reason gives its confidence, since burying it
+// below ordinary switches would hide what the marks exist to show.
 //
 // A site is flagged for unfamiliar windows when, of its n windows, k are
 // unfamiliar and P(X ≥ k) < Config.UnfamiliarAlpha for X binomial with n

@@ -118,6 +118,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string) error {
 		Model:      r.Model,
 		Table:      r.Table,
 		Switches:   r.Switches,
+		Shared:     r.Shared,
 		Register:   r.Register,
 		Summary:    &r.Ingest,
 		Changes:    r.Changes,

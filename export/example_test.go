@@ -61,6 +61,8 @@ func ExampleWrite() {
 	// regimes.geojson
 	// report.html
 	// run.json
+	// shared.csv
+	// shared.parquet
 	// sites.geojson
 	// switches.csv
 	// switches.parquet

@@ -49,6 +49,9 @@ type Run struct {
 	Model    *model.Model
 	Table    *features.Table // the windows, placed, classified by events and decoded (timeline.Build), and mobile sites' paths
 	Switches []timeline.Switch
+	// Shared are the conditions that most sites of a regime showed
+	// together (timeline.Result.Shared), by start.
+	Shared   []timeline.Shared
 	Register *ingest.Register      // nil when there is none
 	Summary  *ingest.Summary       // what was read; nil when unknown
 	Info     any                   // machine-readable run summary, written as run.json
@@ -104,7 +107,15 @@ type Run struct {
 // timeline.parquet and timeline.csv hold one row per window (site,
 // window_start, window_end, col, row, regime, qe, unfamiliar), switches.csv
 // and switches.parquet one per switch (site, time, from_regime, to_regime,
-// windows_before, windows_after, confidence), by site and time; CSV times
+// windows_before, windows_after, confidence, from_name, from_status,
+// to_name, to_status, onset: the start of the drift that led to it, empty
+// or null when none was found), by site and time; shared.csv and
+// shared.parquet one per shared condition, r.Shared (start; end, empty or
+// null while it lasts to the last window; regime, regime_name,
+// regime_status; like_regime, like_name, like_status: the regime its
+// sites looked like; sites that showed it; regime_sites, the regime's
+// sites with a window in it; site_ids, comma-separated; p_value), by
+// start; CSV times
 // are RFC 3339 in UTC, Parquet times TIMESTAMP in microseconds adjusted to
 // UTC. Then come features.parquet, the model file, attention.csv and
 // attention.parquet (the work list, r.Attention: rank, level, kind, site,
@@ -113,7 +124,8 @@ type Run struct {
 // (r.Health: kind, site, channel, count, share, warning, detail), run.json
 // (r.Info as JSON), the pictures of package picture and report.html.
 //
-// run.json also gets a "files" list: the files of dir this run wrote.
+// run.json also gets a "shared_changes" list, the rows of shared.csv,
+// and a "files" list: the files of dir this run wrote.
 //
 // Write commits the files together (see Stage); it waits at most a minute
 // for another run writing into dir.
@@ -159,7 +171,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 		write func(io.Writer) error
 	}
 	sites, regimes, tracks := siteFeatures(r, ss), regimeFeatures(r, ss), trackFeatures(r, ss)
-	tl, sw := timelineRows(r, ss), switchRows(r)
+	tl, sw, sh := timelineRows(r, ss), switchRows(r), sharedRows(r)
 	files := []file{
 		{SitesFile, func(w io.Writer) error { return writeCollection(w, sites) }},
 		{RegimesFile, func(w io.Writer) error { return writeCollection(w, regimes) }},
@@ -172,8 +184,10 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 		file{TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineColumns, tl) }},
 		file{SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchColumns, sw) }},
 		file{SwitchesParquetFile, func(w io.Writer) error { return writeParquet(w, sw) }},
+		file{SharedCSVFile, func(w io.Writer) error { return writeCSV(w, sharedColumns, sh) }},
+		file{SharedParquetFile, func(w io.Writer) error { return writeParquet(w, sh) }},
 		file{GeoPackageFile, func(w io.Writer) error {
-			layers, err := gpkgLayers(sites, regimes, tracks, tl, sw)
+			layers, err := gpkgLayers(sites, regimes, tracks, tl, sw, sh)
 			if err != nil {
 				return err
 			}
@@ -195,7 +209,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	listed = append(listed, RunFile)
 	all := append(slices.Clone(listed), ReportFile)
 	files = append(files,
-		file{RunFile, func(w io.Writer) error { return writeRunFile(w, r.Info, all) }},
+		file{RunFile, func(w io.Writer) error { return writeRunFile(w, r.Info, sh, all) }},
 		file{ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, tracks, warnings, pics, listed) }},
 	)
 	for _, f := range files {
@@ -213,9 +227,9 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	return nil
 }
 
-// writeRunFile writes info, a JSON object or nil, indented, with files
-// added as "files".
-func writeRunFile(w io.Writer, info any, files []string) error {
+// writeRunFile writes info, a JSON object or nil, indented, with shared
+// added as "shared_changes" and files as "files".
+func writeRunFile(w io.Writer, info any, shared []sharedRow, files []string) error {
 	b, err := json.Marshal(info)
 	if err != nil {
 		return err
@@ -226,6 +240,10 @@ func writeRunFile(w io.Writer, info any, files []string) error {
 	if len(b) < 2 || b[0] != '{' {
 		return fmt.Errorf("the run summary is not a JSON object")
 	}
+	changes, err := json.Marshal(shared)
+	if err != nil {
+		return err
+	}
 	list, err := json.Marshal(files)
 	if err != nil {
 		return err
@@ -234,7 +252,8 @@ func writeRunFile(w io.Writer, info any, files []string) error {
 	if string(b) == "{}" {
 		sep = ""
 	}
-	b = append(append(append(b[:len(b)-1:len(b)-1], sep+`"files":`...), list...), '}')
+	b = append(b[:len(b)-1:len(b)-1], sep+`"shared_changes":`...)
+	b = append(append(append(append(b, changes...), `,"files":`...), list...), '}')
 	var out bytes.Buffer
 	if err := json.Indent(&out, b, "", "  "); err != nil {
 		return err
@@ -295,7 +314,7 @@ func CheckDir(dir string) ([]string, error) {
 // outputNames returns every name Write may give a file.
 func outputNames() []string {
 	return append([]string{SitesFile, RegimesFile, TracksFile, GeoPackageFile, TimelineParquetFile, TimelineCSVFile, SwitchesCSVFile,
-		SwitchesParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile, AttentionCSVFile, AttentionParquetFile, HealthFile}, picture.Files()...)
+		SwitchesParquetFile, SharedCSVFile, SharedParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile, AttentionCSVFile, AttentionParquetFile, HealthFile}, picture.Files()...)
 }
 
 // IsOutput reports whether Write may write a file called name.

@@ -45,6 +45,10 @@ func arrowColumns(t *testing.T, b []byte) (*arrow.Schema, [][]any) {
 		col := tbl.Column(i)
 		for _, chunk := range col.Data().Chunks() {
 			for j := 0; j < chunk.Len(); j++ {
+				if chunk.IsNull(j) {
+					cols[i] = append(cols[i], nil)
+					continue
+				}
 				switch a := chunk.(type) {
 				case *array.String:
 					cols[i] = append(cols[i], a.Value(j))
@@ -67,9 +71,15 @@ func arrowColumns(t *testing.T, b []byte) (*arrow.Schema, [][]any) {
 }
 
 // parseCSVValue reads a CSV field as the type of the Parquet value, with
-// the standard library's parsers: RFC 3339 times (RFC 3339, 5.6).
+// the standard library's parsers: RFC 3339 times (RFC 3339, 5.6); a null
+// is an empty field.
 func parseCSVValue(field string, like any) (any, error) {
 	switch like.(type) {
+	case nil:
+		if field != "" {
+			return nil, fmt.Errorf("%q for a null", field)
+		}
+		return nil, nil
 	case string:
 		return field, nil
 	case int64:
@@ -105,7 +115,8 @@ func TestParquetEqualsCSV(t *testing.T) {
 		times        []string
 	}{
 		{TimelineParquetFile, TimelineCSVFile, []string{"site", "window_start", "window_end", "col", "row", "regime", "qe", "unfamiliar", "regime_name", "regime_status", "likely_condition", "condition_confidence"}, []string{"window_start", "window_end"}},
-		{SwitchesParquetFile, SwitchesCSVFile, []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence", "from_name", "from_status", "to_name", "to_status"}, []string{"time"}},
+		{SwitchesParquetFile, SwitchesCSVFile, []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence", "from_name", "from_status", "to_name", "to_status", "onset"}, []string{"time", "onset"}},
+		{SharedParquetFile, SharedCSVFile, []string{"start", "end", "regime", "regime_name", "regime_status", "like_regime", "like_name", "like_status", "sites", "regime_sites", "site_ids", "p_value"}, []string{"start", "end"}},
 	} {
 		t.Run(tc.parquet, func(t *testing.T) {
 			header, rows := readCSV(t, read(t, dir, tc.csv))
@@ -170,8 +181,8 @@ func TestCSVContents(t *testing.T) {
 	}
 	_, sw := readCSV(t, read(t, dir, SwitchesCSVFile))
 	want := [][]string{
-		{"PS-01", "2025-03-04T00:00:00Z", "1", "2", "3", "3", "0.9", "", "", "worn bearing, \"B\"", "fault"},
-		{"T-7", "2025-03-03T00:00:00Z", "1", "3", "2", "3", "0.75", "", "", "", ""},
+		{"PS-01", "2025-03-04T00:00:00Z", "1", "2", "3", "3", "0.9", "", "", "worn bearing, \"B\"", "fault", "2025-03-02T00:00:00Z"},
+		{"T-7", "2025-03-03T00:00:00Z", "1", "3", "2", "3", "0.75", "", "", "", "", ""},
 	}
 	if fmt.Sprint(sw) != fmt.Sprint(want) {
 		t.Errorf("switches %v, want %v", sw, want)

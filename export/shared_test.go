@@ -1,0 +1,189 @@
+package export
+
+import (
+	"encoding/json"
+	"fmt"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+	"testing"
+	"time"
+)
+
+// cell writes a value read back from an output file as text in one form,
+// whatever the reader: times RFC 3339 in UTC (the GeoPackage writes
+// milliseconds, RFC 3339, 5.6), numbers in their shortest form, a null
+// empty.
+func cell(v any) string {
+	switch v := v.(type) {
+	case nil:
+		return ""
+	case time.Time:
+		return v.UTC().Format(time.RFC3339)
+	case int64:
+		return strconv.FormatInt(v, 10)
+	case float64:
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	case string:
+		if t, err := time.Parse(time.RFC3339Nano, v); err == nil {
+			return t.UTC().Format(time.RFC3339)
+		}
+		return v
+	}
+	return fmt.Sprint(v)
+}
+
+// readBack reads a table of the fixture's outputs with each reader, as
+// rows of cells in the order of columns: the CSV file with encoding/csv,
+// the Parquet file with arrow-go, the GeoPackage table with the SQLite
+// driver, and, for the shared conditions, run.json with encoding/json.
+func readBack(t *testing.T, dir, csvFile, parquetFile, layer, runKey string, columns []string) map[string][][]string {
+	t.Helper()
+	out := map[string][][]string{}
+	header, rows := readCSV(t, read(t, dir, csvFile))
+	for _, r := range rows {
+		var row []string
+		for _, c := range columns {
+			row = append(row, r[slices.Index(header, c)])
+		}
+		out["csv"] = append(out["csv"], row)
+	}
+	schema, cols := arrowColumns(t, read(t, dir, parquetFile))
+	for i := range cols[0] {
+		var row []string
+		for _, c := range columns {
+			idx := schema.FieldIndices(c)
+			if len(idx) != 1 {
+				t.Fatalf("%s: no column %s", parquetFile, c)
+			}
+			row = append(row, cell(cols[idx[0]][i]))
+		}
+		out["parquet"] = append(out["parquet"], row)
+	}
+	db := openGPKG(t, filepath.Join(dir, GeoPackageFile))
+	var sel []string
+	for _, c := range columns {
+		sel = append(sel, fmt.Sprintf("%q || ''", c)) // DATETIME as its text
+	}
+	for _, r := range query(t, db, fmt.Sprintf("SELECT %s FROM %q ORDER BY fid", strings.Join(sel, ", "), layer)) {
+		row := make([]string, len(r))
+		for i, v := range r {
+			row[i] = cell(v)
+		}
+		out["gpkg"] = append(out["gpkg"], row)
+	}
+	if runKey != "" {
+		var info map[string]json.RawMessage
+		if err := json.Unmarshal(read(t, dir, RunFile), &info); err != nil {
+			t.Fatal(err)
+		}
+		var items []map[string]any
+		if err := json.Unmarshal(info[runKey], &items); err != nil || items == nil {
+			t.Fatalf("run.json %q: %v (%s)", runKey, err, info[runKey])
+		}
+		for _, it := range items {
+			var row []string
+			for _, c := range columns {
+				v, ok := it[c]
+				if !ok {
+					t.Errorf("run.json %q: an item lacks %s", runKey, c)
+				}
+				if f, isNum := v.(float64); isNum && f == float64(int64(f)) && c != "p_value" {
+					v = int64(f)
+				}
+				row = append(row, cell(v))
+			}
+			out["run.json"] = append(out["run.json"], row)
+		}
+	}
+	return out
+}
+
+// The shared conditions of the run read back from shared.csv,
+// shared.parquet, the GeoPackage's shared table and run.json are those of
+// the run, with the labels of their regimes, and a condition that lasts to
+// the last window has no end; the switches' onsets are the drifts' starts,
+// empty when a switch had none (Onset equal to Time).
+func TestSharedAndOnsetsReadBack(t *testing.T) {
+	dir := written(t)
+	m := fixtureModel()
+	label := func(id int) (string, string) {
+		for _, g := range m.Regimes {
+			if g.ID == id {
+				return g.Name, g.Status
+			}
+		}
+		t.Fatalf("no regime %d", id)
+		return "", ""
+	}
+	var shared [][]string
+	for _, sh := range fixtureShared {
+		end := ""
+		if !sh.End.IsZero() {
+			end = sh.End.Format(time.RFC3339)
+		}
+		name, status := label(sh.Regime)
+		likeName, likeStatus := label(sh.Like)
+		shared = append(shared, []string{sh.Start.Format(time.RFC3339), end, strconv.Itoa(sh.Regime), name, status,
+			strconv.Itoa(sh.Like), likeName, likeStatus, strconv.Itoa(len(sh.Sites)), strconv.Itoa(sh.Of),
+			strings.Join(sh.Sites, ","), strconv.FormatFloat(sh.P, 'g', -1, 64)})
+	}
+	var onsets [][]string
+	for _, s := range fixtureSwitches {
+		onset := ""
+		if s.Onset.Before(s.Time) {
+			onset = s.Onset.Format(time.RFC3339)
+		}
+		onsets = append(onsets, []string{s.Site, s.Time.Format(time.RFC3339), onset})
+	}
+	if onsets[0][2] == "" || onsets[1][2] != "" {
+		t.Fatalf("the fixture should have one switch with an onset and one without: %v", onsets)
+	}
+	for _, tc := range []struct {
+		name                        string
+		csv, parquet, layer, runKey string
+		columns                     []string
+		want                        [][]string
+		readers                     int
+	}{
+		{"shared", SharedCSVFile, SharedParquetFile, "shared", "shared_changes",
+			[]string{"start", "end", "regime", "regime_name", "regime_status", "like_regime", "like_name", "like_status",
+				"sites", "regime_sites", "site_ids", "p_value"}, shared, 4},
+		{"onsets", SwitchesCSVFile, SwitchesParquetFile, "switches", "", []string{"site", "time", "onset"}, onsets, 3},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			got := readBack(t, dir, tc.csv, tc.parquet, tc.layer, tc.runKey, tc.columns)
+			if len(got) != tc.readers {
+				t.Errorf("%d readers, want %d", len(got), tc.readers)
+			}
+			for reader, rows := range got {
+				if fmt.Sprintf("%q", rows) != fmt.Sprintf("%q", tc.want) {
+					t.Errorf("%s:\n got %q\nwant %q", reader, rows, tc.want)
+				}
+			}
+		})
+	}
+}
+
+// A run without shared conditions still writes the tables, header only,
+// and an empty list in run.json, so that readers find the same columns
+// and keys every time.
+func TestNoSharedConditions(t *testing.T) {
+	dir := t.TempDir()
+	r := fixtureRun()
+	r.Shared = nil
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	header, rows := readCSV(t, read(t, dir, SharedCSVFile))
+	if len(header) != len(sharedColumns) || len(rows) != 0 {
+		t.Errorf("shared.csv: header %v, %d rows; want %d columns, no rows", header, len(rows), len(sharedColumns))
+	}
+	var info struct {
+		Shared *[]json.RawMessage `json:"shared_changes"`
+	}
+	if err := json.Unmarshal(read(t, dir, RunFile), &info); err != nil || info.Shared == nil || len(*info.Shared) != 0 {
+		t.Errorf("run.json shared_changes %v (%v), want []", info.Shared, err)
+	}
+}

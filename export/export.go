@@ -88,7 +88,8 @@ type Run struct {
 // (the last window's); dominant_regime (most windows, the lower ID on a
 // tie); shares, an object giving the share of windows in each regime of
 // the model by regime ID; windows; switches (count); last_switch (RFC
-// 3339, or null); col and row (the last window's BMU cell); qe (mean
+// 3339, or null); last_switch_onset (the start of the drift that led to
+// it, or null when it had none); col and row (the last window's BMU cell); qe (mean
 // quantization error); unfamiliar (true when any window was unfamiliar);
 // unfamiliar_windows; mobile; home_lon and home_lat, the registered
 // position (null when none).

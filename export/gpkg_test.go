@@ -42,7 +42,7 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 			"site": "String", "name": "String", "capacity_kw": "Integer64", "elevation_m": "Real",
 			"active": "Integer(Boolean)", "register_regime": "String",
 			"regime": "Integer64", "regime_name": "String", "regime_status": "String", "dominant_regime": "Integer64", "shares": "String(JSON)",
-			"windows": "Integer64", "switches": "Integer64", "last_switch": "DateTime",
+			"windows": "Integer64", "switches": "Integer64", "last_switch": "DateTime", "last_switch_onset": "DateTime",
 			"col": "Integer64", "row": "Integer64", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer64", "mobile": "Integer(Boolean)",
 			"home_lon": "Real", "home_lat": "Real", "likely_condition": "String", "condition_confidence": "Real",

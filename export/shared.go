@@ -1,6 +1,7 @@
 package export
 
 import (
+	"strconv"
 	"strings"
 	"time"
 
@@ -73,4 +74,46 @@ func sharedDays(shared []timeline.Shared) map[string][]timeline.Shared {
 		}
 	}
 	return out
+}
+
+// maxSharedRows caps the report's table of shared conditions, and
+// maxSharedSites the sites it names in each; shared.csv has them all.
+const (
+	maxSharedRows  = 100
+	maxSharedSites = 12
+)
+
+// reportShared is one row of the report's fleet-wide changes.
+type reportShared struct {
+	Start, End   string // End "" while it lasts to the last window
+	Regime, Like int
+	RegimeName   string // the user's labels, "" for none
+	LikeName     string
+	Sites, Of    int
+	Named        []string // the first maxSharedSites of its sites
+	More         int      // its sites not named
+	P            string
+}
+
+// sharedSection is the report's section of fleet-wide changes.
+type sharedSection struct {
+	Rows  []reportShared
+	Total int
+}
+
+// sharedReport lists the shared conditions of r for the report.
+func sharedReport(r *Run) sharedSection {
+	s := sharedSection{Total: len(r.Shared)}
+	for _, sh := range r.Shared[:min(len(r.Shared), maxSharedRows)] {
+		row := reportShared{Start: readable(sh.Start), Regime: sh.Regime, Like: sh.Like,
+			Sites: len(sh.Sites), Of: sh.Of, Named: sh.Sites[:min(len(sh.Sites), maxSharedSites)],
+			More: max(0, len(sh.Sites)-maxSharedSites), P: strconv.FormatFloat(sh.P, 'g', 2, 64)}
+		if !sh.End.IsZero() {
+			row.End = readable(sh.End)
+		}
+		row.RegimeName, _ = regimeLabel(r.Model, sh.Regime)
+		row.LikeName, _ = regimeLabel(r.Model, sh.Like)
+		s.Rows = append(s.Rows, row)
+	}
+	return s
 }

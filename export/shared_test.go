@@ -3,7 +3,9 @@ package export
 import (
 	"encoding/json"
 	"fmt"
+	"html"
 	"path/filepath"
+	"regexp"
 	"slices"
 	"strconv"
 	"strings"
@@ -185,5 +187,56 @@ func TestNoSharedConditions(t *testing.T) {
 	}
 	if err := json.Unmarshal(read(t, dir, RunFile), &info); err != nil || info.Shared == nil || len(*info.Shared) != 0 {
 		t.Errorf("run.json shared_changes %v (%v), want []", info.Shared, err)
+	}
+	if doc := string(read(t, dir, ReportFile)); !strings.Contains(doc, "<p>None: no regime had most of its sites") {
+		t.Error("the report does not say that there were no fleet-wide changes")
+	}
+}
+
+// sectionRows returns the text of the cells of each body row of the
+// report's section id, tags removed and entities decoded.
+func sectionRows(t *testing.T, doc, id string) [][]string {
+	t.Helper()
+	_, sec, ok := strings.Cut(doc, `<section id="`+id+`">`)
+	if !ok {
+		t.Fatalf("report has no section %s", id)
+	}
+	sec, _, _ = strings.Cut(sec, "</section>")
+	_, body, _ := strings.Cut(sec, "<tbody>")
+	tags := regexp.MustCompile(`<[^>]*>`)
+	var out [][]string
+	for _, tr := range regexp.MustCompile(`(?s)<tr>(.*?)</tr>`).FindAllStringSubmatch(body, -1) {
+		var row []string
+		for _, td := range regexp.MustCompile(`(?s)<td[^>]*>(.*?)</td>`).FindAllStringSubmatch(tr[1], -1) {
+			row = append(row, html.UnescapeString(tags.ReplaceAllString(td[1], "")))
+		}
+		out = append(out, row)
+	}
+	return out
+}
+
+// The report's fleet-wide changes give each shared condition of the
+// fixture, with the label of a labelled regime and "the last window" for
+// one that had not ended, and the switch table gives each switch's drift
+// onset, "–" for T-7's switch, which had none. The expected text is
+// written by hand from the fixture.
+func TestReportSharedAndOnsets(t *testing.T) {
+	doc := string(read(t, written(t), ReportFile))
+	for _, tc := range []struct {
+		section string
+		want    [][]string
+	}{
+		{"shared", [][]string{
+			{"2025-03-02 00:00 UTC", "2025-03-04 00:00 UTC", "3", `2 (worn bearing, "B")`, "2 of 2", "PS-02, T-7", "0.0042"},
+			{"2025-03-05 00:00 UTC", "the last window", "1", "3", "1 of 1", "PS-01", "1.5e-05"},
+		}},
+		{"switches", [][]string{
+			{"PS-01", "2025-03-04 00:00 UTC", "1", "2", "3", "3", "0.90", "2025-03-02 00:00 UTC"},
+			{"T-7", "2025-03-03 00:00 UTC", "1", "3", "2", "3", "0.75", "–"},
+		}},
+	} {
+		if got := sectionRows(t, doc, tc.section); fmt.Sprintf("%q", got) != fmt.Sprintf("%q", tc.want) {
+			t.Errorf("section %s:\n got %q\nwant %q", tc.section, got, tc.want)
+		}
 	}
 }

@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/chromedp/chromedp"
 )
 
 // cell writes a value read back from an output file as text in one form,
@@ -237,6 +239,50 @@ func TestReportSharedAndOnsets(t *testing.T) {
 	} {
 		if got := sectionRows(t, doc, tc.section); fmt.Sprintf("%q", got) != fmt.Sprintf("%q", tc.want) {
 			t.Errorf("section %s:\n got %q\nwant %q", tc.section, got, tc.want)
+		}
+	}
+}
+
+// A site page of the explorer veils the days of each shared condition the
+// site showed on its regime strip, titled with its days and regimes, and
+// lists them under the strip; a site that showed none (X-9) has none.
+// The expected titles are built from the fixture's conditions.
+func TestExplorerSharedDays(t *testing.T) {
+	ctx := chromiumContext(t, 60*time.Second)
+	dir := t.TempDir()
+	if err := Write(dir, explorerRun()); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := openExplorer(ctx, filepath.Join(dir, ReportFile)); err != nil {
+		t.Fatalf("chromium: %v", err)
+	}
+	minute := func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04") + " UTC" }
+	for _, site := range []string{"PS-01", "PS-02", "T-7", "X-9"} {
+		var want []string
+		for _, sh := range fixtureShared {
+			if !slices.Contains(sh.Sites, site) {
+				continue
+			}
+			until := " to the last window"
+			if !sh.End.IsZero() {
+				until = " to " + minute(sh.End)
+			}
+			want = append(want, fmt.Sprintf("%s%s: like most sites of regime %d, looked like regime %d (a fleet-wide change, not a switch)",
+				minute(sh.Start), until, sh.Regime, sh.Like))
+		}
+		if heading, err := openSitePage(ctx, site); err != nil || heading != "Site "+site {
+			t.Fatalf("after #site=%s the site page is %q (%v)", site, heading, err)
+		}
+		marks, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](`Array.from(document.querySelectorAll("#ex-site .strip path.shared")).map(e => e.querySelector("title").textContent)`))
+		if err != nil {
+			t.Fatal(err)
+		}
+		items, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](`Array.from(document.querySelectorAll("#ex-site ul.shared-days li")).map(e => e.textContent)`))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(marks, want) || !slices.Equal(items, want) {
+			t.Errorf("%s: strip marks %q, list %q; want %q", site, marks, items, want)
 		}
 	}
 }

@@ -115,7 +115,8 @@ type exDaily struct {
 func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, err error) {
 	m := r.Model
 	l := m.Map.Lattice
-	d := explorerData{Cells: l.Cells(), Torus: !l.Flat, Cols: l.Cols, Rows: l.Rows, Features: featureNames(m)}
+	// Attrs is a list even without a register: the page reads it.
+	d := explorerData{Cells: l.Cells(), Torus: !l.Flat, Cols: l.Cols, Rows: l.Rows, Features: featureNames(m), Attrs: []string{}}
 	hits := m.Map.Hits(r.Table.Windows)
 	for u := range l.Units() {
 		d.Units = append(d.Units, exUnit{Regime: m.UnitRegime[u], Hits: hits[u], Profile: profile(m, u)})

@@ -101,13 +101,24 @@ type sharedSection struct {
 	Total int
 }
 
+// pValue writes a p-value for reading: two significant digits, and
+// "< 0.001" below that, as the APA Publication Manual (7th ed., 2020,
+// section 6.36, from memory) has it; the smallest values are at the floor of the
+// floating-point tail, not measured (shared.csv keeps them as computed).
+func pValue(p float64) string {
+	if p < 0.001 {
+		return "< 0.001"
+	}
+	return strconv.FormatFloat(p, 'g', 2, 64)
+}
+
 // sharedReport lists the shared conditions of r for the report.
 func sharedReport(r *Run) sharedSection {
 	s := sharedSection{Total: len(r.Shared)}
 	for _, sh := range r.Shared[:min(len(r.Shared), maxSharedRows)] {
 		row := reportShared{Start: readable(sh.Start), Regime: sh.Regime, Like: sh.Like,
 			Sites: len(sh.Sites), Of: sh.Of, Named: sh.Sites[:min(len(sh.Sites), maxSharedSites)],
-			More: max(0, len(sh.Sites)-maxSharedSites), P: strconv.FormatFloat(sh.P, 'g', 2, 64)}
+			More: max(0, len(sh.Sites)-maxSharedSites), P: pValue(sh.P)}
 		if !sh.End.IsZero() {
 			row.End = readable(sh.End)
 		}

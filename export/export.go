@@ -49,9 +49,6 @@ type Run struct {
 	Model    *model.Model
 	Table    *features.Table // the windows, placed, classified by events and decoded (timeline.Build), and mobile sites' paths
 	Switches []timeline.Switch
-	// Shared are the conditions that most sites of a regime showed
-	// together (timeline.Result.Shared), by start.
-	Shared   []timeline.Shared
 	Register *ingest.Register      // nil when there is none
 	Summary  *ingest.Summary       // what was read; nil when unknown
 	Info     any                   // machine-readable run summary, written as run.json
@@ -62,6 +59,10 @@ type Run struct {
 	// Conditions is the label knowledge from events; nil when there is
 	// none. Each window's likely condition is on the window.
 	Conditions *Conditions
+
+	// Shared are the conditions that most sites of a regime showed
+	// together (timeline.Result.Shared), by start.
+	Shared []timeline.Shared
 
 	// The work list, the data health and the comparison with the previous
 	// period of the history (nil without one).

@@ -38,6 +38,18 @@ func cell(v any) string {
 	return fmt.Sprint(v)
 }
 
+// parquetByName reads a Parquet file with the independent reader of
+// arrowColumns, its values by column name, nil for a null.
+func parquetByName(t *testing.T, b []byte) map[string][]any {
+	t.Helper()
+	schema, cols := arrowColumns(t, b)
+	out := map[string][]any{}
+	for i, f := range schema.Fields() {
+		out[f.Name] = cols[i]
+	}
+	return out
+}
+
 // readBack reads a table of the fixture's outputs with each reader, as
 // rows of cells in the order of columns: the CSV file with encoding/csv,
 // the Parquet file with arrow-go, the GeoPackage table with the SQLite
@@ -53,15 +65,15 @@ func readBack(t *testing.T, dir, csvFile, parquetFile, layer, runKey string, col
 		}
 		out["csv"] = append(out["csv"], row)
 	}
-	schema, cols := arrowColumns(t, read(t, dir, parquetFile))
-	for i := range cols[0] {
+	cols := parquetByName(t, read(t, dir, parquetFile))
+	for i := range cols[columns[0]] {
 		var row []string
 		for _, c := range columns {
-			idx := schema.FieldIndices(c)
-			if len(idx) != 1 {
+			v, ok := cols[c]
+			if !ok {
 				t.Fatalf("%s: no column %s", parquetFile, c)
 			}
-			row = append(row, cell(cols[idx[0]][i]))
+			row = append(row, cell(v[i]))
 		}
 		out["parquet"] = append(out["parquet"], row)
 	}

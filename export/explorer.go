@@ -82,6 +82,7 @@ type exSite struct {
 	Track      [][]any   `json:"tr"`             // per track segment: regime, then lon, lat pairs
 	Rank       int       `json:"rank,omitempty"` // the work list's most urgent row naming the site (attentionRanks); 0 for none
 	Events     []exEvent `json:"ev,omitempty"`   // the run's events at the site (Run.Conditions), by start
+	Onsets     []int64   `json:"on,omitempty"`   // onset, time and new regime of each switch after a drift (timeline.Switch.Onset)
 	Shared     []int64   `json:"sh,omitempty"`   // start, end, regime, looked-like regime of each shared condition the site showed (Run.Shared); end D.End while it lasts
 }
 
@@ -175,6 +176,9 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, er
 	for _, sw := range r.Switches {
 		if x := bySite[sw.Site]; x != nil {
 			x.Changes = append(x.Changes, minutes(sw.Time), int64(sw.From), int64(sw.To), int64(math.Round(100*sw.Confidence)))
+			if sw.Onset.Before(sw.Time) {
+				x.Onsets = append(x.Onsets, minutes(sw.Onset), minutes(sw.Time), int64(sw.To))
+			}
 		}
 	}
 	for id, shs := range sharedDays(r.Shared) {

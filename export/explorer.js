@@ -247,6 +247,12 @@
       strip.push('<path class="switch" d="M' + x(s.ch[k]) + ' 12v38M' + x(s.ch[k]) + " 12l-5 -7h10z\"><title>switch " + s.ch[k + 1] + " → " + s.ch[k + 2] +
         " at " + when(s.ch[k]) + ", confidence " + (s.ch[k + 3] / 100).toFixed(2) + "</title></path>");
     }
+    // Drifts that led to a switch: a bracket above the strip from the
+    // onset to the switch.
+    for (k = 0; k + 2 < (s.on || []).length; k += 3) {
+      strip.push('<path class="onset" d="M' + x(s.on[k]) + " 14V9H" + x(s.on[k + 1]) + '"><title>drift towards regime ' + s.on[k + 2] +
+        " from " + when(s.on[k]) + "</title></path>");
+    }
     // Shared conditions the site showed with most of its regime: a dashed
     // veil over the strip, listed below it.
     var shared = [];

@@ -298,3 +298,35 @@ func TestExplorerSharedDays(t *testing.T) {
 		}
 	}
 }
+
+// A site page of the explorer brackets the drift before each switch that
+// had one, from its onset, titled with it; a switch without a drift (T-7's)
+// has none.
+func TestExplorerDriftOnsets(t *testing.T) {
+	ctx := chromiumContext(t, 60*time.Second)
+	dir := t.TempDir()
+	if err := Write(dir, explorerRun()); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := openExplorer(ctx, filepath.Join(dir, ReportFile)); err != nil {
+		t.Fatalf("chromium: %v", err)
+	}
+	for _, site := range []string{"PS-01", "T-7", "X-9"} {
+		var want []string
+		for _, s := range fixtureSwitches {
+			if s.Site == site && s.Onset.Before(s.Time) {
+				want = append(want, fmt.Sprintf("drift towards regime %d from %s UTC", s.To, s.Onset.UTC().Format("2006-01-02 15:04")))
+			}
+		}
+		if heading, err := openSitePage(ctx, site); err != nil || heading != "Site "+site {
+			t.Fatalf("after #site=%s the site page is %q (%v)", site, heading, err)
+		}
+		got, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](`Array.from(document.querySelectorAll("#ex-site .strip path.onset")).map(e => e.querySelector("title").textContent)`))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(got, want) {
+			t.Errorf("%s: drift marks %q, want %q", site, got, want)
+		}
+	}
+}

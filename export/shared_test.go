@@ -1,6 +1,7 @@
 package export
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"html"
@@ -255,11 +256,9 @@ func TestReportSharedAndOnsets(t *testing.T) {
 	}
 }
 
-// A site page of the explorer veils the days of each shared condition the
-// site showed on its regime strip, titled with its days and regimes, and
-// lists them under the strip; a site that showed none has none.
-// The expected titles are built from the fixture's conditions.
-func TestExplorerSharedDays(t *testing.T) {
+// openExplorerRun writes explorerRun and opens its explorer in chromium.
+func openExplorerRun(t *testing.T) context.Context {
+	t.Helper()
 	ctx := chromiumContext(t, 60*time.Second)
 	dir := t.TempDir()
 	if err := Write(dir, explorerRun()); err != nil {
@@ -268,6 +267,15 @@ func TestExplorerSharedDays(t *testing.T) {
 	if _, err := openExplorer(ctx, filepath.Join(dir, ReportFile)); err != nil {
 		t.Fatalf("chromium: %v", err)
 	}
+	return ctx
+}
+
+// A site page of the explorer veils the days of each shared condition the
+// site showed on its regime strip, titled with its days and regimes, and
+// lists them under the strip; a site that showed none has none.
+// The expected titles are built from the fixture's conditions.
+func TestExplorerSharedDays(t *testing.T) {
+	ctx := openExplorerRun(t)
 	minute := func(t time.Time) string { return t.UTC().Format("2006-01-02 15:04") + " UTC" }
 	for _, site := range []string{"PS-01", "PS-02", "T-7", "X-9"} {
 		var want []string
@@ -303,14 +311,7 @@ func TestExplorerSharedDays(t *testing.T) {
 // had one, from its onset, titled with it; a switch without a drift (T-7's)
 // has none.
 func TestExplorerDriftOnsets(t *testing.T) {
-	ctx := chromiumContext(t, 60*time.Second)
-	dir := t.TempDir()
-	if err := Write(dir, explorerRun()); err != nil {
-		t.Fatal(err)
-	}
-	if _, err := openExplorer(ctx, filepath.Join(dir, ReportFile)); err != nil {
-		t.Fatalf("chromium: %v", err)
-	}
+	ctx := openExplorerRun(t)
 	for _, site := range []string{"PS-01", "T-7", "X-9"} {
 		var want []string
 		for _, s := range fixtureSwitches {

@@ -129,7 +129,9 @@ type Result struct {
 	showNotes bool
 }
 
-// RunInfo is the machine-readable summary of a run, written as run.json.
+// RunInfo is the machine-readable summary of a run, written as run.json;
+// export.Write adds the shared conditions (Result.Shared) as
+// "shared_changes" and the files it wrote as "files".
 type RunInfo struct {
 	Tool     string               `json:"tool"`
 	Version  string               `json:"version"`

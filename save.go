@@ -123,6 +123,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string, word func(string) s
 		Model:      r.Model,
 		Table:      r.Table,
 		Switches:   r.Switches,
+		Shared:     r.Shared,
 		Register:   r.Register,
 		Summary:    &r.Ingest,
 		Changes:    r.Changes,

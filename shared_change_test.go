@@ -1,13 +1,20 @@
 package kinmap_test
 
 import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"os"
 	"path/filepath"
 	"slices"
+	"strconv"
+	"strings"
 	"testing"
 	"time"
 
 	"github.com/kinmap/kinmap"
 	"github.com/kinmap/kinmap/attention"
+	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/scenarios"
 )
 
@@ -84,5 +91,88 @@ func TestSharedChangeEndToEnd(t *testing.T) {
 	}
 	if rows != 1 {
 		t.Errorf("%d fleet rows for the change, want 1", rows)
+	}
+	checkSharedOutputs(t, res)
+}
+
+// checkSharedOutputs writes the run's outputs and reads back, with
+// encoding/csv and encoding/json, the shared conditions of shared.csv and
+// run.json and the onsets of switches.csv: the same as the run's, in its
+// order, and listed among the files the run wrote.
+func checkSharedOutputs(t *testing.T, res *kinmap.Result) {
+	t.Helper()
+	dir := t.TempDir()
+	if err := res.Write(dir); err != nil {
+		t.Fatal(err)
+	}
+	table := func(name string) map[string][]string {
+		b, err := os.ReadFile(filepath.Join(dir, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		rows, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
+		if err != nil || len(rows) == 0 {
+			t.Fatalf("%s: %v", name, err)
+		}
+		cols := map[string][]string{}
+		for _, r := range rows[1:] {
+			for i, h := range rows[0] {
+				cols[h] = append(cols[h], r[i])
+			}
+		}
+		return cols
+	}
+	rfc := func(t time.Time) string { return t.UTC().Format(time.RFC3339) }
+	var starts, ids, counts []string
+	for _, sh := range res.Shared {
+		starts = append(starts, rfc(sh.Start))
+		ids = append(ids, strings.Join(sh.Sites, ","))
+		counts = append(counts, strconv.Itoa(len(sh.Sites)))
+	}
+	shared := table(export.SharedCSVFile)
+	if !slices.Equal(shared["start"], starts) || !slices.Equal(shared["site_ids"], ids) || !slices.Equal(shared["sites"], counts) {
+		t.Errorf("%s: starts %q, sites %q (%q); want %q, %q (%q)", export.SharedCSVFile, shared["start"], shared["sites"], shared["site_ids"], starts, counts, ids)
+	}
+	var onsets []string
+	drifts := 0
+	for _, s := range res.Switches {
+		if s.Onset.Before(s.Time) {
+			onsets = append(onsets, rfc(s.Onset))
+			drifts++
+		} else {
+			onsets = append(onsets, "")
+		}
+	}
+	t.Logf("%d shared conditions; %d switches, %d of them after a drift", len(res.Shared), len(onsets), drifts)
+	if got := table(export.SwitchesCSVFile)["onset"]; !slices.Equal(got, onsets) {
+		t.Errorf("%s: onsets %q, want %q", export.SwitchesCSVFile, got, onsets)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, export.RunFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var info struct {
+		Shared []struct {
+			Start   time.Time `json:"start"`
+			SiteIDs string    `json:"site_ids"`
+		} `json:"shared_changes"`
+		Files []string `json:"files"`
+	}
+	if err := json.Unmarshal(b, &info); err != nil {
+		t.Fatal(err)
+	}
+	var got []string
+	for _, sh := range info.Shared {
+		got = append(got, rfc(sh.Start)+" "+sh.SiteIDs)
+	}
+	var want []string
+	for i := range starts {
+		want = append(want, starts[i]+" "+ids[i])
+	}
+	if !slices.Equal(got, want) {
+		t.Errorf("run.json shared_changes %q, want %q", got, want)
+	}
+	if !slices.Contains(info.Files, export.SharedCSVFile) || !slices.Contains(info.Files, export.SharedParquetFile) {
+		t.Errorf("run.json files %v lack the shared tables", info.Files)
 	}
 }

@@ -62,6 +62,8 @@ func ExampleWrite() {
 	// regimes.geojson
 	// report.html
 	// run.json
+	// shared.csv
+	// shared.parquet
 	// sites.geojson
 	// switches.csv
 	// switches.parquet

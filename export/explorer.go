@@ -83,6 +83,8 @@ type exSite struct {
 	Track      [][]any   `json:"tr"`             // per track segment: regime, then lon, lat pairs
 	Rank       int       `json:"rank,omitempty"` // the work list's most urgent row naming the site (attentionRanks); 0 for none
 	Events     []exEvent `json:"ev,omitempty"`   // the run's events at the site (Run.Conditions), by start
+	Onsets     []int64   `json:"on,omitempty"`   // onset, time and new regime of each switch after a drift (timeline.Switch.Onset)
+	Shared     []int64   `json:"sh,omitempty"`   // start, end, regime, looked-like regime of each shared condition the site showed (Run.Shared); end D.End while it lasts
 }
 
 // exEvent is one event of a site: start and end in minutes (end equal to
@@ -115,7 +117,8 @@ type exDaily struct {
 func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, err error) {
 	m := r.Model
 	l := m.Map.Lattice
-	d := explorerData{Cells: l.Cells(), Torus: !l.Flat, Cols: l.Cols, Rows: l.Rows, Features: featureNames(m)}
+	// Attrs is a list even without a register: the page reads it.
+	d := explorerData{Cells: l.Cells(), Torus: !l.Flat, Cols: l.Cols, Rows: l.Rows, Features: featureNames(m), Attrs: []string{}}
 	hits := m.Map.Hits(r.Table.Windows)
 	for u := range l.Units() {
 		d.Units = append(d.Units, exUnit{Regime: m.UnitRegime[u], Hits: hits[u], Profile: profile(m, u)})
@@ -174,6 +177,20 @@ func explorerJSON(r *Run, ss []*site, tracks []*feature) (data, daily []byte, er
 	for _, sw := range r.Switches {
 		if x := bySite[sw.Site]; x != nil {
 			x.Changes = append(x.Changes, minutes(sw.Time), int64(sw.From), int64(sw.To), int64(math.Round(100*sw.Confidence)))
+			if sw.Onset.Before(sw.Time) {
+				x.Onsets = append(x.Onsets, minutes(sw.Onset), minutes(sw.Time), int64(sw.To))
+			}
+		}
+	}
+	for id, shs := range sharedDays(r.Shared) {
+		if x := bySite[id]; x != nil {
+			for _, sh := range shs {
+				end := d.End
+				if !sh.End.IsZero() {
+					end = minutes(sh.End)
+				}
+				x.Shared = append(x.Shared, minutes(sh.Start), end, int64(sh.Regime), int64(sh.Like))
+			}
 		}
 	}
 	if c := r.Conditions; c != nil {

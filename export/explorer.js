@@ -247,6 +247,22 @@
       strip.push('<path class="switch" d="M' + x(s.ch[k]) + ' 12v38M' + x(s.ch[k]) + " 12l-5 -7h10z\"><title>switch " + s.ch[k + 1] + " → " + s.ch[k + 2] +
         " at " + when(s.ch[k]) + ", confidence " + (s.ch[k + 3] / 100).toFixed(2) + "</title></path>");
     }
+    // Drifts that led to a switch: a bracket above the strip from the
+    // onset to the switch.
+    for (k = 0; k + 2 < (s.on || []).length; k += 3) {
+      strip.push('<path class="onset" d="M' + x(s.on[k]) + " 14V9H" + x(s.on[k + 1]) + '"><title>drift towards regime ' + s.on[k + 2] +
+        " from " + when(s.on[k]) + "</title></path>");
+    }
+    // Shared conditions the site showed with most of its regime: a dashed
+    // veil over the strip, listed below it.
+    var shared = [];
+    for (k = 0; k + 3 < (s.sh || []).length; k += 4) {
+      var said = when(s.sh[k]) + (s.sh[k + 1] < D.end ? " to " + when(s.sh[k + 1]) : " to the last window") +
+        ": like most sites of regime " + s.sh[k + 2] + ", looked like regime " + s.sh[k + 3] + " (a fleet-wide change, not a switch)";
+      strip.push('<path class="shared" d="M' + x(s.sh[k]) + " 15h" + Math.max(2, x(s.sh[k + 1]) - x(s.sh[k])).toFixed(1) +
+        'v32H' + x(s.sh[k]) + 'z"><title>' + esc(said) + "</title></path>");
+      shared.push(said);
+    }
     // Events of the site (--events), below the strip: a bar for an
     // interval, a triangle for a point; times outside the run at its edge.
     var clamp = function (m) { return Math.min(Math.max(m, 0), D.end); };
@@ -269,6 +285,7 @@
       (attrs ? '<table class="facts mini">' + attrs + "</table>" : "") +
       '<svg class="strip" viewBox="-10 0 ' + (W + 20) + ' 90" width="100%" role="img" aria-label="Regime strip">' + strip.join("") + ticks.join("") + "</svg>" +
       (events.length ? '<ul class="events">' + events.map(function (e) { return "<li>" + esc(e) + "</li>"; }).join("") + "</ul>" : "") +
+      (shared.length ? '<ul class="shared-days">' + shared.map(function (e) { return "<li>" + esc(e) + "</li>"; }).join("") + "</ul>" : "") +
       (changes.length ? "<p>" + changes.map(function (c) {
         return "Switch " + swatch(c.from) + c.from + " → " + swatch(c.to) + c.to + " from " + when(c.at) + " (confidence " + (c.conf / 100).toFixed(2) + ")";
       }).join("<br>") + "</p>" : "");

@@ -59,6 +59,10 @@ type Run struct {
 	// none. Each window's likely condition is on the window.
 	Conditions *Conditions
 
+	// Shared are the conditions that most sites of a regime showed
+	// together (timeline.Result.Shared), by start.
+	Shared []timeline.Shared
+
 	// The work list, the data health and the comparison with the previous
 	// period of the history (nil without one).
 	Attention []attention.Row
@@ -87,7 +91,8 @@ type Run struct {
 // (the last window's); dominant_regime (most windows, the lower ID on a
 // tie); shares, an object giving the share of windows in each regime of
 // the model by regime ID; windows; switches (count); last_switch (RFC
-// 3339, or null); col and row (the last window's BMU cell); qe (mean
+// 3339, or null); last_switch_onset (the start of the drift that led to
+// it, or null when it had none); col and row (the last window's BMU cell); qe (mean
 // quantization error); unfamiliar (true when any window was unfamiliar);
 // unfamiliar_windows; mobile; home_lon and home_lat, the registered
 // position (null when none).
@@ -106,7 +111,15 @@ type Run struct {
 // timeline.parquet and timeline.csv hold one row per window (site,
 // window_start, window_end, col, row, regime, qe, unfamiliar), switches.csv
 // and switches.parquet one per switch (site, time, from_regime, to_regime,
-// windows_before, windows_after, confidence), by site and time; CSV times
+// windows_before, windows_after, confidence, from_name, from_status,
+// to_name, to_status, onset: the start of the drift that led to it, empty
+// or null when none was found), by site and time; shared.csv and
+// shared.parquet one per shared condition, r.Shared (start; end, empty or
+// null while it lasts to the last window; regime, regime_name,
+// regime_status; like_regime, like_name, like_status: the regime its
+// sites looked like; sites that showed it; regime_sites, the regime's
+// sites with a window in it; site_ids, comma-separated; p_value), by
+// start; CSV times
 // are RFC 3339 in UTC, Parquet times TIMESTAMP in microseconds adjusted to
 // UTC. Then come features.parquet, the model file, attention.csv and
 // attention.parquet (the work list, r.Attention: rank, level, kind, site,
@@ -115,7 +128,8 @@ type Run struct {
 // (r.Health: kind, site, channel, count, share, warning, detail), run.json
 // (r.Info as JSON), the pictures of package picture and report.html.
 //
-// run.json also gets a "files" list: the files of dir this run wrote.
+// run.json also gets a "shared_changes" list, the rows of shared.csv,
+// and a "files" list: the files of dir this run wrote.
 //
 // Write commits the files together (see Stage); it waits at most a minute
 // for another run writing into dir.
@@ -161,7 +175,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 		write func(io.Writer) error
 	}
 	sites, regimes, tracks := siteFeatures(r, ss), regimeFeatures(r, ss), trackFeatures(r, ss)
-	tl, sw := timelineRows(r, ss), switchRows(r)
+	tl, sw, sh := timelineRows(r, ss), switchRows(r), sharedRows(r)
 	files := []file{
 		{SitesFile, func(w io.Writer) error { return writeCollection(w, sites) }},
 		{RegimesFile, func(w io.Writer) error { return writeCollection(w, regimes) }},
@@ -174,8 +188,10 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 		file{TimelineCSVFile, func(w io.Writer) error { return writeCSV(w, timelineColumns, tl) }},
 		file{SwitchesCSVFile, func(w io.Writer) error { return writeCSV(w, switchColumns, sw) }},
 		file{SwitchesParquetFile, func(w io.Writer) error { return writeParquet(w, sw) }},
+		file{SharedCSVFile, func(w io.Writer) error { return writeCSV(w, sharedColumns, sh) }},
+		file{SharedParquetFile, func(w io.Writer) error { return writeParquet(w, sh) }},
 		file{GeoPackageFile, func(w io.Writer) error {
-			layers, err := gpkgLayers(sites, regimes, tracks, tl, sw)
+			layers, err := gpkgLayers(sites, regimes, tracks, tl, sw, sh)
 			if err != nil {
 				return err
 			}
@@ -197,7 +213,7 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	listed = append(listed, RunFile)
 	all := append(slices.Clone(listed), ReportFile)
 	files = append(files,
-		file{RunFile, func(w io.Writer) error { return writeRunFile(w, r.Info, all) }},
+		file{RunFile, func(w io.Writer) error { return writeRunFile(w, r.Info, sh, all) }},
 		file{ReportFile, func(w io.Writer) error { return writeReport(w, r, ss, tracks, warnings, pics, listed) }},
 	)
 	for _, f := range files {
@@ -215,9 +231,9 @@ func Stage(tx *atomicfile.Tx, dir string, r *Run) error {
 	return nil
 }
 
-// writeRunFile writes info, a JSON object or nil, indented, with files
-// added as "files".
-func writeRunFile(w io.Writer, info any, files []string) error {
+// writeRunFile writes info, a JSON object or nil, indented, with shared
+// added as "shared_changes" and files as "files".
+func writeRunFile(w io.Writer, info any, shared []sharedRow, files []string) error {
 	b, err := json.Marshal(info)
 	if err != nil {
 		return err
@@ -228,6 +244,10 @@ func writeRunFile(w io.Writer, info any, files []string) error {
 	if len(b) < 2 || b[0] != '{' {
 		return fmt.Errorf("the run summary is not a JSON object")
 	}
+	changes, err := json.Marshal(shared)
+	if err != nil {
+		return err
+	}
 	list, err := json.Marshal(files)
 	if err != nil {
 		return err
@@ -236,7 +256,8 @@ func writeRunFile(w io.Writer, info any, files []string) error {
 	if string(b) == "{}" {
 		sep = ""
 	}
-	b = append(append(append(b[:len(b)-1:len(b)-1], sep+`"files":`...), list...), '}')
+	b = append(b[:len(b)-1:len(b)-1], sep+`"shared_changes":`...)
+	b = append(append(append(append(b, changes...), `,"files":`...), list...), '}')
 	var out bytes.Buffer
 	if err := json.Indent(&out, b, "", "  "); err != nil {
 		return err
@@ -297,7 +318,7 @@ func CheckDir(dir string) ([]string, error) {
 // outputNames returns every name Write may give a file.
 func outputNames() []string {
 	return append([]string{SitesFile, RegimesFile, TracksFile, GeoPackageFile, TimelineParquetFile, TimelineCSVFile, SwitchesCSVFile,
-		SwitchesParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile, AttentionCSVFile, AttentionParquetFile, HealthFile}, picture.Files()...)
+		SwitchesParquetFile, SharedCSVFile, SharedParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile, AttentionCSVFile, AttentionParquetFile, HealthFile}, picture.Files()...)
 }
 
 // IsOutput reports whether Write may write a file called name.

@@ -34,10 +34,18 @@ var fixture = []fixtureSite{
 }
 
 // fixtureSwitches are the switches of the fixture, as the timeline would
-// report them.
+// report them: PS-01's after a drift from day 1, T-7's without one.
 var fixtureSwitches = []timeline.Switch{
-	{Site: "PS-01", Time: day0.AddDate(0, 0, 3), From: 1, To: 2, Before: 3, After: 3, Confidence: 0.9},
-	{Site: "T-7", Time: day0.AddDate(0, 0, 2), From: 1, To: 3, Before: 2, After: 3, Confidence: 0.75},
+	{Site: "PS-01", Time: day0.AddDate(0, 0, 3), Onset: day0.AddDate(0, 0, 1), From: 1, To: 2, Before: 3, After: 3, Confidence: 0.9},
+	{Site: "T-7", Time: day0.AddDate(0, 0, 2), Onset: day0.AddDate(0, 0, 2), From: 1, To: 3, Before: 2, After: 3, Confidence: 0.75},
+}
+
+// fixtureShared are the shared conditions of the fixture: one that ended
+// (regime 3 looking like the labelled regime 2 for two days) and one that
+// lasts to the last window.
+var fixtureShared = []timeline.Shared{
+	{Start: day0.AddDate(0, 0, 1), End: day0.AddDate(0, 0, 3), Regime: 3, Like: 2, Sites: []string{"PS-02", "T-7"}, Of: 2, P: 0.0042},
+	{Start: day0.AddDate(0, 0, 4), Regime: 1, Like: 3, Sites: []string{"PS-01"}, Of: 1, P: 1.5e-5},
 }
 
 func fixtureModel() *model.Model {
@@ -101,6 +109,7 @@ func fixtureRun() *Run {
 		Model:    m,
 		Table:    &features.Table{Names: m.FeatureNames, Skipped: map[string]features.Skips{"PS-02": {"coverage": 2}}},
 		Switches: fixtureSwitches,
+		Shared:   fixtureShared,
 		Register: reg,
 		Summary: &ingest.Summary{
 			Files:  []ingest.FileSummary{{Path: "week10.parquet", Format: "parquet", Rows: 5000}},

@@ -104,7 +104,7 @@ func point(s *site) orb.Geometry {
 // reserved are the property names of sites.geojson that kinmap sets itself.
 func reserved() map[string]bool {
 	r := map[string]bool{}
-	for _, k := range []string{"site", "regime", "regime_name", "regime_status", "dominant_regime", "shares", "windows", "switches", "last_switch", "col", "row", "qe", "unfamiliar", "unfamiliar_windows", "mobile", "home_lon", "home_lat"} {
+	for _, k := range []string{"site", "regime", "regime_name", "regime_status", "dominant_regime", "shares", "windows", "switches", "last_switch", "last_switch_onset", "col", "row", "qe", "unfamiliar", "unfamiliar_windows", "mobile", "home_lon", "home_lat"} {
 		r[k] = true
 	}
 	return r
@@ -154,6 +154,11 @@ func siteFeatures(r *Run, ss []*site) []*feature {
 			p.add("last_switch", nil)
 		} else {
 			p.add("last_switch", s.lastSw)
+		}
+		if s.lastOnset.IsZero() {
+			p.add("last_switch_onset", nil)
+		} else {
+			p.add("last_switch_onset", s.lastOnset)
 		}
 		col, row := r.Model.Map.Lattice.Cell(s.last.Unit)
 		p.add("col", col)

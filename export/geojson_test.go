@@ -274,7 +274,7 @@ func TestSitesGeoJSON(t *testing.T) {
 		"regime":          2.0, "dominant_regime": 1.0, // 3 windows each: the lower ID
 		"regime_name": "worn bearing, \"B\"", "regime_status": "fault", // the user's label of regime 2
 		"windows":  6.0,
-		"switches": 1.0, "last_switch": "2025-03-04T00:00:00Z",
+		"switches": 1.0, "last_switch": "2025-03-04T00:00:00Z", "last_switch_onset": "2025-03-02T00:00:00Z",
 		"col": 2.0, "row": 0.0, "qe": 0.35, "unfamiliar": false, "unfamiliar_windows": 0.0, "mobile": false,
 		"home_lon": 7.4474, "home_lat": 46.948,
 		"likely_condition": "", "condition_confidence": 0.0, // a run without label knowledge
@@ -298,6 +298,10 @@ func TestSitesGeoJSON(t *testing.T) {
 	q := sites["X-9"]["properties"].(map[string]any)
 	if q["unfamiliar"] != true || q["unfamiliar_windows"] != 1.0 || q["last_switch"] != nil || q["name"] != nil {
 		t.Errorf("X-9 properties %v: want unfamiliar, 1 unfamiliar window, no last switch, no register name", q)
+	}
+	// T-7's switch had no drift before it (Onset equal to Time).
+	if q := sites["T-7"]["properties"].(map[string]any); q["last_switch"] != "2025-03-03T00:00:00Z" || q["last_switch_onset"] != nil {
+		t.Errorf("T-7 last switch %v, onset %v; want 2025-03-03T00:00:00Z and null", q["last_switch"], q["last_switch_onset"])
 	}
 	if q := sites["T-7"]["properties"].(map[string]any); q["mobile"] != true || q["home_lon"] != nil || q["home_lat"] != nil {
 		t.Errorf("T-7 properties %v: want mobile, with no home position (it is not registered)", q)
@@ -381,7 +385,7 @@ func TestOgrinfo(t *testing.T) {
 			"site": "String", "name": "String", "capacity_kw": "Integer", "elevation_m": "Real",
 			"active": "Integer(Boolean)", "register_regime": "String",
 			"regime": "Integer", "regime_name": "String", "regime_status": "String", "dominant_regime": "Integer", "shares": "String(JSON)",
-			"windows": "Integer", "switches": "Integer", "last_switch": "DateTime",
+			"windows": "Integer", "switches": "Integer", "last_switch": "DateTime", "last_switch_onset": "DateTime",
 			"col": "Integer", "row": "Integer", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer", "mobile": "Integer(Boolean)",
 			"home_lon": "Real", "home_lat": "Real", "likely_condition": "String", "condition_confidence": "Real",

@@ -95,9 +95,9 @@ func featureLayer(name, description, geometry string, features []*feature) (gpkg
 }
 
 // gpkgLayers are the tables of kinmap.gpkg: the layers of the GeoJSON
-// files (tracks only when there are any) and the timeline and switch
-// tables, with the same fields.
-func gpkgLayers(sites, regimes, tracks []*feature, tl []timelineRow, sw []switchRow) ([]gpkgLayer, error) {
+// files (tracks only when there are any) and the timeline, switch and
+// shared condition tables, with the same fields.
+func gpkgLayers(sites, regimes, tracks []*feature, tl []timelineRow, sw []switchRow, sh []sharedRow) ([]gpkgLayer, error) {
 	var out []gpkgLayer
 	for _, l := range []struct {
 		name, description, geometry string
@@ -119,6 +119,7 @@ func gpkgLayers(sites, regimes, tracks []*feature, tl []timelineRow, sw []switch
 	return append(out,
 		attributesLayer("timeline", "one row per window, as "+TimelineCSVFile, timelineColumns, tl),
 		attributesLayer("switches", "one row per regime switch, as "+SwitchesCSVFile, switchColumns, sw),
+		attributesLayer("shared", "one row per condition most sites of a regime showed together, as "+SharedCSVFile, sharedColumns, sh),
 	), nil
 }
 

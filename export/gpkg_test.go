@@ -42,7 +42,7 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 			"site": "String", "name": "String", "capacity_kw": "Integer64", "elevation_m": "Real",
 			"active": "Integer(Boolean)", "register_regime": "String",
 			"regime": "Integer64", "regime_name": "String", "regime_status": "String", "dominant_regime": "Integer64", "shares": "String(JSON)",
-			"windows": "Integer64", "switches": "Integer64", "last_switch": "DateTime",
+			"windows": "Integer64", "switches": "Integer64", "last_switch": "DateTime", "last_switch_onset": "DateTime",
 			"col": "Integer64", "row": "Integer64", "qe": "Real",
 			"unfamiliar": "Integer(Boolean)", "unfamiliar_windows": "Integer64", "mobile": "Integer(Boolean)",
 			"home_lon": "Real", "home_lat": "Real", "likely_condition": "String", "condition_confidence": "Real",
@@ -62,7 +62,12 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 		{"switches", ogrLayer{"None", len(fixtureSwitches), map[string]string{
 			"site": "String", "time": "DateTime", "from_regime": "Integer64", "to_regime": "Integer64",
 			"windows_before": "Integer64", "windows_after": "Integer64", "confidence": "Real",
-			"from_name": "String", "from_status": "String", "to_name": "String", "to_status": "String",
+			"from_name": "String", "from_status": "String", "to_name": "String", "to_status": "String", "onset": "DateTime",
+		}}},
+		{"shared", ogrLayer{"None", len(fixtureShared), map[string]string{
+			"start": "DateTime", "end": "DateTime", "regime": "Integer64", "regime_name": "String", "regime_status": "String",
+			"like_regime": "Integer64", "like_name": "String", "like_status": "String",
+			"sites": "Integer64", "regime_sites": "Integer64", "site_ids": "String", "p_value": "Real",
 		}}},
 	}
 	if len(layers) != len(tests) {
@@ -164,7 +169,7 @@ func TestGeoPackageContents(t *testing.T) {
 		t.Errorf("gpkg_spatial_ref_sys %v, want %s", srs, want)
 	}
 	contents := query(t, db, `SELECT table_name, data_type, IFNULL(srs_id, 'none') FROM gpkg_contents ORDER BY table_name`)
-	if want := "[[regimes features 4326] [sites features 4326] [switches attributes none] [timeline attributes none] [tracks features 4326]]"; fmt.Sprint(contents) != want {
+	if want := "[[regimes features 4326] [shared attributes none] [sites features 4326] [switches attributes none] [timeline attributes none] [tracks features 4326]]"; fmt.Sprint(contents) != want {
 		t.Errorf("gpkg_contents %v, want %s", contents, want)
 	}
 	columns := query(t, db, `SELECT table_name, column_name, geometry_type_name, srs_id FROM gpkg_geometry_columns ORDER BY table_name`)
@@ -290,7 +295,7 @@ func TestGeoPackageSpeed(t *testing.T) {
 		p.add("regime", 1+s%6)
 		points = append(points, &feature{Type: "Feature", Geometry: orb.Point{float64(s%360) - 180, float64(s%170) - 85}, Properties: p})
 	}
-	layers, err := gpkgLayers(points, points[:6], nil, tl, nil)
+	layers, err := gpkgLayers(points, points[:6], nil, tl, nil, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

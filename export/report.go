@@ -58,6 +58,7 @@ type reportSwitch struct {
 	From, To      int
 	Before, After int
 	Confidence    string
+	Onset         string // the start of the drift that led to it; "" for none
 }
 
 type siteCount struct {
@@ -86,6 +87,7 @@ type reportData struct {
 	Script          template.JS    // the explorer's script
 	Triage          triageData
 	Labels          *labelsSection // regimes in engineering terms (report_labels.html)
+	Shared          sharedSection  // fleet-wide changes (report_shared.html)
 }
 
 func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []string, pics []picture.Picture, files []string) error {
@@ -154,6 +156,9 @@ func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []
 			Site: s.Site, Time: readable(s.Time), From: s.From, To: s.To,
 			Before: s.Before, After: s.After, Confidence: strconv.FormatFloat(s.Confidence, 'f', 2, 64),
 		})
+		if s.Onset.Before(s.Time) {
+			d.Switches[i].Onset = readable(s.Onset)
+		}
 	}
 
 	d.Run = []fact{
@@ -169,6 +174,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []
 	d.Events = eventsReport(r, ss)
 	d.Triage = triageOf(r)
 	d.Labels = labelsData(r)
+	d.Shared = sharedReport(r)
 	d.Data = dataFacts(r)
 	d.Map = mapFacts(r.Model)
 	if r.Info != nil {

@@ -26,6 +26,7 @@ type site struct {
 	count      map[int]int // windows by regime ID
 	switches   int
 	lastSw     time.Time // zero when the site did not switch
+	lastOnset  time.Time // the drift onset of the last switch; zero when it had none
 	meanQE     float64
 	unfamiliar int // unfamiliar windows
 }
@@ -72,7 +73,10 @@ func sites(r *Run) ([]*site, []string) {
 		if s := byID[sw.Site]; s != nil {
 			s.switches++
 			if sw.Time.After(s.lastSw) {
-				s.lastSw = sw.Time
+				s.lastSw, s.lastOnset = sw.Time, time.Time{}
+				if sw.Onset.Before(sw.Time) {
+					s.lastOnset = sw.Onset
+				}
 			}
 		}
 	}

@@ -46,6 +46,10 @@ type switchRow struct {
 	FromStatus string `parquet:"from_status,dict"`
 	ToName     string `parquet:"to_name,dict"`
 	ToStatus   string `parquet:"to_status,dict"`
+	// Onset is the start of the drift towards the new regime that led to
+	// the switch (timeline.Switch.Onset); nil when none was found. Last,
+	// so that the columns before it keep their places.
+	Onset *time.Time `parquet:"onset,optional,timestamp(microsecond:utc)"`
 }
 
 // The columns of the timeline and switch tables, for CSV headers and the
@@ -57,7 +61,7 @@ var (
 		{"likely_condition", "TEXT"}, {"condition_confidence", "REAL"}}
 	switchColumns = []gpkgColumn{{"site", "TEXT"}, {"time", "DATETIME"}, {"from_regime", "INTEGER"}, {"to_regime", "INTEGER"},
 		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"},
-		{"from_name", "TEXT"}, {"from_status", "TEXT"}, {"to_name", "TEXT"}, {"to_status", "TEXT"}}
+		{"from_name", "TEXT"}, {"from_status", "TEXT"}, {"to_name", "TEXT"}, {"to_status", "TEXT"}, {"onset", "DATETIME"}}
 )
 
 func (r timelineRow) values() []any {
@@ -66,13 +70,24 @@ func (r timelineRow) values() []any {
 
 func (r switchRow) values() []any {
 	return []any{r.Site, r.Time, r.FromRegime, r.ToRegime, r.WindowsBefore, r.WindowsAfter, r.Confidence,
-		r.FromName, r.FromStatus, r.ToName, r.ToStatus}
+		r.FromName, r.FromStatus, r.ToName, r.ToStatus, optionalTime(r.Onset)}
+}
+
+// optionalTime is a row value of a time that may be missing: nil, which
+// CSV writes empty and the GeoPackage as NULL, when t is.
+func optionalTime(t *time.Time) any {
+	if t == nil {
+		return nil
+	}
+	return *t
 }
 
 // csvField writes a value of a row as CSV text: times RFC 3339 in UTC,
-// floats the shortest decimal that reads back the same.
+// floats the shortest decimal that reads back the same, nil empty.
 func csvField(v any) string {
 	switch v := v.(type) {
+	case nil:
+		return ""
 	case time.Time:
 		return rfc3339(v)
 	case float64:
@@ -128,6 +143,10 @@ func switchRows(r *Run) []switchRow {
 		}
 		rows[i].FromName, rows[i].FromStatus = regimeLabel(r.Model, s.From)
 		rows[i].ToName, rows[i].ToStatus = regimeLabel(r.Model, s.To)
+		if !s.Onset.IsZero() && s.Onset.Before(s.Time) {
+			t := micro(s.Onset)
+			rows[i].Onset = &t
+		}
 	}
 	return rows
 }

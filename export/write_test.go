@@ -33,7 +33,7 @@ func TestWriteFiles(t *testing.T) {
 	}
 	files := snapshot(t, dir)
 	for _, name := range []string{SitesFile, RegimesFile, TracksFile, TimelineParquetFile, TimelineCSVFile,
-		SwitchesCSVFile, SwitchesParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile} {
+		SwitchesCSVFile, SwitchesParquetFile, SharedCSVFile, SharedParquetFile, FeaturesFile, ModelFile, RunFile, ReportFile} {
 		if len(files[name]) == 0 {
 			t.Errorf("%s missing or empty", name)
 		}

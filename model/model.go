@@ -37,7 +37,9 @@ import (
 // surface) instead of the booleans Hex and Flat; older files read as before.
 // Version 5 adds the channels' units (Units), which an older build would
 // refuse as an unknown field; older files read as before, without units.
-const FormatVersion = 5
+// Version 6 adds the phases (Phases), areas found as regimes that no site
+// held; older files read as before, without phases.
+const FormatVersion = 6
 
 // Score is the Davies–Bouldin index of one number of regimes K, as model
 // files before format version 3 recorded it: lower was better.
@@ -80,6 +82,12 @@ type Model struct {
 	// absent. Files before format version 5 have none.
 	Units map[string]string `json:",omitempty"`
 
+	// Phases are areas of the map found as regimes that no site held after
+	// decoding, each a phase of a held regime (see Fold); decoding scores
+	// windows against them too (States). Files before format version 6
+	// have none.
+	Phases []Phase `json:",omitempty"`
+
 	// Conditions is what labelled events (maintenance and inspection
 	// records) said about the windows each unit won; nil when no run of
 	// the model was given events. Files without it read as before.
@@ -106,7 +114,9 @@ func Train(t *features.Table, x *mat.Dense, sc *features.Scaler, cfg mapper.Conf
 // mapper.MatchRegimes. The model returned keeps prev's feature schema,
 // feature settings, normalisation and lineage; the changes list every
 // renumbering, split and merge; names and statuses follow the regime
-// numbers (mapper.CarryLabels). The windows of t are placed on the new map.
+// numbers (mapper.CarryLabels). prev's phases (Phase) are matched like
+// its regimes; the regimes found are all regimes of the model returned.
+// The windows of t are placed on the new map.
 func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*Model, []mapper.RegimeChange, error) {
 	if err := checkNames(x, prev.Scaler); err != nil {
 		return nil, nil, err
@@ -119,7 +129,10 @@ func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*M
 	if err != nil {
 		return nil, nil, err
 	}
-	ids, changes, err := mapper.MatchRegimes(prev.Regimes, next.Regimes)
+	// prev's phases are matched too, so that an area that was a phase
+	// keeps its number.
+	states, _ := prev.States()
+	ids, changes, err := mapper.MatchRegimes(states, next.Regimes)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -248,6 +261,9 @@ func (m *Model) Renumber(ids []int) error {
 	}
 	for u, id := range m.UnitRegime {
 		m.UnitRegime[u] = old[id]
+	}
+	for j := range m.Phases {
+		m.Phases[j].Of = old[m.Phases[j].Of]
 	}
 	return nil
 }
@@ -461,7 +477,7 @@ func (m *Model) check() error {
 	if listed != u {
 		return fmt.Errorf("the regimes list %d units, the map has %d", listed, u)
 	}
-	return nil
+	return m.checkPhases(ids)
 }
 
 // checkValues verifies the numbers a checksum cannot vouch for, since a

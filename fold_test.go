@@ -25,17 +25,7 @@ func TestFoldWeekendPhase(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	fleet, err := scenarios.Generate(spec)
-	if err != nil {
-		t.Fatal(err)
-	}
-	dir := t.TempDir()
-	if _, err := fleet.Write(dir, scenarios.FileSites, scenarios.FileLongParquet); err != nil {
-		t.Fatal(err)
-	}
-	o := kinmap.DefaultOptions()
-	o.Data = []string{filepath.Join(dir, scenarios.FileLongParquet)}
-	o.Sites = filepath.Join(dir, scenarios.FileSites)
+	fleet, o := scenarioOptions(t, spec)
 	res, err := kinmap.Train(o)
 	if err != nil {
 		t.Fatal(err)
@@ -58,7 +48,7 @@ func TestFoldWeekendPhase(t *testing.T) {
 	if len(m.Phases) > 0 && !strings.Contains(res.Info.Regimes.Note, "is a phase of regime") {
 		t.Errorf("choice note %q names no phase", res.Info.Regimes.Note)
 	}
-	path := filepath.Join(dir, "fleet.model")
+	path := filepath.Join(t.TempDir(), "fleet.model")
 	if err := m.WriteFile(path); err != nil {
 		t.Fatal(err)
 	}

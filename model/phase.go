@@ -52,7 +52,15 @@ func (m *Model) States() (states []mapper.Regime, report []int) {
 // definition the grouping tests, see mapper.FindRegimes); an area no site
 // is ever decoded into is, by that definition, part of the regime whose
 // sites' windows it describes. Its centroid stays a state of the decoding
-// (States), which keeps the decoding of ws as it was.
+// (States), which keeps the decoding of ws as it was. This is how mixture
+// components are combined into clusters: each component keeps its part in
+// the likelihood and a cluster is the union of components, merged where
+// the assignments of the data say they belong together (J.-P. Baudry,
+// A. E. Raftery, G. Celeux, K. Lo and R. Gottardo, "Combining mixture
+// components for clustering", J. Comput. Graph. Stat. 19(2), 2010;
+// C. Hennig, "Methods for merging Gaussian mixture components", Adv. Data
+// Anal. Classif. 4, 2010; cited from memory). Here the assignments are the
+// decoded timelines, and a component none of them holds is merged whole.
 func (m *Model) Fold(ws []features.Window) []Phase {
 	held := map[int]int{}
 	into := map[[2]int]int{} // (regime of the unit, decoded regime) → windows

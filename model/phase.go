@@ -185,7 +185,7 @@ func (m *Model) Adjacent(p Phase) bool {
 	return false
 }
 
-// Describe says in a sentence which area was folded as a phase of which
+// describe says in a sentence which area was folded as a phase of which
 // regime, and whether it borders it on the map.
 func (p Phase) describe(adjacent bool) string {
 	where := "next to it on the map"

@@ -171,10 +171,10 @@ func nearest(c []float64, rs []mapper.Regime) int {
 	return best
 }
 
-// Adjacent reports whether the phase's units touch those of its host on
+// adjacent reports whether the phase's units touch those of its host on
 // the lattice of m (Ward's regions are connected, a phase found as one of
 // them usually borders the regime it is folded into).
-func (m *Model) Adjacent(p Phase) bool {
+func (m *Model) adjacent(p Phase) bool {
 	for _, u := range p.Units {
 		for _, v := range m.Map.Lattice.Neighbours(u) {
 			if m.UnitRegime[v] == p.Of && !slices.Contains(p.Units, v) {
@@ -201,7 +201,7 @@ func (p Phase) describe(adjacent bool) string {
 func (m *Model) PhaseNotes() []string {
 	out := make([]string, len(m.Phases))
 	for i, p := range m.Phases {
-		out[i] = p.describe(m.Adjacent(p))
+		out[i] = p.describe(m.adjacent(p))
 	}
 	return out
 }

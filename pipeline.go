@@ -80,8 +80,9 @@ func Assign(o Options, m *model.Model) (*Result, error) {
 // small neighbourhood, derives the regimes again and matches them to the
 // model's regimes (Hungarian algorithm on centroid distances), so that a
 // regime keeps its number; Result.Changes lists every renumbering, new
-// regime, split and merge. The number of regimes stays that of the model
-// unless o.Map.Regimes sets another. The feature schema and the normalisation stay
+// regime, split and merge. The number of regimes stays that of the model,
+// its phases (model.Phase) included, unless o.Map.Regimes sets another
+// number; an area no site holds after decoding is again a phase. The feature schema and the normalisation stay
 // those of the model.
 func Update(o Options, prev *model.Model) (*Result, error) {
 	if err := o.Validate(); err != nil {
@@ -96,7 +97,9 @@ func Update(o Options, prev *model.Model) (*Result, error) {
 	if mc.Regimes == 0 {
 		// The number of regimes stays unless asked otherwise: choosing it
 		// afresh on every dump would make numbers come and go with noise.
-		mc.Regimes = len(prev.Regimes)
+		// The phases are areas of the map as the regimes are; they stay
+		// phases when no site holds them (fold).
+		mc.Regimes = len(prev.Regimes) + len(prev.Phases)
 	}
 	mc.Progress = progress(&o)
 	var err error
@@ -267,6 +270,7 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	if err := decode(&o, r); err != nil {
 		return err
 	}
+	r.fold(&o)
 	if r.data != nil {
 		r.levels(&o, r.data)
 		r.data = nil
@@ -353,7 +357,7 @@ func finish(res *Result, sw *stopwatch) {
 	}
 	info.Warnings = append(info.Warnings, info.Quality.Warnings...)
 	if c := res.Model.Choice; c != nil && info.Command != "assign" {
-		info.Regimes = regimeChoice(c)
+		info.Regimes = regimeChoice(c, res.Model.PhaseNotes())
 		if c.Marginal {
 			info.Warnings = append(info.Warnings, info.Regimes.Note)
 		}
@@ -393,9 +397,20 @@ func finish(res *Result, sw *stopwatch) {
 }
 
 // regimeChoice words the choice of the number of regimes, with the option
-// that tries the runner-up when the choice is marginal.
-func regimeChoice(c *mapper.Choice) *RegimeChoice {
+// that tries the runner-up when the choice is marginal, and the phases
+// (model.Phase) the areas that no site held were folded into, one note
+// each.
+func regimeChoice(c *mapper.Choice, phases []string) *RegimeChoice {
 	note := c.String()
+	if len(phases) > 0 {
+		found := *c
+		found.K += len(phases)
+		noun := "regimes"
+		if c.K == 1 {
+			noun = "regime"
+		}
+		note = fmt.Sprintf("%d %s held by the sites, of %s; %s", c.K, noun, found.String(), strings.Join(phases, "; "))
+	}
 	if c.Marginal {
 		note += fmt.Sprintf(": re-run with %d regimes (mapper.Config.Regimes) to see the other", c.RunnerUp)
 	}

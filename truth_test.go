@@ -12,6 +12,19 @@ import (
 // and register, and runs kinmap.Train on them with the default options.
 func trainScenario(t *testing.T, spec scenarios.Spec) (*scenarios.Fleet, *kinmap.Result) {
 	t.Helper()
+	fleet, o := scenarioOptions(t, spec)
+	res, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return fleet, res
+}
+
+// scenarioOptions generates the fleet of spec, writes its long Parquet dump
+// and its register to a temporary folder, and returns the default options
+// that read them.
+func scenarioOptions(t *testing.T, spec scenarios.Spec) (*scenarios.Fleet, kinmap.Options) {
+	t.Helper()
 	fleet, err := scenarios.Generate(spec)
 	if err != nil {
 		t.Fatal(err)
@@ -23,11 +36,7 @@ func trainScenario(t *testing.T, spec scenarios.Spec) (*scenarios.Fleet, *kinmap
 	o := kinmap.DefaultOptions()
 	o.Data = []string{filepath.Join(dir, scenarios.FileLongParquet)}
 	o.Sites = filepath.Join(dir, scenarios.FileSites)
-	res, err := kinmap.Train(o)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return fleet, res
+	return fleet, o
 }
 
 // The pumping-station scenario of the demo, end to end: the regimes kinmap

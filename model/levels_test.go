@@ -72,8 +72,8 @@ func TestModelReadsVersion5(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if bytes.Contains(payload, []byte(`"Levels"`)) {
-		t.Fatal("a version 5 payload has no Levels field")
+	if bytes.Contains(payload, []byte(`"Levels"`)) || bytes.Contains(payload, []byte(`"Phases"`)) {
+		t.Fatal("a version 5 payload has no Levels or Phases field")
 	}
 	file := fileAs(5, payload)
 	back, err := Read(bytes.NewReader(file))
@@ -82,5 +82,8 @@ func TestModelReadsVersion5(t *testing.T) {
 	}
 	if back.Version != 5 || back.Levels != nil || !reflect.DeepEqual(back.Conditions, old.Conditions) {
 		t.Errorf("version 5 file read as version %d, levels %v, conditions %+v", back.Version, back.Levels, back.Conditions)
+	}
+	if states, _ := back.States(); back.Phases != nil || len(states) != len(mdl.Regimes) {
+		t.Errorf("version 5 file read with phases %v and %d states for %d regimes", back.Phases, len(states), len(mdl.Regimes))
 	}
 }

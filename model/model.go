@@ -42,11 +42,12 @@ import (
 // surface) instead of the booleans Hex and Flat; older files read as before.
 // Version 5 adds the channels' units (Units), which an older build would
 // refuse as an unknown field; older files read as before, without units.
-// Version 6 adds the channels' levels by regime (Levels) and marks the
-// label knowledge (Conditions), which version 5 files written by later
-// builds also carry; an older build says a version 6 file is newer instead
-// of refusing an unknown field. Files of versions 1 to 5 read as before,
-// without levels.
+// Version 6 adds the channels' levels by regime (Levels), the phases
+// (Phases: areas found as regimes that no site held) and marks the label
+// knowledge (Conditions), which version 5 files written by later builds
+// also carry; an older build says a version 6 file is newer instead of
+// refusing an unknown field. Files of versions 1 to 5 read as before,
+// without levels or phases.
 const FormatVersion = 6
 
 // Score is the Davies–Bouldin index of one number of regimes K, as model
@@ -90,6 +91,12 @@ type Model struct {
 	// absent. Files before format version 5 have none.
 	Units map[string]string `json:",omitempty"`
 
+	// Phases are areas of the map found as regimes that no site held after
+	// decoding, each a phase of a held regime (see Fold); decoding scores
+	// windows against them too (States). Files before format version 6
+	// have none.
+	Phases []Phase `json:",omitempty"`
+
 	// Conditions is what labelled events (maintenance and inspection
 	// records) said about the windows each unit won; nil when no run of
 	// the model was given events. Files without it read as before.
@@ -130,7 +137,9 @@ func Train(t *features.Table, x *mat.Dense, sc *features.Scaler, cfg mapper.Conf
 // matchRegimes. The model returned keeps prev's feature schema,
 // feature settings, normalisation and lineage; the changes list every
 // renumbering, split and merge; names and statuses follow the regime
-// numbers (carryLabels). The windows of t are placed on the new map.
+// numbers (carryLabels). prev's phases (Phase) are matched like its
+// regimes; the regimes found are all regimes of the model returned. The
+// windows of t are placed on the new map.
 func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*Model, []RegimeChange, error) {
 	if err := checkNames(x, prev.Scaler); err != nil {
 		return nil, nil, err
@@ -143,7 +152,10 @@ func Update(prev *Model, t *features.Table, x *mat.Dense, cfg mapper.Config) (*M
 	if err != nil {
 		return nil, nil, err
 	}
-	ids, changes, err := matchRegimes(prev.Regimes, next.Regimes)
+	// prev's phases are matched too, so that an area that was a phase
+	// keeps its number.
+	states, _ := prev.States()
+	ids, changes, err := matchRegimes(states, next.Regimes)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -280,6 +292,9 @@ func (m *Model) Renumber(ids []int) error {
 			by[old[id]] = l
 		}
 		m.Levels = &Levels{Regimes: by, Fleet: lv.Fleet}
+	}
+	for j := range m.Phases {
+		m.Phases[j].Of = old[m.Phases[j].Of]
 	}
 	return nil
 }
@@ -500,7 +515,7 @@ func (m *Model) check() error {
 	if listed != u {
 		return fmt.Errorf("the regimes list %d units, the map has %d", listed, u)
 	}
-	return nil
+	return m.checkPhases(ids)
 }
 
 // checkValues verifies the numbers a checksum cannot vouch for, since a

@@ -73,8 +73,11 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	if len(m.Regimes) == 0 {
 		return Result{}, fmt.Errorf("timeline: the model has no regimes")
 	}
+	// A phase (model.Phase) is a state of its own in the decoding and
+	// reports as its regime.
+	states, report := m.States()
 	dim := m.Map.Dim
-	for _, r := range m.Regimes {
+	for _, r := range states {
 		if len(r.Centroid) != dim {
 			return Result{}, fmt.Errorf("timeline: regime %d: centroid has %d components, the map %d", r.ID, len(r.Centroid), dim)
 		}
@@ -114,8 +117,8 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 		slices.SortStableFunc(idx, func(a, b int) int { return ws[a].Start.Compare(ws[b].Start) })
 		q := siteSeq{idx: idx, costs: make([][]float64, len(idx)), weeks: make([]int64, len(idx)), phases: make([]int64, len(idx))}
 		for j, i := range idx {
-			q.costs[j] = make([]float64, len(m.Regimes))
-			for k, r := range m.Regimes {
+			q.costs[j] = make([]float64, len(states))
+			for k, r := range states {
 				q.costs[j][k] = distance(ws[i].Scaled, r.Centroid)
 				if math.IsInf(q.costs[j][k], 0) {
 					return Result{}, fmt.Errorf("timeline: site %q, window %s: scaled features are not finite", site, ws[i].Start.Format(time.RFC3339))
@@ -123,14 +126,14 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 			}
 			q.weeks[j], q.phases[j] = weekPhase(ws[i].Start, loc)
 		}
-		q.from, q.initial = startOf(m, priors, site, cfg.SwitchCost)
+		q.from, q.initial = startOf(states, priors, site, cfg.SwitchCost)
 		seqs[s] = q
 	}
 	// Shared conditions first, so that the calendar is learnt from windows
 	// already relative to the fleet.
-	ids := make([]int, len(m.Regimes))
-	centroids := make([][]float64, len(m.Regimes))
-	for k, r := range m.Regimes {
+	ids := make([]int, len(states))
+	centroids := make([][]float64, len(states))
+	for k, r := range states {
 		ids[k], centroids[k] = r.ID, r.Centroid
 	}
 	days := daysOf(seqs, ws, len(ids))
@@ -138,7 +141,7 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	for s := range seqs {
 		shared.apply(&seqs[s], cfg.SwitchCost)
 	}
-	cal := learnCalendar(seqs, len(m.Regimes))
+	cal := learnCalendar(seqs, len(states))
 	var means []int
 	if m.Scaler != nil {
 		means = meanFeatures(m.Scaler.Names)
@@ -156,6 +159,9 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 			odd = append(odd, ws[i].Unfamiliar)
 		}
 		refineBoundaries(q.path, xs, centroids, odd, means, cfg.MinDwell, q.from)
+		for j, k := range q.path {
+			q.path[j] = report[k]
+		}
 		q.total = viterbi.Cost(q.costs, cfg.SwitchCost, q.initial, q.path)
 	}
 
@@ -163,7 +169,7 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 	for s, site := range sites {
 		q := seqs[s]
 		for j, i := range q.idx {
-			ws[i].Regime = m.Regimes[q.path[j]].ID
+			ws[i].Regime = states[q.path[j]].ID
 		}
 		for _, sw := range segmentSwitches(q.costs, cfg.SwitchCost, q.initial, q.from, q.path, q.total) {
 			before, onset := q.from.State, sw.at
@@ -182,8 +188,8 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 				Site:       site,
 				Time:       ws[q.idx[sw.at]].Start,
 				Onset:      ws[q.idx[onset]].Start,
-				From:       m.Regimes[before].ID,
-				To:         m.Regimes[q.path[sw.at]].ID,
+				From:       states[before].ID,
+				To:         states[q.path[sw.at]].ID,
 				Before:     sw.before,
 				After:      sw.after,
 				Confidence: sw.confidence,
@@ -198,16 +204,16 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 
 // startOf returns the decoding start of a site from its prior, and the
 // initial costs that go with it; none when it has no usable prior.
-func startOf(m *model.Model, priors map[string]Prior, site string, switchCost float64) (viterbi.Start, []float64) {
+func startOf(states []mapper.Regime, priors map[string]Prior, site string, switchCost float64) (viterbi.Start, []float64) {
 	p, ok := priors[site]
 	if !ok || p.Windows < 1 {
 		return viterbi.NoStart, nil
 	}
-	k := slices.IndexFunc(m.Regimes, func(r mapper.Regime) bool { return r.ID == p.Regime })
+	k := slices.IndexFunc(states, func(r mapper.Regime) bool { return r.ID == p.Regime })
 	if k < 0 {
 		return viterbi.NoStart, nil
 	}
-	initial := make([]float64, len(m.Regimes))
+	initial := make([]float64, len(states))
 	for j := range initial {
 		if j != k {
 			initial[j] = switchCost

@@ -185,7 +185,7 @@ type Shared struct {
 	Start  time.Time // start of its first window
 	End    time.Time // start of the first window after it; zero when it lasts to the last window
 	Regime int       // ID of the regime whose sites showed it
-	Like   int       // ID of the regime they resembled
+	Like   int       // ID of the regime they resembled, or of a phase of one (model.Phase): an area of the map no site held at training
 	Sites  []string  // the regime's sites whose windows resembled Like in most of their windows of it, sorted
 	Of     int       // the regime's sites with a window in it
 	// P is the greatest, over its window times, of the chance that the

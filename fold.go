@@ -1,6 +1,12 @@
 package kinmap
 
-import "github.com/kinmap/kinmap/model"
+import (
+	"cmp"
+	"slices"
+
+	"github.com/kinmap/kinmap/model"
+	"github.com/kinmap/kinmap/timeline"
+)
 
 // fold makes each regime that no site holds after decoding a phase of the
 // regime its windows decoded into (model.Model.Fold), unless the user set
@@ -25,6 +31,18 @@ func (r *Result) fold(o *Options) {
 		o.logf("regimes: %s", n)
 	}
 	r.Model = &m
+	// A shared condition whose sites looked like an area now folded looked
+	// like that area's host; like their own regime's phase is no change.
+	host := map[int]int{}
+	for _, p := range phases {
+		host[p.Before] = p.Of
+	}
+	r.Shared = slices.DeleteFunc(r.Shared, func(s timeline.Shared) bool {
+		return cmp.Or(host[s.Like], s.Like) == s.Regime
+	})
+	for i := range r.Shared {
+		r.Shared[i].Like = cmp.Or(host[r.Shared[i].Like], r.Shared[i].Like)
+	}
 	if r.Info.Command != "run" {
 		return
 	}

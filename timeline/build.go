@@ -137,7 +137,7 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 		ids[k], centroids[k] = r.ID, r.Centroid
 	}
 	days := daysOf(seqs, ws, len(ids))
-	shared := learnShared(days, sites, ids)
+	shared := learnShared(days, sites, ids, report)
 	for s := range seqs {
 		shared.apply(&seqs[s], cfg.SwitchCost)
 	}

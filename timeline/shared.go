@@ -113,7 +113,7 @@ func daysOf(seqs []siteSeq, ws []features.Window, k int) fleetDays {
 // weekly calendar of the same windows explains (see learnCalendar), such
 // as an office's weekend, is decoded alike but not reported: it is the
 // sites' week, not an event.
-func learnShared(f fleetDays, sites []string, ids []int) sharedSlots {
+func learnShared(f fleetDays, sites []string, ids, report []int) sharedSlots {
 	k, seqs := len(ids), f.seqs
 	partner := partners(f.counts, k)
 	out := sharedSlots{mix: map[slot][][]float64{}}
@@ -132,7 +132,7 @@ func learnShared(f fleetDays, sites []string, ids []int) sharedSlots {
 		out.mix[at] = m
 	}
 	if len(partner) > 0 {
-		out.changes = f.changes(partner, learnCalendar(seqs, k), sites, ids)
+		out.changes = f.changes(partner, learnCalendar(seqs, k), sites, ids, report)
 	}
 	return out
 }
@@ -185,7 +185,7 @@ type Shared struct {
 	Start  time.Time // start of its first window
 	End    time.Time // start of the first window after it; zero when it lasts to the last window
 	Regime int       // ID of the regime whose sites showed it
-	Like   int       // ID of the regime they resembled, or of a phase of one (model.Phase): an area of the map no site held at training
+	Like   int       // ID of the regime they resembled; a phase of it (model.Phase) reports as the regime
 	Sites  []string  // the regime's sites whose windows resembled Like in most of their windows of it, sorted
 	Of     int       // the regime's sites with a window in it
 	// P is the greatest, over its window times, of the chance that the
@@ -198,7 +198,7 @@ type Shared struct {
 // each run of consecutive window times (in the order of all the times of
 // the fleet) at which a's partner is the same other regime b, unless the
 // weekly calendar gives a the partner b at every one of them.
-func (f fleetDays) changes(partner map[slot][]int, weekly map[int64][]int, sites []string, ids []int) []Shared {
+func (f fleetDays) changes(partner map[slot][]int, weekly map[int64][]int, sites []string, ids, report []int) []Shared {
 	k := f.k
 	total := totals(f.counts, k)
 	order := make([]slot, 0, len(f.times))
@@ -227,7 +227,10 @@ func (f fleetDays) changes(partner map[slot][]int, weekly map[int64][]int, sites
 			if !slices.ContainsFunc(run, func(at slot) bool { w := weekly[at.phase]; return w == nil || w[a] != b }) {
 				continue // the week's calendar
 			}
-			sh := Shared{Start: f.times[run[0]], Regime: ids[a], Like: ids[b]}
+			if report[a] == report[b] {
+				continue // a regime and its own phase: no change of regime
+			}
+			sh := Shared{Start: f.times[run[0]], Regime: ids[report[a]], Like: ids[report[b]]}
 			if to < len(order) {
 				sh.End = f.times[order[to]]
 			}

@@ -7,6 +7,8 @@ import (
 	"slices"
 	"testing"
 	"time"
+
+	"github.com/kinmap/kinmap/model"
 )
 
 func TestBuildSharedConditions(t *testing.T) {
@@ -155,6 +157,44 @@ func TestBuildSharedChange(t *testing.T) {
 		got.P = 0
 		if !reflect.DeepEqual(got, want) {
 			t.Errorf("%d sites stayed: shared %+v, want %+v", stayed, got, want)
+		}
+	}
+}
+
+// The same change as TestBuildSharedChange into an area that is a phase
+// (model.Phase) of a regime: into a phase of regime 1 itself it is no
+// change of regime, and nothing is reported; into a phase of regime 2 it
+// is reported as looking like regime 2, never by the phase's number.
+func TestBuildSharedChangeIntoPhase(t *testing.T) {
+	seqs := map[string][]int{}
+	for i := range 16 {
+		r := slices.Repeat([]int{1}, 21)
+		copy(r[14:], slices.Repeat([]int{3}, 7))
+		seqs[fmt.Sprintf("s%02d", i)] = r
+	}
+	for i := range 4 {
+		seqs[fmt.Sprintf("x%d", i)] = slices.Repeat([]int{2}, 21)
+	}
+	for _, host := range []int{1, 2} {
+		m := testModel()
+		m.Phases = []model.Phase{{Of: host, Before: 3, Regime: m.Regimes[2]}}
+		m.Regimes = m.Regimes[:2]
+		m.Regimes[host-1].Units = []int{host - 1, 2}
+		m.UnitRegime[2] = host
+		res, err := Build(m, inputs(sitesOf(seqs)), Config{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, sh := range res.Shared {
+			if sh.Like == 3 || sh.Like == sh.Regime {
+				t.Errorf("phase of %d: shared %+v names the phase or its own regime", host, sh)
+			}
+		}
+		if host == 1 && len(res.Shared) != 0 {
+			t.Errorf("phase of 1: shared %+v, want none", res.Shared)
+		}
+		if host == 2 && (len(res.Shared) != 1 || res.Shared[0].Regime != 1 || res.Shared[0].Like != 2) {
+			t.Errorf("phase of 2: shared %+v, want one change from regime 1 looking like 2", res.Shared)
 		}
 	}
 }

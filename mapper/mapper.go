@@ -12,9 +12,8 @@
 // FindRegimes leaves out the directions the whole fleet moves in together
 // at each time, builds Ward's tree of the units, only lattice neighbours
 // merging, and splits it from the top while the decoded segments of the
-// sites (runs of a site's weeks in one regime, each window taken relative
-// to the regime's other sites at the same time) show two modes along the
-// split (an Anderson–Darling test at level Alpha, as in G-means, and a BIC
+// sites (runs of one site in one regime) show two modes along the split
+// (an Anderson–Darling test at level Alpha, as in G-means, and a BIC
 // preference for two modes over one after a power transform); Choice
 // records each split, the runner-up number and how close it came. The decoding is the timelines' own
 // (package internal/viterbi, SwitchCostPerQE, DefaultMinDwell).

@@ -3,7 +3,6 @@ package mapper
 import (
 	"fmt"
 	"math"
-	"slices"
 
 	"github.com/kinmap/kinmap/internal/viterbi"
 )
@@ -46,8 +45,8 @@ type Choice struct {
 	RunnerUpGain float64 `json:"runner_up_bic_gain,omitempty"`
 	// Marginal is set when the runner-up's deciding test came within one
 	// band of going the other way: its p-value within a factor of ten of
-	// Alpha, or its BIC gain within bicBand of the bicBand a split needs.
-	// The data barely tell the two apart.
+	// Alpha, or its BIC gain within bicBand of 0. The data barely tell the
+	// two apart.
 	Marginal bool `json:"marginal"`
 }
 
@@ -60,7 +59,7 @@ type Split struct {
 	P         float64 `json:"p"`         // its p-value; 1 when not tested
 	// Gain is the BIC's preference for two modes over one in the
 	// projections after a power transform (mixtureGain); a split needs
-	// it above bicBand as well as P below Alpha. 0 when not tested.
+	// it positive as well as P below Alpha. 0 when not tested.
 	Gain    float64 `json:"bic_gain"`
 	Bimodal bool    `json:"bimodal"` // the two-normal fit of Gain has two modes (bimodal)
 	Made    bool    `json:"made"`
@@ -85,7 +84,7 @@ type candidate struct {
 }
 
 // significant reports whether the split passes both tests.
-func (c candidate) significant() bool { return c.p < Alpha && c.gain > bicBand && c.bimodal }
+func (c candidate) significant() bool { return c.p < Alpha && c.gain > 0 && c.bimodal }
 
 // run splits from the root until k groups (k > 0) or while a split is
 // significant (k = 0).
@@ -121,11 +120,9 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 	return numberGroups(u, func(unit int) int { return root[unit] }), ch, nil
 }
 
-// bicBand is the BIC gain a split needs, and the width of the band in
-// which a choice is marginal: below 2 the evidence is "not worth more
-// than a bare mention", from 2 it is positive (R. E. Kass and A. E.
-// Raftery, "Bayes factors", JASA 90, 1995). A gain a single odd site can
-// give, once the shared weather is taken out, stays below it.
+// bicBand is the BIC difference within which a choice is marginal: below
+// 2 the evidence is "not worth more than a bare mention" (R. E. Kass and
+// A. E. Raftery, "Bayes factors", JASA 90, 1995).
 const bicBand = 2
 
 // runnerUp sets the runner-up: the weakest split made or the strongest
@@ -146,11 +143,11 @@ func (ch *Choice) runnerUp() {
 		var c float64
 		switch {
 		case sp.Made:
-			c = math.Min(decades(sp.P), sp.Gain/bicBand-1)
+			c = math.Min(decades(sp.P), sp.Gain/bicBand)
 		case sp.P >= ch.Alpha:
 			c = decades(sp.P)
 		case sp.Bimodal:
-			c = 1 - sp.Gain/bicBand
+			c = -sp.Gain / bicBand
 		default:
 			c = math.Inf(1)
 		}
@@ -222,7 +219,12 @@ func (s *splitter) test(parts []int) []candidate {
 		for j := range dir {
 			dir[j] = ca[j] - cb[j]
 		}
-		proj := s.project(segs, i, dir)
+		var proj []float64
+		for _, sg := range segs {
+			if sg.regime == i {
+				proj = append(proj, dot(dir, sg.mean))
+			}
+		}
 		c := candidate{at: i, p: 1}
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
@@ -241,90 +243,19 @@ func (s *splitter) test(parts []int) []candidate {
 	return out
 }
 
-// project returns the projection on dir of every segment of regime r:
-// the mean over its windows of each window's projection less that of its
-// peers, the median projection of the windows of the segments of r at the
-// same time slot (when at least minSlotWindows share it), less their
-// median over all slots. What the sites of one regime do together at a
-// time (the weather that heats only the sites heating, a holiday of the
-// offices) is no state of one site, and so judged against its peers at
-// the same time, as peer group analysis judges an account (R. J. Bolton
-// and D. J. Hand, "Unsupervised profiling methods for fraud detection",
-// Credit Scoring and Credit Control VII, 2001); a sub-state that some of
-// the sites hold throughout moves every slot's median alike and keeps
-// its offset.
-func (s *splitter) project(segs []segment, r int, dir []float64) []float64 {
-	x := s.win.X
-	var pv []float64 // projection of every window of r's segments, in order
-	bySlot := map[int][]float64{}
-	for _, sg := range segs {
-		if sg.regime != r {
-			continue
-		}
-		for _, i := range sg.rows {
-			v := dot(dir, x.RawRowView(i))
-			pv = append(pv, v)
-			if s.win.Slots != nil {
-				bySlot[s.win.Slots[i]] = append(bySlot[s.win.Slots[i]], v)
-			}
-		}
-	}
-	shift := map[int]float64{}
-	if len(bySlot) > 0 {
-		all := slices.Sorted(slices.Values(pv))
-		mid := median(all)
-		for slot, vs := range bySlot {
-			if len(vs) >= minSlotWindows {
-				slices.Sort(vs)
-				shift[slot] = median(vs) - mid
-			}
-		}
-	}
-	var out []float64
-	k := 0
-	for _, sg := range segs {
-		if sg.regime != r {
-			continue
-		}
-		var sum float64
-		for _, i := range sg.rows {
-			sum += pv[k]
-			if s.win.Slots != nil {
-				sum -= shift[s.win.Slots[i]]
-			}
-			k++
-		}
-		out = append(out, sum/float64(len(sg.rows)))
-	}
-	return out
-}
-
-// segment is a run of one site's weeks with one home regime: the rows
-// of its windows.
+// segment is a run of one site's windows decoded in one regime.
 type segment struct {
 	regime int
-	rows   []int
+	mean   []float64
 }
 
 // segments decodes every site sequence against the centroids and returns
-// its segments: runs of the site's weeks (blocks of MinRun windows,
-// aligned on the fleet's time slots when there are slots) with the same
-// home regime, the regime most of the week's windows were decoded in,
-// each standing for the mean of all the windows of its weeks. A week
-// holds every time of the week once, so a site whose weekly calendar
-// takes some of its days to another regime (an office at the weekend)
-// still holds its home regime for the whole week, and the mean of whole
-// weeks carries no calendar: averaging over one full period removes a
-// periodic component (the moving average of classical decomposition; R. J.
-// Hyndman and G. Athanasopoulos, "Forecasting: Principles and Practice",
-// 3rd ed., 2021, section 3.4). A run shorter than MinRun windows counts
-// only when it is the site's whole sequence.
+// its segments.
 func (s *splitter) segments(cents [][]float64) []segment {
 	x := s.win.X
-	week := max(1, s.win.MinRun)
+	_, d := x.Dims()
 	var out []segment
 	var costs [][]float64
-	votes := make([]int, len(cents))
 	for _, seq := range s.win.Sequences {
 		costs = costs[:0]
 		for _, i := range seq {
@@ -335,49 +266,29 @@ func (s *splitter) segments(cents [][]float64) []segment {
 			costs = append(costs, row)
 		}
 		path, _ := viterbi.Decode(costs, s.switchCost, nil, DefaultMinDwell, viterbi.NoStart)
-		blockOf := func(t int) int {
-			if s.win.Slots != nil {
-				return s.win.Slots[seq[t]] / week
+		start := 0
+		for t := 1; t <= len(path); t++ {
+			if t < len(path) && path[t] == path[start] {
+				continue
 			}
-			return t / week
-		}
-		// The home regime of every week, as the index of its first window.
-		var starts, homes []int
-		for t := 0; t < len(path); {
-			b, end := blockOf(t), t
-			clear(votes)
-			for end < len(path) && blockOf(end) == b {
-				votes[path[end]]++
-				end++
+			if t-start < s.win.MinRun && (start > 0 || t < len(path)) {
+				start = t
+				continue // too short to stand for a state
 			}
-			starts, homes = append(starts, t), append(homes, mostVoted(votes))
-			t = end
-		}
-		starts = append(starts, len(path))
-		for w := 0; w < len(homes); {
-			v := w + 1
-			for v < len(homes) && homes[v] == homes[w] {
-				v++
+			mean := make([]float64, d)
+			for _, i := range seq[start:t] {
+				for j, v := range x.RawRowView(i) {
+					mean[j] += v
+				}
 			}
-			from, to := starts[w], starts[v]
-			if to-from >= s.win.MinRun || from == 0 && to == len(path) {
-				out = append(out, segment{regime: homes[w], rows: seq[from:to]})
+			for j := range mean {
+				mean[j] /= float64(t - start)
 			}
-			w = v
+			out = append(out, segment{regime: path[start], mean: mean})
+			start = t
 		}
 	}
 	return out
-}
-
-// mostVoted returns the index of the largest count, the lowest on a tie.
-func mostVoted(votes []int) int {
-	best := 0
-	for k, v := range votes {
-		if v > votes[best] {
-			best = k
-		}
-	}
-	return best
 }
 
 // centroid returns the weighted mean codebook vector of the units of tree
@@ -440,7 +351,7 @@ func (c *Choice) String() string {
 	if c.RunnerUp > c.K {
 		verb = "makes"
 	}
-	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g with a BIC gain of %.1f for two modes, and a split is made below p = %g with a gain above %d", c.RunnerUp, verb, c.RunnerUpP, c.RunnerUpGain, c.Alpha, bicBand)
+	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g with a BIC gain of %.1f for two modes, and a split is made below p = %g with a positive gain", c.RunnerUp, verb, c.RunnerUpP, c.RunnerUpGain, c.Alpha)
 	if c.Marginal {
 		return s + ", so the choice is marginal"
 	}

@@ -243,19 +243,32 @@ func (s *splitter) test(parts []int) []candidate {
 	return out
 }
 
-// segment is a run of one site's windows decoded in one regime.
+// segment is a run of one site's weeks with one home regime.
 type segment struct {
 	regime int
 	mean   []float64
 }
 
 // segments decodes every site sequence against the centroids and returns
-// its segments.
+// its segments: runs of the site's weeks (blocks of MinRun windows,
+// aligned on the fleet's time slots when there are slots) with the same
+// home regime, the regime most of the week's windows were decoded in,
+// each standing for the mean of all the windows of its weeks. A week
+// holds every time of the week once, so a site whose weekly calendar
+// takes some of its days to another regime (an office at the weekend)
+// still holds its home regime for the whole week, and the mean of whole
+// weeks carries no calendar: averaging over one full period removes a
+// periodic component (the moving average of classical decomposition; R. J.
+// Hyndman and G. Athanasopoulos, "Forecasting: Principles and Practice",
+// 3rd ed., 2021, section 3.4). A run shorter than MinRun windows counts
+// only when it is the site's whole sequence.
 func (s *splitter) segments(cents [][]float64) []segment {
 	x := s.win.X
 	_, d := x.Dims()
+	week := max(1, s.win.MinRun)
 	var out []segment
 	var costs [][]float64
+	votes := make([]int, len(cents))
 	for _, seq := range s.win.Sequences {
 		costs = costs[:0]
 		for _, i := range seq {
@@ -266,29 +279,58 @@ func (s *splitter) segments(cents [][]float64) []segment {
 			costs = append(costs, row)
 		}
 		path, _ := viterbi.Decode(costs, s.switchCost, nil, DefaultMinDwell, viterbi.NoStart)
-		start := 0
-		for t := 1; t <= len(path); t++ {
-			if t < len(path) && path[t] == path[start] {
-				continue
+		blockOf := func(t int) int {
+			if s.win.Slots != nil {
+				return s.win.Slots[seq[t]] / week
 			}
-			if t-start < s.win.MinRun && (start > 0 || t < len(path)) {
-				start = t
-				continue // too short to stand for a state
+			return t / week
+		}
+		// The home regime of every week, as the index of its first window.
+		var starts, homes []int
+		for t := 0; t < len(path); {
+			b, end := blockOf(t), t
+			clear(votes)
+			for end < len(path) && blockOf(end) == b {
+				votes[path[end]]++
+				end++
 			}
-			mean := make([]float64, d)
-			for _, i := range seq[start:t] {
-				for j, v := range x.RawRowView(i) {
-					mean[j] += v
+			starts, homes = append(starts, t), append(homes, mostVoted(votes))
+			t = end
+		}
+		starts = append(starts, len(path))
+		for w := 0; w < len(homes); {
+			v := w + 1
+			for v < len(homes) && homes[v] == homes[w] {
+				v++
+			}
+			from, to := starts[w], starts[v]
+			if to-from >= s.win.MinRun || from == 0 && to == len(path) {
+				mean := make([]float64, d)
+				for _, i := range seq[from:to] {
+					for j, val := range x.RawRowView(i) {
+						mean[j] += val
+					}
 				}
+				for j := range mean {
+					mean[j] /= float64(to - from)
+				}
+				out = append(out, segment{regime: homes[w], mean: mean})
 			}
-			for j := range mean {
-				mean[j] /= float64(t - start)
-			}
-			out = append(out, segment{regime: path[start], mean: mean})
-			start = t
+			w = v
 		}
 	}
 	return out
+}
+
+// mostVoted returns the index of the largest count, the lowest on a tie.
+func mostVoted(votes []int) int {
+	best := 0
+	for k, v := range votes {
+		if v > votes[best] {
+			best = k
+		}
+	}
+	return best
 }
 
 // centroid returns the weighted mean codebook vector of the units of tree

@@ -77,7 +77,9 @@ type Timelines struct {
 // every week of a site (MinRun windows) gets the regime most of its
 // windows were decoded in, and each segment — a run of a site's weeks in
 // one regime — counts as one observation, the mean of all its windows,
-// which carries no weekly calendar (see segments). A regime's split into the two groups
+// which carries no weekly calendar (see segments), each window taken
+// relative to the windows of the regime's other sites at the same time
+// (see project). A regime's split into the two groups
 // Ward joined last in it is tested as in G-means (G. Hamerly and C. Elkan,
 // "Learning the k in k-means", NIPS 16, 2003): the segment means are
 // projected on the line between the two groups' centroids and the
@@ -92,7 +94,7 @@ type Timelines struct {
 //
 // The most significant split is made first, and the segments decoded
 // again. With k = 0, splitting stops when no split is significant at
-// level Alpha with a positive gain (or at 12 regimes), so a homogeneous fleet keeps one
+// level Alpha with a gain above bicBand (or at 12 regimes), so a homogeneous fleet keeps one
 // regime; with k > 0 it goes on to k regimes, the most significant split
 // first. A regime with fewer than minSegments segments cannot be tested
 // and is split only to reach a given k, in Ward's order (the last merge

@@ -3,6 +3,7 @@ package mapper
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/kinmap/kinmap/internal/viterbi"
 )
@@ -45,8 +46,8 @@ type Choice struct {
 	RunnerUpGain float64 `json:"runner_up_bic_gain,omitempty"`
 	// Marginal is set when the runner-up's deciding test came within one
 	// band of going the other way: its p-value within a factor of ten of
-	// Alpha, or its BIC gain within bicBand of 0. The data barely tell the
-	// two apart.
+	// Alpha, or its BIC gain within bicBand of the bicBand a split needs.
+	// The data barely tell the two apart.
 	Marginal bool `json:"marginal"`
 }
 
@@ -59,7 +60,7 @@ type Split struct {
 	P         float64 `json:"p"`         // its p-value; 1 when not tested
 	// Gain is the BIC's preference for two modes over one in the
 	// projections after a power transform (mixtureGain); a split needs
-	// it positive as well as P below Alpha. 0 when not tested.
+	// it above bicBand as well as P below Alpha. 0 when not tested.
 	Gain    float64 `json:"bic_gain"`
 	Bimodal bool    `json:"bimodal"` // the two-normal fit of Gain has two modes (bimodal)
 	Made    bool    `json:"made"`
@@ -84,7 +85,7 @@ type candidate struct {
 }
 
 // significant reports whether the split passes both tests.
-func (c candidate) significant() bool { return c.p < Alpha && c.gain > 0 && c.bimodal }
+func (c candidate) significant() bool { return c.p < Alpha && c.gain > bicBand && c.bimodal }
 
 // run splits from the root until k groups (k > 0) or while a split is
 // significant (k = 0).
@@ -120,9 +121,11 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 	return numberGroups(u, func(unit int) int { return root[unit] }), ch, nil
 }
 
-// bicBand is the BIC difference within which a choice is marginal: below
-// 2 the evidence is "not worth more than a bare mention" (R. E. Kass and
-// A. E. Raftery, "Bayes factors", JASA 90, 1995).
+// bicBand is the BIC gain a split needs, and the width of the band in
+// which a choice is marginal: below 2 the evidence is "not worth more
+// than a bare mention", from 2 it is positive (R. E. Kass and A. E.
+// Raftery, "Bayes factors", JASA 90, 1995). A gain a single odd site can
+// give, once the shared weather is taken out, stays below it.
 const bicBand = 2
 
 // runnerUp sets the runner-up: the weakest split made or the strongest
@@ -143,11 +146,11 @@ func (ch *Choice) runnerUp() {
 		var c float64
 		switch {
 		case sp.Made:
-			c = math.Min(decades(sp.P), sp.Gain/bicBand)
+			c = math.Min(decades(sp.P), sp.Gain/bicBand-1)
 		case sp.P >= ch.Alpha:
 			c = decades(sp.P)
 		case sp.Bimodal:
-			c = -sp.Gain / bicBand
+			c = 1 - sp.Gain/bicBand
 		default:
 			c = math.Inf(1)
 		}
@@ -219,12 +222,7 @@ func (s *splitter) test(parts []int) []candidate {
 		for j := range dir {
 			dir[j] = ca[j] - cb[j]
 		}
-		var proj []float64
-		for _, sg := range segs {
-			if sg.regime == i {
-				proj = append(proj, dot(dir, sg.mean))
-			}
-		}
+		proj := s.project(segs, i, dir)
 		c := candidate{at: i, p: 1}
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
@@ -243,10 +241,69 @@ func (s *splitter) test(parts []int) []candidate {
 	return out
 }
 
-// segment is a run of one site's weeks with one home regime.
+// project returns the projection on dir of every segment of regime r:
+// the mean over its windows of each window's projection less that of its
+// peers, the median projection of the windows of the segments of r at the
+// same time slot (when at least minSlotWindows share it), less their
+// median over all slots. What the sites of one regime do together at a
+// time (the weather that heats only the sites heating, a holiday of the
+// offices) is no state of one site, and so judged against its peers at
+// the same time, as peer group analysis judges an account (R. J. Bolton
+// and D. J. Hand, "Unsupervised profiling methods for fraud detection",
+// Credit Scoring and Credit Control VII, 2001); a sub-state that some of
+// the sites hold throughout moves every slot's median alike and keeps
+// its offset.
+func (s *splitter) project(segs []segment, r int, dir []float64) []float64 {
+	x := s.win.X
+	var pv []float64 // projection of every window of r's segments, in order
+	bySlot := map[int][]float64{}
+	for _, sg := range segs {
+		if sg.regime != r {
+			continue
+		}
+		for _, i := range sg.rows {
+			v := dot(dir, x.RawRowView(i))
+			pv = append(pv, v)
+			if s.win.Slots != nil {
+				bySlot[s.win.Slots[i]] = append(bySlot[s.win.Slots[i]], v)
+			}
+		}
+	}
+	shift := map[int]float64{}
+	if len(bySlot) > 0 {
+		all := slices.Sorted(slices.Values(pv))
+		mid := median(all)
+		for slot, vs := range bySlot {
+			if len(vs) >= minSlotWindows {
+				slices.Sort(vs)
+				shift[slot] = median(vs) - mid
+			}
+		}
+	}
+	var out []float64
+	k := 0
+	for _, sg := range segs {
+		if sg.regime != r {
+			continue
+		}
+		var sum float64
+		for _, i := range sg.rows {
+			sum += pv[k]
+			if s.win.Slots != nil {
+				sum -= shift[s.win.Slots[i]]
+			}
+			k++
+		}
+		out = append(out, sum/float64(len(sg.rows)))
+	}
+	return out
+}
+
+// segment is a run of one site's weeks with one home regime: the rows
+// of its windows.
 type segment struct {
 	regime int
-	mean   []float64
+	rows   []int
 }
 
 // segments decodes every site sequence against the centroids and returns
@@ -264,7 +321,6 @@ type segment struct {
 // only when it is the site's whole sequence.
 func (s *splitter) segments(cents [][]float64) []segment {
 	x := s.win.X
-	_, d := x.Dims()
 	week := max(1, s.win.MinRun)
 	var out []segment
 	var costs [][]float64
@@ -305,16 +361,7 @@ func (s *splitter) segments(cents [][]float64) []segment {
 			}
 			from, to := starts[w], starts[v]
 			if to-from >= s.win.MinRun || from == 0 && to == len(path) {
-				mean := make([]float64, d)
-				for _, i := range seq[from:to] {
-					for j, val := range x.RawRowView(i) {
-						mean[j] += val
-					}
-				}
-				for j := range mean {
-					mean[j] /= float64(to - from)
-				}
-				out = append(out, segment{regime: homes[w], mean: mean})
+				out = append(out, segment{regime: homes[w], rows: seq[from:to]})
 			}
 			w = v
 		}
@@ -393,7 +440,7 @@ func (c *Choice) String() string {
 	if c.RunnerUp > c.K {
 		verb = "makes"
 	}
-	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g with a BIC gain of %.1f for two modes, and a split is made below p = %g with a positive gain", c.RunnerUp, verb, c.RunnerUpP, c.RunnerUpGain, c.Alpha)
+	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g with a BIC gain of %.1f for two modes, and a split is made below p = %g with a gain above %d", c.RunnerUp, verb, c.RunnerUpP, c.RunnerUpGain, c.Alpha, bicBand)
 	if c.Marginal {
 		return s + ", so the choice is marginal"
 	}

@@ -46,8 +46,8 @@ type Choice struct {
 	RunnerUpGain float64 `json:"runner_up_bic_gain,omitempty"`
 	// Marginal is set when the runner-up's deciding test came within one
 	// band of going the other way: its p-value within a factor of ten of
-	// Alpha, or its BIC gain within bicBand of the bicBand a split needs.
-	// The data barely tell the two apart.
+	// Alpha, or its BIC gain within bicBand of 0. The data barely tell the
+	// two apart.
 	Marginal bool `json:"marginal"`
 }
 
@@ -60,7 +60,7 @@ type Split struct {
 	P         float64 `json:"p"`         // its p-value; 1 when not tested
 	// Gain is the BIC's preference for two modes over one in the
 	// projections after a power transform (mixtureGain); a split needs
-	// it above bicBand as well as P below Alpha. 0 when not tested.
+	// it positive as well as P below Alpha. 0 when not tested.
 	Gain    float64 `json:"bic_gain"`
 	Bimodal bool    `json:"bimodal"` // the two-normal fit of Gain has two modes (bimodal)
 	Made    bool    `json:"made"`
@@ -85,7 +85,7 @@ type candidate struct {
 }
 
 // significant reports whether the split passes both tests.
-func (c candidate) significant() bool { return c.p < Alpha && c.gain > bicBand && c.bimodal }
+func (c candidate) significant() bool { return c.p < Alpha && c.gain > 0 && c.bimodal }
 
 // run splits from the root until k groups (k > 0) or while a split is
 // significant (k = 0).
@@ -121,11 +121,9 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 	return numberGroups(u, func(unit int) int { return root[unit] }), ch, nil
 }
 
-// bicBand is the BIC gain a split needs, and the width of the band in
-// which a choice is marginal: below 2 the evidence is "not worth more
-// than a bare mention", from 2 it is positive (R. E. Kass and A. E.
-// Raftery, "Bayes factors", JASA 90, 1995). A gain a single odd site can
-// give, once the shared weather is taken out, stays below it.
+// bicBand is the BIC difference within which a choice is marginal: below
+// 2 the evidence is "not worth more than a bare mention" (R. E. Kass and
+// A. E. Raftery, "Bayes factors", JASA 90, 1995).
 const bicBand = 2
 
 // runnerUp sets the runner-up: the weakest split made or the strongest
@@ -146,11 +144,11 @@ func (ch *Choice) runnerUp() {
 		var c float64
 		switch {
 		case sp.Made:
-			c = math.Min(decades(sp.P), sp.Gain/bicBand-1)
+			c = math.Min(decades(sp.P), sp.Gain/bicBand)
 		case sp.P >= ch.Alpha:
 			c = decades(sp.P)
 		case sp.Bimodal:
-			c = 1 - sp.Gain/bicBand
+			c = -sp.Gain / bicBand
 		default:
 			c = math.Inf(1)
 		}
@@ -299,7 +297,7 @@ func (s *splitter) project(segs []segment, r int, dir []float64) []float64 {
 	return out
 }
 
-// segment is a run of one site's weeks with one home regime: the rows
+// segment is a run of one site's windows decoded in one regime: the rows
 // of its windows.
 type segment struct {
 	regime int
@@ -307,18 +305,21 @@ type segment struct {
 }
 
 // segments decodes every site sequence against the centroids and returns
-// its segments: runs of the site's weeks (blocks of MinRun windows,
-// aligned on the fleet's time slots when there are slots) with the same
-// home regime, the regime most of the week's windows were decoded in,
-// each standing for the mean of all the windows of its weeks. A week
-// holds every time of the week once, so a site whose weekly calendar
-// takes some of its days to another regime (an office at the weekend)
-// still holds its home regime for the whole week, and the mean of whole
-// weeks carries no calendar: averaging over one full period removes a
-// periodic component (the moving average of classical decomposition; R. J.
-// Hyndman and G. Athanasopoulos, "Forecasting: Principles and Practice",
-// 3rd ed., 2021, section 3.4). A run shorter than MinRun windows counts
-// only when it is the site's whole sequence.
+// its segments: runs of a site's windows with one label. A week of a site
+// (MinRun windows, aligned on the time slots) has a home, the regime most
+// of its windows were decoded in. When the week leaves its home for a
+// regime that a neighbouring week with the same home also leaves it for,
+// the departure recurs from week to week, so it is the site's calendar or
+// habit and not a state (an office at the weekend): the whole week is
+// labelled with its home, and its mean carries no weekly cycle. Otherwise
+// its windows keep the regimes they were decoded in. A periodic
+// component can only be told from a passing state by seeing it again a
+// period later (the seasonal component of classical decomposition is
+// estimated across periods; R. J. Hyndman and G. Athanasopoulos,
+// "Forecasting: Principles and Practice", 3rd ed., 2021, section 3.4), so
+// a stay seen once, as every stay is in one week of data, keeps its
+// evidence for a small regime. A segment shorter than MinRun windows
+// counts only when it is the site's whole sequence.
 func (s *splitter) segments(cents [][]float64) []segment {
 	x := s.win.X
 	week := max(1, s.win.MinRun)
@@ -335,35 +336,58 @@ func (s *splitter) segments(cents [][]float64) []segment {
 			costs = append(costs, row)
 		}
 		path, _ := viterbi.Decode(costs, s.switchCost, nil, DefaultMinDwell, viterbi.NoStart)
-		blockOf := func(t int) int {
+		slot := func(t int) int {
 			if s.win.Slots != nil {
-				return s.win.Slots[seq[t]] / week
+				return s.win.Slots[seq[t]]
 			}
-			return t / week
+			return t
 		}
-		// The home regime of every week, as the index of its first window.
+		// The home of every week and the regimes the site leaves it for.
 		var starts, homes []int
+		var away []map[int]bool
 		for t := 0; t < len(path); {
-			b, end := blockOf(t), t
+			b, end := slot(t)/week, t
 			clear(votes)
-			for end < len(path) && blockOf(end) == b {
+			for end < len(path) && slot(end)/week == b {
 				votes[path[end]]++
 				end++
 			}
-			starts, homes = append(starts, t), append(homes, mostVoted(votes))
+			home := mostVoted(votes)
+			left := map[int]bool{}
+			for u := t; u < end; u++ {
+				if path[u] != home {
+					left[path[u]] = true
+				}
+			}
+			starts, homes, away = append(starts, t), append(homes, home), append(away, left)
 			t = end
 		}
 		starts = append(starts, len(path))
-		for w := 0; w < len(homes); {
-			v := w + 1
-			for v < len(homes) && homes[v] == homes[w] {
-				v++
+		label := slices.Clone(path)
+		for w := range homes {
+			recurs := false
+			for r := range away[w] {
+				for _, v := range []int{w - 1, w + 1} {
+					if v >= 0 && v < len(homes) && homes[v] == homes[w] && away[v][r] {
+						recurs = true
+					}
+				}
 			}
-			from, to := starts[w], starts[v]
-			if to-from >= s.win.MinRun || from == 0 && to == len(path) {
-				out = append(out, segment{regime: homes[w], rows: seq[from:to]})
+			if recurs {
+				for u := starts[w]; u < starts[w+1]; u++ {
+					label[u] = homes[w]
+				}
 			}
-			w = v
+		}
+		start := 0
+		for t := 1; t <= len(label); t++ {
+			if t < len(label) && label[t] == label[start] {
+				continue
+			}
+			if t-start >= s.win.MinRun || start == 0 && t == len(label) {
+				out = append(out, segment{regime: label[start], rows: seq[start:t]})
+			}
+			start = t
 		}
 	}
 	return out
@@ -440,7 +464,7 @@ func (c *Choice) String() string {
 	if c.RunnerUp > c.K {
 		verb = "makes"
 	}
-	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g with a BIC gain of %.1f for two modes, and a split is made below p = %g with a gain above %d", c.RunnerUp, verb, c.RunnerUpP, c.RunnerUpGain, c.Alpha, bicBand)
+	s += fmt.Sprintf("; runner-up %d: the split that %s it tested p = %.2g with a BIC gain of %.1f for two modes, and a split is made below p = %g with a positive gain", c.RunnerUp, verb, c.RunnerUpP, c.RunnerUpGain, c.Alpha)
 	if c.Marginal {
 		return s + ", so the choice is marginal"
 	}

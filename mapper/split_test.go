@@ -180,8 +180,7 @@ func TestFindRegimesPersistentStates(t *testing.T) {
 
 // The runner-up is the number whose deciding test lies closest to going
 // the other way: the p-value in decades from Alpha, the BIC gain in units
-// of bicBand from the bicBand a split needs; within one band it is
-// marginal.
+// of bicBand; within one band it is marginal.
 func TestChoiceRunnerUp(t *testing.T) {
 	tests := []struct {
 		splits   []Split
@@ -199,13 +198,11 @@ func TestChoiceRunnerUp(t *testing.T) {
 		// An untested split (too few segments) is no runner-up.
 		{[]Split{{K: 2, Segments: 0, P: 1}}, 0, false},
 		// The split to 3 passed the normality test far below Alpha but
-		// its BIC gain was 1, short of 2 by half a band: marginal.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: 1, Bimodal: true}}, 3, true},
-		// A gain of −1 is a band and a half short: not close.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -1, Bimodal: true}}, 3, false},
-		// The split to 2 was made with a gain of 3 (half a band above 2),
-		// however small its p-value: marginal, the runner-up undoes it.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 3, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.3}}, 1, true},
+		// its BIC gain was 1 short of 0 (half a band): marginal.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -1, Bimodal: true}}, 3, true},
+		// The split to 2 was made with a gain of 1 (half a band), however
+		// small its p-value: marginal, the runner-up undoes it.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 1, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.3}}, 1, true},
 		// A split turned down because the fitted mixture has one mode is
 		// never close; the runner-up undoes the split made.
 		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -0.5}}, 1, false},

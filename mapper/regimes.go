@@ -32,12 +32,12 @@ type Windows struct {
 
 // Timelines are each site's windows in time order, as indices into the
 // rows of the training windows, and the windows of a week (MinRun; 0 or
-// 1: every window is a week of its own), the block in which a site's
-// windows are read together: a site's regime is decided week by week, and
-// a segment shorter than MinRun counts only when it is the site's whole
-// sequence. With daily windows MinRun is 7: a week, the period of the
-// calendar, so that weekly cycles average out within every segment that
-// is tested.
+// 1: every window is a week of its own): a decoded segment shorter than
+// MinRun counts only when it is the site's whole sequence, and a week whose
+// departures from its home regime recur in a neighbouring week is read
+// whole (see segments). With daily windows MinRun is 7: a week, the period
+// of the calendar, so that weekly cycles average out within every segment
+// that is tested.
 //
 // Slots, when set, holds the time slot of every window (its start in
 // strides from the earliest), so that the windows of one slot are the
@@ -74,10 +74,10 @@ type Timelines struct {
 // current regimes as the timelines are (Euclidean distances to the
 // centroids, a switch cost of SwitchCostPerQE median quantization errors
 // and a dwell of DefaultMinDwell windows, by the shared Viterbi decoder);
-// every week of a site (MinRun windows) gets the regime most of its
-// windows were decoded in, and each segment — a run of a site's weeks in
-// one regime — counts as one observation, the mean of all its windows,
-// which carries no weekly calendar (see segments), each window taken
+// each decoded segment — a run of one site in one regime, at least MinRun
+// windows long, where a week whose departures from its home regime recur
+// in a neighbouring week counts whole in its home (see segments) — counts
+// as one observation, the mean of its windows, each window taken
 // relative to the windows of the regime's other sites at the same time
 // (see project). A regime's split into the two groups
 // Ward joined last in it is tested as in G-means (G. Hamerly and C. Elkan,
@@ -94,7 +94,7 @@ type Timelines struct {
 //
 // The most significant split is made first, and the segments decoded
 // again. With k = 0, splitting stops when no split is significant at
-// level Alpha with a gain above bicBand (or at 12 regimes), so a homogeneous fleet keeps one
+// level Alpha with a positive gain (or at 12 regimes), so a homogeneous fleet keeps one
 // regime; with k > 0 it goes on to k regimes, the most significant split
 // first. A regime with fewer than minSegments segments cannot be tested
 // and is split only to reach a given k, in Ward's order (the last merge

@@ -31,12 +31,13 @@ type Windows struct {
 }
 
 // Timelines are each site's windows in time order, as indices into the
-// rows of the training windows, and the number of windows a decoded
-// segment must span to stand for a state (MinRun; 0 or 1: every segment).
-// A segment shorter than MinRun counts only when it is the site's whole
-// sequence. With daily windows MinRun is 7: a week, the period of the
-// calendar, so that weekly cycles and passing weather average out within
-// every segment that is tested.
+// rows of the training windows, and the windows of a week (MinRun; 0 or
+// 1: every window is a week of its own): a decoded segment shorter than
+// MinRun counts only when it is the site's whole sequence, and a week whose
+// departures from its home regime recur in a neighbouring week is read
+// whole (see segments). With daily windows MinRun is 7: a week, the period
+// of the calendar, so that weekly cycles average out within every segment
+// that is tested.
 //
 // Slots, when set, holds the time slot of every window (its start in
 // strides from the earliest), so that the windows of one slot are the
@@ -72,9 +73,13 @@ type Timelines struct {
 // site holds for days. The windows of every site are decoded against the
 // current regimes as the timelines are (Euclidean distances to the
 // centroids, a switch cost of SwitchCostPerQE median quantization errors
-// and a dwell of DefaultMinDwell windows, by the shared Viterbi decoder),
-// and each decoded segment — a run of one site in one regime, at least
-// MinRun windows long — counts as one observation, its mean window. A regime's split into the two groups
+// and a dwell of DefaultMinDwell windows, by the shared Viterbi decoder);
+// each decoded segment — a run of one site in one regime, at least MinRun
+// windows long, where a week whose departures from its home regime recur
+// in a neighbouring week counts whole in its home (see segments) — counts
+// as one observation, the mean of its windows, each window taken
+// relative to the windows of the regime's other sites at the same time
+// (see project). A regime's split into the two groups
 // Ward joined last in it is tested as in G-means (G. Hamerly and C. Elkan,
 // "Learning the k in k-means", NIPS 16, 2003): the segment means are
 // projected on the line between the two groups' centroids and the

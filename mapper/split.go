@@ -3,6 +3,7 @@ package mapper
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/kinmap/kinmap/internal/viterbi"
 )
@@ -219,12 +220,7 @@ func (s *splitter) test(parts []int) []candidate {
 		for j := range dir {
 			dir[j] = ca[j] - cb[j]
 		}
-		var proj []float64
-		for _, sg := range segs {
-			if sg.regime == i {
-				proj = append(proj, dot(dir, sg.mean))
-			}
-		}
+		proj := s.project(segs, i, dir)
 		c := candidate{at: i, p: 1}
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
@@ -243,19 +239,93 @@ func (s *splitter) test(parts []int) []candidate {
 	return out
 }
 
-// segment is a run of one site's windows decoded in one regime.
+// project returns the projection on dir of every segment of regime r:
+// the mean over its windows of each window's projection less that of its
+// peers, the median projection of the windows of the segments of r at the
+// same time slot (when at least minSlotWindows share it), less their
+// median over all slots. What the sites of one regime do together at a
+// time (the weather that heats only the sites heating, a holiday of the
+// offices) is no state of one site, and so judged against its peers at
+// the same time, as peer group analysis judges an account (R. J. Bolton
+// and D. J. Hand, "Unsupervised profiling methods for fraud detection",
+// Credit Scoring and Credit Control VII, 2001); a sub-state that some of
+// the sites hold throughout moves every slot's median alike and keeps
+// its offset.
+func (s *splitter) project(segs []segment, r int, dir []float64) []float64 {
+	x := s.win.X
+	var pv []float64 // projection of every window of r's segments, in order
+	bySlot := map[int][]float64{}
+	for _, sg := range segs {
+		if sg.regime != r {
+			continue
+		}
+		for _, i := range sg.rows {
+			v := dot(dir, x.RawRowView(i))
+			pv = append(pv, v)
+			if s.win.Slots != nil {
+				bySlot[s.win.Slots[i]] = append(bySlot[s.win.Slots[i]], v)
+			}
+		}
+	}
+	shift := map[int]float64{}
+	if len(bySlot) > 0 {
+		all := slices.Sorted(slices.Values(pv))
+		mid := median(all)
+		for slot, vs := range bySlot {
+			if len(vs) >= minSlotWindows {
+				slices.Sort(vs)
+				shift[slot] = median(vs) - mid
+			}
+		}
+	}
+	var out []float64
+	k := 0
+	for _, sg := range segs {
+		if sg.regime != r {
+			continue
+		}
+		var sum float64
+		for _, i := range sg.rows {
+			sum += pv[k]
+			if s.win.Slots != nil {
+				sum -= shift[s.win.Slots[i]]
+			}
+			k++
+		}
+		out = append(out, sum/float64(len(sg.rows)))
+	}
+	return out
+}
+
+// segment is a run of one site's windows decoded in one regime: the rows
+// of its windows.
 type segment struct {
 	regime int
-	mean   []float64
+	rows   []int
 }
 
 // segments decodes every site sequence against the centroids and returns
-// its segments.
+// its segments: runs of a site's windows with one label. A week of a site
+// (MinRun windows, aligned on the time slots) has a home, the regime most
+// of its windows were decoded in. When the week leaves its home for a
+// regime that a neighbouring week with the same home also leaves it for,
+// the departure recurs from week to week, so it is the site's calendar or
+// habit and not a state (an office at the weekend): the whole week is
+// labelled with its home, and its mean carries no weekly cycle. Otherwise
+// its windows keep the regimes they were decoded in. A periodic
+// component can only be told from a passing state by seeing it again a
+// period later (the seasonal component of classical decomposition is
+// estimated across periods; R. J. Hyndman and G. Athanasopoulos,
+// "Forecasting: Principles and Practice", 3rd ed., 2021, section 3.4), so
+// a stay seen once, as every stay is in one week of data, keeps its
+// evidence for a small regime. A segment shorter than MinRun windows
+// counts only when it is the site's whole sequence.
 func (s *splitter) segments(cents [][]float64) []segment {
 	x := s.win.X
-	_, d := x.Dims()
+	week := max(1, s.win.MinRun)
 	var out []segment
 	var costs [][]float64
+	votes := make([]int, len(cents))
 	for _, seq := range s.win.Sequences {
 		costs = costs[:0]
 		for _, i := range seq {
@@ -266,29 +336,72 @@ func (s *splitter) segments(cents [][]float64) []segment {
 			costs = append(costs, row)
 		}
 		path, _ := viterbi.Decode(costs, s.switchCost, nil, DefaultMinDwell, viterbi.NoStart)
-		start := 0
-		for t := 1; t <= len(path); t++ {
-			if t < len(path) && path[t] == path[start] {
-				continue
+		slot := func(t int) int {
+			if s.win.Slots != nil {
+				return s.win.Slots[seq[t]]
 			}
-			if t-start < s.win.MinRun && (start > 0 || t < len(path)) {
-				start = t
-				continue // too short to stand for a state
+			return t
+		}
+		// The home of every week and the regimes the site leaves it for.
+		var starts, homes []int
+		var away []map[int]bool
+		for t := 0; t < len(path); {
+			b, end := slot(t)/week, t
+			clear(votes)
+			for end < len(path) && slot(end)/week == b {
+				votes[path[end]]++
+				end++
 			}
-			mean := make([]float64, d)
-			for _, i := range seq[start:t] {
-				for j, v := range x.RawRowView(i) {
-					mean[j] += v
+			home := mostVoted(votes)
+			left := map[int]bool{}
+			for u := t; u < end; u++ {
+				if path[u] != home {
+					left[path[u]] = true
 				}
 			}
-			for j := range mean {
-				mean[j] /= float64(t - start)
+			starts, homes, away = append(starts, t), append(homes, home), append(away, left)
+			t = end
+		}
+		starts = append(starts, len(path))
+		label := slices.Clone(path)
+		for w := range homes {
+			recurs := false
+			for r := range away[w] {
+				for _, v := range []int{w - 1, w + 1} {
+					if v >= 0 && v < len(homes) && homes[v] == homes[w] && away[v][r] {
+						recurs = true
+					}
+				}
 			}
-			out = append(out, segment{regime: path[start], mean: mean})
+			if recurs {
+				for u := starts[w]; u < starts[w+1]; u++ {
+					label[u] = homes[w]
+				}
+			}
+		}
+		start := 0
+		for t := 1; t <= len(label); t++ {
+			if t < len(label) && label[t] == label[start] {
+				continue
+			}
+			if t-start >= s.win.MinRun || start == 0 && t == len(label) {
+				out = append(out, segment{regime: label[start], rows: seq[start:t]})
+			}
 			start = t
 		}
 	}
 	return out
+}
+
+// mostVoted returns the index of the largest count, the lowest on a tie.
+func mostVoted(votes []int) int {
+	best := 0
+	for k, v := range votes {
+		if v > votes[best] {
+			best = k
+		}
+	}
+	return best
 }
 
 // centroid returns the weighted mean codebook vector of the units of tree

@@ -2,6 +2,7 @@ package mapper
 
 import (
 	"math"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -213,5 +214,48 @@ func TestChoiceRunnerUp(t *testing.T) {
 		if ch.RunnerUp != tt.runnerUp || ch.Marginal != tt.marginal {
 			t.Errorf("case %d: runner-up %d, marginal %v; want %d, %v", i, ch.RunnerUp, ch.Marginal, tt.runnerUp, tt.marginal)
 		}
+	}
+}
+
+// A week whose departures recur in the next or previous week is read
+// whole, in its home regime; a departure seen once keeps its own segment.
+// Invented daily values, one feature: regime 0 at 0, regime 1 at 10.
+func TestSegmentsRecurringWeeks(t *testing.T) {
+	var vals []float64
+	var seqs [][]int
+	site := func(day func(d int) float64) {
+		var seq []int
+		for d := range 21 {
+			seq = append(seq, len(vals))
+			vals = append(vals, day(d))
+		}
+		seqs = append(seqs, seq)
+	}
+	// An office: every weekend (days 5 and 6 of each week) in regime 1.
+	site(func(d int) float64 {
+		if d%7 >= 5 {
+			return 10
+		}
+		return 0
+	})
+	// A site that moves to regime 1 on day 10 and stays.
+	site(func(d int) float64 {
+		if d >= 10 {
+			return 10
+		}
+		return 0
+	})
+	s := &splitter{
+		win:        &Windows{X: mat.NewDense(len(vals), 1, vals), Timelines: Timelines{Sequences: seqs, MinRun: 7}},
+		switchCost: 1,
+	}
+	type seg struct{ regime, first, n int }
+	var got []seg
+	for _, sg := range s.segments([][]float64{{0}, {10}}) {
+		got = append(got, seg{sg.regime, sg.rows[0], len(sg.rows)})
+	}
+	want := []seg{{0, 0, 21}, {0, 21, 10}, {1, 31, 11}}
+	if !slices.Equal(got, want) {
+		t.Errorf("segments (regime, first row, windows) %v, want %v", got, want)
 	}
 }

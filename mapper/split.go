@@ -352,7 +352,7 @@ func (s *splitter) segments(cents [][]float64) []segment {
 				votes[path[end]]++
 				end++
 			}
-			home := mostVoted(votes)
+			home := slices.Index(votes, slices.Max(votes)) // the lowest on a tie
 			left := map[int]bool{}
 			for u := t; u < end; u++ {
 				if path[u] != home {
@@ -391,17 +391,6 @@ func (s *splitter) segments(cents [][]float64) []segment {
 		}
 	}
 	return out
-}
-
-// mostVoted returns the index of the largest count, the lowest on a tie.
-func mostVoted(votes []int) int {
-	best := 0
-	for k, v := range votes {
-		if v > votes[best] {
-			best = k
-		}
-	}
-	return best
 }
 
 // centroid returns the weighted mean codebook vector of the units of tree

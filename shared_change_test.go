@@ -1,8 +1,6 @@
 package kinmap_test
 
 import (
-	"bytes"
-	"encoding/csv"
 	"encoding/json"
 	"os"
 	"path/filepath"
@@ -106,18 +104,10 @@ func checkSharedOutputs(t *testing.T, res *kinmap.Result) {
 		t.Fatal(err)
 	}
 	table := func(name string) map[string][]string {
-		b, err := os.ReadFile(filepath.Join(dir, name))
-		if err != nil {
-			t.Fatal(err)
-		}
-		rows, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
-		if err != nil || len(rows) == 0 {
-			t.Fatalf("%s: %v", name, err)
-		}
 		cols := map[string][]string{}
-		for _, r := range rows[1:] {
-			for i, h := range rows[0] {
-				cols[h] = append(cols[h], r[i])
+		for _, r := range readCSVFile(t, filepath.Join(dir, name)) {
+			for h, v := range r {
+				cols[h] = append(cols[h], v)
 			}
 		}
 		return cols

@@ -343,8 +343,11 @@ func (s *splitter) segments(cents [][]float64) []segment {
 			return t
 		}
 		// The home of every week and the regimes the site leaves it for.
-		var starts, homes []int
-		var away []map[int]bool
+		type siteWeek struct {
+			start, end, home int
+			away             map[int]bool
+		}
+		var weeks []siteWeek
 		for t := 0; t < len(path); {
 			b, end := slot(t)/week, t
 			clear(votes)
@@ -352,30 +355,30 @@ func (s *splitter) segments(cents [][]float64) []segment {
 				votes[path[end]]++
 				end++
 			}
-			home := slices.Index(votes, slices.Max(votes)) // the lowest on a tie
-			left := map[int]bool{}
-			for u := t; u < end; u++ {
-				if path[u] != home {
-					left[path[u]] = true
+			w := siteWeek{start: t, end: end, home: slices.Index(votes, slices.Max(votes)), away: map[int]bool{}} // the lowest home on a tie
+			for _, r := range path[t:end] {
+				if r != w.home {
+					w.away[r] = true
 				}
 			}
-			starts, homes, away = append(starts, t), append(homes, home), append(away, left)
+			weeks = append(weeks, w)
 			t = end
 		}
-		starts = append(starts, len(path))
-		label := slices.Clone(path)
-		for w := range homes {
-			recurs := false
-			for r := range away[w] {
+		recurs := func(w int) bool {
+			for r := range weeks[w].away {
 				for _, v := range []int{w - 1, w + 1} {
-					if v >= 0 && v < len(homes) && homes[v] == homes[w] && away[v][r] {
-						recurs = true
+					if v >= 0 && v < len(weeks) && weeks[v].home == weeks[w].home && weeks[v].away[r] {
+						return true
 					}
 				}
 			}
-			if recurs {
-				for u := starts[w]; u < starts[w+1]; u++ {
-					label[u] = homes[w]
+			return false
+		}
+		label := slices.Clone(path)
+		for w, wk := range weeks {
+			if recurs(w) {
+				for u := wk.start; u < wk.end; u++ {
+					label[u] = wk.home
 				}
 			}
 		}

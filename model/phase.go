@@ -9,6 +9,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/mapper"
+	"gonum.org/v1/gonum/floats"
 )
 
 // Phase is an area of the map that the grouping found as a regime but that
@@ -160,11 +161,7 @@ func (m *Model) fold(hosts map[int]int) int {
 func nearest(c []float64, rs []mapper.Regime) int {
 	best, bd := 0, math.Inf(1)
 	for k, r := range rs {
-		var d float64
-		for j, v := range r.Centroid {
-			d += (v - c[j]) * (v - c[j])
-		}
-		if d < bd {
+		if d := floats.Distance(r.Centroid, c, 2); d < bd {
 			best, bd = k, d
 		}
 	}

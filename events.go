@@ -52,13 +52,9 @@ func (r *Result) classify(o *Options) error {
 		eo.Classify = events.DefaultConfig()
 	}
 	ws := r.Table.Windows
-	units := make([]int, len(ws))
-	for i, w := range ws {
-		units[i] = w.Unit
-	}
 	r.showNotes = eo.ShowNotes
 	c := &Conditions{Span: eo.Span}
-	var own []string // the windows' labels when they count in the run's knowledge
+	own := false // the windows' labels count in the run's knowledge
 	var mine *model.Conditions
 	if eo.File != "" {
 		evs, err := ingest.ReadEvents(eo.File, eo.Columns)
@@ -67,11 +63,8 @@ func (r *Result) classify(o *Options) error {
 		}
 		c.Events = evs
 		c.Marks = events.Mark(ws, evs, events.Span{Before: eo.Span})
-		own = make([]string, len(ws))
-		for i, w := range ws {
-			own[i] = w.Marked
-		}
-		mine = events.Count(r.Model.Map.Units(), units, own)
+		own = true
+		mine = events.Count(r.Model.Map.Units(), ws)
 		mine.Span, mine.Events = events.Span{Before: eo.Span}.String(), c.Marks.Used
 		if len(c.Marks.Unknown) > 0 {
 			r.Info.Warnings = append(r.Info.Warnings, fmt.Sprintf("events: %s: %d sites have no window in the dump and their events are left out: %s",
@@ -88,10 +81,7 @@ func (r *Result) classify(o *Options) error {
 		m.Conditions = c.Knowledge
 		r.Model = &m
 	}
-	for i, cond := range events.Classify(r.Model.Map.Lattice, c.Knowledge, units, own, eo.Classify) {
-		w := &r.Table.Windows[i]
-		w.Condition, w.ConditionConfidence = cond.Label, cond.Confidence
-	}
+	events.Classify(r.Model.Map.Lattice, c.Knowledge, r.Table.Windows, own, eo.Classify)
 	r.Conditions = c
 	return nil
 }

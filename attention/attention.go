@@ -429,18 +429,12 @@ type match struct {
 // resemblance returns, by site, the labels of in.Labels its recent windows
 // resemble (see the package documentation), the closest first.
 func resemblance(in Input, cfg Config) map[string][]match {
-	ws := make([]events.Window, len(in.Windows))
-	conds := make([]events.Condition, len(in.Windows))
-	for i, w := range in.Windows {
-		ws[i] = events.Window{Site: w.Site, Start: w.Start, End: w.End}
-		conds[i] = events.Condition{Label: w.Condition, Confidence: w.ConditionConfidence}
-	}
 	out := map[string][]match{}
 	for _, label := range in.Labels {
 		if label == events.Unlabelled || label == events.Unknown || label == "" {
 			continue
 		}
-		for _, s := range events.Resemble(ws, conds, label, cfg.Recent) {
+		for _, s := range events.Resemble(in.Windows, label, cfg.Recent) {
 			if s.Score >= cfg.MinResemblance {
 				out[s.Site] = append(out[s.Site], match{s, label})
 			}

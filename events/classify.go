@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"slices"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/model"
 )
@@ -32,26 +33,25 @@ type Config struct {
 // must be likelier than all the others together.
 func DefaultConfig() Config { return Config{K: 5, MinConfidence: 0.5} }
 
-// Condition is a window's likely condition.
-type Condition struct {
-	Label      string  // a label, Unlabelled or Unknown
-	Confidence float64 // in [0, 1]; see Classify
-	Votes      int     // windows counted
-	Radius     float64 // lattice distance of the farthest ring counted
+// condition is a window's likely condition.
+type condition struct {
+	label      string  // a label, Unlabelled or Unknown
+	confidence float64 // in [0, 1]; see Classify
+	votes      int     // windows counted
 }
 
-// Classify gives each window on unit units[i] its likely condition from
-// the knowledge c on the lattice l: the label counts of the ring of units
-// at the window's unit, then of the rings ever farther away on the lattice
-// (equal distances form one ring), until at least cfg.K windows are
-// counted. This is the k-nearest-neighbour rule of T. Cover and P. Hart,
-// "Nearest neighbor pattern classification", IEEE Trans. Information
-// Theory 13(1), 1967, with the map's lattice distance between best-matching
-// units in place of the distance between samples, which is how a
-// self-organising map is used as a classifier once its units are labelled
-// (T. Kohonen, "Self-Organizing Maps", 3rd ed., Springer, 2001, from
-// memory); whole rings keep the vote free of an arbitrary order among
-// units at the same distance.
+// Classify sets the likely condition of every window of ws (its Condition
+// and ConditionConfidence) from the knowledge c on the lattice l: the
+// label counts of the ring of units at the window's unit, then of the
+// rings ever farther away on the lattice (equal distances form one ring),
+// until at least cfg.K windows are counted. This is the k-nearest-neighbour
+// rule of T. Cover and P. Hart, "Nearest neighbor pattern classification",
+// IEEE Trans. Information Theory 13(1), 1967, with the map's lattice
+// distance between best-matching units in place of the distance between
+// samples, which is how a self-organising map is used as a classifier once
+// its units are labelled (T. Kohonen, "Self-Organizing Maps", 3rd ed.,
+// Springer, 2001, from memory); whole rings keep the vote free of an
+// arbitrary order among units at the same distance.
 //
 // The winner is the label with most windows, the unmarked windows
 // counting as Unlabelled. Its confidence is the share of the votes with
@@ -60,52 +60,60 @@ type Condition struct {
 // however unanimous. Below cfg.MinConfidence, or on a tie, the window is
 // Unknown.
 //
-// No label leaks: own, when not nil, gives the label each window was
-// counted under in c ("" for unmarked), and that one count is taken out
-// of the vote of the window itself. own is nil when the windows are not
-// part of c (a dump classified with an earlier model's knowledge).
-func Classify(l lattice.Lattice, c *model.Conditions, units []int, own []string, cfg Config) []Condition {
-	out := make([]Condition, len(units))
+// No label leaks: when own is set, the windows of ws are counted in c
+// (Count(units, ws)), each under its Marked label, and that one count is
+// taken out of the vote of the window itself. own is false when the
+// windows are not part of c (a dump classified with an earlier model's
+// knowledge). Without knowledge (c nil) every window is Unknown.
+func Classify(l lattice.Lattice, c *model.Conditions, ws []features.Window, own bool, cfg Config) {
+	for i := range ws {
+		w := &ws[i]
+		w.Condition, w.ConditionConfidence = Unknown, 0
+	}
 	if c == nil {
-		for i := range out {
-			out[i] = Condition{Label: Unknown}
-		}
-		return out
+		return
 	}
 	order := make(map[int][]int) // units by distance from a window's unit
 	votes := make([]int, len(c.Labels)+1)
-	for i, u := range units {
-		ring, ok := order[u]
-		if !ok {
-			ring = byDistance(l, u)
-			order[u] = ring
-		}
-		clear(votes)
-		if own != nil {
-			votes[column(c, own[i])]--
-		}
-		total, radius := 0, 0.0
-		for k := 0; k < len(ring); {
-			d := l.Dist(u, ring[k])
-			for ; k < len(ring) && l.Dist(u, ring[k]) <= d*(1+1e-9)+1e-12; k++ {
-				for j, n := range c.Counts[ring[k]] {
-					votes[j] += n
-				}
-			}
-			total, radius = sum(votes), d
-			if total >= cfg.K {
-				break
-			}
-		}
-		out[i] = decide(c, votes, total, radius, cfg)
+	for i := range ws {
+		w := &ws[i]
+		cond := classify(l, c, w, own, order, votes, cfg)
+		w.Condition, w.ConditionConfidence = cond.label, cond.confidence
 	}
-	return out
+}
+
+// classify returns the likely condition of w (see Classify); order caches
+// the rings of units around each unit, votes is scratch space.
+func classify(l lattice.Lattice, c *model.Conditions, w *features.Window, own bool, order map[int][]int, votes []int, cfg Config) condition {
+	u := w.Unit
+	ring, ok := order[u]
+	if !ok {
+		ring = byDistance(l, u)
+		order[u] = ring
+	}
+	clear(votes)
+	if own {
+		votes[column(c, w.Marked)]--
+	}
+	total := 0
+	for k := 0; k < len(ring); {
+		d := l.Dist(u, ring[k])
+		for ; k < len(ring) && l.Dist(u, ring[k]) <= d*(1+1e-9)+1e-12; k++ {
+			for j, n := range c.Counts[ring[k]] {
+				votes[j] += n
+			}
+		}
+		if total = sum(votes); total >= cfg.K {
+			break
+		}
+	}
+	return decide(c, votes, total, cfg)
 }
 
 // decide words the vote.
-func decide(c *model.Conditions, votes []int, total int, radius float64, cfg Config) Condition {
+func decide(c *model.Conditions, votes []int, total int, cfg Config) condition {
 	if total <= 0 {
-		return Condition{Label: Unknown, Radius: radius}
+		return condition{label: Unknown}
 	}
 	win, tie := 0, false
 	for j, n := range votes {
@@ -124,7 +132,7 @@ func decide(c *model.Conditions, votes []int, total int, radius float64, cfg Con
 	if tie || conf < cfg.MinConfidence {
 		label = Unknown
 	}
-	return Condition{Label: label, Confidence: conf, Votes: total, Radius: radius}
+	return condition{label: label, confidence: conf, votes: total}
 }
 
 // byDistance returns the units of l ordered by lattice distance from u,

@@ -5,6 +5,7 @@ import (
 	"slices"
 	"testing"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/lattice"
 	"github.com/kinmap/kinmap/model"
 )
@@ -24,13 +25,15 @@ func TestClassifyNoLeak(t *testing.T) {
 			bmu[i] = rng.IntN(l.Units())
 			labels[i] = names[rng.IntN(len(names))]
 		}
-		c := Count(l.Units(), bmu, labels)
-		got := Classify(l, c, bmu, labels, DefaultConfig())
+		got := windowsOn(bmu, labels)
+		Classify(l, Count(l.Units(), got), got, true, DefaultConfig())
 		for i := range bmu {
-			without := Count(l.Units(), slices.Delete(slices.Clone(bmu), i, i+1), slices.Delete(slices.Clone(labels), i, i+1))
-			want := Classify(l, without, bmu[i:i+1], nil, DefaultConfig())[0]
-			if got[i] != want {
-				t.Fatalf("seed %d: window %d (label %q) classified %+v with its own count taken out, %+v without it counted", seed, i, labels[i], got[i], want)
+			want := windowsOn(bmu[i:i+1], labels[i:i+1])
+			without := Count(l.Units(), slices.Delete(windowsOn(bmu, labels), i, i+1))
+			Classify(l, without, want, false, DefaultConfig())
+			if got[i].Condition != want[0].Condition || got[i].ConditionConfidence != want[0].ConditionConfidence {
+				t.Fatalf("seed %d: window %d (label %q) classified %s (%.3f) with its own count taken out, %s (%.3f) without it counted",
+					seed, i, labels[i], got[i].Condition, got[i].ConditionConfidence, want[0].Condition, want[0].ConditionConfidence)
 			}
 		}
 	}
@@ -43,9 +46,10 @@ func TestClassifyOwnLabelIsNotEvidence(t *testing.T) {
 	l := lattice.Lattice{Cols: 4, Rows: 4}
 	bmu := []int{5, 5, 5, 5, 5, 5, 6}
 	labels := []string{"lone", "pump", "pump", "pump", "pump", "pump", "pump"}
-	got := Classify(l, Count(l.Units(), bmu, labels), bmu, labels, DefaultConfig())
-	if got[0].Label != "pump" {
-		t.Errorf("the lone window is classified %+v; its neighbours say pump", got[0])
+	ws := windowsOn(bmu, labels)
+	Classify(l, Count(l.Units(), ws), ws, true, DefaultConfig())
+	if ws[0].Condition != "pump" {
+		t.Errorf("the lone window is classified %s; its neighbours say pump", ws[0].Condition)
 	}
 }
 
@@ -64,9 +68,10 @@ func TestClassifyThinEvidence(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got := Classify(l, Count(l.Units(), tc.bmu, tc.labels), []int{tc.at}, nil, DefaultConfig())[0]
-			if got.Label != tc.want {
-				t.Errorf("got %+v, want %s", got, tc.want)
+			got := windowsOn([]int{tc.at}, []string{""})
+			Classify(l, Count(l.Units(), windowsOn(tc.bmu, tc.labels)), got, false, DefaultConfig())
+			if got[0].Condition != tc.want {
+				t.Errorf("got %s (%.3f), want %s", got[0].Condition, got[0].ConditionConfidence, tc.want)
 			}
 		})
 	}
@@ -77,8 +82,18 @@ func TestClassifyThinEvidence(t *testing.T) {
 func TestClassifyFewVotes(t *testing.T) {
 	l := lattice.Lattice{Cols: 2, Rows: 2, Flat: true}
 	c := &model.Conditions{Labels: []string{"a", "b", "c"}, Counts: [][]int{{1, 0, 0, 0}, {0, 0, 0, 0}, {0, 0, 0, 0}, {0, 0, 0, 0}}}
-	got := Classify(l, c, []int{3}, nil, DefaultConfig())[0]
-	if got.Label != Unknown || got.Votes != 1 || got.Confidence != 0.4 {
+	votes := make([]int, len(c.Labels)+1)
+	got := classify(l, c, &features.Window{Unit: 3}, false, map[int][]int{}, votes, DefaultConfig())
+	if got.label != Unknown || got.votes != 1 || got.confidence != 0.4 {
 		t.Errorf("got %+v, want unknown with 1 vote and confidence 0.4", got)
 	}
+}
+
+// windowsOn returns windows on the units bmu marked with labels.
+func windowsOn(bmu []int, labels []string) []features.Window {
+	ws := make([]features.Window, len(bmu))
+	for i, u := range bmu {
+		ws[i] = features.Window{Unit: u, Marked: labels[i]}
+	}
+	return ws
 }

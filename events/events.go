@@ -29,12 +29,6 @@ import (
 // DefaultBefore is the span before a point event that it marks.
 const DefaultBefore = 7 * 24 * time.Hour
 
-// Window is a window as Resemble sees it.
-type Window struct {
-	Site       string
-	Start, End time.Time
-}
-
 // Span is the rule by which an event marks windows (see the package
 // documentation).
 type Span struct {

@@ -3,18 +3,19 @@ package events
 import (
 	"slices"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/model"
 )
 
-// Count returns the label counts of the windows each of units units won:
-// window i, on unit bmu[i], carries labels[i] ("" for none). Without any
-// label every window counts as unmarked, evidence that Merge adds to a
-// model's labels.
-func Count(units int, bmu []int, labels []string) *model.Conditions {
+// Count returns the label counts of the windows of ws on each of units
+// units: a window counts on its Unit under its Marked label ("" for none).
+// Without any label every window counts as unmarked, evidence that Merge
+// adds to a model's labels.
+func Count(units int, ws []features.Window) *model.Conditions {
 	var names []string
-	for _, l := range labels {
-		if l != "" && !slices.Contains(names, l) {
-			names = append(names, l)
+	for _, w := range ws {
+		if w.Marked != "" && !slices.Contains(names, w.Marked) {
+			names = append(names, w.Marked)
 		}
 	}
 	slices.Sort(names)
@@ -22,8 +23,8 @@ func Count(units int, bmu []int, labels []string) *model.Conditions {
 	for u := range c.Counts {
 		c.Counts[u] = make([]int, len(names)+1)
 	}
-	for i, u := range bmu {
-		c.Counts[u][column(c, labels[i])]++
+	for _, w := range ws {
+		c.Counts[w.Unit][column(c, w.Marked)]++
 	}
 	return c
 }

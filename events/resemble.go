@@ -4,6 +4,8 @@ import (
 	"cmp"
 	"slices"
 	"time"
+
+	"github.com/kinmap/kinmap/features"
 )
 
 // SiteScore is how much a site's recent windows resemble windows that
@@ -18,12 +20,12 @@ type SiteScore struct {
 
 // Resemble scores each site by its windows that end within recent of its
 // last window's end: the mean, over them, of the confidence of each
-// window classified as label (conds[i] belongs to ws[i]), a window
+// window classified as label (its Condition, set by Classify), a window
 // classified otherwise counting 0. Sites come highest score first, then by
 // id; sites with no matching window are left out. It is the hook by which
 // a triage list ranks sites that look like what preceded a failure:
-// Resemble(ws, Classify(...), "bearing failure", 7*24*time.Hour).
-func Resemble(ws []Window, conds []Condition, label string, recent time.Duration) []SiteScore {
+// Resemble(ws, "bearing failure", 7*24*time.Hour) after Classify(...).
+func Resemble(ws []features.Window, label string, recent time.Duration) []SiteScore {
 	last := make(map[string]time.Time)
 	for _, w := range ws {
 		if w.End.After(last[w.Site]) {
@@ -31,7 +33,7 @@ func Resemble(ws []Window, conds []Condition, label string, recent time.Duration
 		}
 	}
 	acc := make(map[string]*SiteScore)
-	for i, w := range ws {
+	for _, w := range ws {
 		end := last[w.Site]
 		if w.End.Before(end.Add(-recent)) {
 			continue
@@ -42,9 +44,9 @@ func Resemble(ws []Window, conds []Condition, label string, recent time.Duration
 			acc[w.Site] = s
 		}
 		s.Windows++
-		if conds[i].Label == label {
+		if w.Condition == label {
 			s.Matching++
-			s.Score += conds[i].Confidence
+			s.Score += w.ConditionConfidence
 		}
 	}
 	var out []SiteScore

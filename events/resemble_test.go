@@ -5,28 +5,28 @@ import (
 	"testing"
 	"time"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/model"
 )
 
 func TestResemble(t *testing.T) {
-	var ws []Window
-	var cs []Condition
+	var ws []features.Window
 	add := func(site string, d int, label string, conf float64) {
-		ws = append(ws, Window{Site: site, Start: day(d), End: day(d + 1)})
-		cs = append(cs, Condition{Label: label, Confidence: conf})
+		ws = append(ws, features.Window{Site: site, Start: day(d), End: day(d + 1), Condition: label, ConditionConfidence: conf})
 	}
+	like := func(w *features.Window, conf float64) { w.Condition, w.ConditionConfidence = "failure", conf }
 	for d := 1; d <= 10; d++ {
 		add("a", d, Unlabelled, 0.9)
 		add("b", d, Unlabelled, 0.9)
 	}
 	// a: the last two of its three recent days look like a failure; b:
 	// one, long ago, which is not recent.
-	cs[len(cs)-2] = Condition{Label: "failure", Confidence: 0.9}
-	cs[len(cs)-4] = Condition{Label: "failure", Confidence: 0.6}
-	cs[1] = Condition{Label: "failure", Confidence: 0.9}
-	got := Resemble(ws, cs, "failure", 3*24*time.Hour)
+	like(&ws[len(ws)-2], 0.9)
+	like(&ws[len(ws)-4], 0.6)
+	like(&ws[1], 0.9)
+	got := Resemble(ws, "failure", 3*24*time.Hour)
 	// a's windows ending within 3 days of its last end (day 11): days 7 to
 	// 10 end on 8 to 11, so four windows; (0.9 + 0.6) / 4.
 	want := []SiteScore{{Site: "a", Score: 1.5 / 4, Windows: 4, Matching: 2, Last: day(11)}}

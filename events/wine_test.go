@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat"
 
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/internal/tooltest"
 	"github.com/kinmap/kinmap/mapper"
 )
@@ -105,18 +106,18 @@ func wineMapAccuracy(t *testing.T, x [][]float64, y []int, folds [][]int) float6
 			t.Fatal(err)
 		}
 		asg := m.Assign(xtr, cfg.Workers)
-		bmu, labels := make([]int, len(train)), make([]string, len(train))
+		known := make([]features.Window, len(train))
 		for k, i := range train {
-			bmu[k], labels[k] = asg[k].BMU, names[y[i]]
+			known[k] = features.Window{Unit: asg[k].BMU, Marked: names[y[i]]}
 		}
-		know := Count(m.Units(), bmu, labels)
-		testAsg := m.Assign(xte, 1)
-		units := make([]int, len(test))
-		for k, a := range testAsg {
-			units[k] = a.BMU
+		know := Count(m.Units(), known)
+		asked := make([]features.Window, len(test))
+		for k, a := range m.Assign(xte, 1) {
+			asked[k].Unit = a.BMU
 		}
-		for k, c := range Classify(m.Lattice, know, units, nil, DefaultConfig()) {
-			if c.Label == names[y[test[k]]] {
+		Classify(m.Lattice, know, asked, false, DefaultConfig())
+		for k, w := range asked {
+			if w.Condition == names[y[test[k]]] {
 				right++
 			}
 		}

@@ -207,3 +207,29 @@ func TestBuildCalendarBruteForce(t *testing.T) {
 		}
 	}
 }
+
+// TestChanceTail checks the binomial tail of the test of partners against
+// scipy's binomial survival function, binom.sf(k−1, n, p), computed once
+// with Debian's scipy 1.10.1 (/usr/bin/python3 -c "from scipy.stats import
+// binom; print(repr(binom.sf(k-1, n, p)))"), down to values far below the
+// 10⁻¹⁶ at which 1 − CDF stops.
+func TestChanceTail(t *testing.T) {
+	tests := []struct {
+		row, total []int // counts of regimes 0 and 1 at one time, and over all times
+		want       float64
+	}{
+		// n = 98 windows at the time, k of them in regime 1; elsewhere 2
+		// of 148 windows in regime 1, a rate of (2+1)/(148+2) = 0.02.
+		{[]int{88, 10}, []int{234, 12}, 2.8870824969360623e-05},
+		{[]int{68, 30}, []int{214, 32}, 4.077282214901112e-27},
+		{[]int{38, 60}, []int{184, 62}, 1.1738630734058997e-75},
+		{[]int{1, 97}, []int{147, 99}, 1.5221314582240493e-163},
+		{[]int{98, 0}, []int{244, 2}, 1}, // k = 0: certain
+	}
+	for _, tc := range tests {
+		got := chance(tc.row, tc.total, 1)
+		if math.Abs(got-tc.want) > 1e-9*tc.want {
+			t.Errorf("chance(%v, %v) = %g, want %g (scipy)", tc.row, tc.total, got, tc.want)
+		}
+	}
+}

@@ -14,6 +14,7 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/lattice"
+	"github.com/kinmap/kinmap/timeline"
 )
 
 func TestSpreadMulti(t *testing.T) {
@@ -44,6 +45,11 @@ func TestStatus(t *testing.T) {
 		{fmt.Errorf("decoding: %w", &kinmap.NoWindowError{Reasons: "3 for low coverage"}), ExitData, "(3 for low coverage); try a lower --min-coverage or a longer --window\n"},
 		{&kinmap.NoWindowError{Reasons: "5 for coverage", Unit: &ingest.UnitError{Sample: 1780000000, Given: "ms", Likely: "s"}}, ExitData,
 			"(5 for coverage): integer times such as 1780000000 look like epochs in seconds, not milliseconds; read them with --time-unit s\n"},
+		// The decoding's settings too (timeline.ConfigError).
+		{&kinmap.UsageError{Err: &timeline.ConfigError{Field: "MinDwell", Value: -1, Want: "of 1 window or more"}}, ExitUsage,
+			"kinmap run: --min-dwell -1: want a value of 1 window or more\n"},
+		{&kinmap.UsageError{Err: &timeline.ConfigError{Field: "UnfamiliarQ", Value: 1.5, Want: "in (0, 1]"}}, ExitUsage, "--unfamiliar-q 1.5: want a value in (0, 1]"},
+		{&kinmap.UsageError{Err: &timeline.ConfigError{Field: "SwitchCost", Value: -2, Want: "of 0 or more, finite"}}, ExitUsage, "--switch-cost -2: want a value of 0 or more"},
 		{&ingest.Error{File: "a.csv", Err: fmt.Errorf("no readings: %w", &ingest.UnitError{Sample: 1780000000000, Given: "s", Likely: "ms"})}, ExitData,
 			"look like epochs in milliseconds, not seconds; read them with --time-unit ms\n"},
 	}

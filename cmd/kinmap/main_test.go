@@ -61,6 +61,10 @@ func TestUsageErrors(t *testing.T) {
 		// The work list's thresholds are worded with their options.
 		{"confidence above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--top-confidence", "1.5"}, "--top-confidence 1.5: want a value in (0, 1]"},
 		{"negative stay", []string{"assign", "--model", "m", "--data", dump, "--out", t.TempDir(), "--long-stay", "-2"}, "--long-stay -2: want a value of 1 window or more"},
+		// An explicit 0 would be read as the default: refused instead.
+		{"confidence of 0", []string{"run", "--data", dump, "--out", t.TempDir(), "--top-confidence", "0"}, "--top-confidence 0: want a value in (0, 1]"},
+		{"fleet p of 0", []string{"assign", "--model", "m", "--data", dump, "--out", t.TempDir(), "--fleet-p", "0"}, "--fleet-p 0: want a value in (0, 1)"},
+		{"dwell of 0", []string{"update", "--model", "m", "--data", dump, "--out", t.TempDir(), "--min-dwell", "0"}, "--min-dwell 0: want a value of 1 window or more"},
 		{"fleet p of 1", []string{"update", "--model", "m", "--data", dump, "--out", t.TempDir(), "--fleet-p", "1"}, "--fleet-p 1: want a value in (0, 1)"},
 		{"unknown time zone", []string{"run", "--data", dump, "--out", t.TempDir(), "--tz", "Mars/Olympus"}, "Mars/Olympus"},
 		{"bad scaling", []string{"run", "--data", dump, "--out", t.TempDir(), "--scale", "minmax"}, "minmax"},

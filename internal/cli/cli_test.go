@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"io"
 	"slices"
 	"strings"
 	"testing"
@@ -107,6 +108,46 @@ func TestWordWarning(t *testing.T) {
 	} {
 		if got := WordWarning(tt.in); !strings.HasSuffix(got, tt.want) {
 			t.Errorf("WordWarning(%q) = %q, want it to end %q", tt.in, got, tt.want)
+		}
+	}
+}
+
+// An explicit 0 for a setting whose library field reads 0 as the default
+// is refused with the option and its range; left out, or given another
+// value, the option parses.
+func TestNonZero(t *testing.T) {
+	tests := []struct {
+		args []string
+		want string // "" for no error
+	}{
+		{nil, ""},
+		{[]string{"--top-confidence", "0"}, "--top-confidence 0: want a value in (0, 1]"},
+		{[]string{"--top-confidence=0.0"}, "--top-confidence 0: want a value in (0, 1]"},
+		{[]string{"--top-confidence", "0.2"}, ""},
+		{[]string{"--fleet-p", "0"}, "--fleet-p 0: want a value in (0, 1)"},
+		{[]string{"--fleet-p", "-0"}, "--fleet-p 0: want a value in (0, 1)"},
+		{[]string{"--fleet-p", "0.01"}, ""},
+		{[]string{"--min-dwell", "0"}, "--min-dwell 0: want a value of 1 window or more"},
+		{[]string{"--min-dwell", "1"}, ""},
+		{[]string{"--unfamiliar-q", "0"}, "--unfamiliar-q 0: want a value in (0, 1]"},
+		{[]string{"--eta0", "0"}, "--eta0 0: want a value in (0, 1]"},
+		// 0 is documented as a choice for these.
+		{[]string{"--switch-cost", "0"}, ""},
+		{[]string{"--long-stay", "0"}, ""},
+		{[]string{"--regimes", "0"}, ""},
+	}
+	for _, tt := range tests {
+		o := kinmap.DefaultOptions()
+		f := New(Command{Name: "run"}, nil)
+		f.Map(&o, true)
+		f.Timeline(&o)
+		f.WorkList(&o)
+		err := f.Parse(tt.args, io.Discard)
+		switch {
+		case tt.want == "" && err != nil:
+			t.Errorf("%q: %v, want no error", tt.args, err)
+		case tt.want != "" && (err == nil || !kinmap.IsUsage(err) || err.Error() != tt.want):
+			t.Errorf("%q: %v, want the usage error %q", tt.args, err, tt.want)
 		}
 	}
 }

@@ -1,6 +1,7 @@
 package kinmap_test
 
 import (
+	"fmt"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -47,6 +48,12 @@ func TestFoldWeekendPhase(t *testing.T) {
 	}
 	if len(m.Phases) > 0 && !strings.Contains(res.Info.Regimes.Note, "is a phase of regime") {
 		t.Errorf("choice note %q names no phase", res.Info.Regimes.Note)
+	}
+	// The runner-up is one split from the number the grouping found, which
+	// the note and run.json state beside the regimes held.
+	if found := len(m.Regimes) + len(m.Phases); len(m.Phases) > 0 &&
+		(res.Info.Regimes.Found != found || !strings.Contains(res.Info.Regimes.Note, fmt.Sprintf("; the grouping: %d regimes", found))) {
+		t.Errorf("choice found %d, note %q; want %d found, in the note too", res.Info.Regimes.Found, res.Info.Regimes.Note, found)
 	}
 	path := filepath.Join(t.TempDir(), "fleet.model")
 	if err := m.WriteFile(path); err != nil {

@@ -76,6 +76,12 @@ type Run struct {
 	// the regime descriptions give in the channels' units; nil for the
 	// standardised differences alone.
 	Levels *Levels
+
+	// RegimeNote says how the number of regimes was reached, as the run
+	// summary does, phases (model.Phase) included; "" for the model's
+	// choice in its own words (mapper.Choice.String), which know nothing
+	// of phases.
+	RegimeNote string
 }
 
 // Write writes the outputs of r into dir, creating it if needed.

@@ -328,6 +328,23 @@ func TestReportShowsRegimeChoice(t *testing.T) {
 	}
 }
 
+// After folding, the model's choice counts the regimes held while its
+// runner-up is one split from the number found: the report shows the
+// run's note, which says both, in place of the model's own words.
+func TestReportShowsRegimeNote(t *testing.T) {
+	r := fixtureRun()
+	r.Model.Choice = &mapper.Choice{K: 3, Alpha: 1e-4, RunnerUp: 5, RunnerUpP: 1e-20}
+	r.RegimeNote = "3 regimes held by the sites and 1 phase (the area found as regime 4 is a phase of regime 2); the grouping: 4 regimes found; runner-up 5"
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	doc := html.UnescapeString(string(read(t, dir, ReportFile)))
+	if !strings.Contains(doc, r.RegimeNote) || strings.Contains(doc, r.Model.Choice.String()) {
+		t.Errorf("report shows the model's %q, or lacks the run's note %q", r.Model.Choice.String(), r.RegimeNote)
+	}
+}
+
 // A warning reaches the report once, in the order first given, although
 // the caller passes on the model's and Write's own warnings in r.Warnings,
 // which the report also gathers itself.

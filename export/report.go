@@ -28,7 +28,7 @@ var reportFiles embed.FS
 // package free of init-time work. Every report*.html file joins it, so that
 // a section's file only has to be added.
 func reportTemplate() (*template.Template, error) {
-	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch, "readable": readable, "sites": joinSites}).ParseFS(reportFiles, "report*.html")
+	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch, "readable": readable, "sites": siteList}).ParseFS(reportFiles, "report*.html")
 }
 
 // maxSwitchRows caps the switch table; switches.csv has them all.

@@ -58,11 +58,11 @@ func TestReportContents(t *testing.T) {
 		"<title>Week 10 &lt;test&gt;</title>", // escaped by html/template
 		"not a protective or control function",
 		"defer to site safety procedures and local codes",
-		"low load &lt;idle&gt; &amp; quiet",           // regime description, escaped
-		"<td>PS-01</td><td>2025-03-04 00:00 UTC</td>", // the switch table
-		"<td>T-7</td><td>2025-03-03 00:00 UTC</td>",
+		"low load &lt;idle&gt; &amp; quiet",                        // regime description, escaped
+		"<td class=\"id\">PS-01</td><td>2025-03-04 00:00 UTC</td>", // the switch table
+		"<td class=\"id\">T-7</td><td>2025-03-03 00:00 UTC</td>",
 		"1 of 18 windows are unlike",
-		"<td>X-9</td><td class=\"num\">1</td>",
+		"<td class=\"id\">X-9</td><td class=\"num\">1</td>",
 		"site &#34;X-9&#34; has no position",  // a warning of the export
 		"3 readings out of order were sorted", // a warning of the run
 		"week10.parquet (parquet, 5000 rows)",

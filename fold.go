@@ -59,6 +59,15 @@ func (r *Result) fold(o *Options) {
 		s.Regime, s.Like = ids[s.Regime], ids[s.Like]
 	}
 	// The numbers changed, and with them the lineage they are named by.
+	// The run writes its windows under that lineage, so it reads the
+	// earlier runs' switches and stays under it too: the same dump run
+	// again then finds its own switches reported, not news. The decoding
+	// continued from the history under the lineage before folding; a new
+	// map meets its folded lineage in the history when its own dump is run
+	// again, which has no windows before its own to continue from.
 	m.Lineage = ""
 	m.Lineage = m.LineageOrDerived()
+	if r.history != nil {
+		r.past = pastOf(r.history, m.Lineage)
+	}
 }

@@ -1,6 +1,7 @@
 package kinmap_test
 
 import (
+	"fmt"
 	"path/filepath"
 	"slices"
 	"strings"
@@ -47,6 +48,12 @@ func TestFoldWeekendPhase(t *testing.T) {
 	}
 	if len(m.Phases) > 0 && !strings.Contains(res.Info.Regimes.Note, "is a phase of regime") {
 		t.Errorf("choice note %q names no phase", res.Info.Regimes.Note)
+	}
+	// The runner-up is one split from the number the grouping found, which
+	// the note and run.json state beside the regimes held.
+	if found := len(m.Regimes) + len(m.Phases); len(m.Phases) > 0 &&
+		(res.Info.Regimes.Found != found || !strings.Contains(res.Info.Regimes.Note, fmt.Sprintf("; the grouping: %d regimes", found))) {
+		t.Errorf("choice found %d, note %q; want %d found, in the note too", res.Info.Regimes.Found, res.Info.Regimes.Note, found)
 	}
 	path := filepath.Join(t.TempDir(), "fleet.model")
 	if err := m.WriteFile(path); err != nil {
@@ -102,4 +109,55 @@ func regimesBySite(ws []features.Window) []int {
 		out[i] = w.Regime
 	}
 	return out
+}
+
+// Folding renumbers the regimes of a new map, and so names another lineage
+// than the map's before it: the run must read its history under the
+// lineage it writes. Run again on the same dump with the history of the
+// first run, it continues that history: every switch it reports is a
+// revision of the same switch, not news again.
+func TestFoldHistoryContinues(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end runs")
+	}
+	spec, err := scenarios.DefaultSpec("ahus")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, o := scenarioOptions(t, spec)
+	o.History = filepath.Join(t.TempDir(), "history")
+	first, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(first.Model.Phases) == 0 {
+		t.Skip("no phase folded on this fleet: nothing renumbered")
+	}
+	if err := first.AppendHistory(o.History); err != nil {
+		t.Fatal(err)
+	}
+	again, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if again.Model.Lineage != first.Model.Lineage {
+		t.Errorf("lineage %q, the first run's %q", again.Model.Lineage, first.Model.Lineage)
+	}
+	switches, news := 0, 0
+	for _, r := range again.Attention {
+		if r.Time.IsZero() || r.Site == "" {
+			continue // not a site's switch
+		}
+		switches++
+		if !r.Revision {
+			news++
+			if news <= 3 {
+				t.Errorf("row %d: %s, reported as new by the same dump's second run", r.Rank, r.Reason)
+			}
+		}
+	}
+	if switches == 0 {
+		t.Fatal("no switch in the work list")
+	}
+	t.Logf("%d of %d switch rows new", news, switches)
 }

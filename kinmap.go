@@ -162,7 +162,12 @@ type RunInfo struct {
 // not, as its regimes are the model's.
 type RegimeChoice struct {
 	mapper.Choice
-	Note string `json:"note"`
+	// Found is the number of regimes the grouping found when some were
+	// folded as phases (model.Phase): K, which counts the regimes the
+	// sites hold, plus the phases. The runner-up is one split from it.
+	// Omitted when nothing was folded, as it is then K.
+	Found int    `json:"found,omitempty"`
+	Note  string `json:"note"`
 }
 
 // Counts are the sizes of a run.

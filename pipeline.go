@@ -396,23 +396,48 @@ func finish(res *Result, sw *stopwatch) {
 	}
 }
 
-// regimeChoice words the choice of the number of regimes, with the option
-// that tries the runner-up when the choice is marginal, and the phases
-// (model.Phase) the areas that no site held were folded into, one note
-// each.
+// regimeChoice words the choice of the number of regimes (choiceNote),
+// with the option that tries the runner-up when the choice is marginal
+// and, when areas no site held were folded as phases, the number that
+// keeps every area found a regime: a number of regimes given is never
+// folded.
 func regimeChoice(c *mapper.Choice, phases []string) *RegimeChoice {
-	note := c.String()
+	rc := &RegimeChoice{Choice: *c, Note: choiceNote(c, phases)}
 	if len(phases) > 0 {
-		found := *c
-		found.K += len(phases)
-		noun := "regimes"
-		if c.K == 1 {
-			noun = "regime"
-		}
-		note = fmt.Sprintf("%d %s held by the sites, of %s; %s", c.K, noun, found.String(), strings.Join(phases, "; "))
+		rc.Found = c.K + len(phases)
 	}
-	if c.Marginal {
-		note += fmt.Sprintf(": re-run with %d regimes (mapper.Config.Regimes) to see the other", c.RunnerUp)
+	switch {
+	case c.Marginal && len(phases) > 0:
+		rc.Note += fmt.Sprintf(": re-run with %d regimes (mapper.Config.Regimes) to see the other, or with %d to keep every area found a regime (a number given is never folded)", c.RunnerUp, rc.Found)
+	case c.Marginal:
+		rc.Note += fmt.Sprintf(": re-run with %d regimes (mapper.Config.Regimes) to see the other", c.RunnerUp)
+	case len(phases) > 0:
+		rc.Note += fmt.Sprintf("; re-run with %d regimes (mapper.Config.Regimes) to keep every area found a regime (a number given is never folded)", rc.Found)
 	}
-	return &RegimeChoice{Choice: *c, Note: note}
+	return rc
+}
+
+// choiceNote says how the number of regimes was reached and, after
+// folding, which areas the sites did not hold (phases, one note each). The
+// runner-up is a number of regimes of the grouping, which counts the
+// phases as regimes, so the note states the regimes held and the phases
+// first, then what the grouping found and its runner-up: "3 regimes held
+// by the sites and 1 phase (…); the grouping: 4 regimes found; runner-up
+// 5: …", never a runner-up beside the held count alone.
+func choiceNote(c *mapper.Choice, phases []string) string {
+	if len(phases) == 0 {
+		return c.String()
+	}
+	found := *c
+	found.K += len(phases)
+	return fmt.Sprintf("%s held by the sites and %s (%s); the grouping: %s",
+		counted(c.K, "regime"), counted(len(phases), "phase"), strings.Join(phases, "; "), found.String())
+}
+
+// counted writes n and noun, with an s unless n is 1.
+func counted(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return fmt.Sprintf("%d %ss", n, noun)
 }

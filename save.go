@@ -155,6 +155,14 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string, word func(string) s
 		}
 	}
 	run.Warnings, run.Info = info.Warnings, info
+	switch c := r.Model.Choice; {
+	case info.Regimes != nil:
+		run.RegimeNote = info.Regimes.Note
+	case c != nil:
+		// assign: the model's choice, with its phases, and no option
+		// to re-run.
+		run.RegimeNote = choiceNote(c, r.Model.PhaseNotes())
+	}
 	return export.Stage(tx, dir, run)
 }
 

@@ -76,6 +76,12 @@ type Run struct {
 	// the regime descriptions give in the channels' units; nil for the
 	// standardised differences alone.
 	Levels *Levels
+
+	// RegimeNote says how the number of regimes was reached, as the run
+	// summary does, phases (model.Phase) included; "" for the model's
+	// choice in its own words (mapper.Choice.String), which know nothing
+	// of phases.
+	RegimeNote string
 }
 
 // Write writes the outputs of r into dir, creating it if needed.
@@ -113,7 +119,9 @@ type Run struct {
 // and switches.parquet one per switch (site, time, from_regime, to_regime,
 // windows_before, windows_after, confidence, from_name, from_status,
 // to_name, to_status, onset: the start of the drift that led to it, empty
-// or null when none was found), by site and time; shared.csv and
+// or null when none was found; shared_start: the start of the shared
+// condition it is part of, timeline.Shared.Holds, empty or null for a
+// switch of the site's own), by site and time; shared.csv and
 // shared.parquet one per shared condition, r.Shared (start; end, empty or
 // null while it lasts to the last window; regime, regime_name,
 // regime_status; like_regime, like_name, like_status: the regime its

@@ -63,6 +63,7 @@ func TestGeoPackageOgrinfo(t *testing.T) {
 			"site": "String", "time": "DateTime", "from_regime": "Integer64", "to_regime": "Integer64",
 			"windows_before": "Integer64", "windows_after": "Integer64", "confidence": "Real",
 			"from_name": "String", "from_status": "String", "to_name": "String", "to_status": "String", "onset": "DateTime",
+			"shared_start": "DateTime",
 		}}},
 		{"shared", ogrLayer{"None", len(fixtureShared), map[string]string{
 			"start": "DateTime", "end": "DateTime", "regime": "Integer64", "regime_name": "String", "regime_status": "String",

@@ -28,7 +28,7 @@ var reportFiles embed.FS
 // package free of init-time work. Every report*.html file joins it, so that
 // a section's file only has to be added.
 func reportTemplate() (*template.Template, error) {
-	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch, "readable": readable, "sites": joinSites}).ParseFS(reportFiles, "report*.html")
+	return template.New(ReportFile).Funcs(template.FuncMap{"swatch": swatch, "readable": readable, "sites": siteList}).ParseFS(reportFiles, "report*.html")
 }
 
 // maxSwitchRows caps the switch table; switches.csv has them all.
@@ -176,7 +176,7 @@ func writeReport(w io.Writer, r *Run, ss []*site, tracks []*feature, warnings []
 	d.Labels = labelsData(r)
 	d.Shared = sharedReport(r)
 	d.Data = dataFacts(r)
-	d.Map = mapFacts(r.Model)
+	d.Map = mapFacts(r.Model, r.RegimeNote)
 	if r.Info != nil {
 		b, err := json.MarshalIndent(r.Info, "", "  ")
 		if err != nil {
@@ -241,7 +241,9 @@ func dataFacts(r *Run) []fact {
 	return out
 }
 
-func mapFacts(m *model.Model) []fact {
+// mapFacts describes the map of m; note, when set, says how the number of
+// regimes was reached (Run.RegimeNote).
+func mapFacts(m *model.Model, note string) []fact {
 	l := m.Map.Lattice
 	cells, surface := l.Cells()+", 4 neighbours", l.Surface()+", wraps both ways"
 	if l.Hex {
@@ -260,7 +262,10 @@ func mapFacts(m *model.Model) []fact {
 		{"Topographic error", percent1(m.Quality.TE)},
 		{"Units without windows", percent1(m.Quality.Unused)},
 	}
-	if m.Choice != nil {
+	switch {
+	case note != "":
+		facts = append(facts, fact{"Regimes", note})
+	case m.Choice != nil:
 		facts = append(facts, fact{"Regimes", m.Choice.String()})
 	}
 	if len(m.Scores) > 0 {

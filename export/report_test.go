@@ -58,11 +58,11 @@ func TestReportContents(t *testing.T) {
 		"<title>Week 10 &lt;test&gt;</title>", // escaped by html/template
 		"not a protective or control function",
 		"defer to site safety procedures and local codes",
-		"low load &lt;idle&gt; &amp; quiet",           // regime description, escaped
-		"<td>PS-01</td><td>2025-03-04 00:00 UTC</td>", // the switch table
-		"<td>T-7</td><td>2025-03-03 00:00 UTC</td>",
+		"low load &lt;idle&gt; &amp; quiet",                        // regime description, escaped
+		"<td class=\"id\">PS-01</td><td>2025-03-04 00:00 UTC</td>", // the switch table
+		"<td class=\"id\">T-7</td><td>2025-03-03 00:00 UTC</td>",
 		"1 of 18 windows are unlike",
-		"<td>X-9</td><td class=\"num\">1</td>",
+		"<td class=\"id\">X-9</td><td class=\"num\">1</td>",
 		"site &#34;X-9&#34; has no position",  // a warning of the export
 		"3 readings out of order were sorted", // a warning of the run
 		"week10.parquet (parquet, 5000 rows)",
@@ -325,6 +325,23 @@ func TestReportShowsRegimeChoice(t *testing.T) {
 	doc := html.UnescapeString(string(read(t, dir, ReportFile)))
 	if !strings.Contains(doc, "3 regimes found; runner-up 4") || !strings.Contains(doc, "p = 0.0003") || !strings.Contains(doc, "marginal") {
 		t.Errorf("report lacks the choice of the number of regimes: %q", r.Model.Choice.String())
+	}
+}
+
+// After folding, the model's choice counts the regimes held while its
+// runner-up is one split from the number found: the report shows the
+// run's note, which says both, in place of the model's own words.
+func TestReportShowsRegimeNote(t *testing.T) {
+	r := fixtureRun()
+	r.Model.Choice = &mapper.Choice{K: 3, Alpha: 1e-4, RunnerUp: 5, RunnerUpP: 1e-20}
+	r.RegimeNote = "3 regimes held by the sites and 1 phase (the area found as regime 4 is a phase of regime 2); the grouping: 4 regimes found; runner-up 5"
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	doc := html.UnescapeString(string(read(t, dir, ReportFile)))
+	if !strings.Contains(doc, r.RegimeNote) || strings.Contains(doc, r.Model.Choice.String()) {
+		t.Errorf("report shows the model's %q, or lacks the run's note %q", r.Model.Choice.String(), r.RegimeNote)
 	}
 }
 

@@ -14,6 +14,8 @@ import (
 	"time"
 
 	"github.com/chromedp/chromedp"
+
+	"github.com/kinmap/kinmap/timeline"
 )
 
 // cell writes a value read back from an output file as text in one form,
@@ -179,6 +181,36 @@ func TestSharedAndOnsetsReadBack(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// A switch that is part of a shared condition (timeline.Shared.Holds)
+// names the condition's start in switches.csv, switches.parquet and the
+// GeoPackage's switches table, so that a GIS user can filter them; a
+// switch of the site's own leaves it empty (NULL).
+func TestSwitchesNameTheirSharedCondition(t *testing.T) {
+	r := fixtureRun()
+	// T-7 switched from 1 to 3 on day 2, which a condition of regime 1
+	// that looked like regime 3 from day 1 to day 3 holds; PS-01's switch
+	// (1 to 2) is its own.
+	held := timeline.Shared{Start: day0.AddDate(0, 0, 1), End: day0.AddDate(0, 0, 3), Regime: 1, Like: 3, Sites: []string{"PS-02", "T-7"}, Of: 3, P: 1e-3}
+	r.Shared = append([]timeline.Shared{held}, r.Shared...)
+	if !held.Holds(r.Switches[1]) || held.Holds(r.Switches[0]) {
+		t.Fatalf("the fixture's switches are not the ones this test means: %+v", r.Switches)
+	}
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	want := [][]string{{"PS-01", "1", ""}, {"T-7", "1", held.Start.Format(time.RFC3339)}}
+	got := readBack(t, dir, SwitchesCSVFile, SwitchesParquetFile, "switches", "", []string{"site", "from_regime", "shared_start"})
+	if len(got) != 3 {
+		t.Errorf("%d readers, want 3", len(got))
+	}
+	for reader, rows := range got {
+		if fmt.Sprintf("%q", rows) != fmt.Sprintf("%q", want) {
+			t.Errorf("%s:\n got %q\nwant %q", reader, rows, want)
+		}
 	}
 }
 

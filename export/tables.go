@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"fmt"
 	"io"
+	"slices"
 	"strconv"
 	"time"
 
@@ -11,6 +12,7 @@ import (
 
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/lattice"
+	"github.com/kinmap/kinmap/timeline"
 )
 
 // timelineRow is one row of timeline.parquet and timeline.csv.
@@ -50,6 +52,10 @@ type switchRow struct {
 	// the switch (timeline.Switch.Onset); nil when none was found. Last,
 	// so that the columns before it keep their places.
 	Onset *time.Time `parquet:"onset,optional,timestamp(microsecond:utc)"`
+	// SharedStart is the start of the shared condition the switch is part
+	// of (timeline.Shared.Holds): with FromRegime, the start and regime of
+	// its row in shared.csv; nil for a switch of the site's own.
+	SharedStart *time.Time `parquet:"shared_start,optional,timestamp(microsecond:utc)"`
 }
 
 // The columns of the timeline and switch tables, for CSV headers and the
@@ -61,7 +67,8 @@ var (
 		{"likely_condition", "TEXT"}, {"condition_confidence", "REAL"}}
 	switchColumns = []gpkgColumn{{"site", "TEXT"}, {"time", "DATETIME"}, {"from_regime", "INTEGER"}, {"to_regime", "INTEGER"},
 		{"windows_before", "INTEGER"}, {"windows_after", "INTEGER"}, {"confidence", "REAL"},
-		{"from_name", "TEXT"}, {"from_status", "TEXT"}, {"to_name", "TEXT"}, {"to_status", "TEXT"}, {"onset", "DATETIME"}}
+		{"from_name", "TEXT"}, {"from_status", "TEXT"}, {"to_name", "TEXT"}, {"to_status", "TEXT"}, {"onset", "DATETIME"},
+		{"shared_start", "DATETIME"}}
 )
 
 func (r timelineRow) values() []any {
@@ -70,7 +77,7 @@ func (r timelineRow) values() []any {
 
 func (r switchRow) values() []any {
 	return []any{r.Site, r.Time, r.FromRegime, r.ToRegime, r.WindowsBefore, r.WindowsAfter, r.Confidence,
-		r.FromName, r.FromStatus, r.ToName, r.ToStatus, optionalTime(r.Onset)}
+		r.FromName, r.FromStatus, r.ToName, r.ToStatus, optionalTime(r.Onset), optionalTime(r.SharedStart)}
 }
 
 // optionalTime is a row value of a time that may be missing: nil, which
@@ -146,6 +153,10 @@ func switchRows(r *Run) []switchRow {
 		if !s.Onset.IsZero() && s.Onset.Before(s.Time) {
 			t := micro(s.Onset)
 			rows[i].Onset = &t
+		}
+		if k := slices.IndexFunc(r.Shared, func(sh timeline.Shared) bool { return sh.Holds(s) }); k >= 0 {
+			t := micro(r.Shared[k].Start)
+			rows[i].SharedStart = &t
 		}
 	}
 	return rows

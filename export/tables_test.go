@@ -84,7 +84,7 @@ func TestParquetEqualsCSV(t *testing.T) {
 		times        []string
 	}{
 		{TimelineParquetFile, TimelineCSVFile, []string{"site", "window_start", "window_end", "col", "row", "regime", "qe", "unfamiliar", "regime_name", "regime_status", "likely_condition", "condition_confidence"}, []string{"window_start", "window_end"}},
-		{SwitchesParquetFile, SwitchesCSVFile, []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence", "from_name", "from_status", "to_name", "to_status", "onset"}, []string{"time", "onset"}},
+		{SwitchesParquetFile, SwitchesCSVFile, []string{"site", "time", "from_regime", "to_regime", "windows_before", "windows_after", "confidence", "from_name", "from_status", "to_name", "to_status", "onset", "shared_start"}, []string{"time", "onset", "shared_start"}},
 		{SharedParquetFile, SharedCSVFile, []string{"start", "end", "regime", "regime_name", "regime_status", "like_regime", "like_name", "like_status", "sites", "regime_sites", "site_ids", "p_value"}, []string{"start", "end"}},
 	} {
 		t.Run(tc.parquet, func(t *testing.T) {
@@ -152,8 +152,8 @@ func TestCSVContents(t *testing.T) {
 	}
 	_, sw := readCSV(t, read(t, dir, SwitchesCSVFile))
 	want := [][]string{
-		{"PS-01", "2025-03-04T00:00:00Z", "1", "2", "3", "3", "0.9", "", "", "worn bearing, \"B\"", "fault", "2025-03-02T00:00:00Z"},
-		{"T-7", "2025-03-03T00:00:00Z", "1", "3", "2", "3", "0.75", "", "", "", "", ""},
+		{"PS-01", "2025-03-04T00:00:00Z", "1", "2", "3", "3", "0.9", "", "", "worn bearing, \"B\"", "fault", "2025-03-02T00:00:00Z", ""},
+		{"T-7", "2025-03-03T00:00:00Z", "1", "3", "2", "3", "0.75", "", "", "", "", "", ""},
 	}
 	if fmt.Sprint(sw) != fmt.Sprint(want) {
 		t.Errorf("switches %v, want %v", sw, want)

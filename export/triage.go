@@ -3,10 +3,13 @@ package export
 import (
 	"cmp"
 	"fmt"
+	"html/template"
 	"maps"
 	"slices"
 	"strconv"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/kinmap/kinmap/attention"
 )
@@ -32,14 +35,15 @@ type triageData struct {
 }
 
 type attentionItem struct {
-	Rank                int
-	Level, Site, Reason string
-	Sites               int
-	News                string
-	HasSwitch           bool
-	Time                string
-	From, To            int
-	Confidence          string
+	Rank        int
+	Level, Site string
+	Reason      template.HTML // its site ids kept whole (siteText)
+	Sites       int
+	News        string
+	HasSwitch   bool
+	Time        string
+	From, To    int
+	Confidence  string
 }
 
 type healthGroup struct {
@@ -90,7 +94,7 @@ func triageOf(r *Run) triageData {
 		UnfamiliarAlpha: strconv.FormatFloat(cmp.Or(c.UnfamiliarAlpha, def.UnfamiliarAlpha), 'g', -1, 64),
 		FleetAlpha:      strconv.FormatFloat(cmp.Or(c.FleetAlpha, def.FleetAlpha), 'g', -1, 64)}
 	for _, a := range r.Attention[:min(len(r.Attention), maxAttentionRows)] {
-		it := attentionItem{Rank: a.Rank, Level: a.Level.String(), Site: a.Site, Reason: a.Reason,
+		it := attentionItem{Rank: a.Rank, Level: a.Level.String(), Site: a.Site, Reason: siteText(a.Reason, a.Sites),
 			Sites: len(a.Sites), News: a.News(), HasSwitch: !a.Time.IsZero()}
 		switch a.Kind() {
 		case "fleet":
@@ -167,5 +171,45 @@ func compareWarning(a, b bool) int {
 	return 1
 }
 
-// joinSites lists site ids for the report.
-func joinSites(ids []string) string { return strings.Join(ids, ", ") }
+// siteList lists site ids for the report, each kept whole (siteText).
+func siteList(ids []string) template.HTML { return siteText(strings.Join(ids, ", "), ids) }
+
+// siteText writes text for the report with each of the site ids ids in it
+// on one line: a browser may end a line after a hyphen (CSS Text Level 3,
+// section 5.2, from memory), which would show "PS-0042" as "PS-" and
+// "0042", the second half looking like an id of its own. An id is a word
+// of text between spaces and the punctuation that lists them (, ; : and
+// brackets), a full stop after it aside, and is set in a span of class id,
+// which the style sheet keeps on one line. Copied from the page, the ids
+// are the characters of attention.csv, as a non-breaking hyphen in their
+// place would not be.
+func siteText(text string, ids []string) template.HTML {
+	set := make(map[string]bool, len(ids))
+	for _, id := range ids {
+		set[id] = true
+	}
+	var b strings.Builder
+	for text != "" {
+		end := strings.IndexFunc(text, isListMark)
+		if end < 0 {
+			end = len(text)
+		}
+		word := text[:end]
+		if end == 0 {
+			_, end = utf8.DecodeRuneInString(text)
+			word = ""
+		}
+		id := strings.TrimRight(word, ".")
+		if set[id] {
+			b.WriteString(`<span class="id">` + template.HTMLEscapeString(id) + "</span>" + template.HTMLEscapeString(word[len(id):]))
+		} else {
+			b.WriteString(template.HTMLEscapeString(text[:end]))
+		}
+		text = text[end:]
+	}
+	return template.HTML(b.String())
+}
+
+// isListMark reports whether r ends a word that may be a site id in a
+// text: a space or the punctuation that lists ids.
+func isListMark(r rune) bool { return unicode.IsSpace(r) || strings.ContainsRune(",;:()[]\"", r) }

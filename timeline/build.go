@@ -222,20 +222,6 @@ func startOf(states []mapper.Regime, priors map[string]Prior, site string, switc
 	return viterbi.Start{State: k, Dwell: p.Windows}, initial
 }
 
-// Validate reports whether the settings can be used; zero fields are
-// defaults and valid.
-func (cfg Config) Validate() error {
-	switch {
-	case cfg.MinDwell < 0:
-		return fmt.Errorf("timeline: minimum dwell %d: must be at least 1 window", cfg.MinDwell)
-	case cfg.UnfamiliarQ != 0 && !(cfg.UnfamiliarQ > 0 && cfg.UnfamiliarQ <= 1):
-		return fmt.Errorf("timeline: unfamiliar quantile %g: must be in (0, 1]", cfg.UnfamiliarQ)
-	case cfg.SwitchCost < 0 || math.IsNaN(cfg.SwitchCost) || math.IsInf(cfg.SwitchCost, 0):
-		return fmt.Errorf("timeline: switch cost %g: must be a finite number ≥ 0", cfg.SwitchCost)
-	}
-	return nil
-}
-
 // resolve fills the defaults of cfg and checks it.
 func resolve(cfg Config, m *model.Model) (Config, error) {
 	def := DefaultConfig()

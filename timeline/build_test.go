@@ -293,9 +293,9 @@ func TestBuildErrors(t *testing.T) {
 		{"no regimes", noRegimes, ws, Config{}, "no regimes"},
 		{"centroid", badCentroid, ws, Config{}, "regime 2: centroid has 1 components"},
 		{"unit", testModel(), badUnit, Config{}, "unit 3 outside"},
-		{"dwell", testModel(), ws, Config{MinDwell: -1}, "minimum dwell"},
-		{"quantile", testModel(), ws, Config{UnfamiliarQ: 1.5}, "unfamiliar quantile"},
-		{"switch cost", testModel(), ws, Config{SwitchCost: math.NaN()}, "switch cost"},
+		{"dwell", testModel(), ws, Config{MinDwell: -1}, "MinDwell -1"},
+		{"quantile", testModel(), ws, Config{UnfamiliarQ: 1.5}, "UnfamiliarQ 1.5"},
+		{"switch cost", testModel(), ws, Config{SwitchCost: math.NaN()}, "SwitchCost NaN"},
 		{"infinite", testModel(), infinite, Config{}, "not finite"},
 	}
 	for _, tc := range tests {

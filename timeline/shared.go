@@ -194,6 +194,17 @@ type Shared struct {
 	P float64
 }
 
+// Holds reports whether the switch s is part of the condition: a switch of
+// one of its sites from its regime into the regime they looked like, while
+// it lasted. Such a switch is the condition seen at one site, not a change
+// of its own.
+func (sh Shared) Holds(s Switch) bool {
+	if s.From != sh.Regime || s.To != sh.Like || s.Time.Before(sh.Start) || !sh.End.IsZero() && !s.Time.Before(sh.End) {
+		return false
+	}
+	return slices.Contains(sh.Sites, s.Site)
+}
+
 // changes returns the shared conditions of partner: for each regime a,
 // each run of consecutive window times (in the order of all the times of
 // the fleet) at which a's partner is the same other regime b, unless the

@@ -227,3 +227,32 @@ func TestMixture(t *testing.T) {
 		t.Errorf("far costs: mixture %g, want %g", got, want)
 	}
 }
+
+// A condition holds the switches of its sites from its regime into the one
+// they looked like, from its start up to (not including) its end, or to
+// the last window when it has none.
+func TestSharedHolds(t *testing.T) {
+	day := func(d int) time.Time { return day0.AddDate(0, 0, d) }
+	ended := Shared{Start: day(2), End: day(5), Regime: 1, Like: 3, Sites: []string{"a", "c"}}
+	open := ended
+	open.End = time.Time{}
+	tests := []struct {
+		sh   Shared
+		s    Switch
+		want bool
+	}{
+		{ended, Switch{Site: "a", Time: day(2), From: 1, To: 3}, true},
+		{ended, Switch{Site: "c", Time: day(4), From: 1, To: 3}, true},
+		{ended, Switch{Site: "a", Time: day(5), From: 1, To: 3}, false}, // at its end
+		{ended, Switch{Site: "a", Time: day(1), From: 1, To: 3}, false}, // before it
+		{ended, Switch{Site: "b", Time: day(3), From: 1, To: 3}, false}, // not one of its sites
+		{ended, Switch{Site: "a", Time: day(3), From: 3, To: 1}, false}, // the way back
+		{ended, Switch{Site: "a", Time: day(3), From: 1, To: 2}, false}, // into another regime
+		{open, Switch{Site: "a", Time: day(40), From: 1, To: 3}, true},
+	}
+	for _, tt := range tests {
+		if got := tt.sh.Holds(tt.s); got != tt.want {
+			t.Errorf("%+v holds %+v: %t, want %t", tt.sh, tt.s, got, tt.want)
+		}
+	}
+}

@@ -55,11 +55,16 @@ func TestUsageErrors(t *testing.T) {
 		{"bad window", []string{"run", "--data", dump, "--out", t.TempDir(), "--window", "a while"}, "a while"},
 		{"odd rows on a hexagonal torus", []string{"run", "--data", dump, "--out", t.TempDir(), "--grid", "30x21"}, "even number of rows"},
 		{"learning rate above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--rule", "online", "--eta0", "2"}, "Eta0"},
-		{"negative dwell", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-dwell", "-1"}, "dwell"},
-		{"quantile above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--unfamiliar-q", "1.5"}, "quantile"},
+		{"negative dwell", []string{"run", "--data", dump, "--out", t.TempDir(), "--min-dwell", "-1"}, "--min-dwell -1: want a value of 1 window or more"},
+		{"quantile above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--unfamiliar-q", "1.5"}, "--unfamiliar-q 1.5: want a value in (0, 1]"},
+		{"negative switch cost", []string{"assign", "--model", "m", "--data", dump, "--out", t.TempDir(), "--switch-cost", "-1"}, "--switch-cost -1: want a value of 0 or more"},
 		// The work list's thresholds are worded with their options.
 		{"confidence above 1", []string{"run", "--data", dump, "--out", t.TempDir(), "--top-confidence", "1.5"}, "--top-confidence 1.5: want a value in (0, 1]"},
 		{"negative stay", []string{"assign", "--model", "m", "--data", dump, "--out", t.TempDir(), "--long-stay", "-2"}, "--long-stay -2: want a value of 1 window or more"},
+		// An explicit 0 would be read as the default: refused instead.
+		{"confidence of 0", []string{"run", "--data", dump, "--out", t.TempDir(), "--top-confidence", "0"}, "--top-confidence 0: want a value in (0, 1]"},
+		{"fleet p of 0", []string{"assign", "--model", "m", "--data", dump, "--out", t.TempDir(), "--fleet-p", "0"}, "--fleet-p 0: want a value in (0, 1)"},
+		{"dwell of 0", []string{"update", "--model", "m", "--data", dump, "--out", t.TempDir(), "--min-dwell", "0"}, "--min-dwell 0: want a value of 1 window or more"},
 		{"fleet p of 1", []string{"update", "--model", "m", "--data", dump, "--out", t.TempDir(), "--fleet-p", "1"}, "--fleet-p 1: want a value in (0, 1)"},
 		{"unknown time zone", []string{"run", "--data", dump, "--out", t.TempDir(), "--tz", "Mars/Olympus"}, "Mars/Olympus"},
 		{"bad scaling", []string{"run", "--data", dump, "--out", t.TempDir(), "--scale", "minmax"}, "minmax"},

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"io"
 	"slices"
 	"strings"
 	"testing"
@@ -14,6 +15,7 @@ import (
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/lattice"
+	"github.com/kinmap/kinmap/timeline"
 )
 
 func TestSpreadMulti(t *testing.T) {
@@ -44,6 +46,11 @@ func TestStatus(t *testing.T) {
 		{fmt.Errorf("decoding: %w", &kinmap.NoWindowError{Reasons: "3 for low coverage"}), ExitData, "(3 for low coverage); try a lower --min-coverage or a longer --window\n"},
 		{&kinmap.NoWindowError{Reasons: "5 for coverage", Unit: &ingest.UnitError{Sample: 1780000000, Given: "ms", Likely: "s"}}, ExitData,
 			"(5 for coverage): integer times such as 1780000000 look like epochs in seconds, not milliseconds; read them with --time-unit s\n"},
+		// The decoding's settings too (timeline.ConfigError).
+		{&kinmap.UsageError{Err: &timeline.ConfigError{Field: "MinDwell", Value: -1, Want: "of 1 window or more"}}, ExitUsage,
+			"kinmap run: --min-dwell -1: want a value of 1 window or more\n"},
+		{&kinmap.UsageError{Err: &timeline.ConfigError{Field: "UnfamiliarQ", Value: 1.5, Want: "in (0, 1]"}}, ExitUsage, "--unfamiliar-q 1.5: want a value in (0, 1]"},
+		{&kinmap.UsageError{Err: &timeline.ConfigError{Field: "SwitchCost", Value: -2, Want: "of 0 or more, finite"}}, ExitUsage, "--switch-cost -2: want a value of 0 or more"},
 		{&ingest.Error{File: "a.csv", Err: fmt.Errorf("no readings: %w", &ingest.UnitError{Sample: 1780000000000, Given: "s", Likely: "ms"})}, ExitData,
 			"look like epochs in milliseconds, not seconds; read them with --time-unit ms\n"},
 	}
@@ -101,6 +108,46 @@ func TestWordWarning(t *testing.T) {
 	} {
 		if got := WordWarning(tt.in); !strings.HasSuffix(got, tt.want) {
 			t.Errorf("WordWarning(%q) = %q, want it to end %q", tt.in, got, tt.want)
+		}
+	}
+}
+
+// An explicit 0 for a setting whose library field reads 0 as the default
+// is refused with the option and its range; left out, or given another
+// value, the option parses.
+func TestNonZero(t *testing.T) {
+	tests := []struct {
+		args []string
+		want string // "" for no error
+	}{
+		{nil, ""},
+		{[]string{"--top-confidence", "0"}, "--top-confidence 0: want a value in (0, 1]"},
+		{[]string{"--top-confidence=0.0"}, "--top-confidence 0: want a value in (0, 1]"},
+		{[]string{"--top-confidence", "0.2"}, ""},
+		{[]string{"--fleet-p", "0"}, "--fleet-p 0: want a value in (0, 1)"},
+		{[]string{"--fleet-p", "-0"}, "--fleet-p 0: want a value in (0, 1)"},
+		{[]string{"--fleet-p", "0.01"}, ""},
+		{[]string{"--min-dwell", "0"}, "--min-dwell 0: want a value of 1 window or more"},
+		{[]string{"--min-dwell", "1"}, ""},
+		{[]string{"--unfamiliar-q", "0"}, "--unfamiliar-q 0: want a value in (0, 1]"},
+		{[]string{"--eta0", "0"}, "--eta0 0: want a value in (0, 1]"},
+		// 0 is documented as a choice for these.
+		{[]string{"--switch-cost", "0"}, ""},
+		{[]string{"--long-stay", "0"}, ""},
+		{[]string{"--regimes", "0"}, ""},
+	}
+	for _, tt := range tests {
+		o := kinmap.DefaultOptions()
+		f := New(Command{Name: "run"}, nil)
+		f.Map(&o, true)
+		f.Timeline(&o)
+		f.WorkList(&o)
+		err := f.Parse(tt.args, io.Discard)
+		switch {
+		case tt.want == "" && err != nil:
+			t.Errorf("%q: %v, want no error", tt.args, err)
+		case tt.want != "" && (err == nil || !kinmap.IsUsage(err) || err.Error() != tt.want):
+			t.Errorf("%q: %v, want the usage error %q", tt.args, err, tt.want)
 		}
 	}
 }

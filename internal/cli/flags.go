@@ -31,6 +31,7 @@ type Flags struct {
 	groups  []group           // option groups in the order shown
 	hooks   []func()          // run after a successful parse
 	renamed map[string]string // flag names of earlier releases: what to give now
+	nonZero map[string]string // flags whose explicit 0 is refused: the range allowed
 }
 
 // After registers a function that turns parsed flag values into options.
@@ -44,6 +45,32 @@ func (f *Flags) Renamed(old, now string) {
 		f.renamed = map[string]string{}
 	}
 	f.renamed[old] = now
+}
+
+// NonZero refuses an explicit 0 for the flag name, whose library field
+// takes 0 as its default: given on the command line, 0 would silently mean
+// the default. want is the range allowed, in words, as the library's
+// errors give it, such as "in (0, 1]".
+func (f *Flags) NonZero(name, want string) {
+	if f.nonZero == nil {
+		f.nonZero = map[string]string{}
+	}
+	f.nonZero[name] = want
+}
+
+// checkNonZero refuses the first flag set to 0 that NonZero registered.
+func (f *Flags) checkNonZero() error {
+	var err error
+	f.Visit(func(fl *flag.Flag) {
+		want, ok := f.nonZero[fl.Name]
+		if !ok || err != nil {
+			return
+		}
+		if g, ok := fl.Value.(flag.Getter); ok && (g.Get() == 0 || g.Get() == 0.0) {
+			err = UsageError("--%s 0: want a value %s", fl.Name, want)
+		}
+	})
+	return err
 }
 
 // checkRenamed refuses the first flag of args that Renamed registered.
@@ -126,7 +153,8 @@ func (f *Flags) Value(v flag.Value, name, help string) {
 
 // Parse parses args, first splitting "--data a b c" into one --data per
 // file, so that a shell-expanded glob works. A flag name of an earlier
-// release (Renamed) is refused before anything is parsed. Asked for help, it prints the
+// release (Renamed) is refused before anything is parsed, and an explicit 0
+// that would mean the default (NonZero) after. Asked for help, it prints the
 // usage text to help and returns flag.ErrHelp; other errors are usage
 // errors.
 func (f *Flags) Parse(args []string, help io.Writer) error {
@@ -139,6 +167,9 @@ func (f *Flags) Parse(args []string, help io.Writer) error {
 			return err
 		}
 		return UsageError("%v", err)
+	}
+	if err := f.checkNonZero(); err != nil {
+		return err
 	}
 	for _, h := range f.hooks {
 		h()

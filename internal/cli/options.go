@@ -103,6 +103,7 @@ func (f *Flags) Map(o *kinmap.Options, training bool) {
 		f.Value(choiceValue{&o.Map.Rule, []string{"batch", "online"}}, "rule", "training `RULE`: batch or online")
 		f.Value(choiceValue{&o.Map.Init, []string{"pca", "random"}}, "init", "initialisation `METHOD`: pca (first two principal components) or random (data samples)")
 		f.Num(&o.Map.Eta0, "eta0", o.Map.Eta0, "online rule: initial learning `RATE` in (0, 1]")
+		f.NonZero("eta0", "in (0, 1]")
 		f.Int(&o.Map.Regimes, "regimes", 0, "number of regimes `K`; 0 chooses it from the site timelines, at most 12")
 	} else {
 		f.Int(&o.Map.Regimes, "regimes", 0, "number of regimes `K`; 0 keeps the model's number")
@@ -116,21 +117,31 @@ func (f *Flags) Map(o *kinmap.Options, training bool) {
 	f.After(func() { o.Map.Seed = int64(seed); o.Features.Workers, o.Ingest.Workers = o.Map.Workers, o.Map.Workers })
 }
 
-// Timeline registers the flags of the decoding of timelines.
+// Timeline registers the flags of the decoding of timelines. A switch cost
+// of 0 chooses it from the model, as documented; a dwell or quantile of 0
+// is refused rather than silently taken as the default.
 func (f *Flags) Timeline(o *kinmap.Options) {
 	f.Section("Regimes over time")
 	f.Num(&o.Timeline.SwitchCost, "switch-cost", o.Timeline.SwitchCost, "penalty `COST` per regime switch in the decoding; 0 chooses from the model")
-	f.Int(&o.Timeline.MinDwell, "min-dwell", o.Timeline.MinDwell, "`WINDOWS` a site must stay on each side of a switch")
-	f.Num(&o.Timeline.UnfamiliarQ, "unfamiliar-q", o.Timeline.UnfamiliarQ, "a window is unfamiliar above this `QUANTILE` of the training quantization errors")
+	f.Int(&o.Timeline.MinDwell, "min-dwell", o.Timeline.MinDwell, "`WINDOWS` a site must stay on each side of a switch, 1 or more; 1 disables the rule")
+	f.Num(&o.Timeline.UnfamiliarQ, "unfamiliar-q", o.Timeline.UnfamiliarQ, "a window is unfamiliar above this `QUANTILE`, in (0, 1], of the training quantization errors")
+	f.NonZero("min-dwell", "of 1 window or more")
+	f.NonZero("unfamiliar-q", "in (0, 1]")
 }
 
-// WorkList registers the flags of the work list's thresholds.
+// WorkList registers the flags of the work list's thresholds. A
+// confidence or probability of 0 is refused: it could only mean "no switch
+// leaves the top" or "no fleet-wide event", which attention.Config cannot
+// say (its zero fields are the defaults), and taking it as the default
+// would do the opposite of what was asked. A small value comes close.
 func (f *Flags) WorkList(o *kinmap.Options) {
 	d := attention.DefaultConfig()
 	f.Section("Work list")
-	f.Num(&o.WorkList.MinConfidence, "top-confidence", d.MinConfidence, "switches below this `CONFIDENCE` (up to 1) leave the top of the work list; they stay in switches.csv")
+	f.Num(&o.WorkList.MinConfidence, "top-confidence", d.MinConfidence, "switches below this `CONFIDENCE`, in (0, 1], leave the top of the work list; they stay in switches.csv")
 	f.Int(&o.WorkList.LongStay, "long-stay", 0, "`WINDOWS` in a row in a watch or fault regime that list a site; 0 is a week of windows")
-	f.Num(&o.WorkList.FleetAlpha, "fleet-p", d.FleetAlpha, "same-day switches are one fleet-wide event when chance gives as many with a probability below `P` (under 1)")
+	f.Num(&o.WorkList.FleetAlpha, "fleet-p", d.FleetAlpha, "same-day switches are one fleet-wide event when chance gives as many with a probability below `P`, in (0, 1)")
+	f.NonZero("top-confidence", "in (0, 1]")
+	f.NonZero("fleet-p", "in (0, 1)")
 }
 
 // Output registers the output flags, with modelHelp for --model.

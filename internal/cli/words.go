@@ -9,12 +9,15 @@ import (
 	"github.com/kinmap/kinmap/attention"
 	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/lattice"
+	"github.com/kinmap/kinmap/timeline"
 )
 
 // flagNames are the options of the commands that set the Config fields the
-// library's errors name.
+// library's errors name: of features.Config, attention.Config and
+// timeline.Config.
 var flagNames = map[string]string{"Window": "--window", "Stride": "--stride",
-	"MinConfidence": "--top-confidence", "LongStay": "--long-stay", "FleetAlpha": "--fleet-p"}
+	"MinConfidence": "--top-confidence", "LongStay": "--long-stay", "FleetAlpha": "--fleet-p",
+	"SwitchCost": "--switch-cost", "MinDwell": "--min-dwell", "UnfamiliarQ": "--unfamiliar-q"}
 
 // fieldFlags words the settings that library warnings name by their
 // fields, in parentheses and qualified by package, with the options that
@@ -42,6 +45,7 @@ func Words(err error) string {
 		grid  *lattice.LimitError
 		none  *kinmap.NoWindowError
 		list  *attention.ConfigError
+		dec   *timeline.ConfigError
 	)
 	switch {
 	case errors.As(err, &step):
@@ -56,9 +60,17 @@ func Words(err error) string {
 	case errors.As(err, &none) && none.Unit != nil:
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s): %v", none.Reasons, none.Unit)
 	case errors.As(err, &list) && flagNames[list.Field] != "":
-		return fmt.Sprintf("%s %g: want a value %s", flagNames[list.Field], list.Value, list.Want)
+		return outOfRange(list.Field, list.Value, list.Want)
+	case errors.As(err, &dec) && flagNames[dec.Field] != "":
+		return outOfRange(dec.Field, dec.Value, dec.Want)
 	case errors.As(err, &none):
 		return fmt.Sprintf("no usable window: every window of every site was skipped (%s); try a lower --min-coverage or a longer --window", none.Reasons)
 	}
 	return fieldFlags.Replace(err.Error())
+}
+
+// outOfRange words a setting out of its range, which the library names by
+// its field, with the option that sets it.
+func outOfRange(field string, value float64, want string) string {
+	return fmt.Sprintf("%s %g: want a value %s", flagNames[field], value, want)
 }

@@ -50,63 +50,6 @@ func andersonDarling(x []float64) float64 {
 	return a2 * (1 + 0.75/nf + 2.25/(nf*nf))
 }
 
-// clusteredAD returns the modified Anderson–Darling statistic of x, a
-// sample in clusters (cluster[i] numbers the cluster of x[i], 0 … g−1,
-// every cluster holding a value), as for an independent sample of the
-// effective size n/deff. The design effect deff = 1 + (m₀ − 1)·ρ is that
-// of a cluster sample (L. Kish, "Survey Sampling", 1965, section 5.4;
-// from memory), with ρ the intraclass correlation of the one-way analysis
-// of variance, (MSB − MSW)/(MSB + (m₀ − 1)·MSW), floored at 0, and m₀ =
-// (n − Σ n_c²/n)/(g − 1) its mean cluster size for clusters of unequal
-// size (A. Donner, "A review of inference procedures for the intraclass
-// correlation coefficient in the one-way random effects model",
-// International Statistical Review 54, 1986; from memory). Positive
-// dependence makes EDF statistics reject a true model too often (L. J.
-// Gleser and D. S. Moore, "The effect of dependence on chi-squared and
-// empiric distribution tests of fit", Annals of Statistics 11, 1983), as
-// the empirical distribution of n correlated values varies as that of
-// fewer independent ones: A² = n·∫(Fₙ − F)²/(F(1 − F)) dF is divided by
-// deff, and Stephens's modification taken at n/deff. The design effect
-// is that of the values; that of the indicators Fₙ averages is no larger
-// for normal values, so the scaling errs on the side of one mode. A
-// sample in one cluster each is andersonDarling's.
-func clusteredAD(x []float64, cluster []int) float64 {
-	n := len(x)
-	nf := float64(n)
-	a2 := andersonDarling(x) / (1 + 0.75/nf + 2.25/(nf*nf))
-	g := slices.Max(cluster) + 1
-	if g < 2 || g >= n {
-		return andersonDarling(x)
-	}
-	sum, size := make([]float64, g), make([]float64, g)
-	var mean float64
-	for i, v := range x {
-		sum[cluster[i]] += v
-		size[cluster[i]]++
-		mean += v
-	}
-	mean /= nf
-	var ssb, ssw, sq float64
-	for c := range g {
-		d := sum[c]/size[c] - mean
-		ssb += size[c] * d * d
-		sq += size[c] * size[c]
-	}
-	for i, v := range x {
-		d := v - sum[cluster[i]]/size[cluster[i]]
-		ssw += d * d
-	}
-	msb, msw := ssb/float64(g-1), ssw/(nf-float64(g))
-	m0 := (nf - sq/nf) / float64(g-1)
-	rho := 0.0
-	if den := msb + (m0-1)*msw; den > 0 {
-		rho = max(0, (msb-msw)/den)
-	}
-	deff := 1 + (m0-1)*rho
-	ne := nf / deff
-	return a2 / deff * (1 + 0.75/ne + 2.25/(ne*ne))
-}
-
 // normalP returns the p-value of the modified statistic a = A*² of
 // andersonDarling: the chance that a sample from a normal distribution
 // scores at least a. It uses the approximation of D'Agostino and Stephens

@@ -86,15 +86,11 @@ type Timelines struct {
 // Anderson–Darling test asks whether the projections could come from one
 // normal distribution; since any skew fails that test, the split must also
 // be preferred by the BIC for two modes over one after a power transform,
-// with two modes in the fit (mixtureGain). Windows that vary from day to
-// day around one state (weather, noise, a slow drift) average out within a
-// segment and leave one mode; sites that hold two different states leave
-// two. The windows of one site in one state are far from independent, so
-// they are not the sample: with time slots the Anderson–Darling test takes
-// the weeks of the segments (runs of MinRun windows), which show a site
-// that changed state within a segment on both sides of the gap, as from
-// the effective number of independent observations that the segments'
-// design effect leaves (clusteredAD); without slots, the segment means.
+// with two modes in the fit (mixtureGain). Windows that vary from day to day around one state
+// (weather, noise, a slow drift) average out within a segment and leave
+// one mode; sites that hold two different states leave two. The segments,
+// not the windows, are the sample, since the windows of one site in one
+// state are far from independent.
 //
 // The most significant split is made first, and the segments decoded
 // again. With k = 0, splitting stops when no split is significant at

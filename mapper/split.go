@@ -56,7 +56,7 @@ type Choice struct {
 type Split struct {
 	K         int     `json:"k"`         // regimes after the split
 	Segments  int     `json:"segments"`  // decoded segments tested; 0 when too few to test
-	Statistic float64 `json:"statistic"` // Anderson–Darling A*² of their projections (by week, for the segments' design effect; normality)
+	Statistic float64 `json:"statistic"` // Anderson–Darling A*² of their projections
 	P         float64 `json:"p"`         // its p-value; 1 when not tested
 	// Gain is the BIC's preference for two modes over one in the
 	// projections after a power transform (mixtureGain); a split needs
@@ -223,7 +223,7 @@ func (s *splitter) test(parts []int) []candidate {
 		proj := s.project(segs, i, dir)
 		c := candidate{at: i, p: 1}
 		if len(proj) >= minSegments {
-			c.segments, c.stat = len(proj), s.normality(segs, i, dir, proj)
+			c.segments, c.stat = len(proj), andersonDarling(proj)
 			c.p = normalP(c.stat)
 			// The mixture is costly and decides only what the normality
 			// test would split; a sample it cannot fit (no spread) keeps
@@ -295,45 +295,6 @@ func (s *splitter) project(segs []segment, r int, dir []float64) []float64 {
 		out = append(out, sum/float64(len(sg.rows)))
 	}
 	return out
-}
-
-// normality returns the modified Anderson–Darling statistic with which
-// the split of regime r along dir is tested: that of the segment means
-// proj without time slots, and with them that of the weeks of the
-// segments, each segment cut into runs of MinRun windows (the last one
-// taking the rest), scaled by the design effect of the segments
-// (clusteredAD). A site that changed state within a segment, because the
-// current regimes do not tell its two states apart, gives a mean between
-// them that fills the gap a split would open; its weeks fall on either
-// side, so the sample shows the two modes the segments hide. The weeks
-// of one segment share the site's offset, which the design effect
-// counts; the weeks of different sites share the weather of the week,
-// which only the peer comparison of project takes out, so without time
-// slots the segments stay the sample.
-func (s *splitter) normality(segs []segment, r int, dir, proj []float64) float64 {
-	week := max(1, s.win.MinRun)
-	if s.win.Slots == nil {
-		return andersonDarling(proj)
-	}
-	var weeks []segment
-	var of []int // the segment of every week
-	n := 0
-	for _, sg := range segs {
-		if sg.regime != r {
-			continue
-		}
-		m := max(1, len(sg.rows)/week)
-		for c := range m {
-			end := (c + 1) * week
-			if c == m-1 {
-				end = len(sg.rows)
-			}
-			weeks = append(weeks, segment{regime: r, rows: sg.rows[c*week : end]})
-			of = append(of, n)
-		}
-		n++
-	}
-	return clusteredAD(s.project(weeks, r, dir), of)
 }
 
 // segment is a run of one site's windows decoded in one regime: the rows

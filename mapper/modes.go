@@ -15,8 +15,8 @@ import (
 // (I.-K. Yeo and R. A. Johnson, "A new family of power transformations to
 // improve normality or symmetry", Biometrika 87, 2000), compared by the
 // Bayesian information criterion (G. Schwarz, "Estimating the dimension
-// of a model", Annals of Statistics 6, 1978), and the mixture must have
-// two modes. A power transform straightens a skewed mode, but not two
+// of a model", Annals of Statistics 6, 1978), and the mixture must give
+// the data two modes. A power transform straightens a skewed mode, but not two
 // modes with a gap between them. The mixture's components may share a
 // variance or have their own: a regime's sub-state can be much tighter
 // than the rest (a stuck probe's segments beside working ones), and a
@@ -39,9 +39,9 @@ const (
 	// instrument's days beside working ones, but no component may fit a
 	// few close values alone.
 	minSpreadRatio = 0.1
-	// modeSteps is the number of steps between a mixture's means on which
-	// its modes are counted.
-	modeSteps = 1000
+	// modeSteps is the number of steps on which a mixture's modes are
+	// counted.
+	modeSteps = 4000
 )
 
 // mixtureGain returns the Bayesian information criterion's preference
@@ -57,8 +57,10 @@ const (
 // ratio of spreads (fitMixture). A common variance reads a tight
 // minority beside a wide majority, such as a stuck instrument among
 // working ones, as the tail of one skewed mode; only the second model
-// sees it. two reports whether the preferred mixture has two modes
-// (modes). Positive gains favour two modes. A sample without spread, or
+// sees it. two reports whether the density that the preferred mixture
+// gives the data, before the transform, has two modes or more (modes),
+// over the sample's range and half of it again either side. Positive
+// gains favour two modes. A sample without spread, or
 // of fewer than four values, returns −Inf.
 func mixtureGain(x []float64) (gain float64, two bool) {
 	n := len(x)
@@ -78,13 +80,14 @@ func mixtureGain(x []float64) (gain float64, two bool) {
 		jac := 0.0
 		for i, v := range std {
 			z[i] = yeoJohnson(v, lam)
-			jac += (lam - 1) * math.Copysign(math.Log1p(math.Abs(v)), v)
+			jac += yeoJohnsonLogSlope(v, lam)
 		}
 		return jac
 	}
 	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
 	logN := math.Log(float64(n))
-	best1, best2, at := math.Inf(-1), math.Inf(-1), 0.0
+	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
+	var fit mixture
 	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
 		jac := transform(lam)
 		if l := normalLogLik(z) + jac; l > best1 {
@@ -93,14 +96,15 @@ func mixtureGain(x []float64) (gain float64, two bool) {
 		for _, common := range []bool{true, false} {
 			f := fitMixture(z, common)
 			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; b > best2 {
-				best2, two = b, f.modes() == 2
+				best2, fit, fitAt = b, f, lam
 			}
 		}
 	}
 	// One normal is cheap to fit: refine its power between the grid's
 	// neighbours of the best, so that the grid does not favour two modes.
 	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
-	return best2 - 2*best1, two
+	lo, hi := slices.Min(std), slices.Max(std)
+	return best2 - 2*best1, fit.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2
 }
 
 // goldenMax returns the largest value of f found by a golden-section
@@ -122,6 +126,13 @@ func goldenMax(f func(float64) float64, a, b float64) float64 {
 		}
 	}
 	return math.Max(fc, fd)
+}
+
+// yeoJohnsonLogSlope is the logarithm of the slope of the Yeo–Johnson
+// transform with power lam at v, the log-Jacobian that a density taken
+// through the transform gains.
+func yeoJohnsonLogSlope(v, lam float64) float64 {
+	return (lam - 1) * math.Copysign(math.Log1p(math.Abs(v)), v)
 }
 
 // yeoJohnson is the transform of Yeo and Johnson (2000) with power lam.
@@ -290,39 +301,44 @@ func eStep(z []float64, f mixture, resp []float64) float64 {
 	return ll
 }
 
-// modes returns the number of modes of the mixture's density. Every mode
-// and antimode of a mixture of two normals lies between the two means,
-// on what is in one dimension the ridgeline of R. Ray and B. G. Lindsay
-// ("The topography of multivariate normal mixtures", Annals of Statistics
-// 33, 2005; from memory): the density rises from the lower mean and falls
-// into the higher. So the modes are counted as the turns from rising to
-// falling on modeSteps even steps between the means. A dip narrower than
-// a step is missed; it would be no valley a regime could be told by.
-func (f mixture) modes() int {
-	lo, hi := min(f.m1, f.m2), max(f.m1, f.m2)
-	if !(lo < hi) || f.p <= 0 || f.p >= 1 {
+// modes returns the number of modes of the density that the mixture,
+// fitted after the Yeo–Johnson transform with power lam, gives the sample
+// before it: f(y(s))·y′(s), y the transform. The modes are those of the
+// data, not of the transformed scale, where a power that bounds a long
+// tail (any lam < 0 bounds the right one) piles the tail up into a peak
+// that the data do not have. They are counted as the turns from rising
+// to falling on modeSteps even steps over [lo, hi], which should reach
+// well into both tails. With lam = 1 (no transform) every mode and
+// antimode of two normals lies between their means (R. Ray and B. G.
+// Lindsay, "The topography of multivariate normal mixtures", Annals of
+// Statistics 33, 2005; from memory). A dip narrower than a step is
+// missed; it would be no valley a regime could be told by.
+func (f mixture) modes(lam, lo, hi float64) int {
+	if !(f.p > 0 && f.p < 1) {
 		return 1
 	}
-	// The density's slope at x has the sign of
-	// p₂·φ₂(x)·(m₂ − x)/v₂ − p₁·φ₁(x)·(x − m₁)/v₁; the two terms are
-	// compared in logarithms so that neither underflows far from its mean.
-	la := math.Log(f.p) - 1.5*math.Log(f.v1)
-	lb := math.Log(1-f.p) - 1.5*math.Log(f.v2)
-	rising := func(x float64) bool {
-		a := la - (x-f.m1)*(x-f.m1)/(2*f.v1) + math.Log(math.Abs(x-f.m1))
-		b := lb - (x-f.m2)*(x-f.m2)/(2*f.v2) + math.Log(math.Abs(f.m2-x))
-		return (b > a) == (f.m2 > f.m1)
+	la := math.Log(f.p) - 0.5*math.Log(f.v1)
+	lb := math.Log(1-f.p) - 0.5*math.Log(f.v2)
+	logDensity := func(s float64) float64 { // less ln √(2π)
+		y := yeoJohnson(s, lam)
+		a := la - (y-f.m1)*(y-f.m1)/(2*f.v1)
+		b := lb - (y-f.m2)*(y-f.m2)/(2*f.v2)
+		return math.Max(a, b) + math.Log1p(math.Exp(-math.Abs(a-b))) + yeoJohnsonLogSlope(s, lam)
 	}
 	modes, up := 0, true
-	for i := 1; i < modeSteps; i++ {
-		r := rising(lo + (hi-lo)*float64(i)/modeSteps)
-		if up && !r {
-			modes++
+	prev := logDensity(lo)
+	for i := 1; i <= modeSteps; i++ {
+		cur := logDensity(lo + (hi-lo)*float64(i)/modeSteps)
+		if r := cur > prev; r != up {
+			if up {
+				modes++
+			}
+			up = r
 		}
-		up = r
+		prev = cur
 	}
 	if up {
-		modes++ // the density falls at the higher mean
+		modes++ // still rising at hi: a mode beyond it
 	}
 	return modes
 }

@@ -10,14 +10,17 @@ import (
 // ratings of a fleet's sites, and every feature that scales with them)
 // is skewed but has one mode, and is no reason for two regimes. So a
 // split must also be preferred by a model choice in which skew costs
-// nothing: one normal against a mixture of two normals with a common
-// variance, each on the sample after the Yeo–Johnson power transform
-// that suits it best (I.-K. Yeo and R. A. Johnson, "A new family of power
-// transformations to improve normality or symmetry", Biometrika 87,
-// 2000), compared by the Bayesian information criterion (G. Schwarz,
-// "Estimating the dimension of a model", Annals of Statistics 6, 1978).
-// A power transform straightens a skewed mode, but not two modes with a
-// gap between them.
+// nothing: one normal against a mixture of two normals, each on the
+// sample after the Yeo–Johnson power transform that suits it best
+// (I.-K. Yeo and R. A. Johnson, "A new family of power transformations to
+// improve normality or symmetry", Biometrika 87, 2000), compared by the
+// Bayesian information criterion (G. Schwarz, "Estimating the dimension
+// of a model", Annals of Statistics 6, 1978), and the mixture must give
+// the data two modes. A power transform straightens a skewed mode, but not two
+// modes with a gap between them. The mixture's components may share a
+// variance or have their own: a regime's sub-state can be much tighter
+// than the rest (a stuck probe's segments beside working ones), and a
+// common variance makes such a minority the tail of one skewed mode.
 
 // Transform powers tried, over the range in which a power straightens a
 // skew either way; the sample is standardised first, so that the powers
@@ -28,15 +31,37 @@ const (
 	// them once the log-likelihood gains less than that per observation.
 	emRounds = 200
 	emTol    = 1e-6
+	// minSpreadRatio is the least ratio of the smaller component's
+	// standard deviation to the larger's in a mixture with a variance of
+	// each component's own (Hathaway 1985, under whose bound the estimate
+	// is consistent whenever the true ratio keeps it): a sub-state may be
+	// an order of magnitude tighter than the rest, as a stuck or iced
+	// instrument's days beside working ones, but no component may fit a
+	// few close values alone.
+	minSpreadRatio = 0.1
+	// modeSteps is the number of steps on which a mixture's modes are
+	// counted.
+	modeSteps = 4000
 )
 
 // mixtureGain returns the Bayesian information criterion's preference
-// for two modes in x over one, ΔBIC = 2·(ℓ₂ − ℓ₁) − 2·ln n: ℓ₁ the
-// log-likelihood of one normal and ℓ₂ that of a two-normal mixture with a
-// common variance (two more parameters: the second mean and the weight),
-// each maximised over the Yeo–Johnson power (Jacobian included) and the
-// normals' parameters. Positive values favour two modes. A sample
-// without spread, or of fewer than four values, returns −Inf.
+// for two modes in x over one, ΔBIC = 2·(ℓ₂ − ℓ₁) − k·ln n: ℓ₁ the
+// log-likelihood of one normal and ℓ₂ that of the two-normal mixture the
+// criterion prefers, each maximised over the Yeo–Johnson power (Jacobian
+// included) and the normals' parameters. Two mixtures are weighed, as
+// model-based clustering weighs its covariance models (C. Fraley and
+// A. E. Raftery, "Model-based clustering, discriminant analysis, and
+// density estimation", JASA 97, 2002; from memory): one with a common
+// variance (k = 2 more parameters: the second mean and the weight) and
+// one with a variance of each component's own (k = 3), held to a least
+// ratio of spreads (fitMixture). A common variance reads a tight
+// minority beside a wide majority, such as a stuck instrument among
+// working ones, as the tail of one skewed mode; only the second model
+// sees it. two reports whether the density that the preferred mixture
+// gives the data, before the transform, has two modes or more (modes),
+// over the sample's range and half of it again either side. Positive
+// gains favour two modes. A sample without spread, or
+// of fewer than four values, returns −Inf.
 func mixtureGain(x []float64) (gain float64, two bool) {
 	n := len(x)
 	if n < 4 {
@@ -55,25 +80,31 @@ func mixtureGain(x []float64) (gain float64, two bool) {
 		jac := 0.0
 		for i, v := range std {
 			z[i] = yeoJohnson(v, lam)
-			jac += (lam - 1) * math.Copysign(math.Log1p(math.Abs(v)), v)
+			jac += yeoJohnsonLogSlope(v, lam)
 		}
 		return jac
 	}
 	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
-	best1, best2, at := math.Inf(-1), math.Inf(-1), 0.0
+	logN := math.Log(float64(n))
+	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
+	var fit mixture
 	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
 		jac := transform(lam)
 		if l := normalLogLik(z) + jac; l > best1 {
 			best1, at = l, lam
 		}
-		if l, b := mixtureLogLik(z); l+jac > best2 {
-			best2, two = l+jac, b
+		for _, common := range []bool{true, false} {
+			f := fitMixture(z, common)
+			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; b > best2 {
+				best2, fit, fitAt = b, f, lam
+			}
 		}
 	}
 	// One normal is cheap to fit: refine its power between the grid's
 	// neighbours of the best, so that the grid does not favour two modes.
 	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
-	return 2*(best2-best1) - 2*math.Log(float64(n)), two
+	lo, hi := slices.Min(std), slices.Max(std)
+	return best2 - 2*best1, fit.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2
 }
 
 // goldenMax returns the largest value of f found by a golden-section
@@ -95,6 +126,13 @@ func goldenMax(f func(float64) float64, a, b float64) float64 {
 		}
 	}
 	return math.Max(fc, fd)
+}
+
+// yeoJohnsonLogSlope is the logarithm of the slope of the Yeo–Johnson
+// transform with power lam at v, the log-Jacobian that a density taken
+// through the transform gains.
+func yeoJohnsonLogSlope(v, lam float64) float64 {
+	return (lam - 1) * math.Copysign(math.Log1p(math.Abs(v)), v)
 }
 
 // yeoJohnson is the transform of Yeo and Johnson (2000) with power lam.
@@ -136,17 +174,40 @@ func normalLogLik(z []float64) float64 {
 	return -n / 2 * (math.Log(2*math.Pi*sd*sd) + 1)
 }
 
-// mixtureLogLik is the log-likelihood of a two-normal mixture with a
-// common variance fitted to z by EM (A. P. Dempster, N. M. Laird and
-// D. B. Rubin, "Maximum likelihood from incomplete data via the EM
-// algorithm", JRSS B 39, 1977), the best of five starts that cut the
-// sorted sample at its deciles 1, 2.5, 5, 7.5 and 9. A fit whose
-// component shrinks below one observation is not a mixture and counts as
-// one normal.
-func mixtureLogLik(z []float64) (float64, bool) {
+// mixture is a two-normal mixture fitted to a sample: the first
+// component's weight p, the means and the variances, and the
+// log-likelihood ll of the sample.
+type mixture struct {
+	p, m1, m2, v1, v2 float64
+	ll                float64
+	common            bool // fitted with one variance for both components
+}
+
+// params is the number of free parameters of the mixture's model.
+func (f mixture) params() int {
+	if f.common {
+		return 4
+	}
+	return 5
+}
+
+// fitMixture fits a two-normal mixture to z by EM (A. P. Dempster,
+// N. M. Laird and D. B. Rubin, "Maximum likelihood from incomplete data
+// via the EM algorithm", JRSS B 39, 1977), the best of five starts that
+// cut the sorted sample at its deciles 1, 2.5, 5, 7.5 and 9. With common
+// set both components share one variance; otherwise each has its own,
+// and the smaller spread is held to at least minSpreadRatio of the larger,
+// the constrained likelihood of R. J. Hathaway ("A constrained
+// formulation of maximum-likelihood estimation for normal mixture
+// distributions", Annals of Statistics 13, 1985), which is bounded where
+// the free one grows without limit on a component shrinking onto one
+// value. A fit whose component holds less than one observation is not a
+// mixture: when every start ends so, the result is one normal (p = 1).
+func fitMixture(z []float64, common bool) mixture {
 	n := len(z)
+	mean, sd := meanSD(z)
+	best := mixture{p: 1, m1: mean, m2: mean, v1: sd * sd, v2: sd * sd, ll: normalLogLik(z), common: common}
 	sorted := slices.Sorted(slices.Values(z))
-	best, bi := normalLogLik(z), false
 	resp := make([]float64, n) // responsibility of the second component
 	for _, q := range []float64{0.1, 0.25, 0.5, 0.75, 0.9} {
 		cut := sorted[min(n-1, int(q*float64(n)))]
@@ -158,66 +219,126 @@ func mixtureLogLik(z []float64) (float64, bool) {
 		}
 		prev := math.Inf(-1)
 		for range emRounds {
-			var w2, m1, m2 float64
-			for i, v := range z {
-				w2 += resp[i]
-				m1 += (1 - resp[i]) * v
-				m2 += resp[i] * v
-			}
-			w1 := float64(n) - w2
-			if w1 < 1 || w2 < 1 {
+			f, ok := mStep(z, resp, common)
+			if !ok {
 				break
 			}
-			m1 /= w1
-			m2 /= w2
-			var ss float64
-			for i, v := range z {
-				ss += (1-resp[i])*(v-m1)*(v-m1) + resp[i]*(v-m2)*(v-m2)
+			f.ll = eStep(z, f, resp)
+			if f.ll > best.ll {
+				best = f
 			}
-			vr := ss / float64(n)
-			if !(vr > 0) {
+			if f.ll-prev < emTol*float64(n) {
 				break
 			}
-			la, lb := math.Log(w1/float64(n)), math.Log(w2/float64(n))
-			norm := -0.5 * math.Log(2*math.Pi*vr)
-			var ll float64
-			for i, v := range z {
-				a := la + norm - (v-m1)*(v-m1)/(2*vr)
-				b := lb + norm - (v-m2)*(v-m2)/(2*vr)
-				// log(e^a + e^b) and e^b/(e^a + e^b) from one exponential
-				e := math.Exp(-math.Abs(a - b))
-				ll += math.Max(a, b) + math.Log1p(e)
-				if b >= a {
-					resp[i] = 1 / (1 + e)
-				} else {
-					resp[i] = e / (1 + e)
-				}
-			}
-			if ll > best {
-				best, bi = ll, bimodal(w1/float64(n), math.Abs(m1-m2)/math.Sqrt(vr))
-			}
-			if ll-prev < emTol*float64(n) {
-				break
-			}
-			prev = ll
+			prev = f.ll
 		}
 	}
-	return best, bi
+	return best
 }
 
-// bimodal reports whether a mixture of two normals with a common variance,
-// weights p and 1−p and means D standard deviations apart, has two modes:
-// never when D ≤ 2, and otherwise when
-// |ln(1−p) − ln p| < 2·ln(d − √(d²−1)) + 2d·√(d²−1), with d = D/2
-// (I. Robertson and J. G. Fryer, "Some descriptive properties of normal
-// mixtures", Skandinavisk Aktuarietidskrift 52, 1969; from memory). A
-// mixture fitted to a skewed sample with one mode bends its shape with
-// two overlapping components, and has one mode.
-func bimodal(p, sep float64) bool {
-	d := sep / 2
-	if !(d > 1) || p <= 0 || p >= 1 {
-		return false
+// mStep returns the mixture that maximises the expected log-likelihood
+// given the responsibilities resp of the second component, or false when
+// a component holds less than one observation or has no spread. Under
+// Hathaway's constraint the variances are the free ones when their ratio
+// keeps it; otherwise the constraint binds, and with v₁ = c²·v₂ (c the
+// least ratio of spreads) the maximum is at v₂ = (S₁/c² + S₂)/n, S the
+// weighted sums of squares, and the same the other way round.
+func mStep(z, resp []float64, common bool) (mixture, bool) {
+	n := float64(len(z))
+	var w2, m1, m2 float64
+	for i, v := range z {
+		w2 += resp[i]
+		m1 += (1 - resp[i]) * v
+		m2 += resp[i] * v
 	}
-	r := math.Sqrt(d*d - 1)
-	return math.Abs(math.Log(1-p)-math.Log(p)) < 2*math.Log(d-r)+2*d*r
+	w1 := n - w2
+	if w1 < 1 || w2 < 1 {
+		return mixture{}, false
+	}
+	m1 /= w1
+	m2 /= w2
+	var s1, s2 float64
+	for i, v := range z {
+		s1 += (1 - resp[i]) * (v - m1) * (v - m1)
+		s2 += resp[i] * (v - m2) * (v - m2)
+	}
+	f := mixture{p: w1 / n, m1: m1, m2: m2, common: common}
+	c2 := minSpreadRatio * minSpreadRatio
+	switch {
+	case common:
+		f.v1 = (s1 + s2) / n
+		f.v2 = f.v1
+	case s1/w1 < c2*s2/w2:
+		f.v2 = (s1/c2 + s2) / n
+		f.v1 = c2 * f.v2
+	case s2/w2 < c2*s1/w1:
+		f.v1 = (s2/c2 + s1) / n
+		f.v2 = c2 * f.v1
+	default:
+		f.v1, f.v2 = s1/w1, s2/w2
+	}
+	return f, f.v1 > 0 && f.v2 > 0
+}
+
+// eStep returns the log-likelihood of z under f and sets resp to each
+// value's responsibility of the second component.
+func eStep(z []float64, f mixture, resp []float64) float64 {
+	la := math.Log(f.p) - 0.5*math.Log(2*math.Pi*f.v1)
+	lb := math.Log(1-f.p) - 0.5*math.Log(2*math.Pi*f.v2)
+	var ll float64
+	for i, v := range z {
+		a := la - (v-f.m1)*(v-f.m1)/(2*f.v1)
+		b := lb - (v-f.m2)*(v-f.m2)/(2*f.v2)
+		// log(e^a + e^b) and e^b/(e^a + e^b) from one exponential
+		e := math.Exp(-math.Abs(a - b))
+		ll += math.Max(a, b) + math.Log1p(e)
+		if b >= a {
+			resp[i] = 1 / (1 + e)
+		} else {
+			resp[i] = e / (1 + e)
+		}
+	}
+	return ll
+}
+
+// modes returns the number of modes of the density that the mixture,
+// fitted after the Yeo–Johnson transform with power lam, gives the sample
+// before it: f(y(s))·y′(s), y the transform. The modes are those of the
+// data, not of the transformed scale, where a power that bounds a long
+// tail (any lam < 0 bounds the right one) piles the tail up into a peak
+// that the data do not have. They are counted as the turns from rising
+// to falling on modeSteps even steps over [lo, hi], which should reach
+// well into both tails. With lam = 1 (no transform) every mode and
+// antimode of two normals lies between their means (R. Ray and B. G.
+// Lindsay, "The topography of multivariate normal mixtures", Annals of
+// Statistics 33, 2005; from memory). A dip narrower than a step is
+// missed; it would be no valley a regime could be told by.
+func (f mixture) modes(lam, lo, hi float64) int {
+	if !(f.p > 0 && f.p < 1) {
+		return 1
+	}
+	la := math.Log(f.p) - 0.5*math.Log(f.v1)
+	lb := math.Log(1-f.p) - 0.5*math.Log(f.v2)
+	logDensity := func(s float64) float64 { // less ln √(2π)
+		y := yeoJohnson(s, lam)
+		a := la - (y-f.m1)*(y-f.m1)/(2*f.v1)
+		b := lb - (y-f.m2)*(y-f.m2)/(2*f.v2)
+		return math.Max(a, b) + math.Log1p(math.Exp(-math.Abs(a-b))) + yeoJohnsonLogSlope(s, lam)
+	}
+	modes, up := 0, true
+	prev := logDensity(lo)
+	for i := 1; i <= modeSteps; i++ {
+		cur := logDensity(lo + (hi-lo)*float64(i)/modeSteps)
+		if r := cur > prev; r != up {
+			if up {
+				modes++
+			}
+			up = r
+		}
+		prev = cur
+	}
+	if up {
+		modes++ // still rising at hi: a mode beyond it
+	}
+	return modes
 }

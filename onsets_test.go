@@ -1,0 +1,130 @@
+package kinmap_test
+
+import (
+	"fmt"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/kinmap/kinmap"
+	"github.com/kinmap/kinmap/scenarios"
+	"github.com/kinmap/kinmap/timeline"
+)
+
+// onsetCount sorts the drift onsets of a run's switches against the true
+// switches of its fleet.
+type onsetCount struct {
+	switches int // switches found
+	onsets   int // of them, with an onset before their time
+	// early: onsets more than a day from every true switch of the site:
+	// a drift that did not happen (every planted change of the family
+	// starts with a step on the day of its switch).
+	early int
+	// late: switches dated more than a day after the true switch they
+	// follow, the last within a week; dated: of them, those whose onset
+	// is within a day of that true switch.
+	late, dated int
+}
+
+func (c *onsetCount) add(o onsetCount) {
+	c.switches += o.switches
+	c.onsets += o.onsets
+	c.early += o.early
+	c.late += o.late
+	c.dated += o.dated
+}
+
+func (c onsetCount) String() string {
+	return fmt.Sprintf("%6d %7d %6d %6.2f%% %5d %6d", c.switches, c.onsets, c.early, 100*float64(c.early)/float64(max(c.switches, 1)), c.late, c.dated)
+}
+
+// countOnsets sorts the onsets of found against the true switches.
+func countOnsets(truth []scenarios.Switch, found []timeline.Switch) onsetCount {
+	bySite := map[string][]time.Time{}
+	for _, s := range truth {
+		bySite[s.Site] = append(bySite[s.Site], s.Time)
+	}
+	near := func(site string, t time.Time) bool {
+		return slices.ContainsFunc(bySite[site], func(u time.Time) bool { return t.Sub(u).Abs() <= familyTolerance })
+	}
+	var c onsetCount
+	for _, s := range found {
+		c.switches++
+		drift := s.Onset.Before(s.Time)
+		if drift {
+			c.onsets++
+			if !near(s.Site, s.Onset) {
+				c.early++
+			}
+		}
+		var last time.Time // the last true switch of the site at or before s, within a week
+		for _, u := range bySite[s.Site] {
+			if !u.After(s.Time) && s.Time.Sub(u) <= 7*24*time.Hour && u.After(last) {
+				last = u
+			}
+		}
+		if !last.IsZero() && s.Time.Sub(last) > familyTolerance && !near(s.Site, s.Time) {
+			c.late++
+			if drift && s.Onset.Sub(last).Abs() <= familyTolerance {
+				c.dated++
+			}
+		}
+	}
+	return c
+}
+
+// TestDriftOnsets counts the drift onsets (timeline.Switch.Onset) of the
+// default pipeline on the evaluation family, pumping, reefers and the
+// bearings fleet (scenarios.Failures), both draws, and prints a table:
+// switches, onsets reported, onsets more than a day from every true
+// switch of the site (false early onsets), switches dated more than a
+// day late, and of those the ones whose onset dates the true switch
+// within a day. The planted switches of the family and of pumping start
+// with a step, so an onset more than a day before them is false; the
+// bearings fleet wears with no step, so its switches into "wearing" come
+// late and an onset can date them. KINMAP_FAMILY=name,... runs only the
+// fleets named ("bearings" included).
+func TestDriftOnsets(t *testing.T) {
+	if testing.Short() {
+		t.Skip("end-to-end runs")
+	}
+	var table strings.Builder
+	fmt.Fprintf(&table, "%-12s %4s %6s %7s %6s %7s %5s %6s\n", "fleet", "seed", "found", "onsets", "early", "share", "late", "dated")
+	var family onsetCount
+	for _, name := range familyFleets(append(scenarios.Family(), "pumping", "reefers", "bearings")) {
+		for _, seed := range []int64{1, scenarios.SecondSeed} {
+			var truth []scenarios.Switch
+			var found []timeline.Switch
+			if name == "bearings" {
+				spec := scenarios.Spec{Sites: 120, Weeks: 6, Seed: seed, Start: time.Date(2026, time.March, 2, 0, 0, 0, 0, time.UTC)}
+				fleet, _, err := scenarios.Failures(spec)
+				if err != nil {
+					t.Fatal(err)
+				}
+				dir := t.TempDir()
+				if _, err := fleet.Write(dir, scenarios.FileLongParquet); err != nil {
+					t.Fatal(err)
+				}
+				o := kinmap.DefaultOptions()
+				o.Data = []string{filepath.Join(dir, scenarios.FileLongParquet)}
+				res, err := kinmap.Train(o)
+				if err != nil {
+					t.Fatal(err)
+				}
+				truth, found = fleet.Switches(), res.Switches
+			} else {
+				r := runFleet(t, name, seed)
+				truth, found = r.fleet.Switches(), r.res.Switches
+			}
+			c := countOnsets(truth, found)
+			if name != "bearings" {
+				family.add(c)
+			}
+			fmt.Fprintf(&table, "%-12s %4d %s\n", name, seed, c)
+		}
+	}
+	fmt.Fprintf(&table, "%-12s %4s %s\n", "all stepped", "", family)
+	t.Logf("drift onsets of the default pipeline, tolerance ±1 day:\n%s", table.String())
+}

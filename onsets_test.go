@@ -20,8 +20,10 @@ type onsetCount struct {
 	onsets   int // of them, with an onset before their time
 	// early: onsets more than a day from every true switch of the site:
 	// a drift that did not happen (every planted change of the family
-	// starts with a step on the day of its switch).
-	early int
+	// starts with a step on the day of its switch); unmatched: of them,
+	// those of switches that follow no true switch (within a day, or
+	// dated late, below).
+	early, unmatched int
 	// late: switches dated more than a day after the true switch they
 	// follow, the last within a week; dated: of them, those whose onset
 	// is within a day of that true switch.
@@ -32,12 +34,13 @@ func (c *onsetCount) add(o onsetCount) {
 	c.switches += o.switches
 	c.onsets += o.onsets
 	c.early += o.early
+	c.unmatched += o.unmatched
 	c.late += o.late
 	c.dated += o.dated
 }
 
 func (c onsetCount) String() string {
-	return fmt.Sprintf("%6d %7d %6d %6.2f%% %5d %6d", c.switches, c.onsets, c.early, 100*float64(c.early)/float64(max(c.switches, 1)), c.late, c.dated)
+	return fmt.Sprintf("%6d %7d %6d %6.2f%% %9d %5d %6d", c.switches, c.onsets, c.early, 100*float64(c.early)/float64(max(c.switches, 1)), c.unmatched, c.late, c.dated)
 }
 
 // countOnsets sorts the onsets of found against the true switches.
@@ -46,30 +49,36 @@ func countOnsets(truth []scenarios.Switch, found []timeline.Switch) onsetCount {
 	for _, s := range truth {
 		bySite[s.Site] = append(bySite[s.Site], s.Time)
 	}
-	near := func(site string, t time.Time) bool {
-		return slices.ContainsFunc(bySite[site], func(u time.Time) bool { return t.Sub(u).Abs() <= familyTolerance })
-	}
 	var c onsetCount
 	for _, s := range found {
 		c.switches++
 		drift := s.Onset.Before(s.Time)
-		if drift {
-			c.onsets++
-			if !near(s.Site, s.Onset) {
-				c.early++
-			}
-		}
-		var last time.Time // the last true switch of the site at or before s, within a week
+		// The true switch s follows: the nearest within a day, or else
+		// the last within a week before it, when s is dated late.
+		var follows time.Time
+		late := false
 		for _, u := range bySite[s.Site] {
-			if !u.After(s.Time) && s.Time.Sub(u) <= 7*24*time.Hour && u.After(last) {
-				last = u
+			if d := s.Time.Sub(u); d.Abs() <= familyTolerance && (follows.IsZero() || late || d.Abs() < s.Time.Sub(follows).Abs()) {
+				follows, late = u, false
+			} else if d > familyTolerance && d <= 7*24*time.Hour && (follows.IsZero() || late && u.After(follows)) {
+				follows, late = u, true
 			}
 		}
-		if !last.IsZero() && s.Time.Sub(last) > familyTolerance && !near(s.Site, s.Time) {
+		if late {
 			c.late++
-			if drift && s.Onset.Sub(last).Abs() <= familyTolerance {
-				c.dated++
+		}
+		if !drift {
+			continue
+		}
+		c.onsets++
+		if !slices.ContainsFunc(bySite[s.Site], func(u time.Time) bool { return s.Onset.Sub(u).Abs() <= familyTolerance }) {
+			c.early++
+			if follows.IsZero() {
+				c.unmatched++
 			}
+		}
+		if late && s.Onset.Sub(follows).Abs() <= familyTolerance {
+			c.dated++
 		}
 	}
 	return c
@@ -79,9 +88,10 @@ func countOnsets(truth []scenarios.Switch, found []timeline.Switch) onsetCount {
 // default pipeline on the evaluation family, pumping, reefers and the
 // bearings fleet (scenarios.Failures), both draws, and prints a table:
 // switches, onsets reported, onsets more than a day from every true
-// switch of the site (false early onsets), switches dated more than a
-// day late, and of those the ones whose onset dates the true switch
-// within a day. The planted switches of the family and of pumping start
+// switch of the site (false early onsets; "unmatched" counts those of
+// switches that follow no true switch), switches dated more than a day
+// late, and of those the ones whose onset dates the true switch within a
+// day. The planted switches of the family and of pumping start
 // with a step, so an onset more than a day before them is false; the
 // bearings fleet wears with no step, so its switches into "wearing" come
 // late and an onset can date them. KINMAP_FAMILY=name,... runs only the
@@ -91,7 +101,7 @@ func TestDriftOnsets(t *testing.T) {
 		t.Skip("end-to-end runs")
 	}
 	var table strings.Builder
-	fmt.Fprintf(&table, "%-12s %4s %6s %7s %6s %7s %5s %6s\n", "fleet", "seed", "found", "onsets", "early", "share", "late", "dated")
+	fmt.Fprintf(&table, "%-12s %4s %6s %7s %6s %7s %9s %5s %6s\n", "fleet", "seed", "found", "onsets", "early", "share", "unmatched", "late", "dated")
 	var family onsetCount
 	for _, name := range familyFleets(append(scenarios.Family(), "pumping", "reefers", "bearings")) {
 		for _, seed := range []int64{1, scenarios.SecondSeed} {

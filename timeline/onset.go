@@ -28,13 +28,28 @@ import (
 // is fitted for every τ with at least two windows on either side by least
 // squares (D. V. Hinkley, "Inference in two-phase regression", Journal of
 // the American Statistical Association 66, 1971). The τ of least residual
-// sum of squares is the onset when its rise β is positive and significant:
-// its one-sided t test, for errors correlated from day to day (see
-// onsetOf) and multiplied by the number of onsets tried (Bonferroni),
-// below onsetLevel. A switch whose windows before it show no such rise,
-// as a step from one day to the next, keeps its onset at its own time.
-// The switch's Time is the decoding's, as before: the onset is what the
-// windows before it add.
+// sum of squares is the onset when two things hold:
+//
+//   - its rise β is positive and significant: its one-sided t test, for
+//     errors correlated from day to day (see onsetOf) and multiplied by
+//     the number of onsets tried (Bonferroni), below onsetLevel;
+//   - the rise is the better account of the windows by the Bayesian
+//     information criterion, n·ln(RSS/n) + k·ln n for Gaussian errors
+//     (G. Schwarz, "Estimating the dimension of a model", The Annals of
+//     Statistics 6(2), 1978), than each plain step: no change before the
+//     switch (a constant; k = 2 with the variance), whose step is the
+//     switch itself, and a step at its own best time τ′ before it,
+//     z_i = μ + δ·[i ≥ τ′] (k = 4, as the rise: μ, β, τ and the
+//     variance; a change point counts as a parameter, as in Y.-C. Yao,
+//     "Estimating the number of change-points via Schwarz' criterion",
+//     Statistics & Probability Letters 6(3), 1988).
+//
+// The second condition is what keeps a step that the decoding dated a few
+// windows late from reading as wear: the last windows before the switch
+// then sit at the new level, and a rise through them passes the t test
+// although a step fits them better. A switch whose windows before it show
+// no such rise keeps its onset at its own time. The switch's Time is the
+// decoding's, as before: the onset is what the windows before it add.
 
 // onsetLevel is the significance level of the rise, after the Bonferroni
 // correction: 1 %, a conventional level (common practice, no source).
@@ -123,7 +138,29 @@ func onsetOf(z []float64) int {
 	if p*float64(tried) >= onsetLevel {
 		return n
 	}
+	// The rise against the plain steps, by BIC (see above).
+	flat := stat.Variance(z, nil) * float64(n-1)
+	steps := math.Inf(1)
+	for tau := 2; tau <= n-2; tau++ {
+		steps = min(steps, stepRSS(z, tau))
+	}
+	if rise := bic(rss, n, 4); rise >= bic(flat, n, 2) || rise >= bic(steps, n, 4) {
+		return n
+	}
 	return best
+}
+
+// bic is the Bayesian information criterion of a least-squares fit with
+// Gaussian errors: residual sum of squares rss over n values, k
+// parameters counting the variance.
+func bic(rss float64, n, k int) float64 {
+	return float64(n)*math.Log(rss/float64(n)) + float64(k)*math.Log(float64(n))
+}
+
+// stepRSS is the residual sum of squares of z_i = mu + delta·[i ≥ tau]
+// fitted by least squares: each side about its own mean.
+func stepRSS(z []float64, tau int) float64 {
+	return stat.Variance(z[:tau], nil)*float64(tau-1) + stat.Variance(z[tau:], nil)*float64(len(z)-tau-1)
 }
 
 // hingeMean is the mean of max(0, i − tau + 1) over i in [0, n).

@@ -5,9 +5,9 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/stat"
-	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/trend"
 )
 
 // Wear moves a site towards another regime by degrees: a bearing warms a
@@ -31,7 +31,7 @@ import (
 // sum of squares is the onset when two things hold:
 //
 //   - its rise β is positive and significant: its one-sided t test, for
-//     errors correlated from day to day (see onsetOf) and multiplied by
+//     errors correlated from day to day (trend.Rise) and multiplied by
 //     the number of onsets tried (Bonferroni), below onsetLevel;
 //   - the rise is the better account of the windows by the Bayesian
 //     information criterion, n·ln(RSS/n) + k·ln n for Gaussian errors
@@ -97,45 +97,17 @@ func onsetOf(z []float64) int {
 	// and two in it.
 	tried := n - 3
 	for tau := 2; tau <= n-2; tau++ {
-		if _, _, rss, _ := hinge(z, tau); rss < bestRSS {
+		if _, _, rss := hinge(z, tau); rss < bestRSS {
 			best, bestRSS = tau, rss
 		}
 	}
-	beta, mu, rss, sxx := hinge(z, best)
-	if !(beta > 0) {
-		return n
+	h := make([]float64, n)
+	for i := range h {
+		h[i] = math.Max(0, float64(i-best+1))
 	}
-	// Days next to each other share weather and load, so the residuals
-	// are correlated; the standard error and the degrees of freedom are
-	// those of AR(1) errors with the residuals' lag-1 correlation ρ > 0:
-	// variance × (1+ρ)/(1−ρ), n(1−ρ)/(1+ρ) effective windows (G. V.
-	// Bayley and J. M. Hammersley, "The effective number of independent
-	// observations in an autocorrelated time series", Supplement to the
-	// Journal of the Royal Statistical Society 8(2), 1946).
-	var num, den float64
-	prev := math.NaN()
-	for i, v := range z {
-		r := v - mu - beta*math.Max(0, float64(i-best+1))
-		if i > 0 {
-			num += r * prev
-		}
-		den += r * r
-		prev = r
-	}
-	inflate := 1.0
-	if den > 0 && num > 0 {
-		rho := min(num/den, 0.99)
-		inflate = (1 + rho) / (1 - rho)
-	}
-	df := float64(n)/inflate - 2
-	if df < 1 {
-		return n
-	}
-	p := 0.0 // a rise without residuals
-	if se := math.Sqrt(inflate * rss / float64(n-2) / sxx); se > 0 {
-		p = distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Survival(beta / se)
-	}
-	if p*float64(tried) >= onsetLevel {
+	// Days next to each other share weather and load, so the rise's t test
+	// takes the residuals as AR(1) errors (trend.Rise).
+	if _, beta, p := trend.Rise(h, z); !(beta > 0) || p*float64(tried) >= onsetLevel {
 		return n
 	}
 	// The rise against the plain steps, by BIC (see above).
@@ -144,7 +116,7 @@ func onsetOf(z []float64) int {
 	for tau := 2; tau <= n-2; tau++ {
 		steps = min(steps, stepRSS(z, tau))
 	}
-	if rise := bic(rss, n, 4); rise >= bic(flat, n, 2) || rise >= bic(steps, n, 4) {
+	if rise := bic(bestRSS, n, 4); rise >= bic(flat, n, 2) || rise >= bic(steps, n, 4) {
 		return n
 	}
 	return best
@@ -170,13 +142,12 @@ func hingeMean(n, tau int) float64 {
 }
 
 // hinge fits z_i = mu + beta·max(0, i − tau + 1) by least squares and
-// returns beta, mu, the residual sum of squares and the sum of squares of
-// the centred regressor.
-func hinge(z []float64, tau int) (beta, mu, rss, sxx float64) {
+// returns beta, mu and the residual sum of squares.
+func hinge(z []float64, tau int) (beta, mu, rss float64) {
 	n := len(z)
 	hbar := hingeMean(n, tau)
 	zbar := stat.Mean(z, nil)
-	var sxy float64
+	var sxy, sxx float64
 	for i, v := range z {
 		h := math.Max(0, float64(i-tau+1)) - hbar
 		sxy += h * (v - zbar)
@@ -188,5 +159,5 @@ func hinge(z []float64, tau int) (beta, mu, rss, sxx float64) {
 		r := v - mu - beta*math.Max(0, float64(i-tau+1))
 		rss += r * r
 	}
-	return beta, mu, rss, sxx
+	return beta, mu, rss
 }

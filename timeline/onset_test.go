@@ -66,7 +66,7 @@ func TestHingeLeastSquares(t *testing.T) {
 		z[i] = 0.2*math.Max(0, float64(i-6)) + 0.1*rng.NormFloat64()
 	}
 	for _, tau := range []int{2, 5, 7, 10} {
-		beta, mu, rss, _ := hinge(z, tau)
+		beta, mu, rss := hinge(z, tau)
 		x := mat.NewDense(len(z), 2, nil)
 		for i := range z {
 			x.Set(i, 0, 1)

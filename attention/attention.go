@@ -127,6 +127,7 @@ const (
 	Fault Level = iota
 	Watch
 	Stay
+	Nearing
 	Resembles
 	Unfamiliar
 	Switch
@@ -134,7 +135,7 @@ const (
 	Weak
 )
 
-var levelNames = [...]string{"fault", "watch", "stay", "resembles", "unfamiliar", "switch", "still", "weak"}
+var levelNames = [...]string{"fault", "watch", "stay", "nearing", "resembles", "unfamiliar", "switch", "still", "weak"}
 
 // String is the level's name in attention.csv.
 func (l Level) String() string {
@@ -163,16 +164,18 @@ type Config struct {
 	MinFleetSites   int           `json:"min_fleet_sites"`  // fewest sites of a fleet-wide event
 	Recent          time.Duration `json:"recent_ns"`        // span before a site's last window end whose windows are scored for resemblance
 	MinResemblance  float64       `json:"min_resemblance"`  // score from which a site resembles a label
+	NearingAlpha    float64       `json:"nearing_alpha"`    // one-sided chance level below which a site's move towards a fault or watch regime counts
 }
 
 // DefaultConfig returns the defaults: confidence ½, a long stay of 7
 // windows, nearby within 2 days, a chance rate of 0.01, both tails 0.001,
-// at least 3 sites to a fleet-wide event, and resemblance scored over
-// events.DefaultBefore from ½.
+// at least 3 sites to a fleet-wide event, resemblance scored over
+// events.DefaultBefore from ½, and a move towards a fault or watch regime
+// significant at 5 %.
 func DefaultConfig() Config {
 	return Config{MinConfidence: 0.5, LongStay: 7, Nearby: 48 * time.Hour, UnfamiliarRate: 0.01,
 		UnfamiliarAlpha: 0.001, FleetAlpha: 0.001, MinFleetSites: 3,
-		Recent: events.DefaultBefore, MinResemblance: 0.5}
+		Recent: events.DefaultBefore, MinResemblance: 0.5, NearingAlpha: 0.05}
 }
 
 func (c Config) withDefaults() Config {
@@ -186,6 +189,7 @@ func (c Config) withDefaults() Config {
 	c.MinFleetSites = cmp.Or(c.MinFleetSites, d.MinFleetSites)
 	c.Recent = cmp.Or(c.Recent, d.Recent)
 	c.MinResemblance = cmp.Or(c.MinResemblance, d.MinResemblance)
+	c.NearingAlpha = cmp.Or(c.NearingAlpha, d.NearingAlpha)
 	return c
 }
 
@@ -217,6 +221,10 @@ type Input struct {
 	// Labels are the labels of the run's knowledge; nil without one. The
 	// windows' Condition and ConditionConfidence say which they resemble.
 	Labels []string
+	// Centroids are the regimes' centroids by ID, in the space of the
+	// windows' Scaled features (mapper.Regime.Centroid); without them no
+	// site is tested for a move towards a fault or watch regime (Nearing).
+	Centroids map[int][]float64
 }
 
 // Row is one line of the list: a site, a fleet-wide event, or the sites
@@ -269,6 +277,7 @@ func Rank(in Input, cfg Config) []Row {
 	}
 	fleet, inEvent := fleetEvents(in, cfg, label)
 	resembling := resemblance(in, cfg)
+	near := nearing(in, cfg)
 	var rows []Row
 	for _, e := range fleet {
 		if e.Reason == "" {
@@ -364,6 +373,18 @@ func Rank(in Input, cfg Config) []Row {
 			default:
 				reasons = append(reasons, fmt.Sprintf("%d windows in a row in %s regime %s, up to its last window", n, st, label(last)))
 				set(Stay, nil)
+			}
+		}
+		for _, a := range near[site] {
+			when := "past halfway by its trend already"
+			if a.within > 0 {
+				when = fmt.Sprintf("past halfway within %.0f windows at that rate", math.Ceil(a.within))
+			}
+			reasons = append(reasons, fmt.Sprintf("moving towards %s regime %s: over its last %d windows in regime %s, %.1f %% of the way nearer a window (chance p = %.1g), %s",
+				in.Status[a.towards], label(a.towards), a.windows, label(seq[len(seq)-1].Regime), 100*a.rate, a.p, when))
+			set(Nearing, nil)
+			if r.Level == Nearing {
+				r.Confidence = max(r.Confidence, 1-a.p)
 			}
 		}
 		for _, m := range resembling[site] {

@@ -112,6 +112,7 @@ import (
 	"strings"
 	"time"
 
+	"gonum.org/v1/gonum/mathext"
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/kinmap/kinmap/events"
@@ -164,18 +165,16 @@ type Config struct {
 	MinFleetSites   int           `json:"min_fleet_sites"`  // fewest sites of a fleet-wide event
 	Recent          time.Duration `json:"recent_ns"`        // span before a site's last window end whose windows are scored for resemblance
 	MinResemblance  float64       `json:"min_resemblance"`  // score from which a site resembles a label
-	NearingAlpha    float64       `json:"nearing_alpha"`    // one-sided chance level below which a site's move towards a fault or watch regime counts
 }
 
 // DefaultConfig returns the defaults: confidence ½, a long stay of 7
 // windows, nearby within 2 days, a chance rate of 0.01, both tails 0.001,
-// at least 3 sites to a fleet-wide event, resemblance scored over
-// events.DefaultBefore from ½, and a move towards a fault or watch regime
-// significant at 5 %.
+// at least 3 sites to a fleet-wide event, and resemblance scored over
+// events.DefaultBefore from ½.
 func DefaultConfig() Config {
 	return Config{MinConfidence: 0.5, LongStay: 7, Nearby: 48 * time.Hour, UnfamiliarRate: 0.01,
 		UnfamiliarAlpha: 0.001, FleetAlpha: 0.001, MinFleetSites: 3,
-		Recent: events.DefaultBefore, MinResemblance: 0.5, NearingAlpha: 0.05}
+		Recent: events.DefaultBefore, MinResemblance: 0.5}
 }
 
 func (c Config) withDefaults() Config {
@@ -189,7 +188,6 @@ func (c Config) withDefaults() Config {
 	c.MinFleetSites = cmp.Or(c.MinFleetSites, d.MinFleetSites)
 	c.Recent = cmp.Or(c.Recent, d.Recent)
 	c.MinResemblance = cmp.Or(c.MinResemblance, d.MinResemblance)
-	c.NearingAlpha = cmp.Or(c.NearingAlpha, d.NearingAlpha)
 	return c
 }
 
@@ -376,12 +374,9 @@ func Rank(in Input, cfg Config) []Row {
 			}
 		}
 		for _, a := range near[site] {
-			when := "past halfway by its trend already"
-			if a.within > 0 {
-				when = fmt.Sprintf("past halfway within %.0f windows at that rate", math.Ceil(a.within))
-			}
-			reasons = append(reasons, fmt.Sprintf("moving towards %s regime %s: over its last %d windows in regime %s, %.1f %% of the way nearer a window (chance p = %.1g), %s",
-				in.Status[a.towards], label(a.towards), a.windows, label(seq[len(seq)-1].Regime), 100*a.rate, a.p, when))
+			reasons = append(reasons, fmt.Sprintf("in regime %s since %s, but %d of its %d windows since lie further towards %s regime %s than %g %% of regime %s's windows (chance p = %.1g)",
+				label(seq[len(seq)-1].Regime), a.since.UTC().Format(time.DateOnly), a.beyond, a.windows, in.Status[a.towards], label(a.towards),
+				100*(1-cfg.UnfamiliarRate), label(seq[len(seq)-1].Regime), a.p))
 			set(Nearing, nil)
 			if r.Level == Nearing {
 				r.Confidence = max(r.Confidence, 1-a.p)
@@ -509,12 +504,18 @@ func sites(ws []features.Window) [][]features.Window {
 	return out
 }
 
-// binomialTail is P(X ≥ k) for X binomial with n trials of probability p.
+// binomialTail is P(X ≥ k) for X binomial with n trials of probability p:
+// the regularized incomplete beta function I_p(k, n − k + 1), which keeps
+// its precision in the far tail where 1 − CDF would not (Abramowitz and
+// Stegun, Handbook of Mathematical Functions, 1964, 26.5.24).
 func binomialTail(n, k int, p float64) float64 {
-	if k <= 0 {
+	switch {
+	case k <= 0:
 		return 1
+	case k > n:
+		return 0
 	}
-	return 1 - distuv.Binomial{N: float64(n), P: p}.CDF(float64(k-1))
+	return mathext.RegIncBeta(float64(k), float64(n-k+1), p)
 }
 
 // eventKey groups switches of the same regimes on the same UTC day.

@@ -32,7 +32,6 @@ func (c Config) Validate() error {
 		{"MinFleetSites", float64(c.MinFleetSites), c.MinFleetSites == 0 || c.MinFleetSites >= 2, "of 2 sites or more"},
 		{"Recent", float64(c.Recent), c.Recent >= 0, "of 0 or more"},
 		{"MinResemblance", c.MinResemblance, share(c.MinResemblance), "in (0, 1]"},
-		{"NearingAlpha", c.NearingAlpha, share(c.NearingAlpha) && c.NearingAlpha < 1, "in (0, 1)"},
 	} {
 		if !f.ok {
 			return &ConfigError{Field: f.field, Value: f.value, Want: f.want}

@@ -7,22 +7,23 @@ import (
 
 	"gonum.org/v1/gonum/floats"
 
-	"github.com/kinmap/kinmap/internal/trend"
+	"github.com/kinmap/kinmap/internal/quantile"
 )
 
-// approach is a site's steady move towards a regime marked fault or watch
-// (see the package documentation, Nearing).
+// approach is a site that switched into a regime and whose windows since
+// lie towards a regime marked fault or watch, further than its regime's
+// windows do (see the package documentation, Nearing).
 type approach struct {
-	towards int     // the regime it moves towards
-	windows int     // its windows in its own regime that the trend is fitted on
-	rate    float64 // share of the way it comes nearer a window
-	p       float64 // one-sided chance level of the rise
-	within  float64 // windows after its last until past halfway at that rate; 0 or less: past it already
+	towards int       // the regime they lie towards
+	since   time.Time // start of the stay: the switch into the site's last regime
+	windows int       // the site's windows since
+	beyond  int       // of them, those further towards it than the regime's quantile
+	p       float64   // binomial chance of as many
 }
 
 // share is where x lies on the line from centroid a to centroid b: 0 at
 // a, 1 at b, ½ where it is as near one as the other; NaN when x has a
-// missing feature.
+// missing feature or a and b coincide.
 func share(x, a, b []float64) float64 {
 	da, db, ab := floats.Distance(x, a, 2), floats.Distance(x, b, 2), floats.Distance(a, b, 2)
 	if ab == 0 {
@@ -32,8 +33,8 @@ func share(x, a, b []float64) float64 {
 }
 
 // nearing returns, by site, the regimes marked fault or watch that its
-// last windows in its current regime move towards (see the package
-// documentation).
+// windows since its switch into its last regime lie towards (see the
+// package documentation).
 func nearing(in Input, cfg Config) map[string][]approach {
 	var targets []int
 	for id, st := range in.Status {
@@ -46,13 +47,14 @@ func nearing(in Input, cfg Config) map[string][]approach {
 	}
 	slices.Sort(targets)
 	// Each window's share of the way from its regime towards each target,
-	// and the median of the same over its regime's windows of that time.
+	// less the median of the same over its regime's windows of that time,
+	// so that weather that moves a regime's sites together cancels.
 	type key struct {
 		start    time.Time
 		from, to int
 	}
 	shares := make([][]float64, len(in.Windows))
-	peers := map[key][]float64{}
+	day := map[key][]float64{}
 	for i, w := range in.Windows {
 		c := in.Centroids[w.Regime]
 		if c == nil || in.Status[w.Regime] == StatusFault || w.Scaled == nil {
@@ -66,14 +68,34 @@ func nearing(in Input, cfg Config) map[string][]approach {
 			}
 			if !math.IsNaN(shares[i][j]) {
 				k := key{w.Start, w.Regime, f}
-				peers[k] = append(peers[k], shares[i][j])
+				day[k] = append(day[k], shares[i][j])
 			}
 		}
 	}
 	median := map[key]float64{}
-	for k, v := range peers {
+	for k, v := range day {
 		slices.Sort(v)
-		median[k] = (v[(len(v)-1)/2] + v[len(v)/2]) / 2
+		median[k] = quantile.Sorted(v, 0.5)
+	}
+	// The relative shares of each regime's windows towards each target,
+	// from which a site's threshold is taken without its own.
+	type pair struct{ from, to int }
+	all := map[pair][]float64{}
+	settled := make([]bool, len(in.Windows))
+	for i, w := range in.Windows {
+		settled[i] = i == 0 || w.Site != in.Windows[i-1].Site || settled[i-1] && w.Regime == in.Windows[i-1].Regime
+		for j, f := range targets {
+			if shares[i] != nil && !math.IsNaN(shares[i][j]) {
+				shares[i][j] -= median[key{w.Start, w.Regime, f}]
+				if !settled[i] {
+					continue
+				}
+				all[pair{w.Regime, f}] = append(all[pair{w.Regime, f}], shares[i][j])
+			}
+		}
+	}
+	for _, v := range all {
+		slices.Sort(v)
 	}
 
 	out := map[string][]approach{}
@@ -82,43 +104,71 @@ func nearing(in Input, cfg Config) map[string][]approach {
 		for j < len(in.Windows) && in.Windows[j].Site == in.Windows[i].Site {
 			j++
 		}
-		seq := in.Windows[i:j]
-		last := seq[len(seq)-1]
-		step := last.End.Sub(last.Start)
+		// The site's stay in its last regime, when a switch in the run
+		// began it.
+		lo := j - 1
+		for lo > i && in.Windows[lo-1].Regime == in.Windows[j-1].Regime {
+			lo--
+		}
+		last := in.Windows[j-1]
 		for t, f := range targets {
-			if shares[j-1] == nil || f == last.Regime || step <= 0 {
-				continue
+			if lo == i || shares[j-1] == nil {
+				break
 			}
-			// Its last windows in its current regime, a long stay's worth
-			// at most.
-			lo := len(seq) - 1
-			for lo > 0 && lo > len(seq)-cfg.LongStay && seq[lo-1].Regime == last.Regime {
-				lo--
-			}
-			var x, z []float64
-			var at time.Time // the start of the last window fitted
-			for k := lo; k < len(seq); k++ {
-				w := seq[k]
-				if v := shares[i+k]; v != nil && !math.IsNaN(v[t]) {
-					x = append(x, float64(w.Start.Sub(seq[0].Start))/float64(step))
-					z = append(z, v[t]-median[key{w.Start, w.Regime, f}])
-					at = w.Start
+			var own, since []float64
+			for k, v := range shares[i:j] {
+				if in.Windows[i+k].Regime == last.Regime && !math.IsNaN(v[t]) {
+					if settled[i+k] {
+						own = append(own, v[t])
+					}
+					if i+k >= lo {
+						since = append(since, v[t])
+					}
 				}
 			}
-			a, b, p := trend.Rise(x, z)
-			if !(b > 0) || p >= cfg.NearingAlpha {
-				continue
+			slices.Sort(own)
+			limit := without(all[pair{last.Regime, f}], own, 1-cfg.UnfamiliarRate)
+			k := 0
+			for _, v := range since {
+				if v > limit {
+					k++
+				}
 			}
-			// Where its trend puts it at its last window fitted, back on
-			// the scale of the centroids, and how many windows on it
-			// passes halfway, where the decoding would find it nearer
-			// the target.
-			end := a + b*x[len(x)-1] + median[key{at, last.Regime, f}]
-			if within := (0.5 - end) / b; within <= float64(cfg.LongStay) {
-				out[last.Site] = append(out[last.Site], approach{towards: f, windows: len(x), rate: b, p: p, within: within})
+			if p := binomialTail(len(since), k, cfg.UnfamiliarRate); k > 0 && p < cfg.UnfamiliarAlpha {
+				out[last.Site] = append(out[last.Site], approach{towards: f, since: in.Windows[lo].Start, windows: len(since), beyond: k, p: p})
 			}
 		}
 		i = j
 	}
 	return out
+}
+
+// without returns quantile q of the ascending values all less the
+// ascending values own, which are among them (quantile.Sorted of the
+// rest), walking down from the top; NaN when nothing is left.
+func without(all, own []float64, q float64) float64 {
+	n := len(all) - len(own)
+	if n < 1 {
+		return math.NaN()
+	}
+	at, f := quantile.Position(n, q)
+	lo, hi := math.NaN(), math.NaN()
+	k, r := len(own)-1, n-1 // the next own value to pass over; the rank of the next value kept
+	for j := len(all) - 1; j >= 0 && r >= at; j-- {
+		if k >= 0 && all[j] == own[k] {
+			k--
+			continue
+		}
+		switch r {
+		case at + 1:
+			hi = all[j]
+		case at:
+			lo = all[j]
+		}
+		r--
+	}
+	if f == 0 {
+		return lo
+	}
+	return lo + f*(hi-lo)
 }

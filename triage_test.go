@@ -131,6 +131,7 @@ func TestTriagePlantedFaults(t *testing.T) {
 				continue
 			}
 			nearing++
+			t.Logf("seed %d: rank %d, %s: %s", seed, r.Rank, r.Site, r.Reason)
 			if last := truth[r.Site][len(truth[r.Site])-1]; !slices.Contains(pumpingFaults, fleet.Regimes[last]) {
 				t.Errorf("seed %d: %s is listed as %s (%s), but its last planted regime is %s", seed, r.Site, r.Level, r.Reason, fleet.Regimes[last])
 			}

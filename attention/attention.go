@@ -12,6 +12,9 @@
 //	watch       it switched into a regime marked "watch"
 //	stay        it spent at least Config.LongStay windows in a row, up to
 //	            its last window, in a regime marked "fault" or "watch"
+//	nearing     it switched into a regime, and more of its windows since
+//	            lie towards a regime marked "fault" or "watch" than
+//	            chance allows (see Nearing)
 //	resembles   its recent windows resemble windows that carried a label of
 //	            the user's events (see Resemblance)
 //	unfamiliar  more of its windows were unfamiliar than chance allows
@@ -55,6 +58,39 @@
 // window is above that quantile with probability 1 − q, so one unfamiliar
 // window in a month is expected somewhere in any fleet, three at one site
 // are not.
+//
+// # Nearing
+//
+// The first days of wear can lie nearer a healthy regime than the worn
+// one, whose centroid sits among windows of every stage of the wear, so
+// that the decoding puts a pump that has begun to degrade in its steady
+// regime. Such a pump still stands out from the steady pumps: its windows
+// lie towards the fault regime, where theirs do not. This is the
+// "potential failure" of the P-F interval, the condition that can be seen
+// before the function is lost and that maintenance acts on (J. Moubray,
+// Reliability-centred Maintenance, 2nd ed., 1997; cited from
+// memory).
+//
+// A window's share of the way from its regime R towards a regime F marked
+// fault or watch is where it projects on the line between their centroids
+// (Input.Centroids): 0 at R's, 1 at F's. Less the median share of R's
+// windows of the same time, so that weather that moves R's sites together
+// cancels (peer groups, R. J. Bolton and D. J. Hand, "Unsupervised
+// profiling methods for fraud detection", 2001), it is compared with the
+// 1 − Config.UnfamiliarRate quantile of the same for the settled windows
+// of R: those of sites in the stay that began their record in the run,
+// the site's own left out. A site whose last stay began with a switch in
+// the run (it is the newcomers that are in question, so none of them sets
+// the bar) is listed when, of its n windows since, k lie beyond and
+// P(X ≥ k) < Config.UnfamiliarAlpha for X binomial with n trials and the
+// chance rate Config.UnfamiliarRate: the rule of unfamiliar windows, in
+// one direction. A site in a regime marked fault is not tested; one in a
+// watch regime is tested towards the fault regimes.
+//
+// The level ranks below the user's own verdicts (fault, watch, stay),
+// which name the regime a site is in, and above resemblance, unfamiliar
+// windows and switches between other regimes: it says which marked regime
+// a site is heading for, from the user's own marks.
 //
 // # Resemblance
 //

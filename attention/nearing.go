@@ -77,7 +77,8 @@ func nearing(in Input, cfg Config) map[string][]approach {
 		slices.Sort(v)
 		median[k] = quantile.Sorted(v, 0.5)
 	}
-	// The relative shares of each regime's windows towards each target,
+	// The relative shares of each regime's settled windows towards each
+	// target (those of a site's first stay, which began with its record),
 	// from which a site's threshold is taken without its own.
 	type pair struct{ from, to int }
 	all := map[pair][]float64{}
@@ -117,7 +118,7 @@ func nearing(in Input, cfg Config) map[string][]approach {
 			}
 			var own, since []float64
 			for k, v := range shares[i:j] {
-				if in.Windows[i+k].Regime == last.Regime && !math.IsNaN(v[t]) {
+				if in.Windows[i+k].Regime == last.Regime && v != nil && !math.IsNaN(v[t]) {
 					if settled[i+k] {
 						own = append(own, v[t])
 					}

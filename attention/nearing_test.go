@@ -17,7 +17,8 @@ import (
 // of the way towards fault regime 2, where none of regime 1's other
 // windows lie, is listed at level nearing, above a confident switch
 // between normal regimes; its reason counts all 14 windows since, at the
-// binomial chance 0.01^14 (every one of 14 beyond the 99 % quantile). The
+// binomial chance 0.01^14 (every one of 14 beyond the 99 % quantile), and
+// 13 of 13 when one of them has no features. The
 // same windows are not listed when the whole regime moves with them
 // (weather), when they lie like their peers', or when the site has sat
 // there since before the run (no switch began its stay); in weather that
@@ -39,12 +40,14 @@ func TestRankNearing(t *testing.T) {
 		fleet    func(d int) float64 // the same for the other sites of regime 1
 		switched bool                // w was in regime 3 before day 14
 		listed   bool
+		gap      int // a day of w's whose window has no features; 0: none
 	}{
-		{"windows towards the fault regime after a switch", third, func(int) float64 { return 0 }, true, true},
-		{"the whole regime moves with them", third, third, true, false},
-		{"windows towards the fault regime in weather that moves every site each day", func(d int) float64 { return weather(d) + third(d) }, weather, true, true},
-		{"windows like their peers' after a switch", func(int) float64 { return 0 }, func(int) float64 { return 0 }, true, false},
-		{"windows towards the fault regime without a switch", third, func(int) float64 { return 0 }, false, false},
+		{"windows towards the fault regime after a switch", third, func(int) float64 { return 0 }, true, true, 0},
+		{"one of them without features", third, func(int) float64 { return 0 }, true, true, 20},
+		{"the whole regime moves with them", third, third, true, false, 0},
+		{"windows towards the fault regime in weather that moves every site each day", func(d int) float64 { return weather(d) + third(d) }, weather, true, true, 0},
+		{"windows like their peers' after a switch", func(int) float64 { return 0 }, func(int) float64 { return 0 }, true, false, 0},
+		{"windows towards the fault regime without a switch", third, func(int) float64 { return 0 }, false, false, 0},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -65,6 +68,9 @@ func TestRankNearing(t *testing.T) {
 						Scaled: []float64{10*s + 0.3*rng.NormFloat64(), 0.3 * rng.NormFloat64()}}
 					if site == "w" && tc.switched && d < 14 || site == "a" && d >= 20 {
 						e.Regime, e.Scaled[1] = 3, e.Scaled[1]+10
+					}
+					if site == "w" && d == tc.gap && d > 0 {
+						e.Scaled = nil
 					}
 					ws = append(ws, e)
 				}
@@ -88,8 +94,9 @@ func TestRankNearing(t *testing.T) {
 			if a := slices.IndexFunc(rows, func(r Row) bool { return r.Site == "a" }); a < 0 || rows[a].Level != Switch || rows[a].Rank <= rows[i].Rank {
 				t.Errorf("a's switch between normal regimes is not below w: %+v", rows)
 			}
-			want := fmt.Sprintf("in regime 1 since %s, but 14 of its 14 windows since lie further towards fault regime 2 than 99 %% of regime 1's windows (chance p = %.1g)",
-				at(14).Format("2006-01-02"), math.Pow(0.01, 14))
+			n := 14 - btoi(tc.gap > 0)
+			want := fmt.Sprintf("in regime 1 since %s, but %d of its %d windows since lie further towards fault regime 2 than 99 %% of regime 1's windows (chance p = %.1g)",
+				at(14).Format("2006-01-02"), n, n, math.Pow(0.01, float64(n)))
 			if !strings.Contains(rows[i].Reason, want) {
 				t.Errorf("w's reason %q, want it to contain %q", rows[i].Reason, want)
 			}
@@ -128,4 +135,11 @@ func TestWithout(t *testing.T) {
 			}
 		}
 	}
+}
+
+func btoi(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }

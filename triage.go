@@ -57,9 +57,10 @@ func attentionConfig(o *Options, t *features.Table) attention.Config {
 // triage makes the run's work list, and its comparison with the previous
 // period when it read a history.
 func triage(o *Options, r *Result) {
-	in := attention.Input{Windows: r.Table.Windows, Switches: r.Switches, Shared: r.Shared, Status: map[int]string{}, Names: map[int]string{}}
+	in := attention.Input{Windows: r.Table.Windows, Switches: r.Switches, Shared: r.Shared, Status: map[int]string{}, Names: map[int]string{},
+		Centroids: map[int][]float64{}}
 	for _, g := range r.Model.Regimes {
-		in.Status[g.ID], in.Names[g.ID] = g.Status, g.Name
+		in.Status[g.ID], in.Names[g.ID], in.Centroids[g.ID] = g.Status, g.Name, g.Centroid
 	}
 	if r.past != nil {
 		in.Earlier = r.past.earlier

@@ -12,6 +12,9 @@
 //	watch       it switched into a regime marked "watch"
 //	stay        it spent at least Config.LongStay windows in a row, up to
 //	            its last window, in a regime marked "fault" or "watch"
+//	nearing     it switched into a regime, and more of its windows since
+//	            lie towards a regime marked "fault" or "watch" than
+//	            chance allows (see Nearing)
 //	resembles   its recent windows resemble windows that carried a label of
 //	            the user's events (see Resemblance)
 //	unfamiliar  more of its windows were unfamiliar than chance allows
@@ -55,6 +58,39 @@
 // window is above that quantile with probability 1 − q, so one unfamiliar
 // window in a month is expected somewhere in any fleet, three at one site
 // are not.
+//
+// # Nearing
+//
+// The first days of wear can lie nearer a healthy regime than the worn
+// one, whose centroid sits among windows of every stage of the wear, so
+// that the decoding puts a pump that has begun to degrade in its steady
+// regime. Such a pump still stands out from the steady pumps: its windows
+// lie towards the fault regime, where theirs do not. This is the
+// "potential failure" of the P-F interval, the condition that can be seen
+// before the function is lost and that maintenance acts on (J. Moubray,
+// Reliability-centred Maintenance, 2nd ed., 1997; cited from
+// memory).
+//
+// A window's share of the way from its regime R towards a regime F marked
+// fault or watch is where it projects on the line between their centroids
+// (Input.Centroids): 0 at R's, 1 at F's. Less the median share of R's
+// windows of the same time, so that weather that moves R's sites together
+// cancels (peer groups, R. J. Bolton and D. J. Hand, "Unsupervised
+// profiling methods for fraud detection", 2001), it is compared with the
+// 1 − Config.UnfamiliarRate quantile of the same for the settled windows
+// of R: those of sites in the stay that began their record in the run,
+// the site's own left out. A site whose last stay began with a switch in
+// the run (it is the newcomers that are in question, so none of them sets
+// the bar) is listed when, of its n windows since, k lie beyond and
+// P(X ≥ k) < Config.UnfamiliarAlpha for X binomial with n trials and the
+// chance rate Config.UnfamiliarRate: the rule of unfamiliar windows, in
+// one direction. A site in a regime marked fault is not tested; one in a
+// watch regime is tested towards the fault regimes.
+//
+// The level ranks below the user's own verdicts (fault, watch, stay),
+// which name the regime a site is in, and above resemblance, unfamiliar
+// windows and switches between other regimes: it says which marked regime
+// a site is heading for, from the user's own marks.
 //
 // # Resemblance
 //
@@ -112,6 +148,7 @@ import (
 	"strings"
 	"time"
 
+	"gonum.org/v1/gonum/mathext"
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/kinmap/kinmap/events"
@@ -127,6 +164,7 @@ const (
 	Fault Level = iota
 	Watch
 	Stay
+	Nearing
 	Resembles
 	Unfamiliar
 	Switch
@@ -134,7 +172,7 @@ const (
 	Weak
 )
 
-var levelNames = [...]string{"fault", "watch", "stay", "resembles", "unfamiliar", "switch", "still", "weak"}
+var levelNames = [...]string{"fault", "watch", "stay", "nearing", "resembles", "unfamiliar", "switch", "still", "weak"}
 
 // String is the level's name in attention.csv.
 func (l Level) String() string {
@@ -217,6 +255,10 @@ type Input struct {
 	// Labels are the labels of the run's knowledge; nil without one. The
 	// windows' Condition and ConditionConfidence say which they resemble.
 	Labels []string
+	// Centroids are the regimes' centroids by ID, in the space of the
+	// windows' Scaled features (mapper.Regime.Centroid); without them no
+	// site is tested for a move towards a fault or watch regime (Nearing).
+	Centroids map[int][]float64
 }
 
 // Row is one line of the list: a site, a fleet-wide event, or the sites
@@ -269,6 +311,7 @@ func Rank(in Input, cfg Config) []Row {
 	}
 	fleet, inEvent := fleetEvents(in, cfg, label)
 	resembling := resemblance(in, cfg)
+	near := nearing(in, cfg)
 	var rows []Row
 	for _, e := range fleet {
 		if e.Reason == "" {
@@ -364,6 +407,15 @@ func Rank(in Input, cfg Config) []Row {
 			default:
 				reasons = append(reasons, fmt.Sprintf("%d windows in a row in %s regime %s, up to its last window", n, st, label(last)))
 				set(Stay, nil)
+			}
+		}
+		for _, a := range near[site] {
+			reasons = append(reasons, fmt.Sprintf("in regime %s since %s, but %d of its %d windows since lie further towards %s regime %s than %g %% of regime %s's windows (chance p = %.1g)",
+				label(seq[len(seq)-1].Regime), a.since.UTC().Format(time.DateOnly), a.beyond, a.windows, in.Status[a.towards], label(a.towards),
+				100*(1-cfg.UnfamiliarRate), label(seq[len(seq)-1].Regime), a.p))
+			set(Nearing, nil)
+			if r.Level == Nearing {
+				r.Confidence = max(r.Confidence, 1-a.p)
 			}
 		}
 		for _, m := range resembling[site] {
@@ -482,12 +534,18 @@ func sites(ws []features.Window) [][]features.Window {
 	return out
 }
 
-// binomialTail is P(X ≥ k) for X binomial with n trials of probability p.
+// binomialTail is P(X ≥ k) for X binomial with n trials of probability p:
+// the regularized incomplete beta function I_p(k, n − k + 1), which keeps
+// its precision in the far tail where 1 − CDF would not (Abramowitz and
+// Stegun, Handbook of Mathematical Functions, 1964, 26.5.24).
 func binomialTail(n, k int, p float64) float64 {
-	if k <= 0 {
+	switch {
+	case k <= 0:
 		return 1
+	case k > n:
+		return 0
 	}
-	return 1 - distuv.Binomial{N: float64(n), P: p}.CDF(float64(k-1))
+	return mathext.RegIncBeta(float64(k), float64(n-k+1), p)
 }
 
 // eventKey groups switches of the same regimes on the same UTC day.

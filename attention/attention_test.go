@@ -153,6 +153,16 @@ func TestBinomialTail(t *testing.T) {
 			t.Errorf("n=%d k=%d p=%g: %g, want %g", c.n, c.k, c.p, got, want)
 		}
 	}
+	// In the far tail, where 1 − the sum loses every digit, against
+	// scipy.stats.binom.sf(k − 1, n, p) (Debian's /usr/bin/python3).
+	for _, c := range []struct {
+		n, k    int
+		p, want float64
+	}{{28, 4, 0.01, 0.0001689790943517606}, {14, 14, 0.01, 1.0000000000000003e-28}, {5, 1, 0.2, 0.67232}} {
+		if got := binomialTail(c.n, c.k, c.p); math.Abs(got-c.want) > 1e-9*c.want {
+			t.Errorf("n=%d k=%d p=%g: %g, want %g", c.n, c.k, c.p, got, c.want)
+		}
+	}
 }
 
 // A fleet-wide event takes the level of a switch into its regime: fault

@@ -5,9 +5,9 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/stat"
-	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/trend"
 )
 
 // Wear moves a site towards another regime by degrees: a bearing warms a
@@ -28,13 +28,28 @@ import (
 // is fitted for every τ with at least two windows on either side by least
 // squares (D. V. Hinkley, "Inference in two-phase regression", Journal of
 // the American Statistical Association 66, 1971). The τ of least residual
-// sum of squares is the onset when its rise β is positive and significant:
-// its one-sided t test, for errors correlated from day to day (see
-// onsetOf) and multiplied by the number of onsets tried (Bonferroni),
-// below onsetLevel. A switch whose windows before it show no such rise,
-// as a step from one day to the next, keeps its onset at its own time.
-// The switch's Time is the decoding's, as before: the onset is what the
-// windows before it add.
+// sum of squares is the onset when two things hold:
+//
+//   - its rise β is positive and significant: its one-sided t test, for
+//     errors correlated from day to day (trend.Rise) and multiplied by
+//     the number of onsets tried (Bonferroni), below onsetLevel;
+//   - the rise is the better account of the windows by the Bayesian
+//     information criterion, n·ln(RSS/n) + k·ln n for Gaussian errors
+//     (G. Schwarz, "Estimating the dimension of a model", The Annals of
+//     Statistics 6(2), 1978), than each plain step: no change before the
+//     switch (a constant; k = 2 with the variance), whose step is the
+//     switch itself, and a step at its own best time τ′ before it,
+//     z_i = μ + δ·[i ≥ τ′] (k = 4, as the rise: μ, β, τ and the
+//     variance; a change point counts as a parameter, as in Y.-C. Yao,
+//     "Estimating the number of change-points via Schwarz' criterion",
+//     Statistics & Probability Letters 6(3), 1988).
+//
+// The second condition is what keeps a step that the decoding dated a few
+// windows late from reading as wear: the last windows before the switch
+// then sit at the new level, and a rise through them passes the t test
+// although a step fits them better. A switch whose windows before it show
+// no such rise keeps its onset at its own time. The switch's Time is the
+// decoding's, as before: the onset is what the windows before it add.
 
 // onsetLevel is the significance level of the rise, after the Bonferroni
 // correction: 1 %, a conventional level (common practice, no source).
@@ -82,48 +97,42 @@ func onsetOf(z []float64) int {
 	// and two in it.
 	tried := n - 3
 	for tau := 2; tau <= n-2; tau++ {
-		if _, _, rss, _ := hinge(z, tau); rss < bestRSS {
+		if _, _, rss := hinge(z, tau); rss < bestRSS {
 			best, bestRSS = tau, rss
 		}
 	}
-	beta, mu, rss, sxx := hinge(z, best)
-	if !(beta > 0) {
+	h := make([]float64, n)
+	for i := range h {
+		h[i] = math.Max(0, float64(i-best+1))
+	}
+	// Days next to each other share weather and load, so the rise's t test
+	// takes the residuals as AR(1) errors (trend.Rise).
+	if _, beta, p := trend.Rise(h, z); !(beta > 0) || p*float64(tried) >= onsetLevel {
 		return n
 	}
-	// Days next to each other share weather and load, so the residuals
-	// are correlated; the standard error and the degrees of freedom are
-	// those of AR(1) errors with the residuals' lag-1 correlation ρ > 0:
-	// variance × (1+ρ)/(1−ρ), n(1−ρ)/(1+ρ) effective windows (G. V.
-	// Bayley and J. M. Hammersley, "The effective number of independent
-	// observations in an autocorrelated time series", Supplement to the
-	// Journal of the Royal Statistical Society 8(2), 1946).
-	var num, den float64
-	prev := math.NaN()
-	for i, v := range z {
-		r := v - mu - beta*math.Max(0, float64(i-best+1))
-		if i > 0 {
-			num += r * prev
-		}
-		den += r * r
-		prev = r
+	// The rise against the plain steps, by BIC (see above).
+	flat := stat.Variance(z, nil) * float64(n-1)
+	steps := math.Inf(1)
+	for tau := 2; tau <= n-2; tau++ {
+		steps = min(steps, stepRSS(z, tau))
 	}
-	inflate := 1.0
-	if den > 0 && num > 0 {
-		rho := min(num/den, 0.99)
-		inflate = (1 + rho) / (1 - rho)
-	}
-	df := float64(n)/inflate - 2
-	if df < 1 {
-		return n
-	}
-	p := 0.0 // a rise without residuals
-	if se := math.Sqrt(inflate * rss / float64(n-2) / sxx); se > 0 {
-		p = distuv.StudentsT{Mu: 0, Sigma: 1, Nu: df}.Survival(beta / se)
-	}
-	if p*float64(tried) >= onsetLevel {
+	if rise := bic(bestRSS, n, 4); rise >= bic(flat, n, 2) || rise >= bic(steps, n, 4) {
 		return n
 	}
 	return best
+}
+
+// bic is the Bayesian information criterion of a least-squares fit with
+// Gaussian errors: residual sum of squares rss over n values, k
+// parameters counting the variance.
+func bic(rss float64, n, k int) float64 {
+	return float64(n)*math.Log(rss/float64(n)) + float64(k)*math.Log(float64(n))
+}
+
+// stepRSS is the residual sum of squares of z_i = mu + delta·[i ≥ tau]
+// fitted by least squares: each side about its own mean.
+func stepRSS(z []float64, tau int) float64 {
+	return stat.Variance(z[:tau], nil)*float64(tau-1) + stat.Variance(z[tau:], nil)*float64(len(z)-tau-1)
 }
 
 // hingeMean is the mean of max(0, i − tau + 1) over i in [0, n).
@@ -133,13 +142,12 @@ func hingeMean(n, tau int) float64 {
 }
 
 // hinge fits z_i = mu + beta·max(0, i − tau + 1) by least squares and
-// returns beta, mu, the residual sum of squares and the sum of squares of
-// the centred regressor.
-func hinge(z []float64, tau int) (beta, mu, rss, sxx float64) {
+// returns beta, mu and the residual sum of squares.
+func hinge(z []float64, tau int) (beta, mu, rss float64) {
 	n := len(z)
 	hbar := hingeMean(n, tau)
 	zbar := stat.Mean(z, nil)
-	var sxy float64
+	var sxy, sxx float64
 	for i, v := range z {
 		h := math.Max(0, float64(i-tau+1)) - hbar
 		sxy += h * (v - zbar)
@@ -151,5 +159,5 @@ func hinge(z []float64, tau int) (beta, mu, rss, sxx float64) {
 		r := v - mu - beta*math.Max(0, float64(i-tau+1))
 		rss += r * r
 	}
-	return beta, mu, rss, sxx
+	return beta, mu, rss
 }

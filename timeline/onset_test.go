@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat"
 )
 
 // A site wears from day 10: its windows move from regime 1's centroid
@@ -65,7 +66,7 @@ func TestHingeLeastSquares(t *testing.T) {
 		z[i] = 0.2*math.Max(0, float64(i-6)) + 0.1*rng.NormFloat64()
 	}
 	for _, tau := range []int{2, 5, 7, 10} {
-		beta, mu, rss, _ := hinge(z, tau)
+		beta, mu, rss := hinge(z, tau)
 		x := mat.NewDense(len(z), 2, nil)
 		for i := range z {
 			x.Set(i, 0, 1)
@@ -84,5 +85,67 @@ func TestHingeLeastSquares(t *testing.T) {
 		if math.Abs(mu-coef.AtVec(0)) > 1e-9 || math.Abs(beta-coef.AtVec(1)) > 1e-9 || math.Abs(rss-want) > 1e-9 {
 			t.Errorf("tau %d: mu %g beta %g rss %g, want %g %g %g", tau, mu, beta, rss, coef.AtVec(0), coef.AtVec(1), want)
 		}
+	}
+}
+
+// A step that the decoding dated four windows late is no drift: the
+// windows before the switch end at the new level, a rise through them
+// passes the t test, but a step fits them better by BIC, and no onset is
+// reported. A ramp from window 6 is a drift, dated within a window. The
+// premises are checked against least-squares fits of each model by
+// gonum's stat.LinearRegression, independent of hinge and stepRSS.
+func TestOnsetStepOrRamp(t *testing.T) {
+	tests := []struct {
+		name  string
+		at    func(i int) float64 // the way to the new regime at window i
+		n     int
+		onset int // -1: none
+	}{
+		{"a step at window 8", func(i int) float64 { return 0.4 * float64(btoi(i >= 8)) }, 12, -1},
+		{"a ramp from window 6", func(i int) float64 { return 0.05 * math.Max(0, float64(i-5)) }, 14, 6},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(5, 6))
+			z := make([]float64, tc.n)
+			for i := range z {
+				z[i] = tc.at(i) + 0.03*rng.NormFloat64()
+			}
+			// The best fit of each model over the onsets onsetOf tries.
+			ls := func(x []float64) float64 {
+				a, b := stat.LinearRegression(x, z, nil, false)
+				var rss float64
+				for i, v := range z {
+					rss += (v - a - b*x[i]) * (v - a - b*x[i])
+				}
+				return rss
+			}
+			ramp, step := math.Inf(1), math.Inf(1)
+			for tau := 2; tau <= tc.n-2; tau++ {
+				h, s := make([]float64, tc.n), make([]float64, tc.n)
+				for i := range z {
+					h[i] = math.Max(0, float64(i-tau+1))
+					s[i] = float64(btoi(i >= tau))
+				}
+				ramp, step = min(ramp, ls(h)), min(step, ls(s))
+			}
+			flat := stat.Variance(z, nil) * float64(tc.n-1)
+			// BIC = n·ln(RSS/n) + k·ln n (Schwarz 1978); k counts the
+			// variance: 2 for the constant, 4 for the ramp and the step.
+			b := func(rss float64, k int) float64 {
+				return float64(tc.n)*math.Log(rss/float64(tc.n)) + float64(k)*math.Log(float64(tc.n))
+			}
+			rampWins := b(ramp, 4) < b(step, 4) && b(ramp, 4) < b(flat, 2)
+			if rampWins != (tc.onset >= 0) {
+				t.Fatalf("test premise: BIC ramp %.1f, step %.1f, constant %.1f", b(ramp, 4), b(step, 4), b(flat, 2))
+			}
+			got := onsetOf(z)
+			switch {
+			case tc.onset < 0 && got != tc.n:
+				t.Errorf("onset at window %d of %d, want none", got, tc.n)
+			case tc.onset >= 0 && math.Abs(float64(got-tc.onset)) > 1:
+				t.Errorf("onset at window %d of %d, want %d, give or take a window", got, tc.n, tc.onset)
+			}
+		})
 	}
 }

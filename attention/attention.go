@@ -563,15 +563,13 @@ func fleetEvents(in Input, cfg Config, label func(int) string) ([]Row, map[strin
 	}
 	var rows []Row
 	held := map[string]bool{}
-	// Shared conditions first: a switch of one of their sites into the
-	// regime they looked like, while they lasted, is part of them.
+	// Shared conditions first: the switches they hold are part of them.
 	for _, sh := range in.Shared {
 		if len(sh.Sites) == 0 {
 			continue
 		}
 		for _, s := range in.Switches {
-			if s.From == sh.Regime && s.To == sh.Like && !s.Time.Before(sh.Start) && (sh.End.IsZero() || s.Time.Before(sh.End)) &&
-				slices.Contains(sh.Sites, s.Site) {
+			if sh.Holds(s) {
 				held[eventKey(s)+"|"+s.Site] = true
 			}
 		}

@@ -64,6 +64,7 @@ func healthOf(res *Result, names []string) []export.Finding {
 		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(t.Windows)), Warning: true,
 			Detail: "missing from the whole dump; its features are missing and each window was placed by the others"})
 	}
+	out = append(out, unreadFindings(sum)...)
 	absent := absentChannels(t, names)
 	for _, site := range slices.Sorted(maps.Keys(absent)) {
 		for _, ch := range absent[site] {
@@ -95,6 +96,28 @@ func healthOf(res *Result, names []string) []export.Finding {
 	}
 	if u := sum.EpochUnit; u != nil {
 		out = append(out, export.Finding{Kind: export.HealthEpochUnit, Warning: true, Detail: u.Error()})
+	}
+	return out
+}
+
+// unreadFindings lists the channels of the dump that the run did not read
+// (ingest.Summary.Unselected), with their readings as a share of the rows
+// read. Beside a channel of the model missing from the dump, each is a
+// warning: a renamed channel looks like that, and its readings would
+// otherwise vanish without a word.
+func unreadFindings(sum *ingest.Summary) []export.Finding {
+	var out []export.Finding
+	for _, ch := range slices.Sorted(maps.Keys(sum.Unselected)) {
+		n := sum.Unselected[ch]
+		f := export.Finding{Kind: export.HealthUnselected, Channel: ch, Count: n, Warning: len(sum.Absent) > 0,
+			Detail: "in the dump but not among the channels read (the model's, or those chosen); its readings were not used"}
+		if sum.Rows > 0 {
+			f.Share = float64(n) / float64(sum.Rows)
+		}
+		if f.Warning {
+			f.Detail += "; the model's " + strings.Join(sum.Absent, ", ") + " missing from the dump: if this is one of them renamed, rename it back in the dump"
+		}
+		out = append(out, f)
 	}
 	return out
 }

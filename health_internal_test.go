@@ -93,3 +93,35 @@ func TestHealthOf(t *testing.T) {
 		t.Errorf("detail of c: %q", d)
 	}
 }
+
+// A channel of the dump that the run does not read is named with its
+// readings, so that rows read = readings kept + duplicates + dropped +
+// unread. It is a warning when a channel of the model is missing from the
+// same dump: the sign of a channel renamed since the model was trained.
+func TestHealthUnselected(t *testing.T) {
+	for _, c := range []struct {
+		name   string
+		absent []string
+		warn   bool
+	}{
+		{"renamed", []string{"flow"}, true},
+		{"extra", nil, false},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			res := &Result{
+				Ingest: ingest.Summary{Rows: 400, Readings: 300, Absent: c.absent, Unselected: map[string]int64{"flow_rate": 100},
+					SiteReadings: map[string]int64{"a": 300}},
+				Table: &features.Table{Names: []string{"flow.mean", "vibration.mean"}, Windows: []features.Window{{Site: "a", Values: []float64{1, 2}}}},
+			}
+			var got []export.Finding
+			for _, f := range healthOf(res, res.Table.Names) {
+				if f.Kind == export.HealthUnselected {
+					got = append(got, f)
+				}
+			}
+			if len(got) != 1 || got[0].Channel != "flow_rate" || got[0].Count != 100 || got[0].Share != 0.25 || got[0].Warning != c.warn {
+				t.Fatalf("findings %+v, want one of flow_rate, 100 readings, share 0.25, warning %v", got, c.warn)
+			}
+		})
+	}
+}

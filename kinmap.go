@@ -176,6 +176,7 @@ type Counts struct {
 	Readings       int64 `json:"readings"`
 	Dropped        int64 `json:"readings_dropped"`
 	Duplicates     int64 `json:"duplicates"`
+	Unread         int64 `json:"readings_unread"` // of channels not read (ingest.Summary.Unselected)
 	Sites          int   `json:"sites"`
 	Channels       int   `json:"channels"`
 	Windows        int   `json:"windows"`

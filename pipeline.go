@@ -156,7 +156,7 @@ func project(o *Options, res *Result, m *model.Model, sw *stopwatch, partial boo
 		return err
 	}
 	if n := maskAbsent(res.Table, res.X, m.Scaler.Names, absent); len(res.Ingest.Absent) > 0 {
-		res.Info.Warnings = append(res.Info.Warnings, absentWarning(res.Ingest.Absent, n))
+		res.Info.Warnings = append(res.Info.Warnings, absentWarning(res.Ingest.Absent, n, res.Ingest.Unselected))
 	}
 	sw.lap("features")
 	return nil
@@ -373,6 +373,10 @@ func finish(res *Result, sw *stopwatch) {
 	for _, n := range res.Ingest.Dropped {
 		dropped += n
 	}
+	var unread int64
+	for _, n := range res.Ingest.Unselected {
+		unread += n
+	}
 	unfamiliar := 0
 	for _, w := range res.Table.Windows {
 		if w.Unfamiliar {
@@ -384,6 +388,7 @@ func finish(res *Result, sw *stopwatch) {
 		Readings:       res.Ingest.Readings,
 		Dropped:        dropped,
 		Duplicates:     res.Ingest.Duplicates,
+		Unread:         unread,
 		Sites:          res.Ingest.Sites,
 		Channels:       len(res.Ingest.Channels),
 		Windows:        len(res.Table.Windows),

@@ -5,6 +5,7 @@ const (
 	HealthSilent         = "silent"          // a site of the register or the history sent no data
 	HealthNoWindows      = "no_windows"      // every window of the site was skipped
 	HealthMissingChannel = "missing_channel" // a channel the model or the fleet uses is absent at the site
+	HealthUnselected     = "unread_channel"  // a channel of the dump that the run does not read
 	HealthDuplicates     = "duplicates"      // readings of the site resolved as duplicates
 	HealthDropped        = "dropped"         // rows or readings of the site (or of no site) dropped, one reason a finding
 	HealthUnused         = "unused"          // readings of the site in no window used
@@ -14,7 +15,7 @@ const (
 
 // healthKinds lists the kinds of finding in the report's order.
 func healthKinds() []string {
-	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthDuplicates, HealthDropped,
+	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthUnselected, HealthDuplicates, HealthDropped,
 		HealthUnused, HealthWindowStep, HealthEpochUnit}
 }
 

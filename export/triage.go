@@ -78,6 +78,7 @@ var healthTitles = map[string]string{
 	HealthSilent:         "Sites that sent no data",
 	HealthNoWindows:      "Sites whose every window was skipped",
 	HealthMissingChannel: "Channels missing",
+	HealthUnselected:     "Channels not read",
 	HealthDuplicates:     "Readings resolved as duplicates",
 	HealthDropped:        "Rows and readings dropped",
 	HealthUnused:         "Readings in no window used",

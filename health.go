@@ -1,6 +1,7 @@
 package kinmap
 
 import (
+	"cmp"
 	"fmt"
 	"maps"
 	"slices"
@@ -280,6 +281,50 @@ func silentIn(h *history.History, t *features.Table, have []export.Finding) []ex
 			continue
 		}
 		out = append(out, export.Finding{Kind: export.HealthSilent, Site: site, Warning: true, Detail: d})
+	}
+	return out
+}
+
+// historySpan places the run's windows against the history's, over the
+// whole fleet: a span without any window between the history's last
+// window and the dump's first (a dump not delivered, or a window cut in
+// two by where two dumps end and begin, neither part passing the coverage
+// rule), and windows the history already holds after the dump, which
+// were decoded without it and keep their regimes. It also names a span
+// without windows between the dump's end and those later windows.
+func historySpan(h *history.History, t *features.Table) []export.Finding {
+	if len(t.Windows) == 0 || len(h.Windows) == 0 {
+		return nil
+	}
+	first, last := features.Span(t.Windows)
+	step := cmp.Or(t.Config.Stride, t.Config.Window)
+	var before, after time.Time
+	later := 0
+	for _, w := range h.Windows {
+		if !w.End.After(first) && w.End.After(before) {
+			before = w.End
+		}
+		if !w.Start.Before(last) {
+			later++
+			if after.IsZero() || w.Start.Before(after) {
+				after = w.Start
+			}
+		}
+	}
+	var out []export.Finding
+	gap := func(from, to time.Time, where string) {
+		if n := int64(to.Sub(from) / step); n > 0 && !from.IsZero() {
+			out = append(out, export.Finding{Kind: export.HealthGap, Count: n, Warning: true,
+				Detail: fmt.Sprintf("no site has a window from %s to %s, %s (room for %d): a dump of that span was not delivered, or a window was cut in two where two dumps end and begin and neither part passed the coverage rule; decoding continues across it as if nothing were missing",
+					from.UTC().Format(time.RFC3339), to.UTC().Format(time.RFC3339), where, n)})
+		}
+	}
+	gap(before, first, "between the history and this dump")
+	if later > 0 {
+		out = append(out, export.Finding{Kind: export.HealthLate, Count: int64(later),
+			Detail: fmt.Sprintf("the history already holds %d windows from %s on, after this dump: they were decoded without it and keep their regimes",
+				later, after.UTC().Format(time.RFC3339))})
+		gap(last, after, "between this dump and the history's later windows")
 	}
 	return out
 }

@@ -1,12 +1,15 @@
 package kinmap
 
 import (
+	"maps"
 	"math"
+	"slices"
 	"testing"
 	"time"
 
 	"github.com/kinmap/kinmap/export"
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/history"
 	"github.com/kinmap/kinmap/ingest"
 )
 
@@ -121,6 +124,53 @@ func TestHealthUnselected(t *testing.T) {
 			}
 			if len(got) != 1 || got[0].Channel != "flow_rate" || got[0].Count != 100 || got[0].Share != 0.25 || got[0].Warning != c.warn {
 				t.Fatalf("findings %+v, want one of flow_rate, 100 readings, share 0.25, warning %v", got, c.warn)
+			}
+		})
+	}
+}
+
+// The data health says when the history holds no window in the span just
+// before the dump (a week not delivered: decoding continues across it as
+// if nothing were missing), and when it already holds windows after the
+// dump (a week delivered late: the windows after it were decoded without
+// it). A dump that overlaps the history, or follows it at once, is news
+// to neither.
+func TestHistorySpan(t *testing.T) {
+	day := 24 * time.Hour
+	t0 := time.Date(2026, 6, 1, 0, 0, 0, 0, time.UTC)
+	week := func(site string, from int) []features.Window {
+		var ws []features.Window
+		for d := from; d < from+7; d++ {
+			ws = append(ws, features.Window{Site: site, Start: t0.Add(time.Duration(d) * day), End: t0.Add(time.Duration(d+1) * day)})
+		}
+		return ws
+	}
+	past := func(ws []features.Window) *history.History { return &history.History{Windows: history.Windows(ws)} }
+	for _, c := range []struct {
+		name  string
+		h     []features.Window
+		run   int // first day of the dump
+		kinds map[string]int64
+	}{
+		{"next week", week("a", 0), 7, nil},
+		{"overlapping by a day", week("a", 0), 6, nil},
+		{"again", week("a", 0), 0, nil},
+		{"a week skipped", week("a", 0), 14, map[string]int64{export.HealthGap: 7}},
+		{"a day lost between two dumps", week("a", 0), 8, map[string]int64{export.HealthGap: 1}},
+		{"late", slices.Concat(week("a", 0), week("b", 14)), 7, map[string]int64{export.HealthLate: 7}},
+		{"late, a gap after", slices.Concat(week("a", 0), week("a", 21)), 7, map[string]int64{export.HealthLate: 7, export.HealthGap: 7}},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			tb := &features.Table{Config: features.Config{Window: day}, Windows: week("a", c.run)}
+			got := map[string]int64{}
+			for _, f := range historySpan(past(c.h), tb) {
+				got[f.Kind] = f.Count
+				if f.Detail == "" {
+					t.Errorf("%s without a detail", f.Kind)
+				}
+			}
+			if !maps.Equal(got, c.kinds) {
+				t.Errorf("findings %v, want %v", got, c.kinds)
 			}
 		})
 	}

@@ -298,6 +298,7 @@ func decode(o *Options, res *Result) error {
 		}
 		res.past = pastOf(h, res.Model.Lineage)
 		res.health = append(res.health, silentIn(h, res.Table, res.health)...)
+		res.health = append(res.health, historySpan(h, res.Table)...)
 		c = h.Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 		res.history = h
 		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)

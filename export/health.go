@@ -11,12 +11,14 @@ const (
 	HealthUnused         = "unused"          // readings of the site in no window used
 	HealthWindowStep     = "window_step"     // the window is short or long for the sampling step
 	HealthEpochUnit      = "epoch_unit"      // integer times look like another epoch unit
+	HealthGap            = "history_gap"     // the history holds no window in a span next to the dump
+	HealthLate           = "late"            // the history already holds windows after the dump
 )
 
 // healthKinds lists the kinds of finding in the report's order.
 func healthKinds() []string {
 	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthUnselected, HealthDuplicates, HealthDropped,
-		HealthUnused, HealthWindowStep, HealthEpochUnit}
+		HealthUnused, HealthWindowStep, HealthEpochUnit, HealthGap, HealthLate}
 }
 
 // Finding is one line of the data health of a run: a site (or the whole

@@ -84,6 +84,8 @@ var healthTitles = map[string]string{
 	HealthUnused:         "Readings in no window used",
 	HealthWindowStep:     "Windows and the sampling step",
 	HealthEpochUnit:      "Epoch unit of the times",
+	HealthGap:            "Spans the history lacks",
+	HealthLate:           "A dump delivered late",
 }
 
 // triageOf builds the sections' data of r.

@@ -3,7 +3,10 @@ package kinmap
 import (
 	"maps"
 	"math"
+	"os"
+	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 	"time"
 
@@ -173,5 +176,35 @@ func TestHistorySpan(t *testing.T) {
 				t.Errorf("findings %v, want %v", got, c.kinds)
 			}
 		})
+	}
+}
+
+// Times without a zone are read as UTC. A dump written in local time
+// without its offset then shifts every window by the zone's offset, so
+// run.json and the report must say so, not only the progress lines on a
+// terminal: a weekly job run without one would never see them.
+func TestNaiveTimeWarning(t *testing.T) {
+	for _, c := range []struct {
+		time string
+		want bool
+	}{
+		{"2026-06-01T00:00:00", true},
+		{"2026-06-01T00:00:00Z", false},
+		{"2026-06-01T02:00:00+02:00", false},
+	} {
+		path := filepath.Join(t.TempDir(), "dump.csv")
+		if err := os.WriteFile(path, []byte("site,time,channel,value\na,"+c.time+",flow,1\n"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		o := DefaultOptions()
+		o.Data = []string{path}
+		res := &Result{}
+		if _, err := readInput(&o, res); err != nil {
+			t.Fatal(err)
+		}
+		got := slices.ContainsFunc(res.Info.Warnings, func(w string) bool { return strings.Contains(w, "no time zone") })
+		if got != c.want {
+			t.Errorf("%s: warned %v, want %v: %q", c.time, got, c.want, res.Info.Warnings)
+		}
 	}
 }

@@ -208,3 +208,32 @@ func TestNaiveTimeWarning(t *testing.T) {
 		}
 	}
 }
+
+// A window that the dump cuts (it starts before the dump's first reading
+// or ends after its last, by more than a sampling step) holds only part of
+// its span: it does not replace the stored window of the same site and
+// start, which an earlier dump may hold whole, and it is written where the
+// history holds none. Windows the dump holds whole replace as before.
+func TestCutWindows(t *testing.T) {
+	day, step := 24*time.Hour, 10*time.Minute
+	t0 := time.Date(2026, 6, 7, 0, 0, 0, 0, time.UTC)
+	win := func(site string, d int) history.Window {
+		return history.Window{Site: site, Start: t0.Add(time.Duration(d) * day), End: t0.Add(time.Duration(d+1) * day), Regime: 1}
+	}
+	stored := &history.History{Windows: []history.Window{win("a", 0), win("a", 1)}}
+	// The dump runs from 08:00 of day 0 to 08:00 of day 3 (a reading jittered
+	// 5 s off the grid is not a cut).
+	run := []history.Window{win("a", 0), win("a", 1), win("a", 2), win("a", 3), win("b", 0)}
+	got, n := keepStored(stored, run, t0.Add(8*time.Hour), t0.Add(3*day+8*time.Hour), step)
+	var kept []string
+	for _, w := range got {
+		kept = append(kept, w.Site+" "+w.Start.Format(time.DateOnly))
+	}
+	want := []string{"a 2026-06-08", "a 2026-06-09", "a 2026-06-10", "b 2026-06-07"}
+	if !slices.Equal(kept, want) || n != 1 {
+		t.Errorf("windows written %v (%d kept stored), want %v (1)", kept, n, want)
+	}
+	if got, n := keepStored(stored, run, t0.Add(5*time.Second), t0.Add(4*day-5*time.Second), step); len(got) != len(run) || n != 0 {
+		t.Errorf("a dump holding every window whole: %d of %d written, %d kept stored", len(got), len(run), n)
+	}
+}

@@ -299,6 +299,10 @@ func decode(o *Options, res *Result) error {
 		res.past = pastOf(h, res.Model.Lineage)
 		res.health = append(res.health, silentIn(h, res.Table, res.health)...)
 		res.health = append(res.health, historySpan(h, res.Table)...)
+		if _, n := keepStored(h, history.Windows(res.Table.Windows), res.Ingest.Start, res.Ingest.End, res.Table.Step); n > 0 {
+			res.health = append(res.health, export.Finding{Kind: export.HealthCut, Count: int64(n),
+				Detail: "windows that the dump begins or ends inside, so holds only part of, and that the history holds already: the history keeps its own; this run's tables show the part"})
+		}
 		c = h.Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 		res.history = h
 		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)

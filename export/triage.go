@@ -86,6 +86,7 @@ var healthTitles = map[string]string{
 	HealthEpochUnit:      "Epoch unit of the times",
 	HealthGap:            "Spans the history lacks",
 	HealthLate:           "A dump delivered late",
+	HealthCut:            "Windows the dump holds part of",
 }
 
 // triageOf builds the sections' data of r.

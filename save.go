@@ -97,7 +97,8 @@ func (r *Result) Write(dir string) error { return r.Save(Targets{Out: dir}) }
 
 // AppendHistory adds the run's windows to the history folder dir (Save
 // with only the history folder): each replaces the window of the same site
-// and start wherever the history holds one, every other window stays, and
+// and start wherever the history holds one, but for a window the dump
+// begins or ends inside (keepStored), every other window stays, and
 // the windows of earlier dumps that the run's decoding revised are
 // rewritten with it.
 func (r *Result) AppendHistory(dir string) error { return r.Save(Targets{History: dir}) }

@@ -68,6 +68,10 @@ func Assign(o Options, m *model.Model) (*Result, error) {
 		return nil, err
 	}
 	q := m.Map.Quality(asg)
+	// Its warnings advise on training (the grid, the neighbourhood width),
+	// which assign does not do: a dump of a few sites leaves most of the
+	// model's units without a window, as it should. The figures stay.
+	q.Warnings = []string{}
 	res.quality = &q
 	sw.lap("assign")
 	if err := res.Conclude(o, sw.times); err != nil {

@@ -5,6 +5,7 @@ import (
 	"math"
 	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 	"time"
 
@@ -300,4 +301,35 @@ func alone(fleet *scenarios.Fleet, sw scenarios.Switch, n int) bool {
 		}
 	}
 	return true
+}
+
+// Assigning never trains, so a dump that leaves most of the model's units
+// without a window (one site's week) says so in its quality figures but
+// gives no advice on the grid or the neighbourhood width: the lattice is
+// the model's, and neither is an option of assign.
+func TestAssignGivesNoTrainingAdvice(t *testing.T) {
+	fleet := fleetT(t, 30, 1)
+	dir := t.TempDir()
+	all, one := filepath.Join(dir, "all.csv"), filepath.Join(dir, "one.csv")
+	from, to := fleet.WindowStart(0), fleet.WindowStart(fleet.Windows())
+	writeDump(t, all, fleet, from, to, 0, 0, 1)
+	site := fleet.Sites[0].ID
+	dumptest.WriteCSV(t, one, fleet, dumptest.CSV{From: from, To: to, Keep: func(s, _ string, _ time.Time) bool { return s == site }})
+	trained, err := kinmap.Train(options(all))
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := kinmap.Assign(options(one), trained.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	info := res.Info
+	if info.Quality.Unused <= 0.5 {
+		t.Fatalf("one site's week leaves %.0f%% of the units without a window; the test wants most", 100*info.Quality.Unused)
+	}
+	for _, w := range info.Warnings {
+		if strings.Contains(w, "win no window") {
+			t.Errorf("assign warns: %s", w)
+		}
+	}
 }

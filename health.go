@@ -15,6 +15,16 @@ import (
 	"github.com/kinmap/kinmap/mapper"
 )
 
+// timeWarnings warns of a dump whose times carry no zone. It is called
+// when the run concludes, not where the dump is read, so that the Beam
+// path, which merges the summaries of its dumps, warns the same.
+func timeWarnings(sum *ingest.Summary) []string {
+	if !sum.NaiveTime {
+		return nil
+	}
+	return []string{"some times carry no time zone and were read as UTC: if the dump was written in local time, every window is shifted by the zone's offset; write the times with their offset or in UTC"}
+}
+
 // largeShare is the share of a site's readings resolved as duplicates, or
 // of a dump's rows dropped, above which the data health warns. A logger
 // sends each reading once; a few per cent of repeats come from

@@ -202,7 +202,7 @@ func TestNaiveTimeWarning(t *testing.T) {
 		if _, err := readInput(&o, res); err != nil {
 			t.Fatal(err)
 		}
-		got := slices.ContainsFunc(res.Info.Warnings, func(w string) bool { return strings.Contains(w, "no time zone") })
+		got := slices.ContainsFunc(timeWarnings(&res.Ingest), func(w string) bool { return strings.Contains(w, "no time zone") })
 		if got != c.want {
 			t.Errorf("%s: warned %v, want %v: %q", c.time, got, c.want, res.Info.Warnings)
 		}

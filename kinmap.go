@@ -274,9 +274,6 @@ func readInput(o *Options, res *Result) (*ingest.Dataset, error) {
 	if u := ds.Summary.EpochUnit; u != nil {
 		res.Info.Warnings = append(res.Info.Warnings, u.Error())
 	}
-	if ds.Summary.NaiveTime {
-		res.Info.Warnings = append(res.Info.Warnings, "some times carry no time zone and were read as UTC: if the dump was written in local time, every window is shifted by the zone's offset; write the times with their offset or in UTC")
-	}
 	o.logf("%s", ds.Summary.String())
 	return ds, nil
 }

@@ -268,6 +268,7 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 		sw.times = map[string]float64{}
 	}
 	r.health = healthOf(r, r.Model.Scaler.Names)
+	r.Info.Warnings = append(r.Info.Warnings, timeWarnings(&r.Ingest)...)
 	if err := r.classify(&o); err != nil {
 		return err
 	}

@@ -75,7 +75,6 @@ func healthOf(res *Result, names []string) []export.Finding {
 		out = append(out, export.Finding{Kind: export.HealthMissingChannel, Channel: ch, Count: int64(len(t.Windows)), Warning: true,
 			Detail: "missing from the whole dump; its features are missing and each window was placed by the others"})
 	}
-	out = append(out, unreadFindings(sum)...)
 	absent := absentChannels(t, names)
 	for _, site := range slices.Sorted(maps.Keys(absent)) {
 		for _, ch := range absent[site] {
@@ -86,6 +85,7 @@ func healthOf(res *Result, names []string) []export.Finding {
 				Detail: "no reading of this channel in the site's windows; its features are missing there"})
 		}
 	}
+	out = append(out, unreadFindings(sum, absent)...)
 	for _, site := range slices.Sorted(maps.Keys(sum.SiteDuplicates)) {
 		d := sum.SiteDuplicates[site]
 		share := float64(d) / float64(d+readings[site])
@@ -113,20 +113,30 @@ func healthOf(res *Result, names []string) []export.Finding {
 
 // unreadFindings lists the channels of the dump that the run did not read
 // (ingest.Summary.Unselected), with their readings as a share of the rows
-// read. Beside a channel of the model missing from the dump, each is a
-// warning: a renamed channel looks like that, and its readings would
-// otherwise vanish without a word.
-func unreadFindings(sum *ingest.Summary) []export.Finding {
+// read. Beside a channel of the model missing from the dump, or from some
+// sites (absent, by site), each is a warning: a channel renamed at every
+// site or at some looks like that, and its readings would otherwise vanish
+// without a word.
+func unreadFindings(sum *ingest.Summary, absent map[string][]string) []export.Finding {
+	missing := slices.Clone(sum.Absent)
+	for _, chs := range absent {
+		for _, ch := range chs {
+			if !slices.Contains(missing, ch) {
+				missing = append(missing, ch)
+			}
+		}
+	}
+	slices.Sort(missing)
 	var out []export.Finding
 	for _, ch := range slices.Sorted(maps.Keys(sum.Unselected)) {
 		n := sum.Unselected[ch]
-		f := export.Finding{Kind: export.HealthUnselected, Channel: ch, Count: n, Warning: len(sum.Absent) > 0,
+		f := export.Finding{Kind: export.HealthUnselected, Channel: ch, Count: n, Warning: len(missing) > 0,
 			Detail: "in the dump but not among the channels read (the model's, or those chosen); its readings were not used"}
 		if sum.Rows > 0 {
 			f.Share = float64(n) / float64(sum.Rows)
 		}
 		if f.Warning {
-			f.Detail += "; the model's " + strings.Join(sum.Absent, ", ") + " missing from the dump: if this is one of them renamed, rename it back in the dump"
+			f.Detail += "; the model's " + strings.Join(missing, ", ") + " missing from the dump or from some sites (see missing_channel): if this is one of them renamed, rename it back in the dump"
 		}
 		out = append(out, f)
 	}

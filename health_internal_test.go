@@ -103,21 +103,27 @@ func TestHealthOf(t *testing.T) {
 // A channel of the dump that the run does not read is named with its
 // readings, so that rows read = readings kept + duplicates + dropped +
 // unread. It is a warning when a channel of the model is missing from the
-// same dump: the sign of a channel renamed since the model was trained.
+// same dump, or from a site of it: the sign of a channel renamed since the
+// model was trained.
 func TestHealthUnselected(t *testing.T) {
 	for _, c := range []struct {
 		name   string
 		absent []string
 		warn   bool
+		atSite bool // site a never reported vibration
 	}{
-		{"renamed", []string{"flow"}, true},
-		{"extra", nil, false},
+		{"renamed", []string{"flow"}, true, false},
+		{"renamed at a site", nil, true, true},
+		{"extra", nil, false, false},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			res := &Result{
 				Ingest: ingest.Summary{Rows: 400, Readings: 300, Absent: c.absent, Unselected: map[string]int64{"flow_rate": 100},
 					SiteReadings: map[string]int64{"a": 300}},
 				Table: &features.Table{Names: []string{"flow.mean", "vibration.mean"}, Windows: []features.Window{{Site: "a", Values: []float64{1, 2}}}},
+			}
+			if c.atSite {
+				res.Table.Windows[0].Values[1] = math.NaN()
 			}
 			var got []export.Finding
 			for _, f := range healthOf(res, res.Table.Names) {

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"maps"
 	"slices"
+	"strconv"
 	"strings"
 	"time"
 
@@ -345,6 +346,62 @@ func historySpan(h *history.History, t *features.Table) []export.Finding {
 			Detail: fmt.Sprintf("the history already holds %d windows from %s on, after this dump: they were decoded without it and keep their regimes",
 				later, after.UTC().Format(time.RFC3339))})
 		gap(last, after, "between this dump and the history's later windows")
+	}
+	return out
+}
+
+// revisedFindings names, by site, the windows of earlier dumps whose
+// regime the run's decoding changed: tail holds them as decoded again
+// (history.Continuation.Prepend, then the decoding), h as stored. The
+// history is rewritten with the new regimes (Continuation.Settle), while
+// the earlier run's own tables keep the old.
+func revisedFindings(h *history.History, tail []features.Window) []export.Finding {
+	type key struct {
+		site  string
+		start int64
+	}
+	sites := map[string]bool{}
+	for _, w := range tail {
+		sites[w.Site] = true
+	}
+	stored := map[key]int{}
+	for _, w := range h.Windows {
+		if sites[w.Site] {
+			stored[key{w.Site, w.Start.UnixMicro()}] = w.Regime
+		}
+	}
+	var out []export.Finding
+	for i := 0; i < len(tail); {
+		j, n := i, 0
+		var first, last time.Time
+		var from, to []string
+		for ; j < len(tail) && tail[j].Site == tail[i].Site; j++ {
+			w := &tail[j]
+			old, ok := stored[key{w.Site, w.Start.UnixMicro()}]
+			if !ok || old == w.Regime {
+				continue
+			}
+			if n == 0 {
+				first = w.Start
+			}
+			n, last = n+1, w.Start
+			if s := strconv.Itoa(old); !slices.Contains(from, s) {
+				from = append(from, s)
+			}
+			if s := strconv.Itoa(w.Regime); !slices.Contains(to, s) {
+				to = append(to, s)
+			}
+		}
+		if n > 0 {
+			span := first.UTC().Format(time.DateOnly)
+			if last.After(first) {
+				span += " to " + last.UTC().Format(time.DateOnly)
+			}
+			out = append(out, export.Finding{Kind: export.HealthRevised, Site: tail[i].Site, Count: int64(n),
+				Detail: fmt.Sprintf("windows of earlier dumps starting %s, decoded again with this dump, are now in regime %s, not %s as reported then: the history holds the new regimes, the earlier run's tables the old",
+					span, strings.Join(to, ", "), strings.Join(from, ", "))})
+		}
+		i = j
 	}
 	return out
 }

@@ -243,3 +243,19 @@ func TestCutWindows(t *testing.T) {
 		t.Errorf("a dump holding every window whole: %d of %d written, %d kept stored", len(got), len(run), n)
 	}
 }
+
+// The windows of earlier dumps that a run's decoding changes are rewritten
+// in the history; the data health names them by site, so that a user
+// knows which rows of an earlier run's tables no longer hold.
+func TestRevisedFindings(t *testing.T) {
+	t0 := time.Date(2026, 6, 1, 0, 0, 0, 0, time.UTC)
+	win := func(site string, d, regime int) features.Window {
+		return features.Window{Site: site, Start: t0.AddDate(0, 0, d), End: t0.AddDate(0, 0, d+1), Regime: regime}
+	}
+	h := &history.History{Windows: history.Windows([]features.Window{win("a", 4, 1), win("a", 5, 1), win("a", 6, 1), win("b", 6, 2), win("c", 6, 3)})}
+	tail := []features.Window{win("a", 5, 2), win("a", 6, 2), win("b", 6, 2)} // as decoded again
+	got := revisedFindings(h, tail)
+	if len(got) != 1 || got[0].Kind != export.HealthRevised || got[0].Site != "a" || got[0].Count != 2 || !strings.Contains(got[0].Detail, "2026-06-06") {
+		t.Fatalf("findings %+v, want site a with 2 windows from 2026-06-06", got)
+	}
+}

@@ -119,6 +119,7 @@ type Result struct {
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality  *mapper.Quality
+	revised  int              // windows of the history whose regime the decoding changed
 	past     *past            // the history before the run; nil without one
 	health   []export.Finding // the data health found before decoding
 	workList attention.Config // the thresholds the work list was made with
@@ -186,6 +187,7 @@ type Counts struct {
 	Regimes        int   `json:"regimes"`
 	Switches       int   `json:"switches"`
 	Unfamiliar     int   `json:"unfamiliar_windows"`
+	Revised        int   `json:"history_revised"` // windows of earlier dumps whose regime the run changed in the history
 }
 
 // OptionsRecord is the part of Options that run.json records.

@@ -319,8 +319,12 @@ func decode(o *Options, res *Result) error {
 	if err != nil {
 		return err
 	}
+	if res.history != nil {
+		res.health = append(res.health, revisedFindings(res.history, ws[:c.Tail()])...)
+	}
 	var revised int
 	res.Table.Windows, res.Switches, revised = c.Settle(ws, dec.Switches)
+	res.revised = revised
 	// Conditions that began in the history's windows were reported with
 	// them.
 	res.Shared = nil
@@ -408,6 +412,7 @@ func finish(res *Result, sw *stopwatch) {
 		Regimes:        len(res.Model.Regimes),
 		Switches:       len(res.Switches),
 		Unfamiliar:     unfamiliar,
+		Revised:        res.revised,
 	}
 }
 

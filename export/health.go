@@ -14,12 +14,13 @@ const (
 	HealthGap            = "history_gap"     // the history holds no window in a span next to the dump
 	HealthLate           = "late"            // the history already holds windows after the dump
 	HealthCut            = "cut_window"      // windows the dump holds part of, left to the history's
+	HealthRevised        = "revised"         // windows of earlier dumps whose regime this run changed
 )
 
 // healthKinds lists the kinds of finding in the report's order.
 func healthKinds() []string {
 	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthUnselected, HealthDuplicates, HealthDropped,
-		HealthUnused, HealthWindowStep, HealthEpochUnit, HealthGap, HealthLate, HealthCut}
+		HealthUnused, HealthWindowStep, HealthEpochUnit, HealthGap, HealthLate, HealthCut, HealthRevised}
 }
 
 // Finding is one line of the data health of a run: a site (or the whole

@@ -87,6 +87,7 @@ var healthTitles = map[string]string{
 	HealthGap:            "Spans the history lacks",
 	HealthLate:           "A dump delivered late",
 	HealthCut:            "Windows the dump holds part of",
+	HealthRevised:        "Earlier windows decoded anew",
 }
 
 // triageOf builds the sections' data of r.

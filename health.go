@@ -285,23 +285,33 @@ func silentIn(h *history.History, t *features.Table, have []export.Finding) []ex
 		}
 	}
 	last := map[string]time.Time{}
+	first, end := features.Span(t.Windows)
+	during := map[string]bool{} // the history holds windows of the dump's span
 	for _, w := range h.Windows {
 		if !now[w.Site] && w.End.After(last[w.Site]) {
 			last[w.Site] = w.End
+		}
+		if !now[w.Site] && len(t.Windows) > 0 && w.End.After(first) && w.Start.Before(end) {
+			during[w.Site] = true
 		}
 	}
 	var out []export.Finding
 	for _, site := range slices.Sorted(maps.Keys(last)) {
 		d := "in the history, last window ending " + last[site].UTC().Format(time.RFC3339) + ", no reading in this dump"
+		if during[site] {
+			// Another dump of the same span, such as another region's,
+			// brought its readings: no sign of a silent site.
+			d += ", but the history holds its windows of this dump's span, from another dump"
+		}
 		if listed[site] {
 			for i := range have {
 				if have[i].Kind == export.HealthSilent && have[i].Site == site {
-					have[i].Detail = "in the site register and " + d
+					have[i].Detail, have[i].Warning = "in the site register and "+d, !during[site]
 				}
 			}
 			continue
 		}
-		out = append(out, export.Finding{Kind: export.HealthSilent, Site: site, Warning: true, Detail: d})
+		out = append(out, export.Finding{Kind: export.HealthSilent, Site: site, Warning: !during[site], Detail: d})
 	}
 	return out
 }

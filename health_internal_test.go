@@ -259,3 +259,28 @@ func TestRevisedFindings(t *testing.T) {
 		t.Fatalf("findings %+v, want site a with 2 windows from 2026-06-06", got)
 	}
 }
+
+// A site that sent nothing in this dump but whose windows of the dump's
+// span the history holds, from another dump of the same week (regional
+// dumps run one after the other), is not silent: the finding says where
+// its data is and is no warning. A site whose last window ends before the
+// dump's first is silent, and so is one whose windows the history holds
+// only after the dump (delivered late).
+func TestSilentInRegionalDumps(t *testing.T) {
+	t0 := time.Date(2026, 6, 8, 0, 0, 0, 0, time.UTC)
+	win := func(site string, d int) features.Window {
+		return features.Window{Site: site, Start: t0.AddDate(0, 0, d), End: t0.AddDate(0, 0, d+1)}
+	}
+	h := &history.History{Windows: history.Windows([]features.Window{win("north", -1), win("north", 0), win("north", 6), win("quiet", -1), win("later", 9), win("south", 0)})}
+	tb := &features.Table{Windows: []features.Window{win("south", 0), win("south", 6)}}
+	have := []export.Finding{{Kind: export.HealthSilent, Site: "north", Warning: true, Detail: "in the site register, no reading in this dump"}}
+	got := map[string]bool{}
+	for _, f := range append(have, silentIn(h, tb, have)...) {
+		if f.Kind == export.HealthSilent {
+			got[f.Site] = f.Warning
+		}
+	}
+	if want := map[string]bool{"north": false, "quiet": true, "later": true}; !maps.Equal(got, want) {
+		t.Errorf("silent sites (warning) %v, want %v", got, want)
+	}
+}

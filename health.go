@@ -346,7 +346,7 @@ func historySpan(h *history.History, t *features.Table) []export.Finding {
 	gap := func(from, to time.Time, where string) {
 		if n := int64(to.Sub(from) / step); n > 0 && !from.IsZero() {
 			out = append(out, export.Finding{Kind: export.HealthGap, Count: n, Warning: true,
-				Detail: fmt.Sprintf("no site has a window from %s to %s, %s (room for %d): a dump of that span was not delivered, no site had enough readings in it for the coverage rule, or a window was cut in two where two dumps end and begin and neither part passed that rule; decoding continues across it as if nothing were missing",
+				Detail: fmt.Sprintf("no site has a window from %s to %s, %s (room for %d): a dump of that span was not delivered, no site had enough readings in it for the coverage rule, or a window was cut in two where two dumps end and begin and neither part passed that rule (dumps that overlap by a window lose none); decoding continues across it as if nothing were missing",
 					from.UTC().Format(time.RFC3339), to.UTC().Format(time.RFC3339), where, n)})
 		}
 	}

@@ -333,3 +333,81 @@ func TestAssignGivesNoTrainingAdvice(t *testing.T) {
 		}
 	}
 }
+
+// Weekly dumps cut at 08:00 that repeat the day before keep every day of
+// every site in the history exactly once, each the window a dump held
+// whole: the later dump's part of the repeated day does not replace it,
+// and the day the earlier dump ended inside comes whole from the later.
+func TestDumpsCutInsideWindows(t *testing.T) {
+	fleet := fleetT(t, 12, 2)
+	dir := t.TempDir()
+	day := func(d int) time.Time { return fleet.WindowStart(d) }
+	eight := 8 * time.Hour
+	week1, week2 := filepath.Join(dir, "week1.csv"), filepath.Join(dir, "week2.csv")
+	writeDump(t, week1, fleet, day(0), day(7).Add(eight), 0, 0, 1)
+	writeDump(t, week2, fleet, day(6).Add(eight), day(14), 0, 0, 1)
+	history := filepath.Join(dir, "history")
+	o := options(week1)
+	o.History = history
+	first, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := first.AppendHistory(history); err != nil {
+		t.Fatal(err)
+	}
+	whole := map[string]float64{} // QE of each site's day 6, held whole by week 1
+	for _, w := range first.Table.Windows {
+		if w.Start.Equal(day(6)) {
+			whole[w.Site] = w.QE
+		}
+	}
+	o = options(week2)
+	o.History = history
+	second, err := kinmap.Assign(o, first.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := second.AppendHistory(history); err != nil {
+		t.Fatal(err)
+	}
+	h, err := khistory.Read(history)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Independently of kinmap's windowing: a day of a site is kept when the
+	// site sent a row for the coverage rule's share of its sampling slots,
+	// counted from the generated readings.
+	want := map[string]bool{}
+	slots := float64(fleet.Window / fleet.Step)
+	for _, s := range fleet.Sites {
+		rows := map[int]float64{}
+		for i, t := range s.Readings.Times {
+			if i == 0 || t != s.Readings.Times[i-1] {
+				rows[int((t-day(0).UnixNano())/int64(fleet.Window))]++
+			}
+		}
+		for d := range 14 {
+			if rows[d]/slots >= kinmap.DefaultOptions().Features.MinCoverage {
+				want[s.ID+" "+day(d).Format(time.DateOnly)] = true
+			}
+		}
+	}
+	got := map[string]int{}
+	for _, w := range h.Windows {
+		got[w.Site+" "+w.Start.Format(time.DateOnly)]++
+		if q, ok := whole[w.Site]; ok && w.Start.Equal(day(6)) && w.QE != q {
+			t.Errorf("%s: day 6 has QE %g in the history, the whole window's is %g", w.Site, w.QE, q)
+		}
+	}
+	for k, n := range got {
+		if n != 1 || !want[k] {
+			t.Errorf("%s: %d windows in the history, want one only if the site covered the day", k, n)
+		}
+	}
+	for k := range want {
+		if got[k] == 0 {
+			t.Errorf("%s: no window in the history", k)
+		}
+	}
+}

@@ -1,9 +1,11 @@
 package kinmap
 
 import (
+	"cmp"
 	"fmt"
 	"maps"
 	"slices"
+	"strconv"
 	"strings"
 	"time"
 
@@ -13,6 +15,16 @@ import (
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/mapper"
 )
+
+// timeWarnings warns of a dump whose times carry no zone. It is called
+// when the run concludes, not where the dump is read, so that the Beam
+// path, which merges the summaries of its dumps, warns the same.
+func timeWarnings(sum *ingest.Summary) []string {
+	if !sum.NaiveTime {
+		return nil
+	}
+	return []string{"some times carry no time zone and were read as UTC: if the dump was written in local time, every window is shifted by the zone's offset; write the times with their offset or in UTC"}
+}
 
 // largeShare is the share of a site's readings resolved as duplicates, or
 // of a dump's rows dropped, above which the data health warns. A logger
@@ -74,6 +86,7 @@ func healthOf(res *Result, names []string) []export.Finding {
 				Detail: "no reading of this channel in the site's windows; its features are missing there"})
 		}
 	}
+	out = append(out, unreadFindings(sum, absent)...)
 	for _, site := range slices.Sorted(maps.Keys(sum.SiteDuplicates)) {
 		d := sum.SiteDuplicates[site]
 		share := float64(d) / float64(d+readings[site])
@@ -95,6 +108,38 @@ func healthOf(res *Result, names []string) []export.Finding {
 	}
 	if u := sum.EpochUnit; u != nil {
 		out = append(out, export.Finding{Kind: export.HealthEpochUnit, Warning: true, Detail: u.Error()})
+	}
+	return out
+}
+
+// unreadFindings lists the channels of the dump that the run did not read
+// (ingest.Summary.Unselected), with their readings as a share of the rows
+// read. Beside a channel of the model missing from the dump, or from some
+// sites (absent, by site), each is a warning: a channel renamed at every
+// site or at some looks like that, and its readings would otherwise vanish
+// without a word.
+func unreadFindings(sum *ingest.Summary, absent map[string][]string) []export.Finding {
+	missing := slices.Clone(sum.Absent)
+	for _, chs := range absent {
+		for _, ch := range chs {
+			if !slices.Contains(missing, ch) {
+				missing = append(missing, ch)
+			}
+		}
+	}
+	slices.Sort(missing)
+	var out []export.Finding
+	for _, ch := range slices.Sorted(maps.Keys(sum.Unselected)) {
+		n := sum.Unselected[ch]
+		f := export.Finding{Kind: export.HealthUnselected, Channel: ch, Count: n, Warning: len(missing) > 0,
+			Detail: "in the dump but not among the channels read (the model's, or those chosen); its readings were not used"}
+		if sum.Rows > 0 {
+			f.Share = float64(n) / float64(sum.Rows)
+		}
+		if f.Warning {
+			f.Detail += "; the model's " + strings.Join(missing, ", ") + " missing from the dump or from some sites (see missing_channel): if this is one of them renamed, rename it back in the dump"
+		}
+		out = append(out, f)
 	}
 	return out
 }
@@ -240,23 +285,133 @@ func silentIn(h *history.History, t *features.Table, have []export.Finding) []ex
 		}
 	}
 	last := map[string]time.Time{}
+	first, end := features.Span(t.Windows)
+	during := map[string]bool{} // the history holds windows of the dump's span
 	for _, w := range h.Windows {
 		if !now[w.Site] && w.End.After(last[w.Site]) {
 			last[w.Site] = w.End
+		}
+		if !now[w.Site] && len(t.Windows) > 0 && w.End.After(first) && w.Start.Before(end) {
+			during[w.Site] = true
 		}
 	}
 	var out []export.Finding
 	for _, site := range slices.Sorted(maps.Keys(last)) {
 		d := "in the history, last window ending " + last[site].UTC().Format(time.RFC3339) + ", no reading in this dump"
+		if during[site] {
+			// Another dump of the same span, such as another region's,
+			// brought its readings: no sign of a silent site.
+			d += ", but the history holds its windows of this dump's span, from another dump"
+		}
 		if listed[site] {
 			for i := range have {
 				if have[i].Kind == export.HealthSilent && have[i].Site == site {
-					have[i].Detail = "in the site register and " + d
+					have[i].Detail, have[i].Warning = "in the site register and "+d, !during[site]
 				}
 			}
 			continue
 		}
-		out = append(out, export.Finding{Kind: export.HealthSilent, Site: site, Warning: true, Detail: d})
+		out = append(out, export.Finding{Kind: export.HealthSilent, Site: site, Warning: !during[site], Detail: d})
+	}
+	return out
+}
+
+// historySpan places the run's windows against the history's, over the
+// whole fleet: a span without any window between the history's last
+// window and the dump's first (a dump not delivered, or a window cut in
+// two by where two dumps end and begin, neither part passing the coverage
+// rule), and windows the history already holds after the dump, which
+// were decoded without it and keep their regimes. It also names a span
+// without windows between the dump's end and those later windows.
+func historySpan(h *history.History, t *features.Table) []export.Finding {
+	if len(t.Windows) == 0 || len(h.Windows) == 0 {
+		return nil
+	}
+	first, last := features.Span(t.Windows)
+	step := cmp.Or(t.Config.Stride, t.Config.Window)
+	var before, after time.Time
+	later := 0
+	for _, w := range h.Windows {
+		if !w.End.After(first) && w.End.After(before) {
+			before = w.End
+		}
+		if !w.Start.Before(last) {
+			later++
+			if after.IsZero() || w.Start.Before(after) {
+				after = w.Start
+			}
+		}
+	}
+	var out []export.Finding
+	gap := func(from, to time.Time, where string) {
+		if n := int64(to.Sub(from) / step); n > 0 && !from.IsZero() {
+			out = append(out, export.Finding{Kind: export.HealthGap, Count: n, Warning: true,
+				Detail: fmt.Sprintf("no site has a window from %s to %s, %s (room for %d): a dump of that span was not delivered, no site had enough readings in it for the coverage rule, or a window was cut in two where two dumps end and begin and neither part passed that rule (dumps that overlap by a window lose none); decoding continues across it as if nothing were missing",
+					from.UTC().Format(time.RFC3339), to.UTC().Format(time.RFC3339), where, n)})
+		}
+	}
+	gap(before, first, "between the history and this dump")
+	if later > 0 {
+		out = append(out, export.Finding{Kind: export.HealthLate, Count: int64(later),
+			Detail: fmt.Sprintf("the history already holds %d windows from %s on, after this dump: they were decoded without it and keep their regimes",
+				later, after.UTC().Format(time.RFC3339))})
+		gap(last, after, "between this dump and the history's later windows")
+	}
+	return out
+}
+
+// revisedFindings names, by site, the windows of earlier dumps whose
+// regime the run's decoding changed: tail holds them as decoded again
+// (history.Continuation.Prepend, then the decoding), h as stored. The
+// history is rewritten with the new regimes (Continuation.Settle), while
+// the earlier run's own tables keep the old.
+func revisedFindings(h *history.History, tail []features.Window) []export.Finding {
+	type key struct {
+		site  string
+		start int64
+	}
+	sites := map[string]bool{}
+	for _, w := range tail {
+		sites[w.Site] = true
+	}
+	stored := map[key]int{}
+	for _, w := range h.Windows {
+		if sites[w.Site] {
+			stored[key{w.Site, w.Start.UnixMicro()}] = w.Regime
+		}
+	}
+	var out []export.Finding
+	for i := 0; i < len(tail); {
+		j, n := i, 0
+		var first, last time.Time
+		var from, to []string
+		for ; j < len(tail) && tail[j].Site == tail[i].Site; j++ {
+			w := &tail[j]
+			old, ok := stored[key{w.Site, w.Start.UnixMicro()}]
+			if !ok || old == w.Regime {
+				continue
+			}
+			if n == 0 {
+				first = w.Start
+			}
+			n, last = n+1, w.Start
+			if s := strconv.Itoa(old); !slices.Contains(from, s) {
+				from = append(from, s)
+			}
+			if s := strconv.Itoa(w.Regime); !slices.Contains(to, s) {
+				to = append(to, s)
+			}
+		}
+		if n > 0 {
+			span := first.UTC().Format(time.DateOnly)
+			if last.After(first) {
+				span += " to " + last.UTC().Format(time.DateOnly)
+			}
+			out = append(out, export.Finding{Kind: export.HealthRevised, Site: tail[i].Site, Count: int64(n),
+				Detail: fmt.Sprintf("windows of earlier dumps starting %s, decoded again with this dump, are now in regime %s, not %s as reported then: the history holds the new regimes, the earlier run's tables the old",
+					span, strings.Join(to, ", "), strings.Join(from, ", "))})
+		}
+		i = j
 	}
 	return out
 }

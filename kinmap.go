@@ -119,6 +119,7 @@ type Result struct {
 	// quality is the map's fit to the windows when Model was not built on
 	// them (Assign); nil when Model.Quality measured them already.
 	quality  *mapper.Quality
+	revised  int              // windows of the history whose regime the decoding changed
 	past     *past            // the history before the run; nil without one
 	health   []export.Finding // the data health found before decoding
 	workList attention.Config // the thresholds the work list was made with
@@ -176,6 +177,7 @@ type Counts struct {
 	Readings       int64 `json:"readings"`
 	Dropped        int64 `json:"readings_dropped"`
 	Duplicates     int64 `json:"duplicates"`
+	Unread         int64 `json:"readings_unread"` // of channels not read (ingest.Summary.Unselected)
 	Sites          int   `json:"sites"`
 	Channels       int   `json:"channels"`
 	Windows        int   `json:"windows"`
@@ -185,6 +187,7 @@ type Counts struct {
 	Regimes        int   `json:"regimes"`
 	Switches       int   `json:"switches"`
 	Unfamiliar     int   `json:"unfamiliar_windows"`
+	Revised        int   `json:"history_revised"` // windows of earlier dumps whose regime the run changed in the history
 }
 
 // OptionsRecord is the part of Options that run.json records.

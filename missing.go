@@ -122,7 +122,11 @@ func maskAbsent(t *features.Table, x *mat.Dense, scaled []string, absent map[str
 }
 
 // absentWarning words the channels missing from the dump for run.json.
-func absentWarning(absent []string, windows int) string {
-	return fmt.Sprintf("channels %s of the model are missing from the dump: %d windows were placed on the map by their other features (see the data health)",
+func absentWarning(absent []string, windows int, unread map[string]int64) string {
+	w := fmt.Sprintf("channels %s of the model are missing from the dump: %d windows were placed on the map by their other features (see the data health)",
 		strings.Join(absent, ", "), windows)
+	if len(unread) > 0 {
+		w += "; the dump has channels the model does not know, not read: " + strings.Join(slices.Sorted(maps.Keys(unread)), ", ")
+	}
+	return w
 }

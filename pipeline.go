@@ -68,6 +68,10 @@ func Assign(o Options, m *model.Model) (*Result, error) {
 		return nil, err
 	}
 	q := m.Map.Quality(asg)
+	// Its warnings advise on training (the grid, the neighbourhood width),
+	// which assign does not do: a dump of a few sites leaves most of the
+	// model's units without a window, as it should. The figures stay.
+	q.Warnings = []string{}
 	res.quality = &q
 	sw.lap("assign")
 	if err := res.Conclude(o, sw.times); err != nil {
@@ -156,7 +160,7 @@ func project(o *Options, res *Result, m *model.Model, sw *stopwatch, partial boo
 		return err
 	}
 	if n := maskAbsent(res.Table, res.X, m.Scaler.Names, absent); len(res.Ingest.Absent) > 0 {
-		res.Info.Warnings = append(res.Info.Warnings, absentWarning(res.Ingest.Absent, n))
+		res.Info.Warnings = append(res.Info.Warnings, absentWarning(res.Ingest.Absent, n, res.Ingest.Unselected))
 	}
 	sw.lap("features")
 	return nil
@@ -264,6 +268,7 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 		sw.times = map[string]float64{}
 	}
 	r.health = healthOf(r, r.Model.Scaler.Names)
+	r.Info.Warnings = append(r.Info.Warnings, timeWarnings(&r.Ingest)...)
 	if err := r.classify(&o); err != nil {
 		return err
 	}
@@ -298,6 +303,11 @@ func decode(o *Options, res *Result) error {
 		}
 		res.past = pastOf(h, res.Model.Lineage)
 		res.health = append(res.health, silentIn(h, res.Table, res.health)...)
+		res.health = append(res.health, historySpan(h, res.Table)...)
+		if _, n := keepStored(h, history.Windows(res.Table.Windows), res.Ingest.Start, res.Ingest.End, res.Table.Step); n > 0 {
+			res.health = append(res.health, export.Finding{Kind: export.HealthCut, Count: int64(n),
+				Detail: "windows that the dump begins or ends inside, so holds only part of, and that the history holds already: the history keeps its own; this run's tables show the part"})
+		}
 		c = h.Continue(res.Model, res.Model.Lineage, res.Table.Windows)
 		res.history = h
 		res.Info.Warnings = append(res.Info.Warnings, h.Notes...)
@@ -309,8 +319,12 @@ func decode(o *Options, res *Result) error {
 	if err != nil {
 		return err
 	}
+	if res.history != nil {
+		res.health = append(res.health, revisedFindings(res.history, ws[:c.Tail()])...)
+	}
 	var revised int
 	res.Table.Windows, res.Switches, revised = c.Settle(ws, dec.Switches)
+	res.revised = revised
 	// Conditions that began in the history's windows were reported with
 	// them.
 	res.Shared = nil
@@ -373,6 +387,10 @@ func finish(res *Result, sw *stopwatch) {
 	for _, n := range res.Ingest.Dropped {
 		dropped += n
 	}
+	var unread int64
+	for _, n := range res.Ingest.Unselected {
+		unread += n
+	}
 	unfamiliar := 0
 	for _, w := range res.Table.Windows {
 		if w.Unfamiliar {
@@ -384,6 +402,7 @@ func finish(res *Result, sw *stopwatch) {
 		Readings:       res.Ingest.Readings,
 		Dropped:        dropped,
 		Duplicates:     res.Ingest.Duplicates,
+		Unread:         unread,
 		Sites:          res.Ingest.Sites,
 		Channels:       len(res.Ingest.Channels),
 		Windows:        len(res.Table.Windows),
@@ -393,6 +412,7 @@ func finish(res *Result, sw *stopwatch) {
 		Regimes:        len(res.Model.Regimes),
 		Switches:       len(res.Switches),
 		Unfamiliar:     unfamiliar,
+		Revised:        res.revised,
 	}
 }
 

@@ -97,7 +97,8 @@ func (r *Result) Write(dir string) error { return r.Save(Targets{Out: dir}) }
 
 // AppendHistory adds the run's windows to the history folder dir (Save
 // with only the history folder): each replaces the window of the same site
-// and start wherever the history holds one, every other window stays, and
+// and start wherever the history holds one, but for a window the dump
+// begins or ends inside (keepStored), every other window stays, and
 // the windows of earlier dumps that the run's decoding revised are
 // rewritten with it.
 func (r *Result) AppendHistory(dir string) error { return r.Save(Targets{History: dir}) }
@@ -113,7 +114,46 @@ func (r *Result) stageHistory(tx *atomicfile.Tx, dir string) error {
 		}
 		r.Info.Warnings = appendNew(r.Info.Warnings, h.Notes...)
 	}
-	return h.Stage(tx, r.Model.LineageOrDerived(), history.Windows(r.Table.Windows))
+	run, _ := keepStored(h, history.Windows(r.Table.Windows), r.Ingest.Start, r.Ingest.End, r.Table.Step)
+	return h.Stage(tx, r.Model.LineageOrDerived(), run)
+}
+
+// keepStored returns the windows of run to write into the history h, less
+// those that the dump, which read from first to last, cuts (a window that
+// starts before its first reading or ends after its last, by more than a
+// sampling step) and whose site and start h holds already, and how many it
+// left out. Such a window holds only part of its span: an overlapping
+// dump cut at 08:00 would otherwise replace the day an earlier dump held
+// whole with its last 16 hours.
+func keepStored(h *history.History, run []history.Window, first, last time.Time, step time.Duration) ([]history.Window, int) {
+	type key struct {
+		site  string
+		start int64
+	}
+	cut := map[key]bool{}
+	if first.IsZero() || last.IsZero() {
+		return run, 0 // a dump's span unknown
+	}
+	for _, w := range run {
+		if first.Sub(w.Start) > step || w.End.Sub(last) > step {
+			cut[key{w.Site, w.Start.UnixMicro()}] = false
+		}
+	}
+	if len(cut) == 0 {
+		return run, 0
+	}
+	for _, w := range h.Windows {
+		if _, ok := cut[key{w.Site, w.Start.UnixMicro()}]; ok {
+			cut[key{w.Site, w.Start.UnixMicro()}] = true
+		}
+	}
+	out := make([]history.Window, 0, len(run))
+	for _, w := range run {
+		if !cut[key{w.Site, w.Start.UnixMicro()}] {
+			out = append(out, w)
+		}
+	}
+	return out, len(run) - len(out)
 }
 
 // stageOutputs adds the output folder dir to tx, its warnings worded by

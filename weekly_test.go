@@ -5,6 +5,7 @@ import (
 	"math"
 	"path/filepath"
 	"slices"
+	"strings"
 	"testing"
 	"time"
 
@@ -300,4 +301,113 @@ func alone(fleet *scenarios.Fleet, sw scenarios.Switch, n int) bool {
 		}
 	}
 	return true
+}
+
+// Assigning never trains, so a dump that leaves most of the model's units
+// without a window (one site's week) says so in its quality figures but
+// gives no advice on the grid or the neighbourhood width: the lattice is
+// the model's, and neither is an option of assign.
+func TestAssignGivesNoTrainingAdvice(t *testing.T) {
+	fleet := fleetT(t, 30, 1)
+	dir := t.TempDir()
+	all, one := filepath.Join(dir, "all.csv"), filepath.Join(dir, "one.csv")
+	from, to := fleet.WindowStart(0), fleet.WindowStart(fleet.Windows())
+	writeDump(t, all, fleet, from, to, 0, 0, 1)
+	site := fleet.Sites[0].ID
+	dumptest.WriteCSV(t, one, fleet, dumptest.CSV{From: from, To: to, Keep: func(s, _ string, _ time.Time) bool { return s == site }})
+	trained, err := kinmap.Train(options(all))
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := kinmap.Assign(options(one), trained.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	info := res.Info
+	if info.Quality.Unused <= 0.5 {
+		t.Fatalf("one site's week leaves %.0f%% of the units without a window; the test wants most", 100*info.Quality.Unused)
+	}
+	for _, w := range info.Warnings {
+		if strings.Contains(w, "win no window") {
+			t.Errorf("assign warns: %s", w)
+		}
+	}
+}
+
+// Weekly dumps cut at 08:00 that repeat the day before keep every day of
+// every site in the history exactly once, each the window a dump held
+// whole: the later dump's part of the repeated day does not replace it,
+// and the day the earlier dump ended inside comes whole from the later.
+func TestDumpsCutInsideWindows(t *testing.T) {
+	fleet := fleetT(t, 12, 2)
+	dir := t.TempDir()
+	day := func(d int) time.Time { return fleet.WindowStart(d) }
+	eight := 8 * time.Hour
+	week1, week2 := filepath.Join(dir, "week1.csv"), filepath.Join(dir, "week2.csv")
+	writeDump(t, week1, fleet, day(0), day(7).Add(eight), 0, 0, 1)
+	writeDump(t, week2, fleet, day(6).Add(eight), day(14), 0, 0, 1)
+	history := filepath.Join(dir, "history")
+	o := options(week1)
+	o.History = history
+	first, err := kinmap.Train(o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := first.AppendHistory(history); err != nil {
+		t.Fatal(err)
+	}
+	whole := map[string]float64{} // QE of each site's day 6, held whole by week 1
+	for _, w := range first.Table.Windows {
+		if w.Start.Equal(day(6)) {
+			whole[w.Site] = w.QE
+		}
+	}
+	o = options(week2)
+	o.History = history
+	second, err := kinmap.Assign(o, first.Model)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := second.AppendHistory(history); err != nil {
+		t.Fatal(err)
+	}
+	h, err := khistory.Read(history)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Independently of kinmap's windowing: a day of a site is kept when the
+	// site sent a row for the coverage rule's share of its sampling slots,
+	// counted from the generated readings.
+	want := map[string]bool{}
+	slots := float64(fleet.Window / fleet.Step)
+	for _, s := range fleet.Sites {
+		rows := map[int]float64{}
+		for i, t := range s.Readings.Times {
+			if i == 0 || t != s.Readings.Times[i-1] {
+				rows[int((t-day(0).UnixNano())/int64(fleet.Window))]++
+			}
+		}
+		for d := range 14 {
+			if rows[d]/slots >= kinmap.DefaultOptions().Features.MinCoverage {
+				want[s.ID+" "+day(d).Format(time.DateOnly)] = true
+			}
+		}
+	}
+	got := map[string]int{}
+	for _, w := range h.Windows {
+		got[w.Site+" "+w.Start.Format(time.DateOnly)]++
+		if q, ok := whole[w.Site]; ok && w.Start.Equal(day(6)) && w.QE != q {
+			t.Errorf("%s: day 6 has QE %g in the history, the whole window's is %g", w.Site, w.QE, q)
+		}
+	}
+	for k, n := range got {
+		if n != 1 || !want[k] {
+			t.Errorf("%s: %d windows in the history, want one only if the site covered the day", k, n)
+		}
+	}
+	for k := range want {
+		if got[k] == 0 {
+			t.Errorf("%s: no window in the history", k)
+		}
+	}
 }

@@ -5,17 +5,22 @@ const (
 	HealthSilent         = "silent"          // a site of the register or the history sent no data
 	HealthNoWindows      = "no_windows"      // every window of the site was skipped
 	HealthMissingChannel = "missing_channel" // a channel the model or the fleet uses is absent at the site
+	HealthUnselected     = "unread_channel"  // a channel of the dump that the run does not read
 	HealthDuplicates     = "duplicates"      // readings of the site resolved as duplicates
 	HealthDropped        = "dropped"         // rows or readings of the site (or of no site) dropped, one reason a finding
 	HealthUnused         = "unused"          // readings of the site in no window used
 	HealthWindowStep     = "window_step"     // the window is short or long for the sampling step
 	HealthEpochUnit      = "epoch_unit"      // integer times look like another epoch unit
+	HealthGap            = "history_gap"     // the history holds no window in a span next to the dump
+	HealthLate           = "late"            // the history already holds windows after the dump
+	HealthCut            = "cut_window"      // windows the dump holds part of, left to the history's
+	HealthRevised        = "revised"         // windows of earlier dumps whose regime this run changed
 )
 
 // healthKinds lists the kinds of finding in the report's order.
 func healthKinds() []string {
-	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthDuplicates, HealthDropped,
-		HealthUnused, HealthWindowStep, HealthEpochUnit}
+	return []string{HealthSilent, HealthNoWindows, HealthMissingChannel, HealthUnselected, HealthDuplicates, HealthDropped,
+		HealthUnused, HealthWindowStep, HealthEpochUnit, HealthGap, HealthLate, HealthCut, HealthRevised}
 }
 
 // Finding is one line of the data health of a run: a site (or the whole

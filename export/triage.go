@@ -78,11 +78,16 @@ var healthTitles = map[string]string{
 	HealthSilent:         "Sites that sent no data",
 	HealthNoWindows:      "Sites whose every window was skipped",
 	HealthMissingChannel: "Channels missing",
+	HealthUnselected:     "Channels not read",
 	HealthDuplicates:     "Readings resolved as duplicates",
 	HealthDropped:        "Rows and readings dropped",
 	HealthUnused:         "Readings in no window used",
 	HealthWindowStep:     "Windows and the sampling step",
 	HealthEpochUnit:      "Epoch unit of the times",
+	HealthGap:            "Spans the history lacks",
+	HealthLate:           "A dump delivered late",
+	HealthCut:            "Windows the dump holds part of",
+	HealthRevised:        "Earlier windows decoded anew",
 }
 
 // triageOf builds the sections' data of r.

@@ -4,8 +4,9 @@
 // continuation of a site's decoding from where the history left it.
 //
 // The history is a set of windows keyed by site and window start. A run
-// replaces exactly the windows (site, start) it holds and keeps every
-// other; a window records its regime, its best-matching unit, its
+// replaces the windows (site, start) it holds, and on another window grid
+// (another time zone or window length) those of its sites that its windows
+// mostly cover, and keeps every other; a window records its regime, its best-matching unit, its
 // quantization error, its scaled feature vector and the lineage of the map
 // that numbered its regimes.
 //

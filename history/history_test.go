@@ -403,3 +403,53 @@ func TestNoEmptyFolders(t *testing.T) {
 		t.Errorf("an aborted first write left %s (%v)", fresh, err)
 	}
 }
+
+// shifted makes the windows of days of site on another grid: starting off
+// after midnight UTC (a run with another --tz), of length dur.
+func shifted(site string, first, last int, off, dur time.Duration) []Window {
+	var ws []Window
+	for t := day0.AddDate(0, 0, first).Add(off); t.Before(day0.AddDate(0, 0, last+1)); t = t.Add(dur) {
+		ws = append(ws, Window{Site: site, Start: t, End: t.Add(dur), Unit: 3, Regime: 2, Scaled: []float64{0, 0}})
+	}
+	return ws
+}
+
+// A run on another window grid (another time zone, another window length,
+// so another map's lineage) replaces the windows of its sites that its own
+// windows mostly cover, so
+// that running a week again with --tz changed does not hold the week twice,
+// while a window it only grazes, and other sites' windows, stay.
+func TestRerunOtherGrid(t *testing.T) {
+	for _, c := range []struct {
+		name    string
+		lineage string
+		run     []Window
+		want    int // windows of site a
+	}{
+		// 22:00 UTC is midnight in UTC+2: 8 windows from 22:00 before day
+		// 0 on, each covering 22 h of one of the UTC days 0–7; days 8–10
+		// stay.
+		{"another zone", "y", shifted("a", 0, 6, -2*time.Hour, 24*time.Hour), 8 + 3},
+		// 06:00–18:00 and 18:00–06:00: 18 h or more of days 0–6, 6 h of
+		// day 7, which stays with days 8–10.
+		{"half-day windows", "y", shifted("a", 0, 6, 6*time.Hour, 12*time.Hour), 14 + 4},
+		// 2 h of day 6 and 2 h of day 7: both stay.
+		{"a window grazing two days", "y", shifted("a", 6, 6, 22*time.Hour, 4*time.Hour)[:1], 1 + 11},
+		// The same lineage is on one grid: windows it does not hold again
+		// (overlapping ones skipped for coverage) stay.
+		{"the same lineage", "x", shifted("a", 0, 6, 6*time.Hour, 12*time.Hour), 14 + 11},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			dir := t.TempDir()
+			write(t, dir, "x", append(days("a", 0, 10), days("b", 0, 10)...))
+			write(t, dir, c.lineage, c.run)
+			n := map[string]int{}
+			for _, w := range read(t, dir).Windows {
+				n[w.Site]++
+			}
+			if n["a"] != c.want || n["b"] != 11 {
+				t.Errorf("windows of a %d, of b %d; want %d and 11", n["a"], n["b"], c.want)
+			}
+		})
+	}
+}

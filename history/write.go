@@ -31,7 +31,9 @@ func micro(t time.Time) time.Time { return t.UTC().Truncate(time.Microsecond) }
 // Stage adds to tx, whose folders must include h.Dir, the writing of run,
 // the windows of one run, whose regimes the map of lineage numbered, into
 // the history: each replaces the window of the same site and start
-// wherever the history holds one, and every other window stays. The
+// wherever the history holds one, the run's windows of a site replace its
+// windows of another lineage that they hold more than half of (those of
+// another window grid), and every other window stays. The
 // windows of h whose regimes the run revised (Continuation.Settle) are
 // written with it. The run's windows go to the period folder of the UTC
 // date of the earliest. If another run wrote the history after h was
@@ -41,15 +43,12 @@ func (h *History) Stage(tx *atomicfile.Tx, lineage string, run []Window) error {
 		return err
 	}
 	gen := h.gen + 1
-	held := make(map[key]bool, len(run))
-	for i := range run {
-		held[keyOf(&run[i])] = true
-	}
+	held := holdingOf(run)
 	byFile := make([][]Window, len(h.files))
 	touched := map[int]bool{}
 	for i := range h.Windows {
 		w, f := &h.Windows[i], h.fileOf[i]
-		if held[keyOf(w)] {
+		if held.replaces(w, lineage) {
 			touched[f] = true
 			continue
 		}
@@ -106,6 +105,61 @@ func (h *History) Stage(tx *atomicfile.Tx, lineage string, run []Window) error {
 		return fmt.Errorf("history: %w", err)
 	}
 	return nil
+}
+
+// holding is what a run's windows hold: their keys, and their time spans by
+// site, sorted and merged, in µs since the epoch.
+type holding struct {
+	keys  map[key]bool
+	spans map[string][][2]int64
+}
+
+func holdingOf(run []Window) holding {
+	out := holding{keys: make(map[key]bool, len(run)), spans: map[string][][2]int64{}}
+	for i := range run {
+		w := &run[i]
+		out.keys[keyOf(w)] = true
+		out.spans[w.Site] = append(out.spans[w.Site], [2]int64{micro(w.Start).UnixMicro(), micro(w.End).UnixMicro()})
+	}
+	for site, ss := range out.spans {
+		slices.SortFunc(ss, func(a, b [2]int64) int { return cmp.Compare(a[0], b[0]) })
+		merged := ss[:1]
+		for _, s := range ss[1:] {
+			if last := &merged[len(merged)-1]; s[0] <= last[1] {
+				last[1] = max(last[1], s[1])
+			} else {
+				merged = append(merged, s)
+			}
+		}
+		out.spans[site] = merged
+	}
+	return out
+}
+
+// replaces reports whether the run holds a window of w's site and start,
+// or, for a window of another lineage than the run's, whether its windows
+// of that site hold more than half of w's span. A lineage's windows are on
+// one grid, the window settings of its model, where only the window of the
+// same start is the same time: with overlapping windows (a stride shorter
+// than the window) a stored window the run skipped stays. On another grid, as after a change of time zone or window
+// length, it is the window whose time the run's windows now describe, so
+// that the history never holds the same hours twice, while a window the
+// run only grazes stays.
+func (h holding) replaces(w *Window, lineage string) bool {
+	if h.keys[keyOf(w)] {
+		return true
+	}
+	if w.Lineage == lineage {
+		return false
+	}
+	ss := h.spans[w.Site]
+	a, b := micro(w.Start).UnixMicro(), micro(w.End).UnixMicro()
+	held := int64(0)
+	i, _ := slices.BinarySearchFunc(ss, a, func(s [2]int64, t int64) int { return cmp.Compare(s[1], t) })
+	for ; i < len(ss) && ss[i][0] < b; i++ {
+		held += min(b, ss[i][1]) - max(a, ss[i][0])
+	}
+	return 2*held > b-a
 }
 
 // unchanged reports whether the folder is still at the generation h read.

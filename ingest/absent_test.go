@@ -39,3 +39,30 @@ func TestAbsentChannel(t *testing.T) {
 		t.Fatalf("absent %v, channels %v; want [vibration] and [flow]", ds.Summary.Absent, ds.Channels)
 	}
 }
+
+// The readings of a channel that the selection leaves out are counted by
+// channel, so that every row of a dump is accounted for: kept, resolved as
+// duplicates, dropped or unselected. A channel renamed since a model was
+// trained shows here beside the model's channel missing from the dump.
+func TestUnselectedChannels(t *testing.T) {
+	long := writeFile(t, "long.csv", []byte("site,time,channel,value\n"+
+		"a,2026-01-01T00:00:00Z,flow_rate,1\na,2026-01-01T00:10:00Z,flow_rate,\n"+
+		"a,2026-01-01T00:00:00Z,vibration,3\nb,2026-01-01T00:00:00Z,pressure,4\n"))
+	wide := writeFile(t, "wide.csv", []byte("site,time,flow_rate,vibration,pressure\n"+
+		"a,2026-01-01T00:00:00Z,1,3,4\na,2026-01-01T00:10:00Z,,3,4\nb,2026-01-01T00:00:00Z,2,3,4\n"))
+	for _, c := range []struct {
+		path string
+		want map[string]int64
+	}{
+		{long, map[string]int64{"flow_rate": 2, "pressure": 1}},
+		{wide, map[string]int64{"flow_rate": 3, "pressure": 3}}, // cells, the blank one too
+	} {
+		ds := mustRead(t, []string{c.path}, func(o *Options) { o.Channels, o.Absent = []string{"flow", "vibration"}, true })
+		if got := ds.Summary.Unselected; !maps.Equal(got, c.want) {
+			t.Errorf("%s: unselected %v, want %v", c.path, got, c.want)
+		}
+		if ds := mustRead(t, []string{c.path}, nil); len(ds.Summary.Unselected) != 0 {
+			t.Errorf("%s: unselected %v without a selection, want none", c.path, ds.Summary.Unselected)
+		}
+	}
+}

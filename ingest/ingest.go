@@ -188,6 +188,10 @@ type Summary struct {
 	NaiveTime      bool       // timestamps without UTC adjustment were read as UTC
 	Unregistered   []string   // sites in the dump but not in the register
 	Absent         []string   // channels of Options.Channels absent from the dump (Options.Absent)
+	// Unselected counts, by channel, the readings of the dump's channels
+	// that Options.Channels leaves out and that are not read: rows of a
+	// long dump, cells of a wide dump's numeric column (blank ones too).
+	Unselected map[string]int64 `json:",omitempty"`
 	// SiteDuplicates counts the duplicates of Duplicates by site, and
 	// SiteReadings the readings kept by site.
 	SiteDuplicates map[string]int64

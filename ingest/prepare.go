@@ -10,18 +10,19 @@ import (
 // parallel; merge then files them, in read order, under global site and
 // channel numbers.
 type prepared struct {
-	b         *batch   // nil once merge needs it no more
-	rows      int      // rows of the batch
-	siteDict  []string // the sites of the batch, by local code
-	chanDict  []string // long: the channels of the batch; wide: the candidate columns
-	naive     bool
-	drops     [nDrops]int64   // row drops, and value drops of a long batch
-	siteDrops [][nDrops]int64 // the drops of drops that have a site, by local site code
-	epoch     int64           // the batch's first integer epoch time, if epochSeen
-	epochSeen bool
-	cols      []wideColumn // wide: by candidate column
-	arena     arena
-	pos       positions
+	b          *batch   // nil once merge needs it no more
+	rows       int      // rows of the batch
+	siteDict   []string // the sites of the batch, by local code
+	chanDict   []string // long: the channels of the batch; wide: the candidate columns
+	naive      bool
+	drops      [nDrops]int64   // row drops, and value drops of a long batch
+	unselected []int64         // long: rows of channels not selected, by channel code
+	siteDrops  [][nDrops]int64 // the drops of drops that have a site, by local site code
+	epoch      int64           // the batch's first integer epoch time, if epochSeen
+	epochSeen  bool
+	cols       []wideColumn // wide: by candidate column
+	arena      arena
+	pos        positions
 	// When a batch has too many sites and channels for a table of every
 	// pair, keys number the pairs met: pairs[key] = site*len(chanDict) +
 	// channel. Otherwise a key is that number itself.
@@ -245,6 +246,11 @@ func (p *prepared) long(b *batch, ro roles, selected map[string]bool, sites []in
 				d := dropOf(v, valid != nil && !valid[lo+i])
 				p.drops[d]++
 				p.siteDrops = countDrop(p.siteDrops, s, d, len(p.siteDict))
+			default:
+				if p.unselected == nil {
+					p.unselected = make([]int64, len(dict))
+				}
+				p.unselected[codes[i]]++
 			}
 		}
 	})
@@ -426,7 +432,9 @@ func (r *reader) merge(p *prepared, ro roles, ahead float64) error {
 	chans := make([]int32, len(p.chanDict))
 	for j, name := range p.chanDict {
 		if ro.channel >= 0 {
-			chans[j] = r.channelIndex(name)
+			if chans[j] = r.channelIndex(name); chans[j] < 0 && p.unselected != nil && p.unselected[j] > 0 {
+				r.unselect(name, p.unselected[j])
+			}
 			continue
 		}
 		keep, err := r.wideColumn(b, b.cols[ro.channels[j]], &p.cols[j])

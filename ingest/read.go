@@ -205,7 +205,8 @@ func newReader(opt Options) *reader {
 // roles are the field indexes of the columns of a file, -1 when absent.
 type roles struct {
 	site, time, channel, value, lat, lon int
-	channels                             []int // wide: candidate channel columns
+	channels                             []int    // wide: candidate channel columns
+	unselected                           []string // wide: numeric columns not selected
 }
 
 func (r *reader) readFile(path string) error {
@@ -251,7 +252,21 @@ func (r *reader) readFile(path string) error {
 	}
 	r.sum.Rows += fs.Rows
 	r.sum.Files = append(r.sum.Files, fs)
+	for _, name := range ro.unselected {
+		r.unselect(name, fs.Rows)
+	}
 	return nil
+}
+
+// unselect counts n readings of a channel that the selection leaves out.
+func (r *reader) unselect(name string, n int64) {
+	if r.sum.Unselected == nil {
+		r.sum.Unselected = make(map[string]int64)
+	}
+	if _, ok := r.sum.Unselected[name]; !ok {
+		name = strings.Clone(name)
+	}
+	r.sum.Unselected[name] += n
 }
 
 // mapColumns finds the role of each column of a file.
@@ -301,6 +316,7 @@ func (r *reader) mapColumns(fields []field) (roles, error) {
 		case r.selected != nil && !r.selected[f.name]:
 			if f.numeric() {
 				r.present[f.name] = true // for the message of a selected channel never met
+				ro.unselected = append(ro.unselected, f.name)
 			}
 		case f.name == "":
 			r.skip(fmt.Sprintf("(unnamed column %d)", i+1))

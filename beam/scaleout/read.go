@@ -411,6 +411,30 @@ func mergeSummary(outcomes []fileOutcome, sites []siteResult, reg *ingest.Regist
 			}
 		}
 		sum.Channels = union(sum.Channels, s.Channels)
+		for ch, n := range s.Unselected {
+			if sum.Unselected == nil {
+				sum.Unselected = map[string]int64{}
+			}
+			sum.Unselected[ch] += n
+		}
+		// A channel is absent from the dataset when no dump holds it; the
+		// first dump to give a channel a unit gives it, as in a local read.
+		if o.Index == outcomes[0].Index {
+			sum.Absent = slices.Clone(s.Absent)
+		} else {
+			sum.Absent = slices.DeleteFunc(sum.Absent, func(ch string) bool { return !slices.Contains(s.Absent, ch) })
+		}
+		for ch, u := range s.Units {
+			if _, ok := sum.Units[ch]; !ok {
+				if sum.Units == nil {
+					sum.Units = map[string]string{}
+				}
+				sum.Units[ch] = u
+			}
+		}
+		if sum.EpochUnit == nil {
+			sum.EpochUnit = s.EpochUnit
+		}
 		if sum.Start.IsZero() || s.Start.Before(sum.Start) {
 			sum.Start = s.Start
 		}

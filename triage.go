@@ -108,7 +108,8 @@ func standing(past []history.Window, ws []features.Window) map[string]attention.
 // against compares the run's windows with those of the previous period in
 // the history: the span of the same length just before the run's first
 // window. It is nil when the history holds no window of the model's
-// lineage in that span.
+// lineage in that span. A site that the history holds in this run's span,
+// from another dump (a region delivered apart), has not gone silent.
 func against(p *past, ws []features.Window) *export.Comparison {
 	first, last := features.Span(ws)
 	from := first.Add(-last.Sub(first))
@@ -116,9 +117,11 @@ func against(p *past, ws []features.Window) *export.Comparison {
 		Period: from.UTC().Format(time.DateOnly) + " to " + first.UTC().Format(time.DateOnly)}
 	then, now := map[string]int{}, map[string]int{} // last regime by site
 	earlier := map[string]bool{}
+	held := map[string]bool{} // sites with windows of this run's span from another dump
 	for _, w := range p.windows {
 		switch {
 		case !w.Start.Before(first):
+			held[w.Site] = held[w.Site] || w.Start.Before(last)
 		case w.Start.Before(from):
 			earlier[w.Site] = true
 		default:
@@ -141,15 +144,19 @@ func against(p *past, ws []features.Window) *export.Comparison {
 		c.Now[id] /= float64(len(ws))
 	}
 	for _, site := range slices.Sorted(maps.Keys(then)) {
-		if r, ok := now[site]; !ok {
+		if r, ok := now[site]; !ok && !held[site] {
 			c.Silent = append(c.Silent, site)
 		} else if r != then[site] {
 			c.Changed = append(c.Changed, export.RegimeMove{Site: site, Then: then[site], Now: r})
 		}
 	}
 	for _, site := range slices.Sorted(maps.Keys(now)) {
-		if _, ok := then[site]; !ok && earlier[site] {
+		switch _, ok := then[site]; {
+		case ok:
+		case earlier[site]:
 			c.Back = append(c.Back, site)
+		case !held[site]:
+			c.New = append(c.New, site)
 		}
 	}
 	return c

@@ -1,7 +1,9 @@
 package kinmap
 
 import (
+	"cmp"
 	"reflect"
+	"slices"
 	"testing"
 	"time"
 
@@ -42,5 +44,39 @@ func TestAttentionConfig(t *testing.T) {
 	o.WorkList = attention.Config{LongStay: 3, MinConfidence: 0.8, FleetAlpha: 0.01}
 	if c := attentionConfig(&o, tab); c.LongStay != 3 || c.MinConfidence != 0.8 || c.FleetAlpha != 0.01 {
 		t.Errorf("config %+v does not carry the options %+v", c, o.WorkList)
+	}
+}
+
+// against compares a regional dump with the previous week: the other
+// region's sites, whose windows of this week the history holds from their
+// own dump, have not gone silent; a site the history never held is new; a
+// site absent last week but seen before came back.
+func TestAgainstRegionalDump(t *testing.T) {
+	day := func(d int) time.Time { return time.Date(2026, 3, 2+d, 0, 0, 0, 0, time.UTC) }
+	var hist []history.Window
+	add := func(site string, from, to int) {
+		for d := from; d < to; d++ {
+			hist = append(hist, history.Window{Site: site, Start: day(d), End: day(d + 1), Regime: 1})
+		}
+	}
+	add("north-1", 0, 14) // both weeks, the second from the north's dump
+	add("north-2", 0, 7)  // last week only: silent now
+	add("south-1", 0, 7)
+	add("south-2", -7, -4) // seen before last week, not in it
+	slices.SortFunc(hist, func(a, b history.Window) int {
+		return cmp.Or(cmp.Compare(a.Site, b.Site), a.Start.Compare(b.Start))
+	})
+	var ws []features.Window
+	for _, site := range []string{"south-1", "south-2", "south-3"} {
+		for d := 7; d < 14; d++ {
+			ws = append(ws, features.Window{Site: site, Start: day(d), End: day(d + 1), Regime: 1})
+		}
+	}
+	c := against(&past{windows: hist}, ws)
+	if c == nil {
+		t.Fatal("no comparison")
+	}
+	if !slices.Equal(c.Silent, []string{"north-2"}) || !slices.Equal(c.Back, []string{"south-2"}) || !slices.Equal(c.New, []string{"south-3"}) {
+		t.Errorf("went silent %v, came back %v, new %v; want [north-2], [south-2], [south-3]", c.Silent, c.Back, c.New)
 	}
 }

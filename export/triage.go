@@ -66,6 +66,7 @@ type againstData struct {
 	Changed []RegimeMove
 	Silent  []string
 	Back    []string
+	New     []string
 }
 
 type shareItem struct {
@@ -135,7 +136,7 @@ func triageOf(r *Run) triageData {
 		}
 	}
 	if c := r.Against; c != nil {
-		a := &againstData{Period: c.Period, Windows: c.Windows, Changed: c.Changed, Silent: c.Silent, Back: c.Back}
+		a := &againstData{Period: c.Period, Windows: c.Windows, Changed: c.Changed, Silent: c.Silent, Back: c.Back, New: c.New}
 		ids := slices.Sorted(maps.Keys(c.Now))
 		for id := range c.Then {
 			if !slices.Contains(ids, id) {

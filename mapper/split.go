@@ -40,7 +40,7 @@ type Choice struct {
 	// RunnerUp is the other number of regimes that came closest, K−1
 	// (undo the weakest split made) or K+1 (make the strongest split
 	// turned down), and RunnerUpP and RunnerUpGain the p-value and BIC
-	// gain of that split (the lesser of Gain and CutGain when both were
+	// gain of that split (the lesser of Gain and CutGain when the cut was
 	// tested); 0 when K was given or there is none.
 	RunnerUp     int     `json:"runner_up,omitempty"`
 	RunnerUpP    float64 `json:"runner_up_p,omitempty"`
@@ -67,10 +67,15 @@ type Split struct {
 	// CutGain and CutBimodal are the same test re-run with the split's
 	// own two groups in place of the free mixture (cutGain): the two
 	// modes must be the two regimes the split makes. Tested only when
-	// the free test passed; 0 and false otherwise.
+	// the free test passed and each group holds a tested segment; 0 and
+	// false otherwise.
 	CutGain    float64 `json:"cut_bic_gain"`
 	CutBimodal bool    `json:"cut_bimodal"`
-	Made       bool    `json:"made"`
+	// Unheld is set when one of the two groups holds none of the tested
+	// segments: the split separates none of them, so there is no cut to
+	// test, and the modes are tested at the split below.
+	Unheld bool `json:"unheld"`
+	Made   bool `json:"made"`
 }
 
 // splitter divides Ward's tree of the units from the top down.
@@ -89,14 +94,15 @@ type candidate struct {
 	stat, p  float64
 	gain     float64 // mixtureGain of the projections
 	bimodal  bool    // whether that two-mode fit has two modes
-	cutGain  float64 // cutGain of the projections, split at the children's midpoint
+	cutGain  float64 // cutGain of the projections, by the groups of the segments
 	cutTwo   bool    // whether that fit has two modes
+	unheld   bool    // a group holds no tested segment
 }
 
 // significant reports whether the split passes the normality test, the
 // two-mode test, and the two-mode test of the split it makes.
 func (c candidate) significant() bool {
-	return c.p < Alpha && c.gain > 0 && c.bimodal && c.cutGain > 0 && c.cutTwo
+	return c.p < Alpha && c.gain > 0 && c.bimodal && (c.unheld || c.cutGain > 0 && c.cutTwo)
 }
 
 // run splits from the root until k groups (k > 0) or while a split is
@@ -115,7 +121,7 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 			break // only single units are left
 		}
 		made := k > 0 || best.significant()
-		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Gain: best.gain, Bimodal: best.bimodal, CutGain: best.cutGain, CutBimodal: best.cutTwo, Made: made})
+		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Gain: best.gain, Bimodal: best.bimodal, CutGain: best.cutGain, CutBimodal: best.cutTwo, Unheld: best.unheld, Made: made})
 		if !made {
 			break
 		}
@@ -156,7 +162,7 @@ func (ch *Choice) runnerUp() {
 			continue
 		}
 		gain := sp.Gain
-		if sp.Gain > 0 && sp.Bimodal {
+		if sp.Gain > 0 && sp.Bimodal && !sp.Unheld {
 			gain = math.Min(gain, sp.CutGain) // the split's own groups were tested too
 		}
 		var c float64
@@ -165,7 +171,7 @@ func (ch *Choice) runnerUp() {
 			c = math.Min(decades(sp.P), gain/bicBand)
 		case sp.P >= ch.Alpha:
 			c = decades(sp.P)
-		case !sp.Bimodal || sp.Gain > 0 && !sp.CutBimodal:
+		case !sp.Bimodal || sp.Gain > 0 && !sp.Unheld && !sp.CutBimodal:
 			c = math.Inf(1)
 		default:
 			c = -gain / bicBand
@@ -252,7 +258,15 @@ func (s *splitter) test(parts []int) []candidate {
 					c.gain, c.bimodal = g, bi
 				}
 				if c.gain > 0 && c.bimodal {
-					if g, two := cutGain(proj, dot(dir, midpoint(ca, cb))); !math.IsInf(g, 0) {
+					second := s.sides(segs, i, mg)
+					n := 0
+					for _, b := range second {
+						if b {
+							n++
+						}
+					}
+					c.unheld = n == 0 || n == len(second)
+					if g, two := cutGain(proj, second); !c.unheld && !math.IsInf(g, 0) {
 						c.cutGain, c.cutTwo = g, two
 					}
 				}
@@ -458,37 +472,62 @@ func (s *splitter) eachUnit(p int, fn func(int)) {
 	}
 }
 
+// sides reports, for every segment of regime r in segs in order, whether
+// it lies in the second group of the split mg: whether more of its
+// windows landed on the units under mg.b than under mg.a. Windows whose
+// best-matching unit is under neither (the segment was decoded in r from
+// another regime's area) do not count; a tie goes to the first group.
+func (s *splitter) sides(segs []segment, r int, mg merge) []bool {
+	under := make([]int8, s.m.Units()) // 1 under a, 2 under b
+	s.eachUnit(mg.a, func(u int) { under[u] = 1 })
+	s.eachUnit(mg.b, func(u int) { under[u] = 2 })
+	var out []bool
+	for _, sg := range segs {
+		if sg.regime != r {
+			continue
+		}
+		var na, nb int
+		for _, i := range sg.rows {
+			switch under[s.win.Assignments[i].BMU] {
+			case 1:
+				na++
+			case 2:
+				nb++
+			}
+		}
+		out = append(out, nb > na)
+	}
+	return out
+}
+
 // cutGain is mixtureGain's test of two modes re-run on the split that
 // would be made: the two normals are not fitted freely but are the two
-// groups into which the split cuts the projections x, those above cut and
-// those at or below it, each normal's mean and variance (or a common
-// variance) and weight estimated from its group's members; the better of
-// the two models is compared with one normal by the BIC, each at its best
-// power, and two reports whether its density has two modes. G-means tests
-// the projection of the very split it makes (Hamerly and Elkan 2003), so
-// a split is supported only when the modes the test sees are its own two
+// groups into which the split cuts the projections x (second marks the
+// second group's), each normal's mean and variance (or a common variance)
+// and weight estimated from its group's members; the better of the two
+// models is compared with one normal by the BIC, each at its best power,
+// and two reports whether its density has two modes. G-means tests the
+// projection of the very split it makes (Hamerly and Elkan 2003), so a
+// split is supported only when the modes the test sees are its own two
 // groups: two modes made by a few far segments inside one group, while
 // the cut carves the bulk's tail off into the other, are no evidence for
-// that cut. cut is the projection of the midpoint of the two groups'
-// centroids, so that a segment lies on the side of the centroid it is
-// nearer to in the full space, where the decoder would put it, and where
-// 2-means, which G-means splits with, would. The mixture's likelihood is
-// that of the labelled estimates, as the classification approach to
-// clustering estimates them (A. J. Scott and M. J. Symons, "Clustering
-// methods based on likelihood ratio criteria", Biometrics 27, 1971; from
-// memory), but taken as a mixture; with EM's fit at its maximum it cannot
-// exceed mixtureGain's. With a group empty, or a sample without spread,
-// the gain is −Inf and two false.
-func cutGain(x []float64, cut float64) (gain float64, two bool) {
-	side := make([]float64, len(x)) // 1 above the cut: the second normal
-	for i, v := range x {
-		if v > cut {
-			side[i] = 1
+// that cut. The mixture's parameters are the labelled estimates, as the
+// classification approach to clustering estimates them (A. J. Scott and
+// M. J. Symons, "Clustering methods based on likelihood ratio criteria",
+// Biometrics 27, 1971; from memory), but its likelihood is the
+// mixture's, so with EM's fit at its maximum it cannot exceed
+// mixtureGain's. With a group empty, or a sample without spread, the gain
+// is −Inf and two false.
+func cutGain(x []float64, second []bool) (gain float64, two bool) {
+	label := make([]float64, len(x)) // the second normal's responsibilities
+	for i, b := range second {
+		if b {
+			label[i] = 1
 		}
 	}
 	resp := make([]float64, len(x))
 	return powerGain(x, func(z []float64, common bool) (mixture, bool) {
-		f, ok := mStep(z, side, common)
+		f, ok := mStep(z, label, common)
 		if ok {
 			f.ll = eStep(z, f, resp)
 		}
@@ -542,15 +581,6 @@ func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) 
 	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
 	lo, hi := slices.Min(std), slices.Max(std)
 	return best2 - 2*best1, best.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2
-}
-
-// midpoint returns the point halfway between a and b.
-func midpoint(a, b []float64) []float64 {
-	m := make([]float64, len(a))
-	for j := range m {
-		m[j] = (a[j] + b[j]) / 2
-	}
-	return m
 }
 
 func dot(a, b []float64) float64 {

@@ -303,16 +303,16 @@ func TestSplitMatchesItsModes(t *testing.T) {
 	units := []float64{-1.2, 0.6, 11}
 	m := &Map{Lattice: lattice.Lattice{Cols: 3, Rows: 1, Flat: true}, Dim: 1, Codebook: units}
 	w := make([]float64, len(units)) // the windows each unit wins
-	for _, v := range vals {
-		best := 0
+	asg := make([]Assignment, len(vals))
+	for i, v := range vals {
 		for u, c := range units {
-			if math.Abs(v-c) < math.Abs(v-units[best]) {
-				best = u
+			if math.Abs(v-c) < math.Abs(v-units[asg[i].BMU]) {
+				asg[i].BMU = u
 			}
 		}
-		w[best]++
+		w[asg[i].BMU]++
 	}
-	win := &Windows{X: mat.NewDense(len(vals), 1, vals), Timelines: Timelines{Sequences: seqs, MinRun: 7}}
+	win := &Windows{X: mat.NewDense(len(vals), 1, vals), Assignments: asg, Timelines: Timelines{Sequences: seqs, MinRun: 7}}
 	tests := []struct {
 		name string
 		tree []merge // node 3 first, then the root, node 4

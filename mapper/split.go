@@ -71,9 +71,9 @@ type Split struct {
 	// false otherwise.
 	CutGain    float64 `json:"cut_bic_gain"`
 	CutBimodal bool    `json:"cut_bimodal"`
-	// Unheld is set when one of the two groups holds none of the tested
-	// segments: the split separates none of them, so there is no cut to
-	// test, and the modes are tested at the split below.
+	// Unheld is set when, decoded with the two groups, the sites hold
+	// one of them in no segment: the split separates no state, so there
+	// is no cut to test, and the modes are tested at the split below.
 	Unheld bool `json:"unheld"`
 	Made   bool `json:"made"`
 }
@@ -94,7 +94,7 @@ type candidate struct {
 	stat, p  float64
 	gain     float64 // mixtureGain of the projections
 	bimodal  bool    // whether that two-mode fit has two modes
-	cutGain  float64 // cutGain of the projections, by the groups of the segments
+	cutGain  float64 // cutGain of the segments decoded with the two groups
 	cutTwo   bool    // whether that fit has two modes
 	unheld   bool    // a group holds no tested segment
 }
@@ -258,7 +258,21 @@ func (s *splitter) test(parts []int) []candidate {
 					c.gain, c.bimodal = g, bi
 				}
 				if c.gain > 0 && c.bimodal {
-					second := s.sides(segs, i, mg)
+					// The segments of the split made: decoded with the
+					// two groups in place of the regime.
+					kids := append(slices.Clone(cents), cb)
+					kids[i] = ca
+					ksegs := s.segments(kids)
+					var second []bool
+					for j := range ksegs {
+						switch ksegs[j].regime {
+						case i:
+							second = append(second, false)
+						case len(cents):
+							ksegs[j].regime = i
+							second = append(second, true)
+						}
+					}
 					n := 0
 					for _, b := range second {
 						if b {
@@ -266,8 +280,10 @@ func (s *splitter) test(parts []int) []candidate {
 						}
 					}
 					c.unheld = n == 0 || n == len(second)
-					if g, two := cutGain(proj, second); !c.unheld && !math.IsInf(g, 0) {
-						c.cutGain, c.cutTwo = g, two
+					if len(second) >= minSegments && !c.unheld {
+						if g, two := cutGain(s.project(ksegs, i, dir), second); !math.IsInf(g, 0) {
+							c.cutGain, c.cutTwo = g, two
+						}
 					}
 				}
 			}
@@ -472,38 +488,11 @@ func (s *splitter) eachUnit(p int, fn func(int)) {
 	}
 }
 
-// sides reports, for every segment of regime r in segs in order, whether
-// it lies in the second group of the split mg: whether more of its
-// windows landed on the units under mg.b than under mg.a. Windows whose
-// best-matching unit is under neither (the segment was decoded in r from
-// another regime's area) do not count; a tie goes to the first group.
-func (s *splitter) sides(segs []segment, r int, mg merge) []bool {
-	under := make([]int8, s.m.Units()) // 1 under a, 2 under b
-	s.eachUnit(mg.a, func(u int) { under[u] = 1 })
-	s.eachUnit(mg.b, func(u int) { under[u] = 2 })
-	var out []bool
-	for _, sg := range segs {
-		if sg.regime != r {
-			continue
-		}
-		var na, nb int
-		for _, i := range sg.rows {
-			switch under[s.win.Assignments[i].BMU] {
-			case 1:
-				na++
-			case 2:
-				nb++
-			}
-		}
-		out = append(out, nb > na)
-	}
-	return out
-}
-
 // cutGain is mixtureGain's test of two modes re-run on the split that
 // would be made: the two normals are not fitted freely but are the two
 // groups into which the split cuts the projections x (second marks the
-// second group's), each normal's mean and variance (or a common variance)
+// second group's: the segments decoded in it when the sites are decoded
+// with the two groups in place of the regime), each normal's mean and variance (or a common variance)
 // and weight estimated from its group's members; the better of the two
 // models is compared with one normal by the BIC, each at its best power,
 // and two reports whether its density has two modes. G-means tests the

@@ -86,7 +86,10 @@ type Timelines struct {
 // Anderson–Darling test asks whether the projections could come from one
 // normal distribution; since any skew fails that test, the split must also
 // be preferred by the BIC for two modes over one after a power transform,
-// with two modes in the fit (mixtureGain). Windows that vary from day to day around one state
+// with two modes in the fit (mixtureGain), and again with the two normals
+// taken from the two groups the split makes instead of fitted freely
+// (cutGain), so that the modes found are the split's own groups and not
+// a few far segments inside one of them. Windows that vary from day to day around one state
 // (weather, noise, a slow drift) average out within a segment and leave
 // one mode; sites that hold two different states leave two. The segments,
 // not the windows, are the sample, since the windows of one site in one

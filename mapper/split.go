@@ -40,7 +40,8 @@ type Choice struct {
 	// RunnerUp is the other number of regimes that came closest, K−1
 	// (undo the weakest split made) or K+1 (make the strongest split
 	// turned down), and RunnerUpP and RunnerUpGain the p-value and BIC
-	// gain of that split; 0 when K was given or there is none.
+	// gain of that split (the lesser of Gain and CutGain when the cut was
+	// tested); 0 when K was given or there is none.
 	RunnerUp     int     `json:"runner_up,omitempty"`
 	RunnerUpP    float64 `json:"runner_up_p,omitempty"`
 	RunnerUpGain float64 `json:"runner_up_bic_gain,omitempty"`
@@ -63,7 +64,18 @@ type Split struct {
 	// it positive as well as P below Alpha. 0 when not tested.
 	Gain    float64 `json:"bic_gain"`
 	Bimodal bool    `json:"bimodal"` // the two-normal fit of Gain has two modes (bimodal)
-	Made    bool    `json:"made"`
+	// CutGain and CutBimodal are the same test re-run with the split's
+	// own two groups in place of the free mixture (cutGain): the two
+	// modes must be the two regimes the split makes. Tested only when
+	// the free test passed and each group holds a tested segment; 0 and
+	// false otherwise.
+	CutGain    float64 `json:"cut_bic_gain"`
+	CutBimodal bool    `json:"cut_bimodal"`
+	// Unheld is set when, decoded with the two groups, the sites hold
+	// one of them in no segment: the split separates no state, so there
+	// is no cut to test, and the modes are tested at the split below.
+	Unheld bool `json:"unheld"`
+	Made   bool `json:"made"`
 }
 
 // splitter divides Ward's tree of the units from the top down.
@@ -82,10 +94,16 @@ type candidate struct {
 	stat, p  float64
 	gain     float64 // mixtureGain of the projections
 	bimodal  bool    // whether that two-mode fit has two modes
+	cutGain  float64 // cutGain of the segments decoded with the two groups
+	cutTwo   bool    // whether that fit has two modes
+	unheld   bool    // a group holds no tested segment
 }
 
-// significant reports whether the split passes both tests.
-func (c candidate) significant() bool { return c.p < Alpha && c.gain > 0 && c.bimodal }
+// significant reports whether the split passes the normality test, the
+// two-mode test, and the two-mode test of the split it makes.
+func (c candidate) significant() bool {
+	return c.p < Alpha && c.gain > 0 && c.bimodal && (c.unheld || c.cutGain > 0 && c.cutTwo)
+}
 
 // run splits from the root until k groups (k > 0) or while a split is
 // significant (k = 0).
@@ -103,7 +121,7 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 			break // only single units are left
 		}
 		made := k > 0 || best.significant()
-		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Gain: best.gain, Bimodal: best.bimodal, Made: made})
+		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Gain: best.gain, Bimodal: best.bimodal, CutGain: best.cutGain, CutBimodal: best.cutTwo, Unheld: best.unheld, Made: made})
 		if !made {
 			break
 		}
@@ -130,10 +148,12 @@ const bicBand = 2
 // turned down, whichever decision lies closest to going the other way.
 // Distances are counted in marginal bands: decades of the p-value from
 // Alpha, and units of bicBand of the BIC gain. A made split is as close
-// as the weaker of its two tests; a split turned down by the normality
-// test as close as its p-value (the mixture is fitted only to samples
-// that test rejects), and one turned down by the mixture as close as its
-// gain, or never close when the fitted mixture has one mode.
+// as the weaker of its tests; a split turned down by the normality test
+// as close as its p-value (the mixture is fitted only to samples that
+// test rejects), and one turned down by the mixture as close as its gain,
+// or never close when the fitted mixture has one mode; the same for the
+// mixture of the split's own groups (cutGain), tested when the free
+// mixture passes, whose gain is then the split's when it is the lesser.
 func (ch *Choice) runnerUp() {
 	decades := func(p float64) float64 { return math.Abs(math.Log10(math.Max(p, 1e-300) / ch.Alpha)) }
 	best := math.Inf(1)
@@ -141,19 +161,23 @@ func (ch *Choice) runnerUp() {
 		if sp.Segments == 0 {
 			continue
 		}
+		gain := sp.Gain
+		if sp.Gain > 0 && sp.Bimodal && !sp.Unheld {
+			gain = math.Min(gain, sp.CutGain) // the split's own groups were tested too
+		}
 		var c float64
 		switch {
 		case sp.Made:
-			c = math.Min(decades(sp.P), sp.Gain/bicBand)
+			c = math.Min(decades(sp.P), gain/bicBand)
 		case sp.P >= ch.Alpha:
 			c = decades(sp.P)
-		case sp.Bimodal:
-			c = -sp.Gain / bicBand
-		default:
+		case !sp.Bimodal || sp.Gain > 0 && !sp.Unheld && !sp.CutBimodal:
 			c = math.Inf(1)
+		default:
+			c = -gain / bicBand
 		}
 		if c < best {
-			best, ch.RunnerUpP, ch.RunnerUpGain = c, sp.P, sp.Gain
+			best, ch.RunnerUpP, ch.RunnerUpGain = c, sp.P, gain
 			ch.RunnerUp = sp.K
 			if sp.Made {
 				ch.RunnerUp = sp.K - 1
@@ -225,12 +249,42 @@ func (s *splitter) test(parts []int) []candidate {
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
 			c.p = normalP(c.stat)
-			// The mixture is costly and decides only what the normality
-			// test would split; a sample it cannot fit (no spread) keeps
-			// gain 0, so that run.json holds finite numbers.
+			// The mixtures are costly and decide only what the tests
+			// before them would split; a sample they cannot fit (no
+			// spread, a side of the cut empty) keeps gain 0, so that
+			// run.json holds finite numbers.
 			if c.p < Alpha {
 				if g, bi := mixtureGain(proj); !math.IsInf(g, 0) {
 					c.gain, c.bimodal = g, bi
+				}
+				if c.gain > 0 && c.bimodal {
+					// The segments of the split made: decoded with the
+					// two groups in place of the regime.
+					kids := append(slices.Clone(cents), cb)
+					kids[i] = ca
+					ksegs := s.segments(kids)
+					var second []bool
+					for j := range ksegs {
+						switch ksegs[j].regime {
+						case i:
+							second = append(second, false)
+						case len(cents):
+							ksegs[j].regime = i
+							second = append(second, true)
+						}
+					}
+					n := 0
+					for _, b := range second {
+						if b {
+							n++
+						}
+					}
+					c.unheld = n == 0 || n == len(second)
+					if len(second) >= minSegments && !c.unheld {
+						if g, two := cutGain(s.project(ksegs, i, dir), second); !math.IsInf(g, 0) {
+							c.cutGain, c.cutTwo = g, two
+						}
+					}
 				}
 			}
 		}
@@ -432,6 +486,90 @@ func (s *splitter) eachUnit(p int, fn func(int)) {
 		mg := s.tree[q-u]
 		stack = append(stack, mg.b, mg.a)
 	}
+}
+
+// cutGain is mixtureGain's test of two modes re-run on the split that
+// would be made: the two normals are not fitted freely but are the two
+// groups into which the split cuts the projections x (second marks the
+// second group's: the segments decoded in it when the sites are decoded
+// with the two groups in place of the regime), each normal's mean and variance (or a common variance)
+// and weight estimated from its group's members; the better of the two
+// models is compared with one normal by the BIC, each at its best power,
+// and two reports whether its density has two modes. G-means tests the
+// projection of the very split it makes (Hamerly and Elkan 2003), so a
+// split is supported only when the modes the test sees are its own two
+// groups: two modes made by a few far segments inside one group, while
+// the cut carves the bulk's tail off into the other, are no evidence for
+// that cut. The mixture's parameters are the labelled estimates, as the
+// classification approach to clustering estimates them (A. J. Scott and
+// M. J. Symons, "Clustering methods based on likelihood ratio criteria",
+// Biometrics 27, 1971; from memory), but its likelihood is the
+// mixture's, so with EM's fit at its maximum it cannot exceed
+// mixtureGain's. With a group empty, or a sample without spread, the gain
+// is −Inf and two false.
+func cutGain(x []float64, second []bool) (gain float64, two bool) {
+	label := make([]float64, len(x)) // the second normal's responsibilities
+	for i, b := range second {
+		if b {
+			label[i] = 1
+		}
+	}
+	resp := make([]float64, len(x))
+	return powerGain(x, func(z []float64, common bool) (mixture, bool) {
+		f, ok := mStep(z, label, common)
+		if ok {
+			f.ll = eStep(z, f, resp)
+		}
+		return f, ok
+	})
+}
+
+// powerGain is the comparison of mixtureGain with the two-normal
+// mixtures fitted by fit, which reports false when it has none for z.
+func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) (gain float64, two bool) {
+	n := len(x)
+	if n < 4 {
+		return math.Inf(-1), false
+	}
+	mean, sd := meanSD(x)
+	if !(sd > 0) {
+		return math.Inf(-1), false
+	}
+	std := make([]float64, n)
+	for i, v := range x {
+		std[i] = (v - mean) / sd
+	}
+	z := make([]float64, n)
+	transform := func(lam float64) float64 { // fills z, returns the log-Jacobian
+		jac := 0.0
+		for i, v := range std {
+			z[i] = yeoJohnson(v, lam)
+			jac += yeoJohnsonLogSlope(v, lam)
+		}
+		return jac
+	}
+	logN := math.Log(float64(n))
+	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
+	var best mixture
+	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
+		jac := transform(lam)
+		if l := normalLogLik(z) + jac; l > best1 {
+			best1, at = l, lam
+		}
+		for _, common := range []bool{true, false} {
+			f, ok := fit(z, common)
+			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; ok && b > best2 {
+				best2, best, fitAt = b, f, lam
+			}
+		}
+	}
+	if math.IsInf(best2, -1) {
+		return best2, false
+	}
+	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
+	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
+	lo, hi := slices.Min(std), slices.Max(std)
+	return best2 - 2*best1, best.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2
 }
 
 func dot(a, b []float64) float64 {

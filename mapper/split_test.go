@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/kinmap/kinmap/lattice"
 )
 
 // fleetSpec describes an invented fleet of sites observed daily: each site
@@ -190,23 +192,31 @@ func TestChoiceRunnerUp(t *testing.T) {
 	}{
 		// The split to 3 was turned down at p = 3e-4, 0.48 decades from
 		// Alpha; the one to 2 was made 16 decades below it.
-		{[]Split{{K: 2, Segments: 50, P: 1e-20, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 3e-4}}, 3, true},
+		{[]Split{{K: 2, Segments: 50, P: 1e-20, Gain: 100, Bimodal: true, CutGain: 90, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 3e-4}}, 3, true},
 		// The split to 3 was made at 5e-5, 0.3 decades below Alpha; the
 		// one to 4 was turned down 3.5 decades above it.
-		{[]Split{{K: 2, Segments: 50, P: 1e-20, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 5e-5, Gain: 50, Bimodal: true, Made: true}, {K: 4, Segments: 30, P: 0.3}}, 2, true},
+		{[]Split{{K: 2, Segments: 50, P: 1e-20, Gain: 100, Bimodal: true, CutGain: 90, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 5e-5, Gain: 50, Bimodal: true, CutGain: 40, CutBimodal: true, Made: true}, {K: 4, Segments: 30, P: 0.3}}, 2, true},
 		// Nothing close: the runner-up is the split turned down at 0.2.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.2}}, 3, false},
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, CutGain: 90, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.2}}, 3, false},
 		// An untested split (too few segments) is no runner-up.
 		{[]Split{{K: 2, Segments: 0, P: 1}}, 0, false},
 		// The split to 3 passed the normality test far below Alpha but
 		// its BIC gain was 1 short of 0 (half a band): marginal.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -1, Bimodal: true}}, 3, true},
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, CutGain: 90, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -1, Bimodal: true}}, 3, true},
 		// The split to 2 was made with a gain of 1 (half a band), however
 		// small its p-value: marginal, the runner-up undoes it.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 1, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.3}}, 1, true},
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 1, Bimodal: true, CutGain: 1, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.3}}, 1, true},
 		// A split turned down because the fitted mixture has one mode is
 		// never close; the runner-up undoes the split made.
-		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -0.5}}, 1, false},
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, CutGain: 90, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: -0.5}}, 1, false},
+		// The split to 3 passed both free tests, but the mixture of its
+		// own two groups fell 1 short: marginal, at the cut's gain.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, CutGain: 90, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: 20, Bimodal: true, CutGain: -1, CutBimodal: true}}, 3, true},
+		// The same with its own groups giving one mode: never close.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, CutGain: 90, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 1e-12, Gain: 20, Bimodal: true, CutGain: 5}}, 1, false},
+		// A split made with a large free gain but a cut gain of 1 (half
+		// a band): marginal, the runner-up undoes it.
+		{[]Split{{K: 2, Segments: 50, P: 1e-30, Gain: 100, Bimodal: true, CutGain: 1, CutBimodal: true, Made: true}, {K: 3, Segments: 40, P: 0.3}}, 1, true},
 	}
 	for i, tt := range tests {
 		ch := &Choice{Alpha: Alpha, Splits: tt.splits}
@@ -257,5 +267,74 @@ func TestSegmentsRecurringWeeks(t *testing.T) {
 	want := []seg{{0, 0, 21}, {0, 21, 10}, {1, 31, 11}}
 	if !slices.Equal(got, want) {
 		t.Errorf("segments (regime, first row, windows) %v, want %v", got, want)
+	}
+}
+
+// A split is made only when the two modes its test finds are the two
+// groups it makes. Invented daily values, one feature, three weeks: 40
+// sites hold one state, each at its own level (normal, spread 1), and two
+// sites hold another far above them (10 and 12). Units stand for the
+// lower tail of the 40 (−1.2), their upper half (0.6) and the two far
+// sites (11). When the tree joins the far sites to the upper half first, as a
+// lattice can make Ward's criterion do when their units lie among the
+// upper half's, the top split cuts the lower tail off the rest: the
+// segment means are not normal and have two modes, but the two far sites
+// sit inside one group, so the split is not made. When the tree joins
+// the two halves first, the same segments support the split that cuts
+// the far sites off.
+func TestSplitMatchesItsModes(t *testing.T) {
+	rng := testRand(11)
+	var vals []float64
+	var seqs [][]int
+	site := func(level float64) {
+		var seq []int
+		for range 21 {
+			seq = append(seq, len(vals))
+			vals = append(vals, level+0.3*rng.NormFloat64())
+		}
+		seqs = append(seqs, seq)
+	}
+	for range 40 {
+		site(rng.NormFloat64())
+	}
+	site(10)
+	site(11)
+	site(12)
+	units := []float64{-1.2, 0.6, 11}
+	m := &Map{Lattice: lattice.Lattice{Cols: 3, Rows: 1, Flat: true}, Dim: 1, Codebook: units}
+	w := make([]float64, len(units)) // the windows each unit wins
+	asg := make([]Assignment, len(vals))
+	for i, v := range vals {
+		for u, c := range units {
+			if math.Abs(v-c) < math.Abs(v-units[asg[i].BMU]) {
+				asg[i].BMU = u
+			}
+		}
+		w[asg[i].BMU]++
+	}
+	win := &Windows{X: mat.NewDense(len(vals), 1, vals), Assignments: asg, Timelines: Timelines{Sequences: seqs, MinRun: 7}}
+	tests := []struct {
+		name string
+		tree []merge // node 3 first, then the root, node 4
+		k    int
+	}{
+		{"far sites inside the upper group", []merge{{a: 1, b: 2}, {a: 3, b: 0}}, 1},
+		{"far sites cut off", []merge{{a: 0, b: 1}, {a: 3, b: 2}}, 2},
+	}
+	for _, tt := range tests {
+		s := &splitter{m: m, w: w, tree: tt.tree, win: win, switchCost: 1}
+		_, ch, err := s.run(0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		top := ch.Splits[0]
+		// Without the test of the split's own groups, the top split
+		// would be made either way.
+		if !(top.P < Alpha && top.Gain > 0 && top.Bimodal) {
+			t.Errorf("%s: the top split tested p = %g, gain %.2f, bimodal %v; want it to pass the free tests", tt.name, top.P, top.Gain, top.Bimodal)
+		}
+		if ch.K != tt.k {
+			t.Errorf("%s: %d regimes (%+v), want %d", tt.name, ch.K, ch.Splits, tt.k)
+		}
 	}
 }

@@ -63,6 +63,14 @@ const (
 // gains favour two modes. A sample without spread, or
 // of fewer than four values, returns −Inf.
 func mixtureGain(x []float64) (gain float64, two bool) {
+	return powerGain(x, func(z []float64, common bool) (mixture, bool) { return fitMixture(z, common), true })
+}
+
+// powerGain is the comparison of mixtureGain with the two-normal
+// mixtures fitted by fit, which reports false when it has none for z:
+// fitted freely (mixtureGain) or taken from the split's own groups
+// (cutGain).
+func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) (gain float64, two bool) {
 	n := len(x)
 	if n < 4 {
 		return math.Inf(-1), false
@@ -84,27 +92,30 @@ func mixtureGain(x []float64) (gain float64, two bool) {
 		}
 		return jac
 	}
-	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
 	logN := math.Log(float64(n))
 	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
-	var fit mixture
+	var best mixture
 	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
 		jac := transform(lam)
 		if l := normalLogLik(z) + jac; l > best1 {
 			best1, at = l, lam
 		}
 		for _, common := range []bool{true, false} {
-			f := fitMixture(z, common)
-			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; b > best2 {
-				best2, fit, fitAt = b, f, lam
+			f, ok := fit(z, common)
+			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; ok && b > best2 {
+				best2, best, fitAt = b, f, lam
 			}
 		}
 	}
+	if math.IsInf(best2, -1) {
+		return best2, false
+	}
 	// One normal is cheap to fit: refine its power between the grid's
 	// neighbours of the best, so that the grid does not favour two modes.
+	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
 	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
 	lo, hi := slices.Min(std), slices.Max(std)
-	return best2 - 2*best1, fit.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2
+	return best2 - 2*best1, best.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2
 }
 
 // goldenMax returns the largest value of f found by a golden-section

@@ -524,54 +524,6 @@ func cutGain(x []float64, second []bool) (gain float64, two bool) {
 	})
 }
 
-// powerGain is the comparison of mixtureGain with the two-normal
-// mixtures fitted by fit, which reports false when it has none for z.
-func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) (gain float64, two bool) {
-	n := len(x)
-	if n < 4 {
-		return math.Inf(-1), false
-	}
-	mean, sd := meanSD(x)
-	if !(sd > 0) {
-		return math.Inf(-1), false
-	}
-	std := make([]float64, n)
-	for i, v := range x {
-		std[i] = (v - mean) / sd
-	}
-	z := make([]float64, n)
-	transform := func(lam float64) float64 { // fills z, returns the log-Jacobian
-		jac := 0.0
-		for i, v := range std {
-			z[i] = yeoJohnson(v, lam)
-			jac += yeoJohnsonLogSlope(v, lam)
-		}
-		return jac
-	}
-	logN := math.Log(float64(n))
-	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
-	var best mixture
-	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
-		jac := transform(lam)
-		if l := normalLogLik(z) + jac; l > best1 {
-			best1, at = l, lam
-		}
-		for _, common := range []bool{true, false} {
-			f, ok := fit(z, common)
-			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; ok && b > best2 {
-				best2, best, fitAt = b, f, lam
-			}
-		}
-	}
-	if math.IsInf(best2, -1) {
-		return best2, false
-	}
-	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
-	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
-	lo, hi := slices.Min(std), slices.Max(std)
-	return best2 - 2*best1, best.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2
-}
-
 func dot(a, b []float64) float64 {
 	var s float64
 	for i, v := range a {

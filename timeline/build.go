@@ -137,9 +137,9 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 		ids[k], centroids[k] = r.ID, r.Centroid
 	}
 	days := daysOf(seqs, ws, len(ids))
-	shared := learnShared(days, sites, ids, report)
+	shared := learnShared(days, ws, sites, ids, report)
 	for s := range seqs {
-		shared.apply(&seqs[s], cfg.SwitchCost)
+		shared.apply(days, s, ws, centroids, cfg.SwitchCost)
 	}
 	cal := learnCalendar(seqs, len(states))
 	var means []int

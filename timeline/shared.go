@@ -58,8 +58,74 @@ type sharedSlots struct {
 	// mix[at][a][r] is the weight of regime r in the mixture of regime a
 	// at slot at, for each regime a with a partner there; nil for the
 	// other regimes.
-	mix     map[slot][][]float64
+	mix map[slot][][]float64
+	// cells[at][r] sums the windows at slot at that are nearest regime r
+	// (see dayCell).
+	cells   map[slot][]dayCell
 	changes []Shared
+}
+
+// dayCell is the sum of some windows at one slot: n windows, and the
+// sum, sum of squares and count of each component over the windows where
+// it is not NaN.
+type dayCell struct {
+	n               int
+	sum, sq, counts []float64
+}
+
+// add adds the window x to c.
+func (c *dayCell) add(x []float64) {
+	if c.sum == nil {
+		c.sum, c.sq, c.counts = make([]float64, len(x)), make([]float64, len(x)), make([]float64, len(x))
+	}
+	c.n++
+	for i, v := range x {
+		if !math.IsNaN(v) {
+			c.sum[i] += v
+			c.sq[i] += v * v
+			c.counts[i]++
+		}
+	}
+}
+
+// distance is how far x lies from where the windows of c lie, leaving out
+// x itself when own (x one of them): the square root of the unbiased
+// estimate of the squared distance from x to their mean location,
+// ‖x − m‖² less the variance of the mean m, Σ sᵢ²/nᵢ (sᵢ² the sample
+// variance of component i over the nᵢ windows that have it), floored at
+// 0. The correction keeps a group of a few windows, whose mean is itself
+// uncertain, from costing more than a large one for that alone.
+// Components where x is NaN are left out, and those that fewer than two
+// windows have are measured to centre. It reports false when fewer than
+// two windows are left: one other window is no location of a group.
+func (c *dayCell) distance(x, centre []float64, own bool) (float64, bool) {
+	n := c.n
+	if own {
+		n--
+	}
+	if n < 2 {
+		return 0, false
+	}
+	var d2 float64
+	for i, v := range x {
+		if math.IsNaN(v) {
+			continue
+		}
+		s, sq, m := c.sum[i], c.sq[i], c.counts[i]
+		if own {
+			s, sq, m = s-v, sq-v*v, m-1
+		}
+		if m < 2 {
+			d := v - centre[i]
+			d2 += d * d
+			continue
+		}
+		mean := s / m
+		variance := max(sq-s*mean, 0) / (m - 1)
+		d := v - mean
+		d2 += d*d - variance/m
+	}
+	return math.Sqrt(max(d2, 0)), true
 }
 
 // fleetDays is the nearest regimes of the windows of a fleet by window
@@ -108,15 +174,30 @@ func daysOf(seqs []siteSeq, ws []features.Window, k int) fleetDays {
 // learnShared finds the slots at which some regime has a partner other
 // than itself, by the test of partners on the fleet's windows f by their
 // site's home regime, and returns the mixture of each such
-// regime there and the shared conditions they make; sites are the
+// regime there, the windows there by nearest regime, and the shared
+// conditions they make; ws are the windows the sequences index, sites the
 // sequences' site names and ids the regime IDs. A condition that the
 // weekly calendar of the same windows explains (see learnCalendar), such
 // as an office's weekend, is decoded alike but not reported: it is the
 // sites' week, not an event.
-func learnShared(f fleetDays, sites []string, ids, report []int) sharedSlots {
+func learnShared(f fleetDays, ws []features.Window, sites []string, ids, report []int) sharedSlots {
 	k, seqs := len(ids), f.seqs
 	partner := partners(f.counts, k)
-	out := sharedSlots{mix: map[slot][][]float64{}}
+	out := sharedSlots{mix: map[slot][][]float64{}, cells: map[slot][]dayCell{}}
+	for s, q := range seqs {
+		for j, i := range q.idx {
+			at := slot{q.weeks[j], q.phases[j]}
+			if partner[at] == nil {
+				continue
+			}
+			c, ok := out.cells[at]
+			if !ok {
+				c = make([]dayCell, k)
+				out.cells[at] = c
+			}
+			c[f.near[s][j]].add(ws[i].Scaled)
+		}
+	}
 	for at, p := range partner {
 		c := f.counts[at]
 		m := make([][]float64, k)
@@ -137,18 +218,32 @@ func learnShared(f fleetDays, sites []string, ids, report []int) sharedSlots {
 	return out
 }
 
-// apply measures the windows of q in each regime that has a partner at
-// their slot against the regime's mixture there, at scale tau.
-func (sh sharedSlots) apply(q *siteSeq, tau float64) {
-	for j := range q.costs {
-		m := sh.mix[slot{q.weeks[j], q.phases[j]}]
+// apply measures the windows of the site s of f at the slots where some
+// regime has a partner against what the fleet shows there (see above):
+// each regime r is taken where the windows nearest r lie at that slot,
+// the site's own window left out (a group of fewer than two other windows
+// at r's centroid), and a regime a with a partner b is the mixture of its
+// own and b's there. ws are the windows, centroids the regimes' and tau
+// the scale.
+func (sh sharedSlots) apply(f fleetDays, s int, ws []features.Window, centroids [][]float64, tau float64) {
+	q, k := &f.seqs[s], f.k
+	day := make([]float64, k)
+	for j, i := range q.idx {
+		at := slot{q.weeks[j], q.phases[j]}
+		m, cells := sh.mix[at], sh.cells[at]
 		if m == nil {
 			continue
 		}
-		raw := slices.Clone(q.costs[j])
+		for r := range k {
+			day[r] = q.costs[j][r]
+			if d, ok := cells[r].distance(ws[i].Scaled, centroids[r], f.near[s][j] == r); ok {
+				day[r] = d
+			}
+		}
 		for a, w := range m {
+			q.costs[j][a] = day[a]
 			if w != nil {
-				q.costs[j][a] = mixture(raw, w, tau)
+				q.costs[j][a] = mixture(day, w, tau)
 			}
 		}
 	}

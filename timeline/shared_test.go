@@ -8,6 +8,9 @@ import (
 	"testing"
 	"time"
 
+	"gonum.org/v1/gonum/floats"
+
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -254,5 +257,72 @@ func TestSharedHolds(t *testing.T) {
 		if got := tt.sh.Holds(tt.s); got != tt.want {
 			t.Errorf("%+v holds %+v: %t, want %t", tt.sh, tt.s, got, tt.want)
 		}
+	}
+}
+
+func TestBuildSharedStormSwitch(t *testing.T) {
+	// Ten sites of regime 1 and four of regime 3 for 20 days, in three
+	// dimensions: regime 1 at the origin, 2 at (10, 0, 0), 3 at (0, 10, 0).
+	// On days 10 and 11 a storm moves every window by (6, 0, 20), far off
+	// every centroid: regime 1's windows are then nearest 2, a shared
+	// condition, and regime 3's stay nearest 3. Site "s" changes from
+	// regime 1 to 3 on day 10, the first storm day, and keeps it; its storm
+	// windows, at (9, 7, 20), are nearer 2's centroid than 3's, but nearer
+	// where regime 3's sites are that day than where regime 1's are. Read
+	// against the fleet of its day (peer group analysis, Bolton and Hand
+	// 2001) the switch is on day 10; read against the centroids alone,
+	// where the storm is equally far from all, it was dated after the
+	// storm, on day 12, out of the tolerance of a day.
+	m := testModel()
+	m.Map.Dim, m.Map.Codebook = 3, []float64{0, 0, 0, 10, 0, 0, 0, 10, 0}
+	for i, c := range [][]float64{{0, 0, 0}, {10, 0, 0}, {0, 10, 0}} {
+		m.Regimes[i].Centroid = c
+	}
+	storm := []float64{6, 0, 20}
+	var ws []features.Window
+	add := func(site string, d int, x []float64) {
+		start := day0.AddDate(0, 0, d)
+		ws = append(ws, features.Window{Site: site, Start: start, End: start.AddDate(0, 0, 1), Scaled: x, QE: 0.1})
+	}
+	for d := range 20 {
+		for i := range 14 {
+			x := slices.Clone(m.Regimes[0].Centroid)
+			if i >= 10 {
+				x = slices.Clone(m.Regimes[2].Centroid)
+			}
+			// A small spread, so that the regimes' sites are not all
+			// alike: ±0.5 in the first component.
+			x[0] += float64(i%3-1) * 0.5
+			if d == 10 || d == 11 {
+				floats.Add(x, storm)
+			}
+			add(fmt.Sprintf("r%02d", i), d, x)
+		}
+		var x []float64
+		switch {
+		case d < 10:
+			x = []float64{0, 0, 0}
+		case d < 12:
+			x = []float64{9, 7, 20}
+		default:
+			x = []float64{0, 10, 0}
+		}
+		add("s", d, x)
+	}
+	res, err := Build(m, ws, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := Switch{Site: "s", Time: day0.AddDate(0, 0, 10), Onset: day0.AddDate(0, 0, 10), From: 1, To: 3, Before: 10, After: 10}
+	if len(res.Switches) != 1 {
+		t.Fatalf("switches %+v, want only %+v", res.Switches, want)
+	}
+	got := res.Switches[0]
+	got.Confidence = 0
+	if got != want {
+		t.Errorf("switch %+v, want %+v", got, want)
+	}
+	if len(res.Shared) != 1 || res.Shared[0].Regime != 1 || res.Shared[0].Like != 2 {
+		t.Errorf("shared %+v, want one condition of regime 1 like 2", res.Shared)
 	}
 }

@@ -27,7 +27,9 @@ import (
 // (a storm, a heat wave, a holiday), significantly more often than a's
 // sites do at other times, a window at that time is measured in regime a
 // against what a's sites show there, a mixture of the regimes in the
-// shares of a's sites nearest each (see shared.go). A change that most of
+// shares of a's sites nearest each, and every regime at that time is
+// measured where the windows nearest it lie then rather than at its
+// centroid (see shared.go). A change that most of
 // a regime's sites make at once is then read as a shared condition, not as
 // switches, and Result.Shared lists it with its sites; one site's change
 // is still a switch.

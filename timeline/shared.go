@@ -44,6 +44,23 @@ import (
 // that are nearest a third regime at their usual rate are switches of
 // their own and are left out of the shares.
 //
+// At such a time d_r, the cost of x in any regime r, is measured to where
+// the windows nearest r lie there, not to r's centroid: the mean of those
+// windows, the site's own left out, with the squared distance less the
+// variance of that mean (Σ sᵢ²/nᵢ over the components, the usual
+// correction that makes ‖x − mean‖² unbiased for the squared distance to
+// the group's true location), so that a group of a few windows does not
+// cost more than a large one for the uncertainty of its mean alone. A
+// group of fewer than two other windows is taken at r's centroid. A storm
+// can carry every window far off every centroid, and then the centroids
+// tell the regimes apart no better than the storm's noise does (on the
+// wind-turbine fleet, costs of 11.7 to 14.5 against 2 to 8 on other days):
+// a site that switched on the storm's first day and kept its new regime
+// had its switch dated after the storm. Where the windows of the new
+// regime's sites lie that day still tells them from the others. This
+// compares a window with the fleet of its own day, which is peer group
+// analysis taken one step further; the mixture weights are unchanged.
+//
 // Measuring a against b's centroid alone (w_b = 1), as an earlier version
 // did, made a and b cost the same there even when the condition carried
 // only half of a's sites; a switch between a and b next to such a day

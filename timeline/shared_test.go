@@ -92,15 +92,7 @@ func TestBuildSharedPartial(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := Switch{Site: "s", Time: day0.AddDate(0, 0, 2+9), Onset: day0.AddDate(0, 0, 2+9), From: 1, To: 2, Before: 9, After: 12}
-	if len(res.Switches) != 1 {
-		t.Fatalf("switches %v, want only %v", res.Switches, want)
-	}
-	got := res.Switches[0]
-	got.Confidence = 0
-	if got != want {
-		t.Errorf("switch %+v, want %+v", got, want)
-	}
+	onlySwitch(t, res.Switches, Switch{Site: "s", Time: day0.AddDate(0, 0, 2+9), Onset: day0.AddDate(0, 0, 2+9), From: 1, To: 2, Before: 9, After: 12})
 	// The storm is reported: six of the nine sites of regime 1 looked
 	// like regime 2 on days 9 and 10.
 	wantShared := Shared{Start: day0.AddDate(0, 0, 2+9), End: day0.AddDate(0, 0, 2+11), Regime: 1, Like: 2,
@@ -313,16 +305,21 @@ func TestBuildSharedStormSwitch(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := Switch{Site: "s", Time: day0.AddDate(0, 0, 10), Onset: day0.AddDate(0, 0, 10), From: 1, To: 3, Before: 10, After: 10}
-	if len(res.Switches) != 1 {
-		t.Fatalf("switches %+v, want only %+v", res.Switches, want)
+	onlySwitch(t, res.Switches, Switch{Site: "s", Time: day0.AddDate(0, 0, 10), Onset: day0.AddDate(0, 0, 10), From: 1, To: 3, Before: 10, After: 10})
+	if len(res.Shared) != 1 || res.Shared[0].Regime != 1 || res.Shared[0].Like != 2 {
+		t.Errorf("shared %+v, want one condition of regime 1 like 2", res.Shared)
 	}
-	got := res.Switches[0]
+}
+
+// onlySwitch checks that switches is want alone, whatever its confidence.
+func onlySwitch(t *testing.T, switches []Switch, want Switch) {
+	t.Helper()
+	if len(switches) != 1 {
+		t.Fatalf("switches %+v, want only %+v", switches, want)
+	}
+	got := switches[0]
 	got.Confidence = 0
 	if got != want {
 		t.Errorf("switch %+v, want %+v", got, want)
-	}
-	if len(res.Shared) != 1 || res.Shared[0].Regime != 1 || res.Shared[0].Like != 2 {
-		t.Errorf("shared %+v, want one condition of regime 1 like 2", res.Shared)
 	}
 }

@@ -69,15 +69,16 @@ import (
 // shared days move about half of the sites, that cost one true switch in
 // 40 on one draw and three on the other.
 
-// sharedSlots is what the fleet shows at the window times where some
-// regime has a partner (see learnShared).
+// sharedSlots is what the fleet shows at each window time (see
+// learnShared).
 type sharedSlots struct {
 	// mix[at][a][r] is the weight of regime r in the mixture of regime a
 	// at slot at, for each regime a with a partner there; nil for the
 	// other regimes.
 	mix map[slot][][]float64
-	// cells[at][r] sums the windows at slot at that are nearest regime r
-	// (see dayCell).
+	// cells[at][r] sums the windows at slot at that are nearest regime
+	// r (see dayCell): where some regime has a partner there, all of
+	// them; elsewhere, those of the sites whose home is r.
 	cells   map[slot][]dayCell
 	changes []Shared
 }
@@ -203,8 +204,8 @@ func learnShared(f fleetDays, ws []features.Window, sites []string, ids, report 
 	out := sharedSlots{mix: map[slot][][]float64{}, cells: map[slot][]dayCell{}}
 	for s, q := range seqs {
 		for j, i := range q.idx {
-			at := slot{q.weeks[j], q.phases[j]}
-			if partner[at] == nil {
+			at, r := slot{q.weeks[j], q.phases[j]}, f.near[s][j]
+			if partner[at] == nil && f.homes[s] != r {
 				continue
 			}
 			c, ok := out.cells[at]
@@ -212,7 +213,7 @@ func learnShared(f fleetDays, ws []features.Window, sites []string, ids, report 
 				c = make([]dayCell, k)
 				out.cells[at] = c
 			}
-			c[f.near[s][j]].add(ws[i].Scaled)
+			c[r].add(ws[i].Scaled)
 		}
 	}
 	for at, p := range partner {
@@ -235,25 +236,24 @@ func learnShared(f fleetDays, ws []features.Window, sites []string, ids, report 
 	return out
 }
 
-// apply measures the windows of the site s of f at the slots where some
-// regime has a partner against what the fleet shows there (see above):
-// each regime r is taken where the windows nearest r lie at that slot,
-// the site's own window left out (a group of fewer than two other windows
-// at r's centroid), and a regime a with a partner b is the mixture of its
-// own and b's there. ws are the windows, centroids the regimes' and tau
-// the scale.
+// apply measures the windows of the site s of f against what the fleet
+// shows at their slot (see above): each regime r is taken where the
+// windows of cells nearest r lie there, the site's own window left out (a
+// group of fewer than two other windows at r's centroid), and where a
+// regime a has a partner b, a is the mixture of its own and b's there.
+// ws are the windows, centroids the regimes' and tau the scale.
 func (sh sharedSlots) apply(f fleetDays, s int, ws []features.Window, centroids [][]float64, tau float64) {
 	q, k := &f.seqs[s], f.k
 	day := make([]float64, k)
 	for j, i := range q.idx {
 		at := slot{q.weeks[j], q.phases[j]}
 		m, cells := sh.mix[at], sh.cells[at]
-		if m == nil {
-			continue
-		}
-		for r := range k {
+		for r, c := range cells {
+			// Outside shared days a window is in a cell only when
+			// its site's home is that regime.
+			own := f.near[s][j] == r && (m != nil || f.homes[s] == r)
 			day[r] = q.costs[j][r]
-			if d, ok := cells[r].distance(ws[i].Scaled, centroids[r], f.near[s][j] == r); ok {
+			if d, ok := c.distance(ws[i].Scaled, centroids[r], own); ok {
 				day[r] = d
 			}
 		}
@@ -262,6 +262,9 @@ func (sh sharedSlots) apply(f fleetDays, s int, ws []features.Window, centroids 
 			if w != nil {
 				q.costs[j][a] = mixture(day, w, tau)
 			}
+		}
+		if m == nil && cells != nil {
+			copy(q.costs[j], day)
 		}
 	}
 }

@@ -265,17 +265,10 @@ func TestBuildSharedStormSwitch(t *testing.T) {
 	// 2001) the switch is on day 10; read against the centroids alone,
 	// where the storm is equally far from all, it was dated after the
 	// storm, on day 12, out of the tolerance of a day.
-	m := testModel()
-	m.Map.Dim, m.Map.Codebook = 3, []float64{0, 0, 0, 10, 0, 0, 0, 10, 0}
-	for i, c := range [][]float64{{0, 0, 0}, {10, 0, 0}, {0, 10, 0}} {
-		m.Regimes[i].Centroid = c
-	}
+	m := solidModel()
 	storm := []float64{6, 0, 20}
 	var ws []features.Window
-	add := func(site string, d int, x []float64) {
-		start := day0.AddDate(0, 0, d)
-		ws = append(ws, features.Window{Site: site, Start: start, End: start.AddDate(0, 0, 1), Scaled: x, QE: 0.1})
-	}
+	add := func(site string, d int, x []float64) { ws = append(ws, dayWindow(site, d, x)) }
 	for d := range 20 {
 		for i := range 14 {
 			x := slices.Clone(m.Regimes[0].Centroid)
@@ -321,5 +314,64 @@ func onlySwitch(t *testing.T, switches []Switch, want Switch) {
 	got.Confidence = 0
 	if got != want {
 		t.Errorf("switch %+v, want %+v", got, want)
+	}
+}
+
+// solidModel is testModel in three dimensions: regime 1 at the origin, 2
+// at (10, 0, 0) and 3 at (0, 10, 0), with a switch cost of 1.
+func solidModel() *model.Model {
+	m := testModel()
+	m.Map.Dim, m.Map.Codebook = 3, []float64{0, 0, 0, 10, 0, 0, 0, 10, 0}
+	for i, c := range [][]float64{{0, 0, 0}, {10, 0, 0}, {0, 10, 0}} {
+		m.Regimes[i].Centroid = c
+	}
+	return m
+}
+
+// dayWindow is site's familiar window on day d from day0, at x.
+func dayWindow(site string, d int, x []float64) features.Window {
+	start := day0.AddDate(0, 0, d)
+	return features.Window{Site: site, Start: start, End: start.AddDate(0, 0, 1), Scaled: x, QE: 0.1}
+}
+
+func TestBuildPeersOfTheDay(t *testing.T) {
+	// Six sites of regime 1 and four of regime 2 for 20 days. Over the
+	// last three days a change of season moves every window by
+	// (0, 0, 300), far along a direction in which no regime differs: every
+	// window stays nearest its own regime, so no regime has a partner,
+	// but a window at (10, 0, 300) is only 0.17 nearer regime 2's centroid
+	// than regime 1's. Site "s" changes from regime 1 to 2 on day 17 and
+	// keeps it. Against the centroids its last three windows favour
+	// regime 2 by 0.5 in all, less than the switch cost of 1, and the
+	// switch was lost; against where each regime's sites lie that day
+	// (peer group analysis, Bolton and Hand 2001), they favour it by 10
+	// each.
+	m := solidModel()
+	var ws []features.Window
+	for d := range 20 {
+		shift := 0.0
+		if d >= 17 {
+			shift = 300
+		}
+		for i := range 10 {
+			x := slices.Clone(m.Regimes[min(i/6, 1)].Centroid)
+			x[0] += float64(i%3-1) * 0.5
+			x[2] += shift
+			ws = append(ws, dayWindow(fmt.Sprintf("r%02d", i), d, x))
+		}
+		x := slices.Clone(m.Regimes[0].Centroid)
+		if d >= 17 {
+			x = slices.Clone(m.Regimes[1].Centroid)
+		}
+		x[2] += shift
+		ws = append(ws, dayWindow("s", d, x))
+	}
+	res, err := Build(m, ws, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	onlySwitch(t, res.Switches, Switch{Site: "s", Time: day0.AddDate(0, 0, 17), Onset: day0.AddDate(0, 0, 17), From: 1, To: 2, Before: 17, After: 3})
+	if len(res.Shared) != 0 {
+		t.Errorf("shared %+v, want none: the season moved every regime alike", res.Shared)
 	}
 }

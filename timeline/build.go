@@ -29,7 +29,8 @@ import (
 // against what a's sites show there, a mixture of the regimes in the
 // shares of a's sites nearest each, and every regime at that time is
 // measured where the windows nearest it lie then rather than at its
-// centroid (see shared.go). A change that most of
+// centroid (see shared.go). At other times a regime is measured where its
+// own sites' windows nearest it lie then. A change that most of
 // a regime's sites make at once is then read as a shared condition, not as
 // switches, and Result.Shared lists it with its sites; one site's change
 // is still a switch.

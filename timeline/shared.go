@@ -61,6 +61,23 @@ import (
 // compares a window with the fleet of its own day, which is peer group
 // analysis taken one step further; the mixture weights are unchanged.
 //
+// On the other days the same holds with peers chosen by their history, as
+// Bolton and Hand choose them: regime r is measured where the windows of
+// the sites whose home is r lie that day, of those nearest r. A season, a
+// heat wave that moves every regime alike, or any drift of the whole fleet
+// off the centroids that does not make one regime look like another, then
+// no longer dilutes a site's evidence (the ends of the wind-turbine fleet's
+// record, where the season has moved every site, had switches three
+// windows from the edge favour their new regime by less than one switch
+// cost). Both restrictions matter. Peers taken by the day's nearest regime
+// alone are chosen by being near it, so a handful of them pulls a
+// regime's location towards themselves and makes it cheap for the sites
+// among them (on the air-handling fleet, sites held the weekend phase on
+// weekdays); peers taken by their home alone mix a small regime's sites
+// that are in it that day with those that are not (on the weather-mast
+// fleet, an exposed site cost less in the iced regime than in its own for
+// four days, and its real icing was lost).
+//
 // Measuring a against b's centroid alone (w_b = 1), as an earlier version
 // did, made a and b cost the same there even when the condition carried
 // only half of a's sites; a switch between a and b next to such a day

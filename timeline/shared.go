@@ -209,8 +209,9 @@ func daysOf(seqs []siteSeq, ws []features.Window, k int) fleetDays {
 // learnShared finds the slots at which some regime has a partner other
 // than itself, by the test of partners on the fleet's windows f by their
 // site's home regime, and returns the mixture of each such
-// regime there, the windows there by nearest regime, and the shared
-// conditions they make; ws are the windows the sequences index, sites the
+// regime there, the windows of every slot by nearest regime (see
+// sharedSlots.cells), and the shared conditions they make; ws are the
+// windows the sequences index, sites the
 // sequences' site names and ids the regime IDs. A condition that the
 // weekly calendar of the same windows explains (see learnCalendar), such
 // as an office's weekend, is decoded alike but not reported: it is the

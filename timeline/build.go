@@ -27,7 +27,10 @@ import (
 // (a storm, a heat wave, a holiday), significantly more often than a's
 // sites do at other times, a window at that time is measured in regime a
 // against what a's sites show there, a mixture of the regimes in the
-// shares of a's sites nearest each (see shared.go). A change that most of
+// shares of a's sites nearest each, and every regime at that time is
+// measured where the windows nearest it lie then rather than at its
+// centroid (see shared.go). At other times a regime is measured where its
+// own sites' windows nearest it lie then. A change that most of
 // a regime's sites make at once is then read as a shared condition, not as
 // switches, and Result.Shared lists it with its sites; one site's change
 // is still a switch.
@@ -137,9 +140,9 @@ func BuildFrom(m *model.Model, ws []features.Window, cfg Config, priors map[stri
 		ids[k], centroids[k] = r.ID, r.Centroid
 	}
 	days := daysOf(seqs, ws, len(ids))
-	shared := learnShared(days, sites, ids, report)
+	shared := learnShared(days, ws, sites, ids, report)
 	for s := range seqs {
-		shared.apply(&seqs[s], cfg.SwitchCost)
+		shared.apply(days, s, ws, centroids, cfg.SwitchCost)
 	}
 	cal := learnCalendar(seqs, len(states))
 	var means []int

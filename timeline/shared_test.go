@@ -8,6 +8,9 @@ import (
 	"testing"
 	"time"
 
+	"gonum.org/v1/gonum/floats"
+
+	"github.com/kinmap/kinmap/features"
 	"github.com/kinmap/kinmap/model"
 )
 
@@ -89,15 +92,7 @@ func TestBuildSharedPartial(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := Switch{Site: "s", Time: day0.AddDate(0, 0, 2+9), Onset: day0.AddDate(0, 0, 2+9), From: 1, To: 2, Before: 9, After: 12}
-	if len(res.Switches) != 1 {
-		t.Fatalf("switches %v, want only %v", res.Switches, want)
-	}
-	got := res.Switches[0]
-	got.Confidence = 0
-	if got != want {
-		t.Errorf("switch %+v, want %+v", got, want)
-	}
+	onlySwitch(t, res.Switches, Switch{Site: "s", Time: day0.AddDate(0, 0, 2+9), Onset: day0.AddDate(0, 0, 2+9), From: 1, To: 2, Before: 9, After: 12})
 	// The storm is reported: six of the nine sites of regime 1 looked
 	// like regime 2 on days 9 and 10.
 	wantShared := Shared{Start: day0.AddDate(0, 0, 2+9), End: day0.AddDate(0, 0, 2+11), Regime: 1, Like: 2,
@@ -254,5 +249,129 @@ func TestSharedHolds(t *testing.T) {
 		if got := tt.sh.Holds(tt.s); got != tt.want {
 			t.Errorf("%+v holds %+v: %t, want %t", tt.sh, tt.s, got, tt.want)
 		}
+	}
+}
+
+func TestBuildSharedStormSwitch(t *testing.T) {
+	// Ten sites of regime 1 and four of regime 3 for 20 days, in three
+	// dimensions: regime 1 at the origin, 2 at (10, 0, 0), 3 at (0, 10, 0).
+	// On days 10 and 11 a storm moves every window by (6, 0, 20), far off
+	// every centroid: regime 1's windows are then nearest 2, a shared
+	// condition, and regime 3's stay nearest 3. Site "s" changes from
+	// regime 1 to 3 on day 10, the first storm day, and keeps it; its storm
+	// windows, at (9, 7, 20), are nearer 2's centroid than 3's, but nearer
+	// where regime 3's sites are that day than where regime 1's are. Read
+	// against the fleet of its day (peer group analysis, Bolton and Hand
+	// 2001) the switch is on day 10; read against the centroids alone,
+	// where the storm is equally far from all, it was dated after the
+	// storm, on day 12, out of the tolerance of a day.
+	m := solidModel()
+	storm := []float64{6, 0, 20}
+	var ws []features.Window
+	add := func(site string, d int, x []float64) { ws = append(ws, dayWindow(site, d, x)) }
+	for d := range 20 {
+		for i := range 14 {
+			x := slices.Clone(m.Regimes[0].Centroid)
+			if i >= 10 {
+				x = slices.Clone(m.Regimes[2].Centroid)
+			}
+			// A small spread, so that the regimes' sites are not all
+			// alike: ±0.5 in the first component.
+			x[0] += float64(i%3-1) * 0.5
+			if d == 10 || d == 11 {
+				floats.Add(x, storm)
+			}
+			add(fmt.Sprintf("r%02d", i), d, x)
+		}
+		var x []float64
+		switch {
+		case d < 10:
+			x = []float64{0, 0, 0}
+		case d < 12:
+			x = []float64{9, 7, 20}
+		default:
+			x = []float64{0, 10, 0}
+		}
+		add("s", d, x)
+	}
+	res, err := Build(m, ws, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	onlySwitch(t, res.Switches, Switch{Site: "s", Time: day0.AddDate(0, 0, 10), Onset: day0.AddDate(0, 0, 10), From: 1, To: 3, Before: 10, After: 10})
+	if len(res.Shared) != 1 || res.Shared[0].Regime != 1 || res.Shared[0].Like != 2 {
+		t.Errorf("shared %+v, want one condition of regime 1 like 2", res.Shared)
+	}
+}
+
+// onlySwitch checks that switches is want alone, whatever its confidence.
+func onlySwitch(t *testing.T, switches []Switch, want Switch) {
+	t.Helper()
+	if len(switches) != 1 {
+		t.Fatalf("switches %+v, want only %+v", switches, want)
+	}
+	got := switches[0]
+	got.Confidence = 0
+	if got != want {
+		t.Errorf("switch %+v, want %+v", got, want)
+	}
+}
+
+// solidModel is testModel in three dimensions: regime 1 at the origin, 2
+// at (10, 0, 0) and 3 at (0, 10, 0), with a switch cost of 1.
+func solidModel() *model.Model {
+	m := testModel()
+	m.Map.Dim, m.Map.Codebook = 3, []float64{0, 0, 0, 10, 0, 0, 0, 10, 0}
+	for i, c := range [][]float64{{0, 0, 0}, {10, 0, 0}, {0, 10, 0}} {
+		m.Regimes[i].Centroid = c
+	}
+	return m
+}
+
+// dayWindow is site's familiar window on day d from day0, at x.
+func dayWindow(site string, d int, x []float64) features.Window {
+	start := day0.AddDate(0, 0, d)
+	return features.Window{Site: site, Start: start, End: start.AddDate(0, 0, 1), Scaled: x, QE: 0.1}
+}
+
+func TestBuildPeersOfTheDay(t *testing.T) {
+	// Six sites of regime 1 and four of regime 2 for 20 days. Over the
+	// last three days a change of season moves every window by
+	// (0, 0, 300), far along a direction in which no regime differs: every
+	// window stays nearest its own regime, so no regime has a partner,
+	// but a window at (10, 0, 300) is only 0.17 nearer regime 2's centroid
+	// than regime 1's. Site "s" changes from regime 1 to 2 on day 17 and
+	// keeps it. Against the centroids its last three windows favour
+	// regime 2 by 0.5 in all, less than the switch cost of 1, and the
+	// switch was lost; against where each regime's sites lie that day
+	// (peer group analysis, Bolton and Hand 2001), they favour it by 10
+	// each.
+	m := solidModel()
+	var ws []features.Window
+	for d := range 20 {
+		shift := 0.0
+		if d >= 17 {
+			shift = 300
+		}
+		for i := range 10 {
+			x := slices.Clone(m.Regimes[min(i/6, 1)].Centroid)
+			x[0] += float64(i%3-1) * 0.5
+			x[2] += shift
+			ws = append(ws, dayWindow(fmt.Sprintf("r%02d", i), d, x))
+		}
+		x := slices.Clone(m.Regimes[0].Centroid)
+		if d >= 17 {
+			x = slices.Clone(m.Regimes[1].Centroid)
+		}
+		x[2] += shift
+		ws = append(ws, dayWindow("s", d, x))
+	}
+	res, err := Build(m, ws, Config{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	onlySwitch(t, res.Switches, Switch{Site: "s", Time: day0.AddDate(0, 0, 17), Onset: day0.AddDate(0, 0, 17), From: 1, To: 2, Before: 17, After: 3})
+	if len(res.Shared) != 0 {
+		t.Errorf("shared %+v, want none: the season moved every regime alike", res.Shared)
 	}
 }

@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/parallel"
 	"github.com/kinmap/kinmap/internal/quantile"
 )
 
@@ -36,29 +37,44 @@ func Levels(ds *ingest.Dataset, ws []Window, group []int, k int, channels []stri
 	for _, s := range ds.Sites {
 		bySite[s.ID] = s
 	}
-	for lo := 0; lo < len(ws); {
-		hi := lo + 1
-		for hi < len(ws) && ws[hi].Site == ws[lo].Site {
-			hi++
+	eachSite := func(add func(g, c int, v []float64)) {
+		for lo := 0; lo < len(ws); {
+			hi := lo + 1
+			for hi < len(ws) && ws[hi].Site == ws[lo].Site {
+				hi++
+			}
+			if site := bySite[ws[lo].Site]; site != nil {
+				SiteReadings(site, ws[lo:hi], group[lo:hi], k, channels, add)
+			}
+			lo = hi
 		}
-		if site := bySite[ws[lo].Site]; site != nil {
-			SiteReadings(site, ws[lo:hi], group[lo:hi], k, channels, func(g, c int, v []float64) {
-				vals[g][c] = append(vals[g][c], v...)
-			})
-		}
-		lo = hi
 	}
-	groups = make([][]Level, k)
-	for g := range k {
-		groups[g] = make([]Level, len(channels))
-		for c, ch := range channels {
-			groups[g][c] = LevelOf(ch, vals[g][c])
+	// Count first, then copy once: growing the lists as they fill moved
+	// every reading several times.
+	count := make([]int, (k+1)*len(channels))
+	eachSite(func(g, c int, v []float64) { count[g*len(channels)+c] += len(v) })
+	for g := range vals {
+		for c := range vals[g] {
+			vals[g][c] = make([]float64, 0, count[g*len(channels)+c])
 		}
+	}
+	eachSite(func(g, c int, v []float64) { vals[g][c] = append(vals[g][c], v...) })
+	groups = make([][]Level, k)
+	for g := range groups {
+		groups[g] = make([]Level, len(channels))
 	}
 	all = make([]Level, len(channels))
-	for c, ch := range channels {
-		all[c] = LevelOf(ch, vals[k][c])
-	}
+	n := len(channels)
+	// All windows' readings first: the largest piece of work.
+	parallel.For[struct{}]((k+1)*n, 0, nil, func(_ struct{}, i int) {
+		g, c := k-i/n, i%n
+		l := LevelOf(channels[c], vals[g][c])
+		if g == k {
+			all[c] = l
+		} else {
+			groups[g][c] = l
+		}
+	})
 	return groups, all
 }
 
@@ -89,12 +105,11 @@ func SiteReadings(site *ingest.SiteData, ws []Window, group []int, k int, channe
 }
 
 // LevelOf returns the level of channel ch over the readings v, which it
-// sorts.
+// reorders.
 func LevelOf(ch string, v []float64) Level {
 	l := Level{Channel: ch, Readings: len(v), Median: math.NaN(), P95: math.NaN()}
 	if len(v) > 0 {
-		slices.Sort(v)
-		l.Median, l.P95 = quantile.Sorted(v, 0.5), quantile.Sorted(v, 0.95)
+		l.Median, l.P95 = quantile.Unsorted(v, 0.5), quantile.Unsorted(v, 0.95)
 	}
 	return l
 }

@@ -78,6 +78,47 @@ func TestSortedAgreesWithNumpy(t *testing.T) {
 			if got := Sorted(samples[s], p); math.Abs(got-w) > 1e-12*(1+math.Abs(w)) {
 				t.Errorf("n=%d p=%g: %g, numpy %g", len(samples[s]), p, got, w)
 			}
+			shuffled := slices.Clone(samples[s])
+			rng.Shuffle(len(shuffled), func(i, j int) { shuffled[i], shuffled[j] = shuffled[j], shuffled[i] })
+			if got := Unsorted(shuffled, p); math.Abs(got-w) > 1e-12*(1+math.Abs(w)) {
+				t.Errorf("unsorted, n=%d p=%g: %g, numpy %g", len(samples[s]), p, got, w)
+			}
+		}
+	}
+}
+
+// Unsorted gives what Sorted gives of the same values sorted, on samples
+// in every order, with runs of ties (a stuck channel) and all equal.
+func TestUnsortedMatchesSorted(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 5))
+	for _, n := range []int{1, 2, 3, 4, 7, 100, 1001, 20000} {
+		for _, kind := range []string{"normal", "ties", "equal", "ascending", "descending"} {
+			x := make([]float64, n)
+			for i := range x {
+				switch kind {
+				case "normal":
+					x[i] = rng.NormFloat64()
+				case "ties":
+					x[i] = float64(rng.IntN(4))
+				case "equal":
+					x[i] = 2.5
+				case "ascending":
+					x[i] = float64(i)
+				case "descending":
+					x[i] = float64(-i)
+				}
+			}
+			sorted := slices.Sorted(slices.Values(x))
+			for _, p := range []float64{0, 0.05, 0.5, 0.95, 0.999, 1} {
+				y := slices.Clone(x)
+				if got, want := Unsorted(y, p), Sorted(sorted, p); got != want {
+					t.Errorf("%s n=%d p=%g: %g, sorted %g", kind, n, p, got, want)
+				}
+				slices.Sort(y)
+				if !slices.Equal(y, sorted) {
+					t.Fatalf("%s n=%d: Unsorted lost or changed values", kind, n)
+				}
+			}
 		}
 	}
 }

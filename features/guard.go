@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/quantile"
 )
 
 // MaxWindows is the most windows Extract cuts over all sites of a dataset,
@@ -125,6 +126,5 @@ func sampleStep(times []int64) int64 {
 	for i := range d {
 		d[i] = times[i+1] - times[i]
 	}
-	slices.Sort(d)
-	return d[len(d)/2]
+	return quantile.Select(d, len(d)/2)
 }

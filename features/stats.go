@@ -361,12 +361,12 @@ func (w *worker) medianStep(times []int64) int64 {
 	for i := 1; i < len(times); i++ {
 		w.diffs = append(w.diffs, times[i]-times[i-1])
 	}
-	slices.Sort(w.diffs)
 	m := len(w.diffs) / 2
 	if len(w.diffs)%2 == 1 {
-		return w.diffs[m]
+		return quantile.Select(w.diffs, m)
 	}
-	return w.diffs[m-1] + (w.diffs[m]-w.diffs[m-1])/2
+	lo := quantile.Select(w.diffs, m-1)
+	return lo + (slices.Min(w.diffs[m:])-lo)/2
 }
 
 // floorMod is the remainder of a/b with the sign of b.

@@ -7,7 +7,10 @@
 // distribution and an interpolation at position n·p, definition 4, not 7.)
 package quantile
 
-import "slices"
+import (
+	"cmp"
+	"slices"
+)
 
 // Position returns where quantile p in [0, 1] of n ≥ 1 sorted values lies:
 // the fraction f of the way from the value of 0-based rank i to the next.
@@ -38,7 +41,7 @@ func Sorted(x []float64, p float64) float64 {
 // sensor's sign, linear too. x must hold no NaN.
 func Unsorted(x []float64, p float64) float64 {
 	i, f := Position(len(x), p)
-	v := selectRank(x, i)
+	v := Select(x, i)
 	if f == 0 {
 		return v
 	}
@@ -47,9 +50,10 @@ func Unsorted(x []float64, p float64) float64 {
 	return v + f*(slices.Min(x[i+1:])-v)
 }
 
-// selectRank returns the value of 0-based rank k of x, leaving every
-// value ranked above k after position k.
-func selectRank(x []float64, k int) float64 {
+// Select returns the value of 0-based rank k in [0, len(x)) of x, and
+// reorders x so that every value ranked above k lies after position k
+// (Hoare's Find, as in Unsorted). Floating-point x must hold no NaN.
+func Select[T cmp.Ordered](x []T, k int) T {
 	lo, hi := 0, len(x) // x[lo:hi] holds rank k
 	for hi-lo > 1 {
 		a, b, c := x[lo], x[lo+(hi-lo)/2], x[hi-1]

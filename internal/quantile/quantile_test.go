@@ -122,3 +122,27 @@ func TestUnsortedMatchesSorted(t *testing.T) {
 		}
 	}
 }
+
+// Select finds each rank of integer samples with runs of ties, as the
+// median sampling step of a series needs it.
+func TestSelectIntegers(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 2))
+	for _, n := range []int{1, 2, 5, 64, 999} {
+		x := make([]int64, n)
+		for i := range x {
+			x[i] = 600 + 600*int64(rng.IntN(3)/2) // mostly one step, some double
+		}
+		sorted := slices.Sorted(slices.Values(x))
+		for k := range n {
+			y := slices.Clone(x)
+			if got := Select(y, k); got != sorted[k] {
+				t.Fatalf("n=%d rank %d: %d, sorted %d", n, k, got, sorted[k])
+			}
+			for _, v := range y[k+1:] {
+				if v < sorted[k] {
+					t.Fatalf("n=%d rank %d: %d after the rank is below it", n, k, v)
+				}
+			}
+		}
+	}
+}

@@ -85,7 +85,11 @@
 // P(X ≥ k) < Config.UnfamiliarAlpha for X binomial with n trials and the
 // chance rate Config.UnfamiliarRate: the rule of unfamiliar windows, in
 // one direction. A site in a regime marked fault is not tested; one in a
-// watch regime is tested towards the fault regimes.
+// watch regime is tested towards the fault regimes. Nor is a site whose
+// stay began by leaving a regime marked fault or watch: coming out of
+// one (repaired, or at the end of a transition), it lies towards it, or
+// towards a regime like it, for a while as a matter of course, and its
+// switch out is reported as a switch.
 //
 // The level ranks below the user's own verdicts (fault, watch, stay),
 // which name the regime a site is in, and above resemblance, unfamiliar

@@ -113,7 +113,7 @@ func nearing(in Input, cfg Config) map[string][]approach {
 		}
 		last := in.Windows[j-1]
 		for t, f := range targets {
-			if lo == i || shares[j-1] == nil {
+			if lo == i || shares[j-1] == nil || leaving(in, in.Windows[lo-1].Regime) {
 				break
 			}
 			var own, since []float64
@@ -142,6 +142,15 @@ func nearing(in Input, cfg Config) map[string][]approach {
 		i = j
 	}
 	return out
+}
+
+// leaving reports whether a stay that began by leaving regime r is out of
+// the question: r is marked fault or watch, and a site that comes out of
+// such a regime (repaired, or at the end of a transition) lies towards
+// it, or towards a regime like it, for a while as a matter of course;
+// its switch out of r is reported as a switch.
+func leaving(in Input, r int) bool {
+	return in.Status[r] == StatusFault || in.Status[r] == StatusWatch
 }
 
 // without returns quantile q of the ascending values all less the

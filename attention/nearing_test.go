@@ -18,11 +18,12 @@ import (
 // windows lie, is listed at level nearing, above a confident switch
 // between normal regimes; its reason counts all 14 windows since, at the
 // binomial chance 0.01^14 (every one of 14 beyond the 99 % quantile), and
-// 13 of 13 when one of them has no features. The
-// same windows are not listed when the whole regime moves with them
-// (weather), when they lie like their peers', or when the site has sat
-// there since before the run (no switch began its stay); in weather that
-// moves every site of the regime each day, they are still all counted,
+// 13 of 13 when one of them has no features. The same windows are not
+// listed when the whole regime moves with them (weather), when they lie
+// like their peers', when the site has sat there since before the run (no
+// switch began its stay), or when it came out of the fault regime itself
+// (its lie is the rest of the way out); in weather that moves every site
+// of the regime each day, they are still all counted,
 // since each is compared with its regime's sites on the same day.
 func TestRankNearing(t *testing.T) {
 	centroids := map[int][]float64{1: {0, 0}, 2: {10, 0}, 3: {0, 10}}
@@ -35,19 +36,20 @@ func TestRankNearing(t *testing.T) {
 	}
 	weather := func(d int) float64 { return 0.25 * float64((d*7)%5-2) / 2 } // the same on every site each day
 	tests := []struct {
-		name     string
-		site     func(d int) float64 // site w's share of the way to regime 2 on day d
-		fleet    func(d int) float64 // the same for the other sites of regime 1
-		switched bool                // w was in regime 3 before day 14
-		listed   bool
-		gap      int // a day of w's whose window has no features; 0: none
+		name   string
+		site   func(d int) float64 // site w's share of the way to regime 2 on day d
+		fleet  func(d int) float64 // the same for the other sites of regime 1
+		from   int                 // w's regime before day 14 (3, or 2, the fault regime); 0: regime 1 throughout
+		listed bool
+		gap    int // a day of w's whose window has no features; 0: none
 	}{
-		{"windows towards the fault regime after a switch", third, func(int) float64 { return 0 }, true, true, 0},
-		{"one of them without features", third, func(int) float64 { return 0 }, true, true, 20},
-		{"the whole regime moves with them", third, third, true, false, 0},
-		{"windows towards the fault regime in weather that moves every site each day", func(d int) float64 { return weather(d) + third(d) }, weather, true, true, 0},
-		{"windows like their peers' after a switch", func(int) float64 { return 0 }, func(int) float64 { return 0 }, true, false, 0},
-		{"windows towards the fault regime without a switch", third, func(int) float64 { return 0 }, false, false, 0},
+		{"windows towards the fault regime after a switch", third, func(int) float64 { return 0 }, 3, true, 0},
+		{"one of them without features", third, func(int) float64 { return 0 }, 3, true, 20},
+		{"the whole regime moves with them", third, third, 3, false, 0},
+		{"windows towards the fault regime in weather that moves every site each day", func(d int) float64 { return weather(d) + third(d) }, weather, 3, true, 0},
+		{"windows like their peers' after a switch", func(int) float64 { return 0 }, func(int) float64 { return 0 }, 3, false, 0},
+		{"windows towards the fault regime without a switch", third, func(int) float64 { return 0 }, 0, false, 0},
+		{"windows towards the fault regime after leaving it", third, func(int) float64 { return 0 }, 2, false, 0},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -66,7 +68,10 @@ func TestRankNearing(t *testing.T) {
 					}
 					e := features.Window{Site: site, Start: at(d), End: at(d + 1), Regime: 1,
 						Scaled: []float64{10*s + 0.3*rng.NormFloat64(), 0.3 * rng.NormFloat64()}}
-					if site == "w" && tc.switched && d < 14 || site == "a" && d >= 20 {
+					switch {
+					case site == "w" && tc.from == 2 && d < 14:
+						e.Regime, e.Scaled[0] = 2, e.Scaled[0]+10
+					case site == "w" && tc.from == 3 && d < 14, site == "a" && d >= 20:
 						e.Regime, e.Scaled[1] = 3, e.Scaled[1]+10
 					}
 					if site == "w" && d == tc.gap && d > 0 {
@@ -77,8 +82,8 @@ func TestRankNearing(t *testing.T) {
 			}
 			in := Input{Windows: ws, Status: status, Centroids: centroids,
 				Switches: []timeline.Switch{{Site: "a", Time: at(20), From: 1, To: 3, Confidence: 0.95}}}
-			if tc.switched {
-				in.Switches = append(in.Switches, timeline.Switch{Site: "w", Time: at(14), From: 3, To: 1, Confidence: 0.95})
+			if tc.from != 0 {
+				in.Switches = append(in.Switches, timeline.Switch{Site: "w", Time: at(14), From: tc.from, To: 1, Confidence: 0.95})
 			}
 			rows := Rank(in, DefaultConfig())
 			i := slices.IndexFunc(rows, func(r Row) bool { return r.Site == "w" && r.Level == Nearing })

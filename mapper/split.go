@@ -258,39 +258,41 @@ func (s *splitter) test(parts []int) []candidate {
 					c.gain, c.bimodal = g, bi
 				}
 				if c.gain > 0 && c.bimodal {
-					// The segments of the split made: decoded with the
-					// two groups in place of the regime.
-					kids := append(slices.Clone(cents), cb)
-					kids[i] = ca
-					ksegs := s.segments(kids)
-					var second []bool
-					for j := range ksegs {
-						switch ksegs[j].regime {
-						case i:
-							second = append(second, false)
-						case len(cents):
-							ksegs[j].regime = i
-							second = append(second, true)
-						}
-					}
-					n := 0
-					for _, b := range second {
-						if b {
-							n++
-						}
-					}
-					c.unheld = n == 0 || n == len(second)
-					if len(second) >= minSegments && !c.unheld {
-						if g, two := cutGain(s.project(ksegs, i, dir), second); !math.IsInf(g, 0) {
-							c.cutGain, c.cutTwo = g, two
-						}
-					}
+					c.cutGain, c.cutTwo, c.unheld = s.cut(cents, i, ca, cb, dir)
 				}
 			}
 		}
 		out = append(out, c)
 	}
 	return out
+}
+
+// cut tests the split of regime i into the groups of centroids ca and cb
+// (cutGain): the sites are decoded again with them in place of cents[i],
+// and the segments decoded in either group are projected on dir. unheld
+// reports that the sites hold one group in no segment; gain is 0 when
+// there was nothing to fit.
+func (s *splitter) cut(cents [][]float64, i int, ca, cb, dir []float64) (gain float64, two, unheld bool) {
+	kids := append(slices.Clone(cents), cb)
+	kids[i] = ca
+	segs := s.segments(kids)
+	var second []bool // of the segments of either group, in order: in cb's
+	for j := range segs {
+		switch segs[j].regime {
+		case i:
+			second = append(second, false)
+		case len(cents):
+			segs[j].regime = i // so that project takes both groups
+			second = append(second, true)
+		}
+	}
+	unheld = !slices.Contains(second, true) || !slices.Contains(second, false)
+	if len(second) >= minSegments && !unheld {
+		if g, bi := cutGain(s.project(segs, i, dir), second); !math.IsInf(g, 0) {
+			return g, bi, false
+		}
+	}
+	return 0, false, unheld
 }
 
 // project returns the projection on dir of every segment of regime r:

@@ -266,6 +266,9 @@ func (sh sharedSlots) apply(f fleetDays, s int, ws []features.Window, centroids 
 	for j, i := range q.idx {
 		at := slot{q.weeks[j], q.phases[j]}
 		m, cells := sh.mix[at], sh.cells[at]
+		if cells == nil {
+			continue // no window of the fleet at this slot is a peer
+		}
 		for r, c := range cells {
 			// Outside shared days a window is in a cell only when
 			// its site's home is that regime.
@@ -275,14 +278,11 @@ func (sh sharedSlots) apply(f fleetDays, s int, ws []features.Window, centroids 
 				day[r] = d
 			}
 		}
+		copy(q.costs[j], day)
 		for a, w := range m {
-			q.costs[j][a] = day[a]
 			if w != nil {
 				q.costs[j][a] = mixture(day, w, tau)
 			}
-		}
-		if m == nil && cells != nil {
-			copy(q.costs[j], day)
 		}
 	}
 }

@@ -388,7 +388,7 @@ func Rank(in Input, cfg Config) []Row {
 			set(lv, &s)
 		}
 		last := seq[len(seq)-1].Regime
-		if st := in.Status[last]; st == StatusFault || st == StatusWatch {
+		if st := in.Status[last]; marked(st) {
 			n := 0
 			for i := len(seq) - 1; i >= 0 && seq[i].Regime == last; i-- {
 				n++
@@ -501,6 +501,9 @@ func resemblance(in Input, cfg Config) map[string][]match {
 	}
 	return out
 }
+
+// marked reports whether a regime of status st is marked fault or watch.
+func marked(st string) bool { return st == StatusFault || st == StatusWatch }
 
 // statusLevel is the level of a switch into a regime of status st, or
 // Switch for a regime neither fault nor watch.

@@ -38,7 +38,7 @@ func share(x, a, b []float64) float64 {
 func nearing(in Input, cfg Config) map[string][]approach {
 	var targets []int
 	for id, st := range in.Status {
-		if (st == StatusFault || st == StatusWatch) && in.Centroids[id] != nil {
+		if marked(st) && in.Centroids[id] != nil {
 			targets = append(targets, id)
 		}
 	}
@@ -112,10 +112,16 @@ func nearing(in Input, cfg Config) map[string][]approach {
 			lo--
 		}
 		last := in.Windows[j-1]
+		// Tested: a stay that a switch in the run began, out of a regime
+		// not marked fault or watch; a site that comes out of such a
+		// regime (repaired, or at the end of a transition) lies towards
+		// it, or a regime like it, for a while as a matter of course,
+		// and its switch out is listed as a switch.
+		if lo == i || shares[j-1] == nil || marked(in.Status[in.Windows[lo-1].Regime]) {
+			i = j
+			continue
+		}
 		for t, f := range targets {
-			if lo == i || shares[j-1] == nil || leaving(in, in.Windows[lo-1].Regime) {
-				break
-			}
 			var own, since []float64
 			for k, v := range shares[i:j] {
 				if in.Windows[i+k].Regime == last.Regime && v != nil && !math.IsNaN(v[t]) {
@@ -142,15 +148,6 @@ func nearing(in Input, cfg Config) map[string][]approach {
 		i = j
 	}
 	return out
-}
-
-// leaving reports whether a stay that began by leaving regime r is out of
-// the question: r is marked fault or watch, and a site that comes out of
-// such a regime (repaired, or at the end of a transition) lies towards
-// it, or towards a regime like it, for a while as a matter of course;
-// its switch out of r is reported as a switch.
-func leaving(in Input, r int) bool {
-	return in.Status[r] == StatusFault || in.Status[r] == StatusWatch
 }
 
 // without returns quantile q of the ascending values all less the

@@ -152,11 +152,11 @@ import (
 	"strings"
 	"time"
 
-	"gonum.org/v1/gonum/mathext"
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/kinmap/kinmap/events"
 	"github.com/kinmap/kinmap/features"
+	"github.com/kinmap/kinmap/internal/binomial"
 	"github.com/kinmap/kinmap/timeline"
 )
 
@@ -437,7 +437,7 @@ func Rank(in Input, cfg Config) []Row {
 			}
 		}
 		if k > 0 {
-			if p := binomialTail(len(seq), k, cfg.UnfamiliarRate); p < cfg.UnfamiliarAlpha {
+			if p := binomial.Tail(len(seq), k, cfg.UnfamiliarRate); p < cfg.UnfamiliarAlpha {
 				reasons = append(reasons, fmt.Sprintf("%d of %d windows unfamiliar (chance p = %.1g)", k, len(seq), p))
 				set(Unfamiliar, nil)
 			}
@@ -539,20 +539,6 @@ func sites(ws []features.Window) [][]features.Window {
 		i = j
 	}
 	return out
-}
-
-// binomialTail is P(X ≥ k) for X binomial with n trials of probability p:
-// the regularized incomplete beta function I_p(k, n − k + 1), which keeps
-// its precision in the far tail where 1 − CDF would not (Abramowitz and
-// Stegun, Handbook of Mathematical Functions, 1964, 26.5.24).
-func binomialTail(n, k int, p float64) float64 {
-	switch {
-	case k <= 0:
-		return 1
-	case k > n:
-		return 0
-	}
-	return mathext.RegIncBeta(float64(k), float64(n-k+1), p)
 }
 
 // eventKey groups switches of the same regimes on the same UTC day.

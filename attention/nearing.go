@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/floats"
 
+	"github.com/kinmap/kinmap/internal/binomial"
 	"github.com/kinmap/kinmap/internal/quantile"
 )
 
@@ -141,7 +142,7 @@ func nearing(in Input, cfg Config) map[string][]approach {
 					k++
 				}
 			}
-			if p := binomialTail(len(since), k, cfg.UnfamiliarRate); k > 0 && p < cfg.UnfamiliarAlpha {
+			if p := binomial.Tail(len(since), k, cfg.UnfamiliarRate); k > 0 && p < cfg.UnfamiliarAlpha {
 				out[last.Site] = append(out[last.Site], approach{towards: f, since: in.Windows[lo].Start, windows: len(since), beyond: k, p: p})
 			}
 		}

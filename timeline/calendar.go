@@ -3,8 +3,7 @@ package timeline
 import (
 	"time"
 
-	"gonum.org/v1/gonum/mathext"
-
+	"github.com/kinmap/kinmap/internal/binomial"
 	"github.com/kinmap/kinmap/internal/viterbi"
 )
 
@@ -190,10 +189,7 @@ func totals[K comparable](counts map[K][]int, k int) []int {
 // over all times. The rate is taken by Laplace's rule of succession
 // ((x+1)/(n+2), P.-S. Laplace, "Essai philosophique sur les
 // probabilités", 1814), so that a regime never seen elsewhere is not a
-// certainty. The tail is the regularised incomplete beta function,
-// P(X ≥ k) = I_rate(k, n−k+1) (M. Abramowitz and I. A. Stegun, "Handbook
-// of Mathematical Functions", 1964, 26.5.24), which keeps its precision
-// far below the 10⁻¹⁶ at which one minus the distribution function stops.
+// certainty.
 func chance(row, total []int, b int) float64 {
 	n, others := 0, 0
 	for r, v := range row {
@@ -201,10 +197,7 @@ func chance(row, total []int, b int) float64 {
 		others += total[r] - v
 	}
 	rate := float64(total[b]-row[b]+1) / float64(others+2)
-	if row[b] <= 0 {
-		return 1
-	}
-	return mathext.RegIncBeta(float64(row[b]), float64(n-row[b]+1), rate)
+	return binomial.Tail(n, row[b], rate)
 }
 
 // mostOf is the index of the greatest of c, the first on a tie.

@@ -7,7 +7,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
-	"github.com/kinmap/kinmap/internal/quantile"
+	"github.com/kinmap/kinmap/internal/selection"
 )
 
 // MaxWindows is the most windows Extract cuts over all sites of a dataset,
@@ -126,5 +126,6 @@ func sampleStep(times []int64) int64 {
 	for i := range d {
 		d[i] = times[i+1] - times[i]
 	}
-	return quantile.Select(d, len(d)/2)
+	selection.Nth(d, len(d)/2)
+	return d[len(d)/2]
 }

@@ -7,7 +7,6 @@ import (
 
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/internal/parallel"
-	"github.com/kinmap/kinmap/internal/quantile"
 )
 
 // Level is a channel's typical level over a set of windows, in the
@@ -109,7 +108,7 @@ func SiteReadings(site *ingest.SiteData, ws []Window, group []int, k int, channe
 func LevelOf(ch string, v []float64) Level {
 	l := Level{Channel: ch, Readings: len(v), Median: math.NaN(), P95: math.NaN()}
 	if len(v) > 0 {
-		l.Median, l.P95 = quantile.Unsorted(v, 0.5), quantile.Unsorted(v, 0.95)
+		_, l.Median, l.P95 = quantiles(v)
 	}
 	return l
 }

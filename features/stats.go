@@ -363,9 +363,11 @@ func (w *worker) medianStep(times []int64) int64 {
 	}
 	m := len(w.diffs) / 2
 	if len(w.diffs)%2 == 1 {
-		return quantile.Select(w.diffs, m)
+		selection.Nth(w.diffs, m)
+		return w.diffs[m]
 	}
-	lo := quantile.Select(w.diffs, m-1)
+	selection.Nth(w.diffs, m-1)
+	lo := w.diffs[m-1]
 	return lo + (slices.Min(w.diffs[m:])-lo)/2
 }
 

@@ -1,10 +1,13 @@
 // Package selection finds order statistics without sorting.
 package selection
 
+import "cmp"
+
 // Nth reorders x so that x[k] holds the value sorting would put there,
 // with no larger value before it and no smaller one after it (Hoare's
-// selection with a median-of-three pivot).
-func Nth(x []float64, k int) {
+// selection with a median-of-three pivot). Floating-point x must hold no
+// NaN.
+func Nth[T cmp.Ordered](x []T, k int) {
 	lo, hi := 0, len(x)-1
 	for hi-lo > 12 {
 		mid := lo + (hi-lo)/2

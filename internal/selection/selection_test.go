@@ -33,3 +33,28 @@ func TestNthAgreesWithSorting(t *testing.T) {
 		}
 	}
 }
+
+// Nth selects integers too, as the median sampling step of a series needs
+// it: steps of a regular series with some doubled (a missed reading).
+func TestNthIntegers(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 2))
+	for _, n := range []int{1, 2, 5, 13, 64, 999} {
+		v := make([]int64, n)
+		for i := range v {
+			v[i] = 600 * int64(1+rng.IntN(3)/2)
+		}
+		sorted := slices.Sorted(slices.Values(v))
+		for k := range n {
+			x := slices.Clone(v)
+			Nth(x, k)
+			if x[k] != sorted[k] {
+				t.Fatalf("n=%d: position %d holds %d, sorting puts %d there", n, k, x[k], sorted[k])
+			}
+			for i, y := range x {
+				if i < k && y > x[k] || i > k && y < x[k] {
+					t.Fatalf("n=%d: %d at %d is on the wrong side of %d at %d", n, y, i, x[k], k)
+				}
+			}
+		}
+	}
+}

@@ -366,18 +366,14 @@ func historySpan(h *history.History, t *features.Table) []export.Finding {
 // history is rewritten with the new regimes (Continuation.Settle), while
 // the earlier run's own tables keep the old.
 func revisedFindings(h *history.History, tail []features.Window) []export.Finding {
-	type key struct {
-		site  string
-		start int64
-	}
 	sites := map[string]bool{}
 	for _, w := range tail {
 		sites[w.Site] = true
 	}
-	stored := map[key]int{}
+	stored := map[windowKey]int{}
 	for _, w := range h.Windows {
 		if sites[w.Site] {
-			stored[key{w.Site, w.Start.UnixMicro()}] = w.Regime
+			stored[keyOf(w.Site, w.Start)] = w.Regime
 		}
 	}
 	var out []export.Finding
@@ -387,7 +383,7 @@ func revisedFindings(h *history.History, tail []features.Window) []export.Findin
 		var from, to []string
 		for ; j < len(tail) && tail[j].Site == tail[i].Site; j++ {
 			w := &tail[j]
-			old, ok := stored[key{w.Site, w.Start.UnixMicro()}]
+			old, ok := stored[keyOf(w.Site, w.Start)]
 			if !ok || old == w.Regime {
 				continue
 			}

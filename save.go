@@ -118,6 +118,15 @@ func (r *Result) stageHistory(tx *atomicfile.Tx, dir string) error {
 	return h.Stage(tx, r.Model.LineageOrDerived(), run)
 }
 
+// windowKey names a window by its site and start, to the microsecond the
+// history keeps.
+type windowKey struct {
+	site  string
+	start int64
+}
+
+func keyOf(site string, start time.Time) windowKey { return windowKey{site, start.UnixMicro()} }
+
 // keepStored returns the windows of run to write into the history h, less
 // those that the dump, which read from first to last, cuts (a window that
 // starts before its first reading or ends after its last, by more than a
@@ -126,30 +135,26 @@ func (r *Result) stageHistory(tx *atomicfile.Tx, dir string) error {
 // dump cut at 08:00 would otherwise replace the day an earlier dump held
 // whole with its last 16 hours.
 func keepStored(h *history.History, run []history.Window, first, last time.Time, step time.Duration) ([]history.Window, int) {
-	type key struct {
-		site  string
-		start int64
-	}
-	cut := map[key]bool{}
+	cut := map[windowKey]bool{}
 	if first.IsZero() || last.IsZero() {
 		return run, 0 // a dump's span unknown
 	}
 	for _, w := range run {
 		if first.Sub(w.Start) > step || w.End.Sub(last) > step {
-			cut[key{w.Site, w.Start.UnixMicro()}] = false
+			cut[keyOf(w.Site, w.Start)] = false
 		}
 	}
 	if len(cut) == 0 {
 		return run, 0
 	}
 	for _, w := range h.Windows {
-		if _, ok := cut[key{w.Site, w.Start.UnixMicro()}]; ok {
-			cut[key{w.Site, w.Start.UnixMicro()}] = true
+		if _, ok := cut[keyOf(w.Site, w.Start)]; ok {
+			cut[keyOf(w.Site, w.Start)] = true
 		}
 	}
 	out := make([]history.Window, 0, len(run))
 	for _, w := range run {
-		if !cut[key{w.Site, w.Start.UnixMicro()}] {
+		if !cut[keyOf(w.Site, w.Start)] {
 			out = append(out, w)
 		}
 	}

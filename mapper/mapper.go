@@ -13,7 +13,8 @@
 // at each time, builds Ward's tree of the units, only lattice neighbours
 // merging, and splits it from the top while the decoded segments of the
 // sites (runs of one site in one regime) show two modes along the split
-// (an Anderson–Darling test at level Alpha, as in G-means, and a BIC
+// (an Anderson–Darling test, as in G-means, or a test for two groups on a
+// line, at level Alpha between them, and a BIC
 // preference for two modes over one after a power transform); Choice
 // records each split, the runner-up number and how close it came. The decoding is the timelines' own
 // (package internal/viterbi, SwitchCostPerQE, DefaultMinDwell).

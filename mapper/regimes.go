@@ -84,7 +84,11 @@ type Timelines struct {
 // "Learning the k in k-means", NIPS 16, 2003): the segment means are
 // projected on the line between the two groups' centroids and the
 // Anderson–Darling test asks whether the projections could come from one
-// normal distribution; since any skew fails that test, the split must also
+// normal distribution, beside the test for two groups on a line
+// (Engelman and Hartigan 1969: how little of their spread the best two
+// groups leave), whose power, unlike the first's, grows with the gap
+// between two groups at any number of segments (splitP: each test at half
+// the level); since any skew fails the test of normality, the split must also
 // be preferred by the BIC for two modes over one after a power transform,
 // with two modes in the fit (mixtureGain), and again with the two normals
 // taken from the two groups the split makes instead of fitted freely

@@ -58,7 +58,14 @@ type Split struct {
 	K         int     `json:"k"`         // regimes after the split
 	Segments  int     `json:"segments"`  // decoded segments tested; 0 when too few to test
 	Statistic float64 `json:"statistic"` // Anderson–Darling A*² of their projections
-	P         float64 `json:"p"`         // its p-value; 1 when not tested
+	// Index is the share of the projections' sum of squares left within
+	// their best two groups (twoGroupIndex); 0 when the test of normality
+	// decided alone.
+	Index float64 `json:"two_group_index,omitempty"`
+	// P is the split's p-value (splitP): twice the lesser of the test of
+	// normality's and the test for two groups' (Bonferroni); 1 when not
+	// tested.
+	P float64 `json:"p"`
 	// Gain is the BIC's preference for two modes over one in the
 	// projections after a power transform (mixtureGain); a split needs
 	// it positive as well as P below Alpha. 0 when not tested.
@@ -92,6 +99,7 @@ type candidate struct {
 	at       int // index in the partition
 	segments int
 	stat, p  float64
+	index    float64 // twoGroupIndex of the projections; 0 when not needed
 	gain     float64 // mixtureGain of the projections
 	bimodal  bool    // whether that two-mode fit has two modes
 	cutGain  float64 // cutGain of the segments decoded with the two groups
@@ -121,7 +129,7 @@ func (s *splitter) run(k int) ([]int, *Choice, error) {
 			break // only single units are left
 		}
 		made := k > 0 || best.significant()
-		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, P: best.p, Gain: best.gain, Bimodal: best.bimodal, CutGain: best.cutGain, CutBimodal: best.cutTwo, Unheld: best.unheld, Made: made})
+		ch.Splits = append(ch.Splits, Split{K: len(parts) + 1, Segments: best.segments, Statistic: best.stat, Index: best.index, P: best.p, Gain: best.gain, Bimodal: best.bimodal, CutGain: best.cutGain, CutBimodal: best.cutTwo, Unheld: best.unheld, Made: made})
 		if !made {
 			break
 		}
@@ -248,7 +256,7 @@ func (s *splitter) test(parts []int) []candidate {
 		c := candidate{at: i, p: 1}
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
-			c.p = normalP(c.stat)
+			c.p, c.index = splitP(proj, c.stat)
 			// The mixtures are costly and decide only what the tests
 			// before them would split; a sample they cannot fit (no
 			// spread, a side of the cut empty) keeps gain 0, so that

@@ -51,7 +51,7 @@ func sortedTwoGroupIndex(s []float64) float64 {
 	return math.Max(best, 0) / total2
 }
 
-// Settings of twoGroupP's Monte Carlo.
+// Settings of twoGroupNull's Monte Carlo.
 const (
 	// twoGroupHits is the number of null samples at least as split as
 	// the data after which the simulation stops (Besag and Clifford's h).
@@ -61,39 +61,57 @@ const (
 	twoGroupDraws = 20 / Alpha
 )
 
-// twoGroupP returns the p-value of twoGroupIndex(x) against normal
-// samples of the same size: the chance that n values from one normal
-// distribution split into two groups at least as cleanly. This is the
-// test for clusters on a line of A. Engelman and J. A. Hartigan
-// ("Percentage points of a test for clusters", JASA 64, 1969; from
-// memory), whose null distribution depends on n alone, since the index
-// is free of location and scale. Its percentage points come from a
-// sequential Monte Carlo test (J. Besag and P. Clifford, "Sequential Monte
-// Carlo p-values", Biometrika 78, 1991): normal samples are drawn until
-// twoGroupHits of them split at least as cleanly, giving p = h/draws, or
-// until twoGroupDraws, giving (hits + 1)/(draws + 1). The draws depend on
-// n alone, so the p-value of a sample is the same on every run.
+// twoGroupNull holds, for each sample size n, the normal samples of size
+// n drawn so far: the generator, and the two-group index of each sample in
+// the order drawn. The draws depend on n alone, so a p-value is the same
+// whether its draws are new or were made for an earlier sample;
+// FindRegimes tests the same regimes at every step, and keeping them
+// makes each draw once.
+type twoGroupNull map[int]*nullDraws
+
+// nullDraws are the normal samples of one size drawn so far.
+type nullDraws struct {
+	rng   *rand.Rand
+	index []float64
+}
+
+// p returns the p-value of a two-group index of n values against normal
+// samples of the same size: the chance that n values from one normal distribution split
+// into two groups at least as cleanly. This is the test for clusters on a
+// line of A. Engelman and J. A. Hartigan ("Percentage points of a test for
+// clusters", JASA 64, 1969; from memory), whose null distribution depends
+// on n alone, since the index is free of location and scale. Its
+// percentage points come from a sequential Monte Carlo test (J. Besag and
+// P. Clifford, "Sequential Monte Carlo p-values", Biometrika 78, 1991):
+// normal samples are drawn until twoGroupHits of them split at least as
+// cleanly, giving p = h/draws, or until twoGroupDraws, giving
+// (hits + 1)/(draws + 1).
 //
 // It is the more powerful test against two groups of a few values each:
 // two groups of 8 and 7 normal values need a gap of about 16 within-group
 // spreads before the Anderson–Darling test reaches p = 10⁻⁴ (its A*²
 // tends to about 2.7 however far apart they lie), and about 9 for this
-// one (means over 20 draws, TestSplitPGroups).
-func twoGroupP(x []float64) float64 {
-	n := len(x)
-	obs := twoGroupIndex(x)
+// one (means over 20 draws).
+func (null twoGroupNull) p(n int, obs float64) float64 {
 	if n < 3 || obs >= 1 {
 		return 1
 	}
-	rng := rand.New(rand.NewPCG(uint64(n), 0x74776f))
+	d := null[n]
+	if d == nil {
+		d = &nullDraws{rng: rand.New(rand.NewPCG(uint64(n), 0x74776f))}
+		null[n] = d
+	}
 	z := make([]float64, n)
 	hits := 0
 	for draw := 1; draw <= twoGroupDraws; draw++ {
-		for i := range z {
-			z[i] = rng.NormFloat64()
+		if draw > len(d.index) {
+			for i := range z {
+				z[i] = d.rng.NormFloat64()
+			}
+			slices.Sort(z)
+			d.index = append(d.index, sortedTwoGroupIndex(z))
 		}
-		slices.Sort(z)
-		if sortedTwoGroupIndex(z) <= obs {
+		if d.index[draw-1] <= obs {
 			hits++
 			if hits == twoGroupHits {
 				return float64(hits) / float64(draw)
@@ -109,11 +127,11 @@ func twoGroupP(x []float64) float64 {
 // a line, so p = 2·min(p₁, p₂), at most 1. The test for two groups, a
 // Monte Carlo one, is run only when the test of normality alone does not
 // reach Alpha; index is then the two-group index, and 0 otherwise.
-func splitP(x []float64, ad float64) (p, index float64) {
+func splitP(x []float64, ad float64, null twoGroupNull) (p, index float64) {
 	p = 2 * normalP(ad)
 	if p < Alpha {
 		return p, 0
 	}
 	index = twoGroupIndex(x)
-	return math.Min(1, 2*math.Min(p/2, twoGroupP(x))), index
+	return math.Min(1, 2*math.Min(p/2, null.p(len(x), index))), index
 }

@@ -103,12 +103,13 @@ func TestTwoGroupPLevel(t *testing.T) {
 	rng := testRand(13)
 	for _, n := range []int{10, 30, 100} {
 		below5, below1 := 0, 0
+		null := twoGroupNull{}
 		for range 300 {
 			x := make([]float64, n)
 			for i := range x {
 				x[i] = rng.NormFloat64()
 			}
-			p := twoGroupP(x)
+			p := null.p(n, twoGroupIndex(x))
 			if p < 0.05 {
 				below5++
 			}
@@ -140,9 +141,38 @@ func TestSplitPGroups(t *testing.T) {
 		if p := normalP(ad); p < Alpha {
 			t.Errorf("gap %g: Anderson–Darling A*² %.2f, p %.2g, want above Alpha = %g", gap, ad, p, Alpha)
 		}
-		p, index := splitP(x, ad)
+		p, index := splitP(x, ad, twoGroupNull{})
 		if p >= Alpha || index <= 0 || index > 0.05 {
 			t.Errorf("gap %g: split p %.2g with two-group index %.3g, want p below Alpha = %g and an index in (0, 0.05]", gap, p, index, Alpha)
+		}
+	}
+}
+
+// TestTwoGroupNullKept checks that a p-value does not depend on the draws
+// kept from earlier samples: the same samples, asked of one twoGroupNull
+// in two orders, give the p-values each gets alone.
+func TestTwoGroupNullKept(t *testing.T) {
+	rng := testRand(15)
+	var idx []float64
+	for k := range 6 {
+		x := make([]float64, 20)
+		for i := range x {
+			x[i] = rng.NormFloat64()
+			if i < 6 {
+				x[i] += float64(k) // from no gap to a clear one
+			}
+		}
+		idx = append(idx, twoGroupIndex(x))
+	}
+	forward, backward := twoGroupNull{}, twoGroupNull{}
+	for k := range idx {
+		alone := twoGroupNull{}.p(20, idx[k])
+		if got := forward.p(20, idx[k]); got != alone {
+			t.Errorf("sample %d after %d others: p %g, alone %g", k, k, got, alone)
+		}
+		j := len(idx) - 1 - k
+		if got, alone := backward.p(20, idx[j]), (twoGroupNull{}).p(20, idx[j]); got != alone {
+			t.Errorf("sample %d asked in reverse: p %g, alone %g", j, got, alone)
 		}
 	}
 }

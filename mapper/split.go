@@ -92,6 +92,7 @@ type splitter struct {
 	tree       []merge
 	win        *Windows // nil: Ward's order only
 	switchCost float64
+	null       twoGroupNull // the two-group test's draws; made when first needed
 }
 
 // candidate is the test of splitting one regime of the current partition.
@@ -232,6 +233,9 @@ func (s *splitter) best(parts []int) (candidate, bool) {
 // the split of every group that has two parts, both of which won windows.
 func (s *splitter) test(parts []int) []candidate {
 	u, d := s.m.Units(), s.m.Dim
+	if s.null == nil {
+		s.null = twoGroupNull{}
+	}
 	cents := make([][]float64, len(parts))
 	for i, p := range parts {
 		cents[i], _ = s.centroid(p)
@@ -256,7 +260,7 @@ func (s *splitter) test(parts []int) []candidate {
 		c := candidate{at: i, p: 1}
 		if len(proj) >= minSegments {
 			c.segments, c.stat = len(proj), andersonDarling(proj)
-			c.p, c.index = splitP(proj, c.stat)
+			c.p, c.index = splitP(proj, c.stat, s.null)
 			// The mixtures are costly and decide only what the tests
 			// before them would split; a sample they cannot fit (no
 			// spread, a side of the cut empty) keeps gain 0, so that

@@ -62,15 +62,49 @@ const (
 // over the sample's range and half of it again either side. Positive
 // gains favour two modes. A sample without spread, or
 // of fewer than four values, returns −Inf.
+//
+// When the preferred mixture of two has one mode, a mixture of three
+// normals with a common variance (k = 4) is fitted too, and taken when
+// the criterion prefers it: two normals fit three groups (a bulk with a
+// group either side) as a tight component inside a wide one, whose
+// density has one mode, and model-based clustering chooses the number of
+// components by the same criterion (Fraley and Raftery 2002). It is
+// consulted only then, since it can only turn a refusal for want of a
+// second mode into a split.
 func mixtureGain(x []float64) (gain float64, two bool) {
-	return powerGain(x, func(z []float64, common bool) (mixture, bool) { return fitMixture(z, common), true })
+	fit := func(common bool) func([]float64) (density, bool) {
+		return func(z []float64) (density, bool) { return fitMixture(z, common), true }
+	}
+	gain, two = powerGain(x, fit(true), fit(false))
+	if two || math.IsInf(gain, -1) {
+		return gain, two
+	}
+	g3, more := powerGain(x, func(z []float64) (density, bool) { return fitTied(z, 3) })
+	if g3 > gain {
+		return g3, more
+	}
+	return gain, false
 }
 
-// powerGain is the comparison of mixtureGain with the two-normal
-// mixtures fitted by fit, which reports false when it has none for z:
-// fitted freely (mixtureGain) or taken from the split's own groups
-// (cutGain).
-func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) (gain float64, two bool) {
+// density is a mixture of normals fitted to a sample after a power
+// transform.
+type density interface {
+	// logLik is the log-likelihood of the transformed sample.
+	logLik() float64
+	// extra is the number of free parameters beyond one normal's.
+	extra() int
+	// modes is the number of modes of the density it gives the sample
+	// before the transform with power lam, counted over [lo, hi].
+	modes(lam, lo, hi float64) int
+}
+
+// powerGain is the comparison of mixtureGain with the mixtures fitted by
+// fits, each of which reports false when it has none for z: two normals
+// fitted freely with a common variance or each its own, three with a
+// common one (mixtureGain), or two taken from the split's own groups
+// (cutGain). two reports whether the preferred mixture has two modes or
+// more.
+func powerGain(x []float64, fits ...func(z []float64) (density, bool)) (gain float64, two bool) {
 	n := len(x)
 	if n < 4 {
 		return math.Inf(-1), false
@@ -94,15 +128,18 @@ func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) 
 	}
 	logN := math.Log(float64(n))
 	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
-	var best mixture
+	var best density
 	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
 		jac := transform(lam)
 		if l := normalLogLik(z) + jac; l > best1 {
 			best1, at = l, lam
 		}
-		for _, common := range []bool{true, false} {
-			f, ok := fit(z, common)
-			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; ok && b > best2 {
+		for _, fit := range fits {
+			f, ok := fit(z)
+			if !ok {
+				continue
+			}
+			if b := 2*(f.logLik()+jac) - float64(f.extra())*logN; b > best2 {
 				best2, best, fitAt = b, f, lam
 			}
 		}
@@ -201,6 +238,10 @@ func (f mixture) params() int {
 	}
 	return 5
 }
+
+func (f mixture) logLik() float64 { return f.ll }
+
+func (f mixture) extra() int { return f.params() - 2 }
 
 // fitMixture fits a two-normal mixture to z by EM (A. P. Dempster,
 // N. M. Laird and D. B. Rubin, "Maximum likelihood from incomplete data
@@ -330,12 +371,18 @@ func (f mixture) modes(lam, lo, hi float64) int {
 	}
 	la := math.Log(f.p) - 0.5*math.Log(f.v1)
 	lb := math.Log(1-f.p) - 0.5*math.Log(f.v2)
-	logDensity := func(s float64) float64 { // less ln √(2π)
+	return countModes(func(s float64) float64 { // less ln √(2π)
 		y := yeoJohnson(s, lam)
 		a := la - (y-f.m1)*(y-f.m1)/(2*f.v1)
 		b := lb - (y-f.m2)*(y-f.m2)/(2*f.v2)
 		return math.Max(a, b) + math.Log1p(math.Exp(-math.Abs(a-b))) + yeoJohnsonLogSlope(s, lam)
-	}
+	}, lo, hi)
+}
+
+// countModes counts the modes of the log-density logDensity on [lo, hi]:
+// the turns from rising to falling on modeSteps even steps, and a last
+// rise at hi.
+func countModes(logDensity func(float64) float64, lo, hi float64) int {
 	modes, up := 0, true
 	prev := logDensity(lo)
 	for i := 1; i <= modeSteps; i++ {

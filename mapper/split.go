@@ -529,13 +529,16 @@ func cutGain(x []float64, second []bool) (gain float64, two bool) {
 		}
 	}
 	resp := make([]float64, len(x))
-	return powerGain(x, func(z []float64, common bool) (mixture, bool) {
-		f, ok := mStep(z, label, common)
-		if ok {
-			f.ll = eStep(z, f, resp)
+	fit := func(common bool) func([]float64) (density, bool) {
+		return func(z []float64) (density, bool) {
+			f, ok := mStep(z, label, common)
+			if ok {
+				f.ll = eStep(z, f, resp)
+			}
+			return f, ok
 		}
-		return f, ok
-	})
+	}
+	return powerGain(x, fit(true), fit(false))
 }
 
 func dot(a, b []float64) float64 {

@@ -80,6 +80,20 @@ func TestYeoJohnsonAgreesWithSciPy(t *testing.T) {
 	}
 }
 
+// sklearnLogLik returns the log-likelihood of each sample under
+// scikit-learn's GaussianMixture of k components with covariance type
+// cov, fitted from 10 starts without regularisation.
+func sklearnLogLik(t *testing.T, k int, cov string, samples [][]float64) []float64 {
+	t.Helper()
+	py := tooltest.Python(t, "sklearn.mixture")
+	return runPython(t, py, fmt.Sprintf(`import sys, numpy as np
+from sklearn.mixture import GaussianMixture
+for line in sys.stdin:
+    x = np.array([float(v) for v in line.split()]).reshape(-1, 1)
+    g = GaussianMixture(%d, covariance_type=%q, n_init=10, tol=1e-10, max_iter=5000, reg_covar=0, random_state=0).fit(x)
+    print(repr(float(g.score(x) * len(x))))`, k, cov), samples)
+}
+
 // mixtureSamples draws the samples the mixture fits are checked on: n
 // standard normal values, of which a share is moved by gap and scaled to
 // the standard deviation spread.
@@ -111,13 +125,6 @@ func mixtureSamples(seed uint64, cases []struct {
 // Hathaway's bound, so that the bound does not bind (scikit-learn 1.2.1
 // of Debian).
 func TestMixtureAgreesWithScikitLearn(t *testing.T) {
-	py := tooltest.Python(t, "sklearn.mixture")
-	const prog = `import sys, numpy as np
-from sklearn.mixture import GaussianMixture
-for line in sys.stdin:
-    x = np.array([float(v) for v in line.split()]).reshape(-1, 1)
-    g = GaussianMixture(2, covariance_type=%q, n_init=10, tol=1e-10, max_iter=5000, reg_covar=0, random_state=0).fit(x)
-    print(repr(float(g.score(x) * len(x))))`
 	for _, tt := range []struct {
 		name   string
 		common bool
@@ -138,7 +145,7 @@ for line in sys.stdin:
 		}{{200, 0.5, 4, 0.5}, {300, 0.1, 5, 0.3}, {150, 0.3, 3, 2}, {400, 0.08, 4, 0.2}}},
 	} {
 		samples := mixtureSamples(5, tt.cases)
-		want := runPython(t, py, fmt.Sprintf(prog, tt.name), samples)
+		want := sklearnLogLik(t, 2, tt.name, samples)
 		for i, x := range samples {
 			got := fitMixture(x, tt.common).ll
 			// EM stops at a relative gain of 1e-6 per observation, and on

@@ -3,23 +3,17 @@ package mapper
 import (
 	"math"
 	"testing"
-
-	"github.com/kinmap/kinmap/internal/tooltest"
 )
 
 // threeGroups returns n values: a bulk of standard normals with a share
-// shifted by lo and another by hi, each group with its own spread.
+// moved by lo and the next share by hi, both scaled to spread.
 func threeGroups(seed uint64, n int, lo, hi, shareLo, shareHi, spread float64) []float64 {
-	rng := testRand(seed)
-	x := make([]float64, n)
-	for i := range x {
-		x[i] = rng.NormFloat64()
-		switch f := float64(i) / float64(n); {
-		case f < shareLo:
-			x[i] = lo + spread*x[i]
-		case f < shareLo+shareHi:
-			x[i] = hi + spread*x[i]
-		}
+	x := mixtureSamples(seed, []struct {
+		n                  int
+		share, gap, spread float64
+	}{{n, shareLo, lo, spread}})[0]
+	for i := int(shareLo * float64(n)); float64(i) < (shareLo+shareHi)*float64(n); i++ {
+		x[i] = hi + spread*x[i]
 	}
 	return x
 }
@@ -29,20 +23,13 @@ func threeGroups(seed uint64, n int, lo, hi, shareLo, shareHi, spread float64) [
 // "tied", fitted from many starts without regularisation (scikit-learn
 // of Debian), on samples of three groups, of two, and of none.
 func TestTiedAgreesWithScikitLearn(t *testing.T) {
-	py := tooltest.Python(t, "sklearn.mixture")
-	const prog = `import sys, numpy as np
-from sklearn.mixture import GaussianMixture
-for line in sys.stdin:
-    x = np.array([float(v) for v in line.split()]).reshape(-1, 1)
-    g = GaussianMixture(3, covariance_type="tied", n_init=20, tol=1e-10, max_iter=5000, reg_covar=0, random_state=0).fit(x)
-    print(repr(float(g.score(x) * len(x))))`
 	samples := [][]float64{
 		threeGroups(21, 150, -8, 30, 0.12, 0.11, 1),
 		threeGroups(22, 300, -4, 4, 0.3, 0.3, 1),
 		threeGroups(23, 200, 6, 6, 0.2, 0, 1),
 		threeGroups(24, 120, 0, 0, 0, 0, 1),
 	}
-	want := runPython(t, py, prog, samples)
+	want := sklearnLogLik(t, 3, "tied", samples)
 	for i, x := range samples {
 		f, ok := fitTied(x, 3)
 		if !ok {

@@ -58,3 +58,43 @@ func TestNthIntegers(t *testing.T) {
 		}
 	}
 }
+
+// Majority finds the value that fills more than half of a slice, which is
+// then the middle order statistic that sorting gives, and finds none when
+// no value does (counted directly).
+func TestMajority(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 3))
+	for trial := range 2000 {
+		n := 1 + rng.IntN(40)
+		v := make([]int64, n)
+		for i := range v {
+			v[i] = 600
+			if rng.IntN(100) < trial%100 {
+				v[i] = int64(rng.IntN(4)) * 300
+			}
+		}
+		counts := map[int64]int{}
+		for _, y := range v {
+			counts[y]++
+		}
+		want, has := int64(0), false
+		for y, c := range counts {
+			if 2*c > n {
+				want, has = y, true
+			}
+		}
+		got, ok := Majority(slices.Clone(v))
+		if ok != has || ok && got != want {
+			t.Fatalf("%v: Majority gives %d, %v; want %d, %v", v, got, ok, want, has)
+		}
+		if ok {
+			sorted := slices.Sorted(slices.Values(v))
+			if sorted[n/2] != got || n%2 == 0 && sorted[n/2-1] != got {
+				t.Fatalf("%v: majority %d is not the middle of %v", v, got, sorted)
+			}
+		}
+	}
+	if _, ok := Majority([]int64{}); ok {
+		t.Error("an empty slice has a majority")
+	}
+}

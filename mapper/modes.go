@@ -3,6 +3,8 @@ package mapper
 import (
 	"math"
 	"slices"
+
+	"github.com/kinmap/kinmap/internal/parallel"
 )
 
 // The split test of G-means asks whether a sample is normal, and any
@@ -63,7 +65,7 @@ const (
 // gains favour two modes. A sample without spread, or
 // of fewer than four values, returns −Inf.
 func mixtureGain(x []float64) (gain float64, two bool) {
-	return powerGain(x, func(z []float64, common bool) (mixture, bool) { return fitMixture(z, common), true })
+	return powerGainOn(x, func(z []float64, common bool) (mixture, bool) { return fitMixture(z, common), true }, 0)
 }
 
 // powerGain is the comparison of mixtureGain with the two-normal
@@ -71,6 +73,13 @@ func mixtureGain(x []float64) (gain float64, two bool) {
 // fitted freely (mixtureGain) or taken from the split's own groups
 // (cutGain).
 func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) (gain float64, two bool) {
+	return powerGainOn(x, fit, 1)
+}
+
+// powerGainOn is powerGain fitting the powers of its grid on up to
+// workers goroutines (0 means every core), which fit must then allow; the
+// result does not depend on workers.
+func powerGainOn(x []float64, fit func(z []float64, common bool) (mixture, bool), workers int) (gain float64, two bool) {
 	n := len(x)
 	if n < 4 {
 		return math.Inf(-1), false
@@ -83,8 +92,7 @@ func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) 
 	for i, v := range x {
 		std[i] = (v - mean) / sd
 	}
-	z := make([]float64, n)
-	transform := func(lam float64) float64 { // fills z, returns the log-Jacobian
+	transform := func(lam float64, z []float64) float64 { // fills z, returns the log-Jacobian
 		jac := 0.0
 		for i, v := range std {
 			z[i] = yeoJohnson(v, lam)
@@ -92,18 +100,37 @@ func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) 
 		}
 		return jac
 	}
+	var lams []float64
+	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
+		lams = append(lams, lam)
+	}
+	// The fits at each power: one normal, then the mixtures with a common
+	// variance and with their own.
+	type fits struct {
+		one  float64
+		two  [2]mixture
+		ok   [2]bool
+		bics [2]float64
+	}
 	logN := math.Log(float64(n))
+	grid := parallel.Map(len(lams), workers, func() []float64 { return make([]float64, n) }, func(z []float64, k int) fits {
+		jac := transform(lams[k], z)
+		r := fits{one: normalLogLik(z) + jac}
+		for c, common := range []bool{true, false} {
+			f, ok := fit(z, common)
+			r.two[c], r.ok[c], r.bics[c] = f, ok, 2*(f.ll+jac)-float64(f.params()-2)*logN
+		}
+		return r
+	})
 	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
 	var best mixture
-	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
-		jac := transform(lam)
-		if l := normalLogLik(z) + jac; l > best1 {
-			best1, at = l, lam
+	for k, r := range grid {
+		if r.one > best1 {
+			best1, at = r.one, lams[k]
 		}
-		for _, common := range []bool{true, false} {
-			f, ok := fit(z, common)
-			if b := 2*(f.ll+jac) - float64(f.params()-2)*logN; ok && b > best2 {
-				best2, best, fitAt = b, f, lam
+		for c := range r.two {
+			if b := r.bics[c]; r.ok[c] && b > best2 {
+				best2, best, fitAt = b, r.two[c], lams[k]
 			}
 		}
 	}
@@ -112,7 +139,8 @@ func powerGain(x []float64, fit func(z []float64, common bool) (mixture, bool)) 
 	}
 	// One normal is cheap to fit: refine its power between the grid's
 	// neighbours of the best, so that the grid does not favour two modes.
-	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
+	z := make([]float64, n)
+	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam, z) }
 	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
 	lo, hi := slices.Min(std), slices.Max(std)
 	return best2 - 2*best1, best.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2

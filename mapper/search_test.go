@@ -131,22 +131,32 @@ func TestShortcutMatchesFullSearch(t *testing.T) {
 	}
 }
 
-// Rows exactly halfway between two units are ties that the shortcut must
-// settle as the full search does, towards the lower unit.
-func TestShortcutTies(t *testing.T) {
+// Rows exactly halfway between two units are ties that the shortcut and
+// the bounded searches must settle as the full search does, towards the
+// lower unit, from other units than the winners.
+func TestSearchTies(t *testing.T) {
 	l := lattice.Lattice{Cols: 4, Rows: 1, Flat: true}
 	m := &Map{Lattice: l, Dim: 1, Codebook: []float64{0, 2, 4, 6}}
 	x := mat.NewDense(4, 1, []float64{1, 3, 5, 3})
 	full := m.Assign(x, 1)
+	if full[0].BMU != 0 || full[1].BMU != 1 || full[2].BMU != 2 {
+		t.Errorf("ties not to the lower unit: %+v", full)
+	}
 	s := newSearcher(m)
 	s.prepareShortcut(2, 1)
 	out := make([]Assignment, 4)
 	s.run(x, runOptions{workers: 1, out: out, prev: []int{1, 3, 3, 2}})
 	if !slices.Equal(out, full) {
-		t.Fatalf("shortcut %+v, full %+v", out, full)
+		t.Errorf("shortcut %+v, full %+v", out, full)
 	}
-	if full[0].BMU != 0 || full[1].BMU != 1 || full[2].BMU != 2 {
-		t.Errorf("ties not to the lower unit: %+v", full)
+	s.nearLen = 0
+	bd := newBounds(4, 4, m.Codebook)
+	s.run(x, runOptions{workers: 1, bounds: bd, refill: true})
+	copy(bd.best, []int32{3, 0, 0, 3})
+	copy(bd.again, []int32{2, 3, 1, 0})
+	s.run(x, runOptions{workers: 1, out: out, bounds: bd})
+	if !slices.Equal(out, full) {
+		t.Errorf("bounded %+v, full %+v", out, full)
 	}
 }
 
@@ -202,26 +212,6 @@ func TestBoundedMatchesFullSearch(t *testing.T) {
 				t.Errorf("clusters: a late bounded pass computes %.3f of the distances, want few", share)
 			}
 		})
-	}
-}
-
-// Rows exactly halfway between two units are ties that the bounded search
-// settles as the full search does, towards the lower unit.
-func TestBoundedTies(t *testing.T) {
-	l := lattice.Lattice{Cols: 4, Rows: 1, Flat: true}
-	m := &Map{Lattice: l, Dim: 1, Codebook: []float64{0, 2, 4, 6}}
-	x := mat.NewDense(4, 1, []float64{1, 3, 5, 3})
-	full := m.Assign(x, 1)
-	s := newSearcher(m)
-	bd := newBounds(4, 4, m.Codebook)
-	s.run(x, runOptions{workers: 1, bounds: bd, refill: true})
-	// Start each row from other units than its winners.
-	copy(bd.best, []int32{3, 0, 0, 3})
-	copy(bd.again, []int32{2, 3, 1, 0})
-	out := make([]Assignment, 4)
-	s.run(x, runOptions{workers: 1, out: out, bounds: bd})
-	if !slices.Equal(out, full) {
-		t.Fatalf("bounded %+v, full %+v", out, full)
 	}
 }
 

@@ -126,9 +126,6 @@ func sampleStep(times []int64) int64 {
 	for i := range d {
 		d[i] = times[i+1] - times[i]
 	}
-	if v, ok := selection.Majority(d); ok {
-		return v
-	}
 	selection.Nth(d, len(d)/2)
 	return d[len(d)/2]
 }

@@ -327,9 +327,6 @@ func (w *worker) medianStep(times []int64) int64 {
 	for i := 1; i < len(times); i++ {
 		w.diffs = append(w.diffs, times[i]-times[i-1])
 	}
-	if v, ok := selection.Majority(w.diffs); ok {
-		return v
-	}
 	m := len(w.diffs) / 2
 	if len(w.diffs)%2 == 1 {
 		selection.Nth(w.diffs, m)

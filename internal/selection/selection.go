@@ -50,29 +50,3 @@ func Nth[T cmp.Ordered](x []T, k int) {
 		}
 	}
 }
-
-// Majority returns the value that fills more than half of x, when one
-// does: then it is every middle order statistic of x, its median and both
-// middle values of an even count, found in two passes without reordering
-// x (R. S. Boyer and J S. Moore, "MJRTY: a fast majority vote algorithm",
-// 1991). A regularly sampled series has one step between most readings.
-func Majority[T comparable](x []T) (v T, ok bool) {
-	count := 0
-	for _, y := range x {
-		switch {
-		case count == 0:
-			v, count = y, 1
-		case y == v:
-			count++
-		default:
-			count--
-		}
-	}
-	count = 0
-	for _, y := range x {
-		if y == v {
-			count++
-		}
-	}
-	return v, 2*count > len(x)
-}

@@ -123,9 +123,10 @@ type Result struct {
 	past     *past            // the history before the run; nil without one
 	health   []export.Finding // the data health found before decoding
 	workList attention.Config // the thresholds the work list was made with
-	// daily summarises the readings by site, channel and day for the
-	// report's explorer.
-	daily []export.DailySummary
+	// daily waits for the summaries of the readings by site, channel and
+	// day for the report's explorer, which feature extraction starts in
+	// the background; nil without them.
+	daily func() []export.DailySummary
 	// showNotes lets the outputs show the free-text notes of events.
 	showNotes bool
 }

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/kinmap/kinmap/export"
@@ -216,7 +217,12 @@ func extract(o *Options, res *Result, ds *ingest.Dataset, fc features.Config) er
 		return &NoWindowError{Reasons: t.SkipReasons(), Unit: res.Ingest.EpochUnit}
 	}
 	res.Table = t
-	res.daily = export.DailySummaries(ds, fc.Workers)
+	// The summaries are for the outputs alone: they run beside the
+	// stages that follow, and fill the cores the regime choice, which is
+	// serial, leaves idle. Conclude waits for them.
+	done := make(chan []export.DailySummary, 1)
+	go func() { done <- export.DailySummaries(ds, fc.Workers) }()
+	res.daily = sync.OnceValue(func() []export.DailySummary { return <-done })
 	o.logf("features: %d windows, %d features", len(t.Windows), len(t.Names))
 	return nil
 }
@@ -282,8 +288,18 @@ func (r *Result) Conclude(o Options, timings map[string]float64) error {
 	}
 	sw.lap("decode")
 	triage(&o, r)
+	r.dailySummaries()
 	finish(r, sw)
 	return nil
+}
+
+// dailySummaries returns the daily summaries of the readings, once they
+// are done; nil when the run made none.
+func (r *Result) dailySummaries() []export.DailySummary {
+	if r.daily == nil {
+		return nil
+	}
+	return r.daily()
 }
 
 // decode decodes the timelines of res, continuing from the history folder

@@ -172,7 +172,7 @@ func (r *Result) stageOutputs(tx *atomicfile.Tx, dir string, word func(string) s
 		Register:   r.Register,
 		Summary:    &r.Ingest,
 		Changes:    r.Changes,
-		Daily:      r.daily,
+		Daily:      r.dailySummaries(),
 		Title:      "kinmap " + cmp.Or(r.Info.Command, "run"),
 		Conditions: r.exportConditions(r.showNotes),
 		Attention:  r.Attention,

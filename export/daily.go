@@ -54,10 +54,10 @@ func appendDays(out []DailySummary, site, channel string, s ingest.Series, buf [
 		if len(buf) == 0 {
 			continue
 		}
-		slices.Sort(buf)
+		p05, p50, p95 := quantile.Spread(buf)
 		out = append(out, DailySummary{
 			Site: site, Channel: channel, Day: time.Unix(0, d*day).UTC(), Readings: len(buf),
-			P05: quantile.Sorted(buf, 0.05), Median: quantile.Sorted(buf, 0.5), P95: quantile.Sorted(buf, 0.95),
+			P05: p05, Median: p50, P95: p95,
 		})
 	}
 	return out

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/kinmap/kinmap/ingest"
+	"github.com/kinmap/kinmap/internal/parallel"
 	"github.com/kinmap/kinmap/internal/selection"
 )
 
@@ -67,7 +68,19 @@ func checkData(ds *ingest.Dataset, p *plan, cfg Config) ([]time.Duration, error)
 	// Window bounds reach a window and a stride beyond the readings, and
 	// zone offsets (under 15 h) and the origin (4 days) on top.
 	margin := 2*(size+stride) + 6*dayNs
-	var steps []time.Duration
+	// The steps of the sites' series, in parallel: they are sorted below.
+	perSite := parallel.Map(len(ds.Sites), cfg.Workers, func() []int64 { return make([]int64, stepSample) }, func(d []int64, k int) []time.Duration {
+		var steps []time.Duration
+		if sd := ds.Sites[k]; sd != nil {
+			for i, ch := range p.channels {
+				if s := sd.Series[ch]; s.Len() > 1 && p.used[i] {
+					steps = append(steps, time.Duration(sampleStep(s.Times[:min(s.Len(), stepSample+1)], d)))
+				}
+			}
+		}
+		return steps
+	})
+	steps := slices.Concat(perSite...)
 	windows := 0.0
 	for _, sd := range ds.Sites {
 		if sd == nil {
@@ -75,13 +88,8 @@ func checkData(ds *ingest.Dataset, p *plan, cfg Config) ([]time.Duration, error)
 		}
 		first, last := int64(math.MaxInt64), int64(math.MinInt64)
 		for i, ch := range p.channels {
-			s := sd.Series[ch]
-			if s.Len() == 0 || !p.used[i] {
-				continue
-			}
-			first, last = min(first, s.Times[0]), max(last, s.Times[s.Len()-1])
-			if s.Len() > 1 {
-				steps = append(steps, time.Duration(sampleStep(s.Times[:min(s.Len(), stepSample+1)])))
+			if s := sd.Series[ch]; s.Len() > 0 && p.used[i] {
+				first, last = min(first, s.Times[0]), max(last, s.Times[s.Len()-1])
 			}
 		}
 		if first > last {
@@ -120,9 +128,10 @@ func MedianStep(steps []time.Duration) time.Duration {
 	return steps[len(steps)/2]
 }
 
-// sampleStep is the median interval between the sorted times.
-func sampleStep(times []int64) int64 {
-	d := make([]int64, len(times)-1)
+// sampleStep is the median interval between the sorted times, using d,
+// of room for every interval, as scratch.
+func sampleStep(times []int64, d []int64) int64 {
+	d = d[:len(times)-1]
 	for i := range d {
 		d[i] = times[i+1] - times[i]
 	}

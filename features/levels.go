@@ -7,6 +7,7 @@ import (
 
 	"github.com/kinmap/kinmap/ingest"
 	"github.com/kinmap/kinmap/internal/parallel"
+	"github.com/kinmap/kinmap/internal/quantile"
 )
 
 // Level is a channel's typical level over a set of windows, in the
@@ -108,7 +109,7 @@ func SiteReadings(site *ingest.SiteData, ws []Window, group []int, k int, channe
 func LevelOf(ch string, v []float64) Level {
 	l := Level{Channel: ch, Readings: len(v), Median: math.NaN(), P95: math.NaN()}
 	if len(v) > 0 {
-		_, l.Median, l.P95 = quantiles(v)
+		_, l.Median, l.P95 = quantile.Spread(v)
 	}
 	return l
 }

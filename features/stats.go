@@ -84,7 +84,7 @@ func (w *worker) channelStats(s span, want statSet) {
 
 	if want&quantileSet != 0 {
 		w.sorted = append(w.sorted[:0], s.vals...)
-		w.vals[statP05], w.vals[statP50], w.vals[statP95] = quantiles(w.sorted)
+		w.vals[statP05], w.vals[statP50], w.vals[statP95] = quantile.Spread(w.sorted)
 	}
 	if n < 2 {
 		return
@@ -118,40 +118,6 @@ func (w *worker) channelStats(s span, want statSet) {
 	if want&spectrumSet != 0 && !constant {
 		w.vals[statPeriod], w.vals[statPeriodShare] = w.spectrum(s)
 	}
-}
-
-// quantiles returns the 5, 50 and 95 % quantiles of x by definition 7 of
-// Hyndman & Fan (1996), reordering x. Selection instead of sorting: the
-// median splits x, and each outer quantile is selected in its part.
-func quantiles(x []float64) (p05, p50, p95 float64) {
-	n := len(x)
-	mid, f := quantile.Position(n, 0.5)
-	selection.Nth(x, mid)
-	next50 := x[mid]
-	if mid+1 < n {
-		next50 = slices.Min(x[mid+1:])
-	}
-	p50 = x[mid] + f*(next50-x[mid])
-
-	i, f := quantile.Position(n, 0.05)
-	v, next := x[mid], next50
-	if i < mid {
-		selection.Nth(x[:mid], i)
-		v, next = x[i], slices.Min(x[i+1:mid+1])
-	}
-	p05 = v + f*(next-v)
-
-	i, f = quantile.Position(n, 0.95)
-	v, next = x[mid], next50
-	if i > mid {
-		selection.Nth(x[mid+1:], i-mid-1)
-		v, next = x[i], x[i]
-		if i+1 < n {
-			next = slices.Min(x[i+1:])
-		}
-	}
-	p95 = v + f*(next-v)
-	return p05, p50, p95
 }
 
 // harmonic fits v = a + b·cos ωτ + c·sin ωτ by least squares, where τ is the

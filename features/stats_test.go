@@ -429,26 +429,3 @@ json.dump(out, sys.stdout)
 		}
 	}
 }
-
-// The selection behind p05, p50 and p95 gives definition 7 on samples of
-// every small size, with and without ties, as gonum's stat.Quantile does on
-// the sorted samples.
-func TestQuantilesBySelection(t *testing.T) {
-	rng := rand.New(rand.NewPCG(9, 9))
-	for n := 1; n <= 300; n++ {
-		for _, levels := range []int{3, 1 << 30} {
-			x := make([]float64, n)
-			for i := range x {
-				x[i] = float64(rng.IntN(levels)) + 0.5
-			}
-			sorted := slices.Clone(x)
-			slices.Sort(sorted)
-			p05, p50, p95 := quantiles(x)
-			for _, c := range []struct{ p, got float64 }{{0.05, p05}, {0.5, p50}, {0.95, p95}} {
-				if want := gonumType7(sorted, c.p); !near(c.got, want, 1e-12) {
-					t.Fatalf("n %d levels %d: quantile %v = %v, gonum gives %v", n, levels, c.p, c.got, want)
-				}
-			}
-		}
-	}
-}

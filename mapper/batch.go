@@ -154,6 +154,10 @@ type runOptions struct {
 	accumulate bool         // build the accumulator
 	out        []Assignment // when set, receives every row's assignment
 	prev       []int        // when set with a prepared shortcut, each row's previous winner, updated in place
+	// bounds, when set, are those of the bounded search, which the pass
+	// uses, or, with refill, sets from a full search.
+	bounds *bounds
+	refill bool
 }
 
 // runResult is what a pass over the data produced.
@@ -161,7 +165,7 @@ type runResult struct {
 	acc       *Accumulator
 	qe        float64 // sum of quantization errors, in block order
 	fallbacks int     // rows for which the shortcut could not prove its winner
-	evals     int     // distances computed by the shortcut
+	evals     int     // distances computed by the shortcut or the bounded search
 }
 
 // blockResult is the contribution of one block.
@@ -243,7 +247,20 @@ func (s *searcher) block(raw blas64.General, b int, acc *Accumulator, sc *blockS
 		out = opt.out[lo:hi]
 	}
 	res := blockResult{acc: acc}
-	if opt.prev != nil && s.nearLen > 0 {
+	bd := opt.bounds
+	switch {
+	case bd != nil && opt.refill:
+		xb := blas64.General{Rows: hi - lo, Cols: s.dim, Stride: raw.Stride, Data: raw.Data[lo*raw.Stride:]}
+		s.fullBlock(xb, sc.cross, out)
+		s.fill(xb, sc.cross, out, bd.key[lo*s.units:hi*s.units], bd.set, bd.best[lo:hi], bd.again[lo:hi])
+	case bd != nil:
+		for i := lo; i < hi; i++ {
+			a, evals := s.bounded(row(i), bd.key[i*s.units:(i+1)*s.units], bd, int(bd.best[i]), int(bd.again[i]))
+			out[i-lo] = a
+			bd.best[i], bd.again[i] = int32(a.BMU), int32(a.Second)
+			res.evals += evals
+		}
+	case opt.prev != nil && s.nearLen > 0:
 		sc.index = sc.index[:0]
 		for i := lo; i < hi; i++ {
 			a, ok, evals := s.shortcut(row(i), opt.prev[i])
@@ -268,7 +285,7 @@ func (s *searcher) block(raw blas64.General, b int, acc *Accumulator, sc *blockS
 				out[i-lo] = sc.fall[t]
 			}
 		}
-	} else {
+	default:
 		s.fullBlock(blas64.General{Rows: hi - lo, Cols: s.dim, Stride: raw.Stride, Data: raw.Data[lo*raw.Stride:]}, sc.cross, out)
 	}
 	if acc != nil {

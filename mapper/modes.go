@@ -3,6 +3,8 @@ package mapper
 import (
 	"math"
 	"slices"
+
+	"github.com/kinmap/kinmap/internal/parallel"
 )
 
 // The split test of G-means asks whether a sample is normal, and any
@@ -75,11 +77,11 @@ func mixtureGain(x []float64) (gain float64, two bool) {
 	fit := func(common bool) func([]float64) (density, bool) {
 		return func(z []float64) (density, bool) { return fitMixture(z, common), true }
 	}
-	gain, two = powerGain(x, fit(true), fit(false))
+	gain, two = powerGain(x, 0, fit(true), fit(false))
 	if two || math.IsInf(gain, -1) {
 		return gain, two
 	}
-	g3, more := powerGain(x, func(z []float64) (density, bool) { return fitTied(z, 3) })
+	g3, more := powerGain(x, 0, func(z []float64) (density, bool) { return fitTied(z, 3) })
 	if g3 > gain {
 		return g3, more
 	}
@@ -103,8 +105,10 @@ type density interface {
 // fitted freely with a common variance or each its own, three with a
 // common one (mixtureGain), or two taken from the split's own groups
 // (cutGain). two reports whether the preferred mixture has two modes or
-// more.
-func powerGain(x []float64, fits ...func(z []float64) (density, bool)) (gain float64, two bool) {
+// more. The powers of its grid are fitted on up to workers goroutines (0
+// means every core), which the fits must then allow; the result does not
+// depend on workers.
+func powerGain(x []float64, workers int, fits ...func(z []float64) (density, bool)) (gain float64, two bool) {
 	n := len(x)
 	if n < 4 {
 		return math.Inf(-1), false
@@ -117,8 +121,7 @@ func powerGain(x []float64, fits ...func(z []float64) (density, bool)) (gain flo
 	for i, v := range x {
 		std[i] = (v - mean) / sd
 	}
-	z := make([]float64, n)
-	transform := func(lam float64) float64 { // fills z, returns the log-Jacobian
+	transform := func(lam float64, z []float64) float64 { // fills z, returns the log-Jacobian
 		jac := 0.0
 		for i, v := range std {
 			z[i] = yeoJohnson(v, lam)
@@ -126,21 +129,36 @@ func powerGain(x []float64, fits ...func(z []float64) (density, bool)) (gain flo
 		}
 		return jac
 	}
+	var lams []float64
+	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
+		lams = append(lams, lam)
+	}
+	// The fits at each power: one normal, then each mixture of fits.
+	type fitted struct {
+		one  float64
+		mix  []density // nil where a fit had none
+		bics []float64
+	}
 	logN := math.Log(float64(n))
+	grid := parallel.Map(len(lams), workers, func() []float64 { return make([]float64, n) }, func(z []float64, k int) fitted {
+		jac := transform(lams[k], z)
+		r := fitted{one: normalLogLik(z) + jac, mix: make([]density, len(fits)), bics: make([]float64, len(fits))}
+		for c, fit := range fits {
+			if f, ok := fit(z); ok {
+				r.mix[c], r.bics[c] = f, 2*(f.logLik()+jac)-float64(f.extra())*logN
+			}
+		}
+		return r
+	})
 	best1, best2, at, fitAt := math.Inf(-1), math.Inf(-1), 0.0, 0.0
 	var best density
-	for lam := minPower; lam <= maxPower+1e-9; lam += powerStep {
-		jac := transform(lam)
-		if l := normalLogLik(z) + jac; l > best1 {
-			best1, at = l, lam
+	for k, r := range grid {
+		if r.one > best1 {
+			best1, at = r.one, lams[k]
 		}
-		for _, fit := range fits {
-			f, ok := fit(z)
-			if !ok {
-				continue
-			}
-			if b := 2*(f.logLik()+jac) - float64(f.extra())*logN; b > best2 {
-				best2, best, fitAt = b, f, lam
+		for c, f := range r.mix {
+			if f != nil && r.bics[c] > best2 {
+				best2, best, fitAt = r.bics[c], f, lams[k]
 			}
 		}
 	}
@@ -149,7 +167,8 @@ func powerGain(x []float64, fits ...func(z []float64) (density, bool)) (gain flo
 	}
 	// One normal is cheap to fit: refine its power between the grid's
 	// neighbours of the best, so that the grid does not favour two modes.
-	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam) }
+	z := make([]float64, n)
+	one := func(lam float64) float64 { return normalLogLik(z) + transform(lam, z) }
 	best1 = math.Max(best1, goldenMax(one, at-powerStep, at+powerStep))
 	lo, hi := slices.Min(std), slices.Max(std)
 	return best2 - 2*best1, best.modes(fitAt, lo-(hi-lo)/2, hi+(hi-lo)/2) >= 2

@@ -270,3 +270,137 @@ func (s *searcher) shortcut(x []float64, prev int) (a Assignment, ok bool, evals
 	}
 	return Assignment{}, false, len(units)
 }
+
+// maxBoundPairs caps the windows × units for which training keeps the
+// bounds of the bounded winner search: 64 MB of them. Larger data take
+// the shortcut and full searches, which need no memory per pair.
+const maxBoundPairs = 1 << 24
+
+// travelSlack widens a unit's travel, a running sum of its moves, far
+// beyond the rounding of the sum, to be subtracted from a bound, and
+// narrows it as much where the bound is set.
+const travelSlack = 1e-12
+
+// bounds holds, for every row and unit, a lower bound on their distance,
+// for the winner search of C. Elkan, "Using the triangle inequality to
+// accelerate k-means", ICML 2003: when a unit moves by δ, a distance to it
+// shrinks by at most δ, so a unit whose bound exceeds the second-best
+// distance found cannot be among the best two and needs no distance. Late
+// in training the units move little and most pairs are passed over; the
+// winners found are those of the full search. A bound is kept as its
+// value plus the unit's travel (all its moves) when it was set, so that a
+// move costs no pass over the rows: the bound now is that key less the
+// travel now.
+type bounds struct {
+	units       int
+	key         []float32 // rows × units, rounded down
+	best, again []int32   // each row's best and second-best unit at the last pass
+	code        []float64 // the codebook of the last pass
+	set, now    []float64 // each unit's travel, narrowed and widened by travelSlack
+}
+
+// newBounds returns the bounds of rows rows for the units of codebook
+// code, which have not moved yet. They are set by a first pass that
+// refills them.
+func newBounds(rows, units int, code []float64) *bounds {
+	return &bounds{
+		units: units,
+		key:   make([]float32, rows*units),
+		best:  make([]int32, rows), again: make([]int32, rows),
+		code: slices.Clone(code),
+		set:  make([]float64, units), now: make([]float64, units),
+	}
+}
+
+// track adds to every unit's travel how far it moved from the codebook of
+// the last pass to code, rounded up, and keeps code for the next.
+func (b *bounds) track(code []float64) {
+	dim := len(code) / b.units
+	for j := range b.now {
+		v, w := code[j*dim:(j+1)*dim], b.code[j*dim:(j+1)*dim]
+		travel := b.now[j]/(1+travelSlack) + math.Sqrt(sqdist(v, w))*(1+shortcutSlack)
+		b.set[j], b.now[j] = travel*(1-travelSlack), travel*(1+travelSlack)
+	}
+	copy(b.code, code)
+}
+
+// down32 returns a float32 at most v ≥ 0: v shrunk by more than float32
+// rounds, and 0 below float32's normal range.
+func down32(v float64) float32 {
+	if v < 0x1p-100 {
+		return 0
+	}
+	return float32(v * (1 - 0x1p-20))
+}
+
+// fill sets the bounds of the rows of xb from their cross terms c with the
+// codebook, as fullBlock left them, and their winners out: the expanded
+// distance less its rounding tolerance.
+func (s *searcher) fill(xb blas64.General, c []float64, out []Assignment, key []float32, set []float64, best, again []int32) {
+	for i := range xb.Rows {
+		x := xb.Data[i*xb.Stride : i*xb.Stride+s.dim]
+		var xx float64
+		for _, a := range x {
+			xx += a * a
+		}
+		tol := s.tolerance(x)
+		row := key[i*s.units : (i+1)*s.units]
+		for j, cj := range c[i*s.units : (i+1)*s.units] {
+			row[j] = down32(math.Sqrt(math.Max(0, xx+s.ww[j]-2*cj-tol)) + set[j])
+		}
+		best[i], again[i] = int32(out[i].BMU), int32(out[i].Second)
+	}
+}
+
+// bounded finds the two best units of x from its row of bounds key, which
+// it updates: the best two of the last pass first, then every unit whose
+// bound does not exceed the second-best distance found. evals counts the
+// distances computed.
+func (s *searcher) bounded(x []float64, key []float32, b *bounds, best, again int) (a Assignment, evals int) {
+	top := newBest2()
+	limit := math.Inf(1) // the second-best distance, widened by the slack
+	eval := func(j int) {
+		d := sqdist(x, s.vector(j))
+		key[j] = down32(math.Sqrt(d)*(1-shortcutSlack) + b.set[j])
+		top.offer(d, j)
+		if top.u2 >= 0 {
+			limit = math.Sqrt(top.d2) * (1 + shortcutSlack)
+		}
+		evals++
+	}
+	eval(best)
+	if again >= 0 && again != best {
+		eval(again)
+	}
+	now := b.now[:len(key)]
+	for j, k := range key {
+		if float64(k)-now[j] <= limit && j != best && j != again {
+			eval(j)
+		}
+	}
+	return top.assignment(), evals
+}
+
+// share estimates, on every sampleStep-th row of x, the share of the
+// pairs a bounded pass would compute: those whose bound does not exceed
+// the farther of the row's best two units of the last pass, the most the
+// search's limit can be.
+func (s *searcher) share(x blas64.General, b *bounds) float64 {
+	const sampleStep = 16
+	var rows, below int
+	for i := 0; i < x.Rows; i += sampleStep {
+		row := x.Data[i*x.Stride : i*x.Stride+s.dim]
+		d := sqdist(row, s.vector(int(b.best[i])))
+		if j := int(b.again[i]); j >= 0 {
+			d = math.Max(d, sqdist(row, s.vector(j)))
+		}
+		limit := math.Sqrt(d) * (1 + shortcutSlack)
+		for j, k := range b.key[i*s.units : (i+1)*s.units] {
+			if float64(k)-b.now[j] <= limit {
+				below++
+			}
+		}
+		rows++
+	}
+	return float64(below) / float64(rows*s.units)
+}

@@ -131,22 +131,87 @@ func TestShortcutMatchesFullSearch(t *testing.T) {
 	}
 }
 
-// Rows exactly halfway between two units are ties that the shortcut must
-// settle as the full search does, towards the lower unit.
-func TestShortcutTies(t *testing.T) {
+// Rows exactly halfway between two units are ties that the shortcut and
+// the bounded searches must settle as the full search does, towards the
+// lower unit, from other units than the winners.
+func TestSearchTies(t *testing.T) {
 	l := lattice.Lattice{Cols: 4, Rows: 1, Flat: true}
 	m := &Map{Lattice: l, Dim: 1, Codebook: []float64{0, 2, 4, 6}}
 	x := mat.NewDense(4, 1, []float64{1, 3, 5, 3})
 	full := m.Assign(x, 1)
+	if full[0].BMU != 0 || full[1].BMU != 1 || full[2].BMU != 2 {
+		t.Errorf("ties not to the lower unit: %+v", full)
+	}
 	s := newSearcher(m)
 	s.prepareShortcut(2, 1)
 	out := make([]Assignment, 4)
 	s.run(x, runOptions{workers: 1, out: out, prev: []int{1, 3, 3, 2}})
 	if !slices.Equal(out, full) {
-		t.Fatalf("shortcut %+v, full %+v", out, full)
+		t.Errorf("shortcut %+v, full %+v", out, full)
 	}
-	if full[0].BMU != 0 || full[1].BMU != 1 || full[2].BMU != 2 {
-		t.Errorf("ties not to the lower unit: %+v", full)
+	s.nearLen = 0
+	bd := newBounds(4, 4, m.Codebook)
+	s.run(x, runOptions{workers: 1, bounds: bd, refill: true})
+	copy(bd.best, []int32{3, 0, 0, 3})
+	copy(bd.again, []int32{2, 3, 1, 0})
+	s.run(x, runOptions{workers: 1, out: out, bounds: bd})
+	if !slices.Equal(out, full) {
+		t.Errorf("bounded %+v, full %+v", out, full)
+	}
+}
+
+// Training with the bounded search gives the codebook and the errors of
+// training with the shortcut and full searches, bit for bit, and the
+// bounded passes of late epochs compute few of the distances.
+func TestBoundedMatchesFullSearch(t *testing.T) {
+	clusters, _ := clusterData(3000, 16, 6, 10, 0.4, 1)
+	for _, tc := range []struct {
+		name string
+		x    *mat.Dense
+	}{
+		{"clusters", clusters},
+		{"manifold", manifoldData(3000, 16, 0.01, 2)},
+		{"noise", noiseData(2000, 16, 3)},
+		{"offset", offsetData(noiseData(1500, 5, 4), 1e4)},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			m, cfg, err := InitMap(tc.x, Config{Cols: 12, Rows: 10, Epochs: 15, Workers: 2})
+			if err != nil {
+				t.Fatal(err)
+			}
+			var qes [2][]float64
+			maps := [2]*Map{cloneMap(m), cloneMap(m)}
+			for k, run := range []func(*Map, *mat.Dense, Config){trainBounded, trainShortcut} {
+				c := cfg
+				c.Progress = func(_ int, qe float64) { qes[k] = append(qes[k], qe) }
+				run(maps[k], tc.x, c)
+			}
+			if !slices.Equal(maps[0].Codebook, maps[1].Codebook) || !slices.Equal(qes[0], qes[1]) {
+				t.Fatalf("bounded and full searches train different maps")
+			}
+
+			// One more bounded pass on the trained map, after a refill on
+			// the map an epoch before: the winners of the full search.
+			n, _ := tc.x.Dims()
+			prev := cloneMap(maps[0])
+			acc, _ := prev.Accumulate(tc.x, 2)
+			s := newSearcher(prev)
+			bd := newBounds(n, prev.Units(), prev.Codebook)
+			s.run(tc.x, runOptions{workers: 2, bounds: bd, refill: true})
+			prev.Smooth(acc, Sigma(cfg, cfg.Epochs-1))
+			s.refreshNorms()
+			bd.track(prev.Codebook)
+			out := make([]Assignment, n)
+			r := s.run(tc.x, runOptions{workers: 2, out: out, bounds: bd})
+			if !slices.Equal(out, prev.Assign(tc.x, 2)) {
+				t.Fatalf("bounded pass: winners differ from the full search")
+			}
+			share := float64(r.evals) / float64(n*prev.Units())
+			t.Logf("%s: a late bounded pass computes %.3f of the distances", tc.name, share)
+			if tc.name == "clusters" && share > 0.25 {
+				t.Errorf("clusters: a late bounded pass computes %.3f of the distances, want few", share)
+			}
+		})
 	}
 }
 

@@ -538,7 +538,7 @@ func cutGain(x []float64, second []bool) (gain float64, two bool) {
 			return f, ok
 		}
 	}
-	return powerGain(x, fit(true), fit(false))
+	return powerGain(x, 1, fit(true), fit(false)) // one worker: the fits share resp
 }
 
 func dot(a, b []float64) float64 {

@@ -20,6 +20,7 @@ func TestRegimeChoiceNote(t *testing.T) {
 		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 6, RunnerUpP: 4e-4, Marginal: true}, nil, "re-run with 6 regimes (mapper.Config.Regimes) to see the other", ""},
 		{mapper.Choice{K: 5, Alpha: 1e-4, RunnerUp: 4, RunnerUpP: 1e-20}, nil, "a clear choice", "Regimes)"},
 		{mapper.Choice{K: 3, Given: true}, nil, "3 regimes, as set", "Regimes)"},
+		{mapper.Choice{K: 3, Given: true, Kept: true}, nil, "3 regimes, kept from the model updated", "as set"},
 		// A phase: the regimes held and the phases first, then the
 		// grouping's number, which the runner-up is one split from, and
 		// the number that keeps every area a regime.

@@ -111,6 +111,9 @@ func Update(o Options, prev *model.Model) (*Result, error) {
 	if res.Model, res.Changes, err = model.Update(prev, res.Table, res.X, mc); err != nil {
 		return nil, err
 	}
+	if o.Map.Regimes == 0 && res.Model.Choice != nil {
+		res.Model.Choice.Kept = true
+	}
 	res.Model.Units = channelUnits(prev, res.Ingest.Units, o.Units)
 	res.Info.Warnings = append(res.Info.Warnings, unlabelledWarnings(prev, res.Changes)...)
 	sw.lap("train")

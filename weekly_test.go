@@ -127,6 +127,10 @@ func TestUpdateKeepsRegimeNumbers(t *testing.T) {
 			t.Errorf("change %+v after an update on the same behaviour", c)
 		}
 	}
+	// The number was kept, not set by the user, and the note says so.
+	if c := second.Info.Regimes; c == nil || !strings.Contains(c.Note, "kept from the model updated") {
+		t.Errorf("regime choice after an update without a number of regimes: %+v", c)
+	}
 
 	// run.json's quality is that of the run's own windows, whether the run
 	// built the model on them or assigned them to an earlier one: its mean

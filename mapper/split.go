@@ -29,8 +29,11 @@ const Alpha = 1e-4
 // split it made, and the best split it turned down, with the test of each.
 // It goes into the model and run.json.
 type Choice struct {
-	K      int     `json:"k"`      // regimes found
-	Given  bool    `json:"given"`  // K was asked for, not chosen
+	K     int  `json:"k"`     // regimes found
+	Given bool `json:"given"` // K was asked for, not chosen
+	// Kept is set with Given when K was not asked for by the user but kept
+	// from the model being updated.
+	Kept   bool    `json:"kept,omitempty"`
 	Alpha  float64 `json:"alpha"`  // significance level of a split
 	Splits []Split `json:"splits"` // in the order made; a last one not made, when one was tested
 	// Common is the number of directions of variation the fleet shared at
@@ -552,8 +555,11 @@ func dot(a, b []float64) float64 {
 // String says in words how K was reached, for people: the number given,
 // or the number chosen with its runner-up and how close it came.
 func (c *Choice) String() string {
+	if c.Given && c.Kept {
+		return fmt.Sprintf("%d %s, kept from the model updated", c.K, plural(c.K, "regime", "regimes"))
+	}
 	if c.Given {
-		return fmt.Sprintf("%d regimes, as set", c.K)
+		return fmt.Sprintf("%d %s, as set", c.K, plural(c.K, "regime", "regimes"))
 	}
 	s := fmt.Sprintf("%d %s found", c.K, plural(c.K, "regime", "regimes"))
 	if c.RunnerUp == 0 {

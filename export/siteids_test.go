@@ -40,7 +40,8 @@ const idBreaks = `(() => {
 // large fleet runs over many lines of the work list: the browser must
 // wrap it between ids, never at the hyphen inside one (Debian chromium,
 // headless, at a narrow and a wide viewport). The same ids are kept whole
-// in the fleet-wide changes and the comparison with last week.
+// in the fleet-wide changes and the comparison with last week, and the
+// page is no wider than the window.
 func TestSiteIDsKeptWhole(t *testing.T) {
 	r := fixtureRun()
 	var ids []string
@@ -64,6 +65,16 @@ func TestSiteIDsKeptWhole(t *testing.T) {
 	for _, width := range []int64{480, 1280} {
 		if err := chromedp.Do(ctx, chromedp.EmulateViewport(width, 2000), chromedp.Navigate("file://"+abs)); err != nil {
 			t.Fatalf("chromium: %v", err)
+		}
+		// The page itself never scrolls sideways: a table wider than a
+		// narrow screen scrolls in its own box (CSSOM View: the root's
+		// scrollWidth against the viewport's innerWidth).
+		over, err := chromedp.Run(ctx, chromedp.Evaluate[int64]("document.documentElement.scrollWidth - window.innerWidth"))
+		if err != nil {
+			t.Fatalf("chromium: %v", err)
+		}
+		if over > 0 {
+			t.Errorf("%d px wide: the page is %d px wider than the window", width, over)
 		}
 		for _, sel := range []string{"#attention td", "#shared td", "#lastweek p"} {
 			broken, err := chromedp.Run(ctx, chromedp.Evaluate[[]string](fmt.Sprintf(idBreaks, sel)))

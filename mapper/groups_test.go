@@ -176,3 +176,31 @@ func TestTwoGroupNullKept(t *testing.T) {
 		}
 	}
 }
+
+// TestTwoGroupNullBlocks checks that drawing the null samples in blocks
+// on every core gives the p-values of drawing and scoring one sample at a
+// time.
+func TestTwoGroupNullBlocks(t *testing.T) {
+	for _, tt := range []struct {
+		n   int
+		obs float64
+	}{{10, 0.25}, {10, 0.05}, {40, 0.2}, {40, 0.3}, {200, 0.3}} {
+		z := make([]float64, tt.n)
+		hits, want := 0, 0.0
+		for draw := 1; ; draw++ {
+			if draw > twoGroupDraws {
+				want = float64(hits+1) / (twoGroupDraws + 1)
+				break
+			}
+			if nullSample(tt.n, draw-1, z) <= tt.obs {
+				if hits++; hits == twoGroupHits {
+					want = float64(hits) / float64(draw)
+					break
+				}
+			}
+		}
+		if got := (twoGroupNull{}).p(tt.n, tt.obs); got != want {
+			t.Errorf("n = %d, index %g: p %g, one sample at a time %g", tt.n, tt.obs, got, want)
+		}
+	}
+}

@@ -99,11 +99,12 @@ func (null twoGroupNull) more(n int) {
 }
 
 // p returns the p-value of a two-group index of n values against normal
-// samples of the same size: the chance that n values from one normal distribution split
-// into two groups at least as cleanly. This is the test for clusters on a
-// line of A. Engelman and J. A. Hartigan ("Percentage points of a test for
-// clusters", JASA 64, 1969; from memory), whose null distribution depends
-// on n alone, since the index is free of location and scale. Its
+// samples of the same size: the chance that n values from one normal
+// distribution split into two groups at least as cleanly. This is the
+// test for clusters on a line of A. Engelman and J. A. Hartigan
+// ("Percentage points of a test for clusters", JASA 64, 1969; from
+// memory), whose null distribution depends on n alone, since the index is
+// free of location and scale. Its
 // percentage points come from a sequential Monte Carlo test (J. Besag and
 // P. Clifford, "Sequential Monte Carlo p-values", Biometrika 78, 1991):
 // normal samples are drawn until twoGroupHits of them split at least as

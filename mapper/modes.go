@@ -77,11 +77,11 @@ func mixtureGain(x []float64) (gain float64, two bool) {
 	fit := func(common bool) func([]float64) (density, bool) {
 		return func(z []float64) (density, bool) { return fitMixture(z, common), true }
 	}
-	gain, two = powerGain(x, 0, fit(true), fit(false))
+	gain, two = powerGain(x, fit(true), fit(false))
 	if two || math.IsInf(gain, -1) {
 		return gain, two
 	}
-	g3, more := powerGain(x, 0, func(z []float64) (density, bool) { return fitTied(z, 3) })
+	g3, more := powerGain(x, func(z []float64) (density, bool) { return fitTied(z, 3) })
 	if g3 > gain {
 		return g3, more
 	}
@@ -105,10 +105,9 @@ type density interface {
 // fitted freely with a common variance or each its own, three with a
 // common one (mixtureGain), or two taken from the split's own groups
 // (cutGain). two reports whether the preferred mixture has two modes or
-// more. The powers of its grid are fitted on up to workers goroutines (0
-// means every core), which the fits must then allow; the result does not
-// depend on workers.
-func powerGain(x []float64, workers int, fits ...func(z []float64) (density, bool)) (gain float64, two bool) {
+// more. The powers of its grid are fitted on every core, so the fits may
+// share nothing; the result is that of fitting them in turn.
+func powerGain(x []float64, fits ...func(z []float64) (density, bool)) (gain float64, two bool) {
 	n := len(x)
 	if n < 4 {
 		return math.Inf(-1), false
@@ -140,7 +139,7 @@ func powerGain(x []float64, workers int, fits ...func(z []float64) (density, boo
 		bics []float64
 	}
 	logN := math.Log(float64(n))
-	grid := parallel.Map(len(lams), workers, func() []float64 { return make([]float64, n) }, func(z []float64, k int) fitted {
+	grid := parallel.Map(len(lams), 0, func() []float64 { return make([]float64, n) }, func(z []float64, k int) fitted {
 		jac := transform(lams[k], z)
 		r := fitted{one: normalLogLik(z) + jac, mix: make([]density, len(fits)), bics: make([]float64, len(fits))}
 		for c, fit := range fits {
@@ -250,17 +249,31 @@ type mixture struct {
 	common            bool // fitted with one variance for both components
 }
 
-// params is the number of free parameters of the mixture's model.
-func (f mixture) params() int {
-	if f.common {
-		return 4
-	}
-	return 5
-}
-
 func (f mixture) logLik() float64 { return f.ll }
 
-func (f mixture) extra() int { return f.params() - 2 }
+// extra counts the second mean and the weight, and with a variance of
+// each component's own the second variance.
+func (f mixture) extra() int {
+	if f.common {
+		return 2
+	}
+	return 3
+}
+
+// iterateEM runs rounds of EM, step making one M and one E step and
+// returning the log-likelihood (false when the M step has no mixture),
+// until a round gains less than emTol per observation of the n or
+// emRounds have run.
+func iterateEM(n int, step func() (float64, bool)) {
+	prev := math.Inf(-1)
+	for range emRounds {
+		ll, ok := step()
+		if !ok || ll-prev < emTol*float64(n) {
+			return
+		}
+		prev = ll
+	}
+}
 
 // fitMixture fits a two-normal mixture to z by EM (A. P. Dempster,
 // N. M. Laird and D. B. Rubin, "Maximum likelihood from incomplete data
@@ -288,21 +301,17 @@ func fitMixture(z []float64, common bool) mixture {
 				resp[i] = 1
 			}
 		}
-		prev := math.Inf(-1)
-		for range emRounds {
+		iterateEM(n, func() (float64, bool) {
 			f, ok := mStep(z, resp, common)
 			if !ok {
-				break
+				return 0, false
 			}
 			f.ll = eStep(z, f, resp)
 			if f.ll > best.ll {
 				best = f
 			}
-			if f.ll-prev < emTol*float64(n) {
-				break
-			}
-			prev = f.ll
-		}
+			return f.ll, true
+		})
 	}
 	return best
 }

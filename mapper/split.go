@@ -531,17 +531,16 @@ func cutGain(x []float64, second []bool) (gain float64, two bool) {
 			label[i] = 1
 		}
 	}
-	resp := make([]float64, len(x))
 	fit := func(common bool) func([]float64) (density, bool) {
 		return func(z []float64) (density, bool) {
 			f, ok := mStep(z, label, common)
 			if ok {
-				f.ll = eStep(z, f, resp)
+				f.ll = eStep(z, f, make([]float64, len(z)))
 			}
 			return f, ok
 		}
 	}
-	return powerGain(x, 1, fit(true), fit(false)) // one worker: the fits share resp
+	return powerGain(x, fit(true), fit(false))
 }
 
 func dot(a, b []float64) float64 {

@@ -57,21 +57,17 @@ func fitTied(z []float64, k int) (density, bool) {
 			clear(resp[i])
 			resp[i][c] = 1
 		}
-		prev := math.Inf(-1)
-		for range emRounds {
+		iterateEM(n, func() (float64, bool) {
 			f, ok := tiedMStep(z, resp)
 			if !ok {
-				break
+				return 0, false
 			}
 			f.ll = tiedEStep(z, f, resp)
 			if !found || f.ll > best.ll {
 				best, found = f, true
 			}
-			if f.ll-prev < emTol*float64(n) {
-				break
-			}
-			prev = f.ll
-		}
+			return f.ll, true
+		})
 	}
 	return best, found
 }

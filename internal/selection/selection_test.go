@@ -1,10 +1,29 @@
 package selection
 
 import (
+	"cmp"
 	"math/rand/v2"
 	"slices"
 	"testing"
 )
+
+// checkNth selects position k of a copy of v and fails t unless it holds
+// what sorting puts there, with no larger value before it and no smaller
+// one after it.
+func checkNth[T cmp.Ordered](t *testing.T, v []T, k int) {
+	t.Helper()
+	sorted := slices.Sorted(slices.Values(v))
+	x := slices.Clone(v)
+	Nth(x, k)
+	if x[k] != sorted[k] {
+		t.Fatalf("%v: position %d holds %v, sorting puts %v there", v, k, x[k], sorted[k])
+	}
+	for i, y := range x {
+		if i < k && y > x[k] || i > k && y < x[k] {
+			t.Fatalf("%v: %v at %d is on the wrong side of %v at %d", v, y, i, x[k], k)
+		}
+	}
+}
 
 // Nth agrees with sorting (the definition of an order statistic) on random
 // slices with and without repeated values, and leaves no larger value
@@ -19,18 +38,7 @@ func TestNthAgreesWithSorting(t *testing.T) {
 				v[i] = rng.Float64()
 			}
 		}
-		sorted := slices.Sorted(slices.Values(v))
-		k := rng.IntN(len(v))
-		x := slices.Clone(v)
-		Nth(x, k)
-		if x[k] != sorted[k] {
-			t.Fatalf("%v: position %d holds %g, sorting puts %g there", v, k, x[k], sorted[k])
-		}
-		for i, y := range x {
-			if i < k && y > x[k] || i > k && y < x[k] {
-				t.Fatalf("%v: %g at %d is on the wrong side of %g at %d", v, y, i, x[k], k)
-			}
-		}
+		checkNth(t, v, rng.IntN(len(v)))
 	}
 }
 
@@ -43,18 +51,8 @@ func TestNthIntegers(t *testing.T) {
 		for i := range v {
 			v[i] = 600 * int64(1+rng.IntN(3)/2)
 		}
-		sorted := slices.Sorted(slices.Values(v))
 		for k := range n {
-			x := slices.Clone(v)
-			Nth(x, k)
-			if x[k] != sorted[k] {
-				t.Fatalf("n=%d: position %d holds %d, sorting puts %d there", n, k, x[k], sorted[k])
-			}
-			for i, y := range x {
-				if i < k && y > x[k] || i > k && y < x[k] {
-					t.Fatalf("n=%d: %d at %d is on the wrong side of %d at %d", n, y, i, x[k], k)
-				}
-			}
+			checkNth(t, v, k)
 		}
 	}
 }
